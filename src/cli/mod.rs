@@ -1,0 +1,107 @@
+//! The command line: argument parsing and one function per subcommand. Each
+//! returns an exit code or an error value; `main` only prints and exits.
+
+mod fitcmd;
+
+use std::io::IsTerminal;
+use std::path::{Path, PathBuf};
+use std::process::ExitCode;
+use std::sync::Arc;
+use std::time::Instant;
+
+use clap::{Parser, Subcommand};
+
+use crate::data::{self, Dataset, Extra};
+use crate::error::Result;
+use crate::estimate::Step;
+use crate::spec::Spec;
+
+#[derive(Parser, Debug)]
+#[command(
+    name = "sharecast",
+    version,
+    about = "Fit, check and forecast discrete-choice models from a TOML spec"
+)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+pub enum Command {
+    /// Load and validate a spec and its data, and summarise them.
+    Check { spec: PathBuf },
+    /// Fit the model and print the report (or the JSON results document).
+    Fit(fitcmd::FitArgs),
+    /// Write the invented demo data sets into a folder.
+    DemoData {
+        /// Target folder.
+        dir: PathBuf,
+        /// Replace files that exist already.
+        #[arg(long)]
+        force: bool,
+    },
+}
+
+/// Loads a spec and its data (with extra columns, e.g. for segments).
+pub fn open(spec_path: &Path, extra: &Extra) -> Result<(Spec, Dataset)> {
+    let spec = Spec::from_file(spec_path)?;
+    let ds = data::load(&spec, extra)?;
+    Ok((spec, ds))
+}
+
+/// A progress printer for stderr that speaks only after a second and only to a terminal.
+pub fn stderr_progress() -> impl Fn(Step) + Sync {
+    let start = Instant::now();
+    let tty = std::io::stderr().is_terminal();
+    move |s: Step| {
+        if tty && start.elapsed().as_secs_f64() > 1.0 {
+            eprint!(
+                "\r  {} iteration {:>4}  log-likelihood {:>16.6}  gradient {:>10.3e}   ",
+                s.phase, s.iteration, s.log_likelihood, s.gradient_norm
+            );
+        }
+    }
+}
+
+pub fn run(cli: Cli) -> Result<ExitCode> {
+    match cli.command {
+        Command::Check { spec } => {
+            let (spec, ds) = open(&spec, &Extra::default())?;
+            print!("{}", crate::report::check::summary(&spec, &ds.obs));
+            println!("\nthe spec and its data are valid");
+            Ok(ExitCode::SUCCESS)
+        }
+        Command::Fit(args) => fitcmd::run(args),
+        Command::DemoData { dir, force } => {
+            crate::demo::write_all(&dir, force)?;
+            println!(
+                "wrote {} and {}",
+                dir.join("commute.csv").display(),
+                dir.join("grocery.parquet").display()
+            );
+            Ok(ExitCode::SUCCESS)
+        }
+    }
+}
+
+/// Shared by commands that fit: fits with the stderr progress line.
+pub fn fit_quietly(spec: &Spec, ds: &Dataset) -> Result<crate::estimate::Fit> {
+    let progress = stderr_progress();
+    let fit = crate::estimate::fit(spec, Arc::new(ds.obs.clone()), &progress);
+    if std::io::stderr().is_terminal() {
+        eprint!("\r{:100}\r", "");
+    }
+    fit
+}
+
+pub fn main() -> ExitCode {
+    let cli = Cli::parse();
+    match run(cli) {
+        Ok(code) => code,
+        Err(e) => {
+            eprintln!("error: {e}");
+            ExitCode::from(1)
+        }
+    }
+}

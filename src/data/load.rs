@@ -1,0 +1,186 @@
+//! Reads the columns a model needs from a CSV or Parquet file with polars,
+//! checking first that they exist, and hands them over as a `Table`.
+
+use std::path::Path;
+use std::sync::Arc;
+
+use polars::prelude::*;
+
+use super::table::{Column as TCol, Table};
+use crate::error::{Error, Result};
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Format {
+    Csv,
+    Parquet,
+}
+
+fn format_of(path: &Path) -> Result<Format> {
+    match path
+        .extension()
+        .and_then(|e| e.to_str())
+        .map(|e| e.to_ascii_lowercase())
+    {
+        Some(e) if e == "csv" => Ok(Format::Csv),
+        Some(e) if e == "parquet" || e == "pq" => Ok(Format::Parquet),
+        _ => Err(Error::data(path, "data files must end in .csv or .parquet")),
+    }
+}
+
+fn polars_err(path: &Path, e: PolarsError) -> Error {
+    let msg = e.to_string();
+    if msg.to_lowercase().contains("empty") {
+        Error::data(path, "the file is empty (no header row)")
+    } else {
+        Error::data(path, format!("could not be read as data: {msg}"))
+    }
+}
+
+fn check_file(path: &Path) -> Result<()> {
+    match std::fs::metadata(path) {
+        Err(_) => Err(Error::data(
+            path,
+            "data file not found (check [data].file; it is relative to the spec file)",
+        )),
+        Ok(m) if m.is_dir() => Err(Error::data(path, "is a directory, not a data file")),
+        Ok(m) if m.len() == 0 => Err(Error::data(path, "the file is empty (no header row)")),
+        Ok(_) => Ok(()),
+    }
+}
+
+/// Column names of a data file, in file order.
+pub fn column_names(path: &Path) -> Result<Vec<String>> {
+    check_file(path)?;
+    match format_of(path)? {
+        Format::Csv => {
+            let df = CsvReadOptions::default()
+                .with_has_header(true)
+                .with_n_rows(Some(1))
+                .with_infer_schema_length(Some(0))
+                .try_into_reader_with_file_path(Some(path.to_path_buf()))
+                .and_then(|r| r.finish())
+                .map_err(|e| polars_err(path, e))?;
+            Ok(df
+                .get_column_names()
+                .iter()
+                .map(|s| s.to_string())
+                .collect())
+        }
+        Format::Parquet => {
+            let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+            let mut reader = ParquetReader::new(file);
+            let schema = reader.schema().map_err(|e| polars_err(path, e))?;
+            Ok(schema.iter_names().map(|s| s.to_string()).collect())
+        }
+    }
+}
+
+/// Reads `numeric` columns as f64 (unparsable values become NaN) and `text`
+/// columns as strings. A column may be in both lists; it is then kept as text.
+pub fn read(path: &Path, numeric: &[String], text: &[String]) -> Result<Table> {
+    let names = column_names(path)?;
+    let mut wanted: Vec<String> = Vec::new();
+    for c in text.iter().chain(numeric) {
+        if !names.contains(c) {
+            let mut t = Table::new(path, 0);
+            for n in &names {
+                t.insert(n, TCol::Num(Vec::new()));
+            }
+            return Err(t.unknown(c, "named in the spec"));
+        }
+        if !wanted.contains(c) {
+            wanted.push(c.clone());
+        }
+    }
+    let is_text = |c: &str| text.iter().any(|t| t == c);
+    let df = match format_of(path)? {
+        Format::Csv => {
+            let schema: Schema = wanted
+                .iter()
+                .map(|c| {
+                    let dt = if is_text(c) {
+                        DataType::String
+                    } else {
+                        DataType::Float64
+                    };
+                    Field::new(c.as_str().into(), dt)
+                })
+                .collect();
+            let cols: Arc<[PlSmallStr]> = wanted
+                .iter()
+                .map(|c| PlSmallStr::from(c.as_str()))
+                .collect();
+            CsvReadOptions::default()
+                .with_has_header(true)
+                .with_columns(Some(cols))
+                .with_schema_overwrite(Some(Arc::new(schema)))
+                .with_ignore_errors(true)
+                .try_into_reader_with_file_path(Some(path.to_path_buf()))
+                .and_then(|r| r.finish())
+                .map_err(|e| polars_err(path, e))?
+        }
+        Format::Parquet => {
+            let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+            ParquetReader::new(file)
+                .with_columns(Some(wanted.clone()))
+                .finish()
+                .map_err(|e| polars_err(path, e))?
+        }
+    };
+    let nrows = df.height();
+    if nrows == 0 {
+        return Err(Error::data(path, "the file has a header but no data rows"));
+    }
+    let mut table = Table::new(path, nrows);
+    for name in &wanted {
+        let col = df.column(name).map_err(|e| polars_err(path, e))?;
+        let series = col.as_materialized_series();
+        let converted = if is_text(name) {
+            TCol::Text(text_values(series).map_err(|e| polars_err(path, e))?)
+        } else {
+            TCol::Num(numeric_values(series).map_err(|e| polars_err(path, e))?)
+        };
+        table.insert(name, converted);
+    }
+    Ok(table)
+}
+
+fn numeric_values(s: &Series) -> PolarsResult<Vec<f64>> {
+    if let DataType::String = s.dtype() {
+        let ca = s.str()?;
+        return Ok(ca
+            .iter()
+            .map(|v| {
+                v.and_then(|t| t.trim().parse::<f64>().ok())
+                    .unwrap_or(f64::NAN)
+            })
+            .collect());
+    }
+    if let DataType::Boolean = s.dtype() {
+        return Ok(s
+            .bool()?
+            .iter()
+            .map(|v| v.map(|b| b as u8 as f64).unwrap_or(f64::NAN))
+            .collect());
+    }
+    let f = s.cast(&DataType::Float64)?;
+    Ok(f.f64()?.iter().map(|v| v.unwrap_or(f64::NAN)).collect())
+}
+
+fn text_values(s: &Series) -> PolarsResult<Vec<Option<String>>> {
+    match s.dtype() {
+        DataType::String => Ok(s.str()?.iter().map(|v| v.map(|t| t.to_string())).collect()),
+        DataType::Boolean => Ok(s
+            .bool()?
+            .iter()
+            .map(|v| v.map(|b| (b as u8).to_string()))
+            .collect()),
+        _ => {
+            let f = s.cast(&DataType::Float64)?;
+            Ok(f.f64()?
+                .iter()
+                .map(|v| v.filter(|x| !x.is_nan()).map(super::table::number_key))
+                .collect())
+        }
+    }
+}

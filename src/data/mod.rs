@@ -1,0 +1,155 @@
+//! Data: loads the file a spec names, evaluates `[derived]` columns, checks
+//! values, and reshapes wide or long layouts into one situation-level form,
+//! `Observations`, that the design room turns into model arrays.
+
+pub mod load;
+mod reshape;
+pub mod table;
+pub mod write;
+
+pub use table::{Column, Table};
+
+use crate::error::{Error, Result};
+use crate::spec::{Layout, Source, Spec};
+
+/// Choice situations in one canonical form, whatever the file's layout.
+/// Arrays indexed `[i * alternatives + j]` are situation-major.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Observations {
+    pub situations: usize,
+    pub alternatives: usize,
+    /// Index of the chosen alternative in each situation.
+    pub chosen: Vec<u32>,
+    pub available: Vec<bool>,
+    /// Situation weights rescaled to average 1 (all 1 without `[data].weight`).
+    pub weight: Vec<f64>,
+    /// Sum of the weights as written in the file (demand units for volumes).
+    pub weight_total: f64,
+    /// Decision-maker index of each situation, when `[data].group` is set.
+    pub group: Option<Vec<u32>>,
+    pub groups: usize,
+    /// One array per spec attribute, `[i * J + j]`; 0 where absent or unavailable.
+    pub attributes: Vec<Vec<f64>>,
+    /// One array per spec characteristic, one value per situation.
+    pub characteristics: Vec<Vec<f64>>,
+    /// The file row (from 1) where each situation starts.
+    pub first_row: Vec<usize>,
+}
+
+/// Observations plus the situation-level columns that scenarios and
+/// segment reports read (`where` filters, `--by`).
+#[derive(Clone, Debug)]
+pub struct Dataset {
+    pub obs: Observations,
+    pub table: Table,
+}
+
+/// What else to load besides what the spec needs.
+#[derive(Clone, Debug, Default)]
+pub struct Extra {
+    pub numeric: Vec<String>,
+    pub text: Vec<String>,
+}
+
+/// Loads the spec's data file.
+pub fn load(spec: &Spec, extra: &Extra) -> Result<Dataset> {
+    load_file(spec, &spec.data.file, extra)
+}
+
+/// Loads another file with the same columns (e.g. `simulate --data`).
+pub fn load_file(spec: &Spec, file: &std::path::Path, extra: &Extra) -> Result<Dataset> {
+    let (numeric, text) = needed_columns(spec, extra);
+    let mut table = load::read(file, &numeric, &text)?;
+    add_derived(spec, &mut table)?;
+    let (obs, situation_table) = match &spec.data.layout {
+        Layout::Wide { choice } => {
+            let obs = reshape::wide(spec, &table, choice)?;
+            (obs, table)
+        }
+        Layout::Long {
+            situation,
+            alternative,
+            chosen,
+        } => reshape::long(spec, &table, situation, alternative, chosen)?,
+    };
+    Ok(Dataset {
+        obs,
+        table: situation_table,
+    })
+}
+
+/// File columns the spec reads: (numeric, text). Derived names are excluded;
+/// the columns their expressions read are included.
+pub fn needed_columns(spec: &Spec, extra: &Extra) -> (Vec<String>, Vec<String>) {
+    let derived = spec.derived_names();
+    let mut numeric: Vec<String> = Vec::new();
+    let mut text: Vec<String> = Vec::new();
+    let add = |list: &mut Vec<String>, c: &str| {
+        if !derived.contains(&c) && !list.iter().any(|x| x == c) {
+            list.push(c.to_string());
+        }
+    };
+    match &spec.data.layout {
+        Layout::Wide { choice } => add(&mut text, choice),
+        Layout::Long {
+            situation,
+            alternative,
+            chosen,
+        } => {
+            add(&mut text, situation);
+            add(&mut text, alternative);
+            add(&mut numeric, chosen);
+        }
+    }
+    if let Some(g) = &spec.data.group {
+        add(&mut text, g);
+    }
+    for t in &extra.text {
+        add(&mut text, t);
+    }
+    if let Some(w) = &spec.data.weight {
+        add(&mut numeric, w);
+    }
+    for a in &spec.alternatives {
+        if let Some(c) = &a.available {
+            add(&mut numeric, c);
+        }
+    }
+    for a in &spec.attributes {
+        for s in a.sources.iter().flatten() {
+            if let Source::Column(c) = s {
+                add(&mut numeric, c);
+            }
+        }
+    }
+    for c in &spec.characteristics {
+        add(&mut numeric, &c.column);
+    }
+    if let Some(crate::spec::Holdout::Column(c)) = &spec.holdout {
+        add(&mut numeric, c);
+    }
+    for (_, e) in &spec.derived {
+        for c in e.columns() {
+            add(&mut numeric, &c);
+        }
+    }
+    for c in &extra.numeric {
+        add(&mut numeric, c);
+    }
+    let numeric = numeric.into_iter().filter(|c| !text.contains(c)).collect();
+    (numeric, text)
+}
+
+/// Evaluates `[derived]` columns in order; each may use earlier ones.
+fn add_derived(spec: &Spec, table: &mut Table) -> Result<()> {
+    for (name, e) in &spec.derived {
+        let n = table.nrows;
+        let values = {
+            let lookup = |c: &str| table.raw_numbers(c);
+            e.eval(&lookup, n)
+                .map_err(|m| Error::spec(&spec.path, format!("[derived].{name}: {m}")))?
+        };
+        table.insert(name, Column::Num(values));
+    }
+    Ok(())
+}

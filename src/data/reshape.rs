@@ -1,0 +1,449 @@
+//! Wide (one row per situation) and long (one row per situation and
+//! alternative) files into `Observations`, with row-level error messages.
+
+use std::collections::HashMap;
+
+use super::table::{check_finite, Column, Table};
+use super::Observations;
+use crate::error::{Error, Result};
+use crate::spec::{Source, Spec};
+
+/// Maps a choice or alternative value to an alternative index: by name first, then by code.
+fn alt_lookup(spec: &Spec) -> impl Fn(&str) -> Option<usize> + '_ {
+    move |key: &str| {
+        if let Some(j) = spec.alternative_index(key) {
+            return Some(j);
+        }
+        let code: Option<i64> = key.trim().parse::<i64>().ok().or_else(|| {
+            key.trim()
+                .parse::<f64>()
+                .ok()
+                .filter(|x| x.fract() == 0.0)
+                .map(|x| x as i64)
+        });
+        code.and_then(|c| spec.alternatives.iter().position(|a| a.code == Some(c)))
+    }
+}
+
+fn declared(spec: &Spec) -> String {
+    spec.alternatives
+        .iter()
+        .map(|a| match a.code {
+            Some(c) => format!("{} (code {c})", a.name),
+            None => a.name.clone(),
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// Weights of the situations, rescaled to average 1, and their total as written.
+fn weights(spec: &Spec, table: &Table, rows: &[usize]) -> Result<(Vec<f64>, f64)> {
+    let raw = raw_weights(spec, table, rows)?;
+    let total = match &spec.data.weight {
+        Some(w) => {
+            let v = table.numbers(w, "[data].weight")?;
+            rows.iter().map(|&r| v[r]).sum()
+        }
+        None => rows.len() as f64,
+    };
+    Ok((raw, total))
+}
+
+fn raw_weights(spec: &Spec, table: &Table, rows: &[usize]) -> Result<Vec<f64>> {
+    match &spec.data.weight {
+        None => Ok(vec![1.0; rows.len()]),
+        Some(w) => {
+            let v = table.numbers(w, "[data].weight")?;
+            let out: Vec<f64> = rows.iter().map(|&r| v[r]).collect();
+            if let Some(k) = out.iter().position(|x| *x <= 0.0) {
+                return Err(Error::data(
+                    &table.file,
+                    format!(
+                        "column `{w}` ([data].weight): weights must be positive; row {} has {}",
+                        rows[k] + 1,
+                        out[k]
+                    ),
+                ));
+            }
+            // Rescaled to average 1: weights set relative importance, not the sample size.
+            let mean = out.iter().sum::<f64>() / out.len().max(1) as f64;
+            Ok(out.into_iter().map(|x| x / mean).collect())
+        }
+    }
+}
+
+fn groups(spec: &Spec, table: &Table, rows: &[usize]) -> Result<(Option<Vec<u32>>, usize)> {
+    let Some(g) = &spec.data.group else {
+        return Ok((None, 0));
+    };
+    let keys = table.keys(g, "[data].group")?;
+    let mut index: HashMap<&str, u32> = HashMap::new();
+    let mut out = Vec::with_capacity(rows.len());
+    for &r in rows {
+        let n = index.len() as u32;
+        out.push(*index.entry(keys[r].as_str()).or_insert(n));
+    }
+    Ok((Some(out), index.len()))
+}
+
+pub(super) fn wide(spec: &Spec, table: &Table, choice: &str) -> Result<Observations> {
+    let n = table.nrows;
+    let nalt = spec.alternatives.len();
+    let file = &table.file;
+    let lookup = alt_lookup(spec);
+    let keys = table.keys(choice, "[data].choice")?;
+    let mut chosen = Vec::with_capacity(n);
+    for (i, k) in keys.iter().enumerate() {
+        let j = lookup(k).ok_or_else(|| {
+            Error::data(
+                file,
+                format!(
+                    "column `{choice}` ([data].choice), row {}: `{k}` is not a declared alternative or code (declared: {})",
+                    i + 1,
+                    declared(spec)
+                ),
+            )
+        })?;
+        chosen.push(j as u32);
+    }
+    let mut available = vec![true; n * nalt];
+    for (j, alt) in spec.alternatives.iter().enumerate() {
+        if let Some(c) = &alt.available {
+            let role = format!("[alternatives.{}].available", alt.name);
+            let v = table.numbers(c, &role)?;
+            for i in 0..n {
+                available[i * nalt + j] = v[i] != 0.0;
+            }
+        }
+    }
+    for i in 0..n {
+        let j = chosen[i] as usize;
+        if !available[i * nalt + j] {
+            return Err(Error::data(
+                file,
+                format!(
+                    "row {}: the chosen alternative `{}` is unavailable there (column `{}` is 0)",
+                    i + 1,
+                    spec.alternatives[j].name,
+                    spec.alternatives[j].available.as_deref().unwrap_or("?")
+                ),
+            ));
+        }
+    }
+    let mut attributes = Vec::with_capacity(spec.attributes.len());
+    for a in &spec.attributes {
+        let mut x = vec![0.0; n * nalt];
+        for (j, src) in a.sources.iter().enumerate() {
+            match src {
+                None => {}
+                Some(Source::Value(v)) => {
+                    for i in 0..n {
+                        if available[i * nalt + j] {
+                            x[i * nalt + j] = *v;
+                        }
+                    }
+                }
+                Some(Source::Column(c)) => {
+                    let role = format!("attribute {} of {}", a.name, spec.alternatives[j].name);
+                    let v = table.numeric_column(c, &role)?;
+                    check_finite(file, c, &role, v, |i| available[i * nalt + j])?;
+                    for i in 0..n {
+                        if available[i * nalt + j] {
+                            x[i * nalt + j] = v[i];
+                        }
+                    }
+                }
+            }
+        }
+        attributes.push(x);
+    }
+    let mut characteristics = Vec::with_capacity(spec.characteristics.len());
+    for c in &spec.characteristics {
+        let role = format!("characteristic {}", c.name);
+        characteristics.push(table.numbers(&c.column, &role)?.to_vec());
+    }
+    let rows: Vec<usize> = (0..n).collect();
+    let (weight, weight_total) = weights(spec, table, &rows)?;
+    let (group, ngroups) = groups(spec, table, &rows)?;
+    Ok(Observations {
+        situations: n,
+        alternatives: nalt,
+        chosen,
+        available,
+        weight,
+        weight_total,
+        group,
+        groups: ngroups,
+        attributes,
+        characteristics,
+        first_row: rows.iter().map(|r| r + 1).collect(),
+    })
+}
+
+/// Errors when a per-situation value differs between a situation's rows.
+fn constant_within(
+    table: &Table,
+    values: &[f64],
+    members: &[Vec<usize>],
+    sit_keys: &[String],
+    what: &str,
+) -> Result<()> {
+    for (s, rows) in members.iter().enumerate() {
+        let first = values[rows[0]];
+        for &r in &rows[1..] {
+            let v = values[r];
+            if v != first && !(v.is_nan() && first.is_nan()) {
+                return Err(Error::data(
+                    &table.file,
+                    format!(
+                        "{what} varies within situation `{}` (rows {} and {}: {} vs {}); it must be constant within a situation",
+                        sit_keys[s],
+                        rows[0] + 1,
+                        r + 1,
+                        first,
+                        v
+                    ),
+                ));
+            }
+        }
+    }
+    Ok(())
+}
+
+pub(super) fn long(
+    spec: &Spec,
+    table: &Table,
+    situation: &str,
+    alternative: &str,
+    chosen_col: &str,
+) -> Result<(Observations, Table)> {
+    let nalt = spec.alternatives.len();
+    let file = &table.file;
+    let lookup = alt_lookup(spec);
+    let sit_keys_row = table.keys(situation, "[data].situation")?;
+    let alt_keys = table.keys(alternative, "[data].alternative")?;
+    let chosen_v = table.numbers(chosen_col, "[data].chosen")?;
+
+    // Situations in order of first appearance, and the rows of each.
+    let mut index: HashMap<&str, usize> = HashMap::new();
+    let mut sit_keys: Vec<String> = Vec::new();
+    let mut members: Vec<Vec<usize>> = Vec::new();
+    let mut row_alt = Vec::with_capacity(table.nrows);
+    let mut cell: Vec<Option<usize>> = Vec::new();
+    for r in 0..table.nrows {
+        let j = lookup(&alt_keys[r]).ok_or_else(|| {
+            Error::data(
+                file,
+                format!(
+                    "column `{alternative}` ([data].alternative), row {}: `{}` is not a declared alternative or code (declared: {})",
+                    r + 1,
+                    alt_keys[r],
+                    declared(spec)
+                ),
+            )
+        })?;
+        row_alt.push(j);
+        let next = index.len();
+        let s = *index.entry(sit_keys_row[r].as_str()).or_insert(next);
+        if s == members.len() {
+            members.push(Vec::new());
+            sit_keys.push(sit_keys_row[r].clone());
+            cell.extend(std::iter::repeat_n(None, nalt));
+        }
+        if let Some(prev) = cell[s * nalt + j] {
+            return Err(Error::data(
+                file,
+                format!(
+                    "situation `{}` has two rows for alternative `{}` (rows {} and {})",
+                    sit_keys_row[r],
+                    spec.alternatives[j].name,
+                    prev + 1,
+                    r + 1
+                ),
+            ));
+        }
+        cell[s * nalt + j] = Some(r);
+        members[s].push(r);
+    }
+    let n = members.len();
+    for (r, v) in chosen_v.iter().enumerate() {
+        if *v != 0.0 && *v != 1.0 {
+            return Err(Error::data(
+                file,
+                format!(
+                    "column `{chosen_col}` ([data].chosen), row {}: {v} is not 0 or 1",
+                    r + 1
+                ),
+            ));
+        }
+    }
+
+    let mut available = vec![false; n * nalt];
+    for s in 0..n {
+        for j in 0..nalt {
+            available[s * nalt + j] = cell[s * nalt + j].is_some();
+        }
+    }
+    for (j, alt) in spec.alternatives.iter().enumerate() {
+        if let Some(c) = &alt.available {
+            let role = format!("[alternatives.{}].available", alt.name);
+            let v = table.numeric_column(c, &role)?;
+            for s in 0..n {
+                if let Some(r) = cell[s * nalt + j] {
+                    if !v[r].is_finite() {
+                        return Err(Error::data(
+                            file,
+                            format!(
+                                "column `{c}` ({role}), row {}: missing or not a number",
+                                r + 1
+                            ),
+                        ));
+                    }
+                    available[s * nalt + j] = v[r] != 0.0;
+                }
+            }
+        }
+    }
+
+    let mut chosen = Vec::with_capacity(n);
+    for s in 0..n {
+        let picked: Vec<usize> = members[s]
+            .iter()
+            .copied()
+            .filter(|&r| chosen_v[r] == 1.0)
+            .collect();
+        if picked.len() != 1 {
+            let rows = members[s]
+                .iter()
+                .map(|r| (r + 1).to_string())
+                .collect::<Vec<_>>()
+                .join(", ");
+            return Err(Error::data(
+                file,
+                format!(
+                    "situation `{}` has {} chosen rows (column `{chosen_col}`, rows {rows}); exactly one must be 1",
+                    sit_keys[s],
+                    picked.len()
+                ),
+            ));
+        }
+        let j = row_alt[picked[0]];
+        if !available[s * nalt + j] {
+            return Err(Error::data(
+                file,
+                format!(
+                    "situation `{}`, row {}: the chosen alternative `{}` is marked unavailable",
+                    sit_keys[s],
+                    picked[0] + 1,
+                    spec.alternatives[j].name
+                ),
+            ));
+        }
+        chosen.push(j as u32);
+    }
+
+    let mut attributes = Vec::with_capacity(spec.attributes.len());
+    for a in &spec.attributes {
+        let mut x = vec![0.0; n * nalt];
+        for (j, src) in a.sources.iter().enumerate() {
+            let Some(src) = src else { continue };
+            for s in 0..n {
+                let Some(r) = cell[s * nalt + j] else {
+                    continue;
+                };
+                if !available[s * nalt + j] {
+                    continue;
+                }
+                x[s * nalt + j] = match src {
+                    Source::Value(v) => *v,
+                    Source::Column(c) => {
+                        let role = format!("attribute {}", a.name);
+                        let v = table.numeric_column(c, &role)?[r];
+                        if !v.is_finite() {
+                            return Err(Error::data(
+                                file,
+                                format!("column `{c}` ({role}), row {}: missing, non-numeric or infinite", r + 1),
+                            ));
+                        }
+                        v
+                    }
+                };
+            }
+        }
+        attributes.push(x);
+    }
+
+    let first: Vec<usize> = members.iter().map(|m| m[0]).collect();
+    let mut characteristics = Vec::with_capacity(spec.characteristics.len());
+    for c in &spec.characteristics {
+        let role = format!("characteristic {}", c.name);
+        let v = table.numbers(&c.column, &role)?;
+        constant_within(
+            table,
+            v,
+            &members,
+            &sit_keys,
+            &format!("column `{}` ({role})", c.column),
+        )?;
+        characteristics.push(first.iter().map(|&r| v[r]).collect());
+    }
+    if let Some(w) = &spec.data.weight {
+        let v = table.numbers(w, "[data].weight")?;
+        constant_within(
+            table,
+            v,
+            &members,
+            &sit_keys,
+            &format!("column `{w}` ([data].weight)"),
+        )?;
+    }
+    if let Some(g) = &spec.data.group {
+        let keys = table.keys(g, "[data].group")?;
+        for (s, rows) in members.iter().enumerate() {
+            if let Some(&r) = rows.iter().find(|&&r| keys[r] != keys[rows[0]]) {
+                return Err(Error::data(
+                    file,
+                    format!(
+                        "column `{g}` ([data].group) varies within situation `{}` (rows {} and {})",
+                        sit_keys[s],
+                        rows[0] + 1,
+                        r + 1
+                    ),
+                ));
+            }
+        }
+    }
+    let (weight, weight_total) = weights(spec, table, &first)?;
+    let (group, ngroups) = groups(spec, table, &first)?;
+
+    // Situation-level table: each column's value on the situation's first row.
+    let mut st = Table::new(file, n);
+    for name in table.names.clone() {
+        match table.column(&name) {
+            Some(Column::Num(v)) => {
+                st.insert(&name, Column::Num(first.iter().map(|&r| v[r]).collect()))
+            }
+            Some(Column::Text(v)) => st.insert(
+                &name,
+                Column::Text(first.iter().map(|&r| v[r].clone()).collect()),
+            ),
+            None => {}
+        }
+    }
+    Ok((
+        Observations {
+            situations: n,
+            alternatives: nalt,
+            chosen,
+            available,
+            weight,
+            weight_total,
+            group,
+            groups: ngroups,
+            attributes,
+            characteristics,
+            first_row: first.iter().map(|r| r + 1).collect(),
+        },
+        st,
+    ))
+}

@@ -1,0 +1,121 @@
+//! Writes tables (CSV, Parquet) and text files atomically: into a temporary
+//! file beside the target, then renamed over it. An existing file is only
+//! replaced when the caller passes `force`.
+
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+use polars::prelude::*;
+
+use crate::error::{Error, Result};
+
+/// One output column.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Values {
+    Num(Vec<f64>),
+    Int(Vec<i64>),
+    Text(Vec<String>),
+}
+
+impl Values {
+    fn len(&self) -> usize {
+        match self {
+            Values::Num(v) => v.len(),
+            Values::Int(v) => v.len(),
+            Values::Text(v) => v.len(),
+        }
+    }
+}
+
+fn temp_path(path: &Path) -> PathBuf {
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().to_string())
+        .unwrap_or_default();
+    path.with_file_name(format!(".{name}.{}.tmp", std::process::id()))
+}
+
+/// Refuses to replace an existing file unless `force`.
+pub fn check_overwrite(path: &Path, force: bool) -> Result<()> {
+    if path.is_dir() {
+        return Err(Error::io(path, "is a directory"));
+    }
+    if path.exists() && !force {
+        return Err(Error::io(
+            path,
+            "exists already; pass --force to replace it",
+        ));
+    }
+    Ok(())
+}
+
+/// Writes bytes produced by `fill` atomically.
+pub fn atomic(
+    path: &Path,
+    force: bool,
+    fill: impl FnOnce(&mut std::fs::File) -> Result<()>,
+) -> Result<()> {
+    check_overwrite(path, force)?;
+    if let Some(dir) = path.parent() {
+        if !dir.as_os_str().is_empty() && !dir.exists() {
+            std::fs::create_dir_all(dir).map_err(|e| Error::io(dir, e))?;
+        }
+    }
+    let tmp = temp_path(path);
+    let result = (|| {
+        let mut f = std::fs::File::create(&tmp).map_err(|e| Error::io(&tmp, e))?;
+        fill(&mut f)?;
+        f.flush().map_err(|e| Error::io(&tmp, e))?;
+        f.sync_all().map_err(|e| Error::io(&tmp, e))?;
+        std::fs::rename(&tmp, path).map_err(|e| Error::io(path, e))
+    })();
+    if result.is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+    result
+}
+
+/// Writes text atomically.
+pub fn text(path: &Path, force: bool, body: &str) -> Result<()> {
+    atomic(path, force, |f| {
+        f.write_all(body.as_bytes()).map_err(|e| Error::io(path, e))
+    })
+}
+
+fn frame(columns: &[(String, Values)]) -> Result<DataFrame> {
+    let height = columns.first().map(|c| c.1.len()).unwrap_or(0);
+    let cols: Vec<polars::prelude::Column> = columns
+        .iter()
+        .map(|(name, v)| match v {
+            Values::Num(x) => polars::prelude::Column::new(name.as_str().into(), x.as_slice()),
+            Values::Int(x) => polars::prelude::Column::new(name.as_str().into(), x.as_slice()),
+            Values::Text(x) => polars::prelude::Column::new(name.as_str().into(), x.as_slice()),
+        })
+        .collect();
+    DataFrame::new(height, cols)
+        .map_err(|e| Error::Usage(format!("could not build the table: {e}")))
+}
+
+/// Writes a table as CSV or Parquet, chosen by the file's extension.
+pub fn table(path: &Path, force: bool, columns: &[(String, Values)]) -> Result<()> {
+    let mut df = frame(columns)?;
+    let ext = path
+        .extension()
+        .and_then(|e| e.to_str())
+        .unwrap_or("")
+        .to_ascii_lowercase();
+    match ext.as_str() {
+        "csv" => atomic(path, force, |f| {
+            CsvWriter::new(f)
+                .finish(&mut df)
+                .map_err(|e| Error::io(path, e))
+        }),
+        "parquet" => atomic(path, force, |f| {
+            ParquetWriter::new(f)
+                .finish(&mut df)
+                .map(|_| ())
+                .map_err(|e| Error::io(path, e))
+        }),
+        _ => Err(Error::io(path, "tables are written as .csv or .parquet")),
+    }
+}

@@ -1,0 +1,308 @@
+//! The invented demo data sets, simulated from known parameters with a fixed
+//! seed: commute mode choice in the invented city of Velmora (wide CSV) and
+//! product choice at the invented Larkspur Market grocery (long Parquet).
+//! `demo-data/README.md` lists the true parameters written here.
+
+use std::path::Path;
+
+use crate::data::write::{table, Values};
+use crate::error::Result;
+use crate::rng::Rng;
+
+/// True parameters of the commute demo (utility per unit of each variable).
+pub const COMMUTE_TRUTH: &[(&str, f64)] = &[
+    ("asc_bus", -0.6),
+    ("asc_rail", -0.3),
+    ("asc_bike", -1.0),
+    ("asc_walk", 0.8),
+    ("cost", -0.30),
+    ("time", -0.040),
+    ("wait", -0.070),
+    ("access", -0.55),
+    ("income_bus", -0.012),
+    ("income_rail", 0.004),
+    ("income_bike", -0.006),
+    ("income_walk", -0.010),
+    ("age_bike", -0.030),
+    ("age_walk", -0.012),
+];
+
+/// True parameters of the grocery demo.
+pub const GROCERY_TRUTH: &[(&str, f64)] = &[
+    ("asc_quillfield", 0.25),
+    ("asc_marrowby", -0.15),
+    ("asc_fennick", 0.40),
+    ("asc_own_label", -0.30),
+    ("price", -1.6),
+    ("promo", 0.55),
+    ("eye_level", 0.35),
+    ("income_quillfield", 0.004),
+    ("income_marrowby", 0.002),
+    ("income_fennick", 0.009),
+    ("income_own_label", -0.012),
+    ("size_quillfield", 0.05),
+    ("size_marrowby", -0.04),
+    ("size_fennick", 0.02),
+    ("size_own_label", 0.12),
+];
+
+fn truth(table: &[(&str, f64)], name: &str) -> f64 {
+    table
+        .iter()
+        .find(|t| t.0 == name)
+        .map(|t| t.1)
+        .unwrap_or(0.0)
+}
+
+fn round(x: f64, digits: i32) -> f64 {
+    let m = 10f64.powi(digits);
+    (x * m).round() / m
+}
+
+/// Picks the alternative with the largest utility plus a Gumbel draw among the available ones.
+fn pick(rng: &mut Rng, v: &[f64], avail: &[bool]) -> usize {
+    let mut best = 0;
+    let mut best_u = f64::NEG_INFINITY;
+    for j in 0..v.len() {
+        if avail[j] {
+            let u = v[j] + rng.gumbel();
+            if u > best_u {
+                best_u = u;
+                best = j;
+            }
+        }
+    }
+    best
+}
+
+/// Velmora commute trips: 2,000 residents, 3 trips each, wide layout.
+pub fn commute(path: &Path, force: bool) -> Result<()> {
+    let t = |n: &str| truth(COMMUTE_TRUTH, n);
+    let mut rng = Rng::new(20_261_201);
+    let names = ["car", "bus", "rail", "bike", "walk"];
+    let mut cols: Vec<(&str, Vec<f64>)> = [
+        "trip_id",
+        "person_id",
+        "district",
+        "income",
+        "age",
+        "has_car",
+        "distance_km",
+        "car_cost",
+        "car_time",
+        "bus_fare",
+        "bus_time",
+        "bus_wait",
+        "bus_access_km",
+        "rail_fare",
+        "rail_time",
+        "rail_wait",
+        "rail_access_km",
+        "bike_time",
+        "walk_time",
+        "bike_ok",
+        "walk_ok",
+        "expansion",
+    ]
+    .iter()
+    .map(|n| (*n, Vec::new()))
+    .collect();
+    let mut mode = Vec::new();
+    let mut trip = 0;
+    for person in 1..=2000 {
+        let district = 1 + rng.below(5);
+        let income = round((3.4 + 0.45 * rng.normal()).exp(), 1); // thousands per year
+        let age = 18.0 + rng.below(58) as f64;
+        let has_car = (rng.uniform() < 0.35 + 0.006 * income.min(90.0)) as u8 as f64;
+        let expansion = round(20.0 + 10.0 * rng.uniform() + 4.0 * district as f64, 2);
+        for _ in 0..3 {
+            trip += 1;
+            let d = round((1.6 + 0.7 * rng.normal()).exp().clamp(0.4, 40.0), 2);
+            let car_time = round(4.0 + 1.7 * d * (1.0 + 0.2 * rng.uniform()), 1);
+            let car_cost = round(0.22 * d + [1.0, 2.5, 4.0][rng.below(3)], 2);
+            let bus_time = round(3.0 + 2.6 * d * (1.0 + 0.2 * rng.uniform()), 1);
+            let bus_fare = round(1.2 + 0.08 * d, 2);
+            let bus_wait = round(2.0 + 8.0 * rng.uniform(), 1);
+            let bus_access = round(0.1 + 0.8 * rng.uniform(), 2);
+            let rail_time = round(6.0 + 1.2 * d * (1.0 + 0.2 * rng.uniform()), 1);
+            let rail_fare = round(1.8 + 0.12 * d, 2);
+            let rail_wait = round(1.5 + 6.0 * rng.uniform(), 1);
+            let rail_access = round(0.3 + 2.2 * rng.uniform() + 0.2 * district as f64, 2);
+            let bike_time = round(d * 4.0, 1);
+            let walk_time = round(d * 12.0, 1);
+            let bike_ok = (d <= 15.0) as u8 as f64;
+            let walk_ok = (d <= 5.0) as u8 as f64;
+            let avail = [has_car == 1.0, true, true, bike_ok == 1.0, walk_ok == 1.0];
+            let v = [
+                t("cost") * car_cost + t("time") * car_time,
+                t("asc_bus")
+                    + t("cost") * bus_fare
+                    + t("time") * bus_time
+                    + t("wait") * bus_wait
+                    + t("access") * bus_access
+                    + t("income_bus") * income,
+                t("asc_rail")
+                    + t("cost") * rail_fare
+                    + t("time") * rail_time
+                    + t("wait") * rail_wait
+                    + t("access") * rail_access
+                    + t("income_rail") * income,
+                t("asc_bike")
+                    + t("time") * bike_time
+                    + t("income_bike") * income
+                    + t("age_bike") * age,
+                t("asc_walk")
+                    + t("time") * walk_time
+                    + t("income_walk") * income
+                    + t("age_walk") * age,
+            ];
+            let c = pick(&mut rng, &v, &avail);
+            mode.push(names[c].to_string());
+            let row = [
+                trip as f64,
+                person as f64,
+                district as f64,
+                income,
+                age,
+                has_car,
+                d,
+                car_cost,
+                car_time,
+                bus_fare,
+                bus_time,
+                bus_wait,
+                bus_access,
+                rail_fare,
+                rail_time,
+                rail_wait,
+                rail_access,
+                bike_time,
+                walk_time,
+                bike_ok,
+                walk_ok,
+                expansion,
+            ];
+            for (col, x) in cols.iter_mut().zip(row) {
+                col.1.push(x);
+            }
+        }
+    }
+    let ints = [
+        "trip_id",
+        "person_id",
+        "district",
+        "age",
+        "has_car",
+        "bike_ok",
+        "walk_ok",
+    ];
+    let mut out: Vec<(String, Values)> = Vec::new();
+    for (name, v) in cols {
+        let values = if ints.contains(&name) {
+            Values::Int(v.iter().map(|x| *x as i64).collect())
+        } else {
+            Values::Num(v)
+        };
+        out.push((name.to_string(), values));
+        if name == "person_id" {
+            out.push(("mode".to_string(), Values::Text(mode.clone())));
+        }
+    }
+    table(path, force, &out)
+}
+
+/// Larkspur Market purchases of one item: 8,000 purchases by 1,600 households, long layout.
+pub fn grocery(path: &Path, force: bool) -> Result<()> {
+    let t = |n: &str| truth(GROCERY_TRUTH, n);
+    let mut rng = Rng::new(7_041_990);
+    let brands = [
+        "brambleton",
+        "quillfield",
+        "marrowby",
+        "fennick",
+        "own_label",
+    ];
+    let list_price = [3.20, 3.45, 2.90, 3.80, 2.30];
+    let (mut purchase, mut household, mut week, mut brand) =
+        (Vec::new(), Vec::new(), Vec::new(), Vec::new());
+    let (mut price, mut promo, mut eye, mut income, mut size, mut chosen) = (
+        Vec::new(),
+        Vec::new(),
+        Vec::new(),
+        Vec::new(),
+        Vec::new(),
+        Vec::new(),
+    );
+    let mut id = 0i64;
+    for h in 1..=1600i64 {
+        let inc = round((3.5 + 0.5 * rng.normal()).exp(), 1);
+        let hsize = 1 + rng.below(5) as i64;
+        for _ in 0..5 {
+            id += 1;
+            let wk = 1 + rng.below(52) as i64;
+            let mut avail = [true; 5];
+            for a in avail.iter_mut() {
+                *a = rng.uniform() > 0.06; // stock-outs
+            }
+            if avail.iter().all(|a| !a) {
+                avail[4] = true;
+            }
+            let mut rows = Vec::new();
+            let mut v = [0.0; 5];
+            for j in 0..5 {
+                let on_promo = (rng.uniform() < 0.15) as u8 as f64;
+                let p = round(
+                    list_price[j] * (1.0 - 0.2 * on_promo) * (0.95 + 0.1 * rng.uniform()),
+                    2,
+                );
+                let e = (rng.uniform() < 0.4) as u8 as f64;
+                let name = brands[j];
+                v[j] = if j == 0 {
+                    0.0
+                } else {
+                    t(&format!("asc_{name}"))
+                } + t("price") * p
+                    + t("promo") * on_promo
+                    + t("eye_level") * e
+                    + t(&format!("income_{name}")) * inc
+                    + t(&format!("size_{name}")) * hsize as f64;
+                rows.push((p, on_promo, e));
+            }
+            let c = pick(&mut rng, &v, &avail);
+            for j in 0..5 {
+                if !avail[j] {
+                    continue; // a stock-out: no row, so the brand is unavailable
+                }
+                purchase.push(id);
+                household.push(h);
+                week.push(wk);
+                brand.push(brands[j].to_string());
+                price.push(rows[j].0);
+                promo.push(rows[j].1 as i64);
+                eye.push(rows[j].2 as i64);
+                income.push(inc);
+                size.push(hsize);
+                chosen.push((j == c) as i64);
+            }
+        }
+    }
+    let out = vec![
+        ("purchase_id".to_string(), Values::Int(purchase)),
+        ("household_id".to_string(), Values::Int(household)),
+        ("week".to_string(), Values::Int(week)),
+        ("brand".to_string(), Values::Text(brand)),
+        ("price".to_string(), Values::Num(price)),
+        ("promo".to_string(), Values::Int(promo)),
+        ("eye_level".to_string(), Values::Int(eye)),
+        ("income".to_string(), Values::Num(income)),
+        ("household_size".to_string(), Values::Int(size)),
+        ("chosen".to_string(), Values::Int(chosen)),
+    ];
+    table(path, force, &out)
+}
+
+/// Writes both demo sets into `dir`.
+pub fn write_all(dir: &Path, force: bool) -> Result<()> {
+    commute(&dir.join("commute.csv"), force)?;
+    grocery(&dir.join("grocery.parquet"), force)
+}

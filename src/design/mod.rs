@@ -1,0 +1,159 @@
+//! Design: the compact arrays the likelihood reads. Attributes are stored per
+//! situation and alternative, characteristics and constants per situation;
+//! each alternative has a short list of features naming which parameter
+//! multiplies which value, so no situations x alternatives x parameters
+//! array of structural zeros is ever built.
+
+use std::sync::Arc;
+
+use crate::data::Observations;
+use crate::spec::{Coefficient, Spec, Term};
+
+/// Where a feature's value comes from.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Value {
+    /// 1 (an alternative-specific constant).
+    One,
+    /// Attribute `a` at `[i * J + j]`.
+    Attribute(usize),
+    /// Characteristic `c` at `[i]`.
+    Characteristic(usize),
+}
+
+/// Parameter `param` multiplies `value` in an alternative's utility.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Feature {
+    pub param: usize,
+    pub value: Value,
+}
+
+#[derive(Clone, Debug)]
+pub struct Design {
+    pub obs: Arc<Observations>,
+    /// Number of parameters (free and fixed), in spec order.
+    pub params: usize,
+    /// Per alternative, the features entering its utility.
+    pub features: Vec<Vec<Feature>>,
+}
+
+impl PartialEq for Design {
+    /// Equal model arrays (the file rows where situations start are not compared).
+    fn eq(&self, other: &Self) -> bool {
+        let (a, b) = (&*self.obs, &*other.obs);
+        self.params == other.params
+            && self.features == other.features
+            && a.situations == b.situations
+            && a.alternatives == b.alternatives
+            && a.chosen == b.chosen
+            && a.available == b.available
+            && a.weight == b.weight
+            && a.group == b.group
+            && a.groups == b.groups
+            && a.attributes == b.attributes
+            && a.characteristics == b.characteristics
+    }
+}
+
+impl Design {
+    pub fn build(spec: &Spec, obs: Arc<Observations>) -> Design {
+        let nalt = spec.alternatives.len();
+        let mut features = vec![Vec::new(); nalt];
+        for (k, p) in spec.parameters.iter().enumerate() {
+            match &p.term {
+                Term::Constant => {
+                    if let Some(j) = p.alternative {
+                        features[j].push(Feature {
+                            param: k,
+                            value: Value::One,
+                        });
+                    }
+                }
+                Term::Attribute(a) => {
+                    let attr = &spec.attributes[*a];
+                    let alts: Vec<usize> = match attr.coefficient {
+                        Coefficient::Shared => {
+                            (0..nalt).filter(|&j| attr.sources[j].is_some()).collect()
+                        }
+                        Coefficient::PerAlternative => p.alternative.into_iter().collect(),
+                    };
+                    for j in alts {
+                        features[j].push(Feature {
+                            param: k,
+                            value: Value::Attribute(*a),
+                        });
+                    }
+                }
+                Term::Characteristic(c) => {
+                    if let Some(j) = p.alternative {
+                        features[j].push(Feature {
+                            param: k,
+                            value: Value::Characteristic(*c),
+                        });
+                    }
+                }
+            }
+        }
+        Design {
+            obs,
+            params: spec.parameters.len(),
+            features,
+        }
+    }
+
+    pub fn situations(&self) -> usize {
+        self.obs.situations
+    }
+
+    pub fn alternatives(&self) -> usize {
+        self.obs.alternatives
+    }
+
+    #[inline]
+    pub fn value(&self, i: usize, j: usize, v: Value) -> f64 {
+        match v {
+            Value::One => 1.0,
+            Value::Attribute(a) => self.obs.attributes[a][i * self.obs.alternatives + j],
+            Value::Characteristic(c) => self.obs.characteristics[c][i],
+        }
+    }
+
+    #[inline]
+    pub fn available(&self, i: usize, j: usize) -> bool {
+        self.obs.available[i * self.obs.alternatives + j]
+    }
+
+    /// Utilities of situation `i` into `out` (length J); unavailable ones are -inf.
+    #[inline]
+    pub fn utilities(&self, beta: &[f64], i: usize, out: &mut [f64]) {
+        for (j, o) in out.iter_mut().enumerate() {
+            if !self.available(i, j) {
+                *o = f64::NEG_INFINITY;
+                continue;
+            }
+            let mut v = 0.0;
+            for f in &self.features[j] {
+                v += beta[f.param] * self.value(i, j, f.value);
+            }
+            *o = v;
+        }
+    }
+
+    /// Sum of weights.
+    pub fn total_weight(&self) -> f64 {
+        self.obs.weight.iter().sum()
+    }
+
+    /// Split of `0..situations` into one contiguous range per core.
+    pub fn chunks(&self) -> Vec<std::ops::Range<usize>> {
+        let n = self.situations();
+        let threads = std::thread::available_parallelism()
+            .map(|t| t.get())
+            .unwrap_or(1);
+        let parts = if n < 20_000 { 1 } else { threads.max(1) };
+        let size = n.div_ceil(parts).max(1);
+        (0..parts)
+            .map(|t| (t * size).min(n)..((t + 1) * size).min(n))
+            .filter(|r| !r.is_empty())
+            .collect()
+    }
+}

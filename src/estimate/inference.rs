@@ -1,0 +1,151 @@
+//! Covariance of the estimates (classical and cluster-robust sandwich) and
+//! the diagnostics that name parameters: not identified (a flat direction of
+//! the Hessian) and separation (coefficients running off).
+
+use nalgebra::{DMatrix, SymmetricEigen};
+use serde::Serialize;
+
+use super::likelihood::{for_each_score, Kind};
+use crate::design::{Design, Value};
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum DiagnosticKind {
+    NotIdentified,
+    Separation,
+    NotConverged,
+    NeverChosen,
+    NeverAvailable,
+    RatioDenominator,
+}
+
+/// A finding about the fit that names the parameters and spec terms involved.
+#[derive(Clone, Debug, Serialize)]
+pub struct Diagnostic {
+    pub kind: DiagnosticKind,
+    pub parameters: Vec<String>,
+    pub message: String,
+}
+
+/// Checks identification on the free block `a` of the negative Hessian.
+/// Returns the flat directions as groups of free-parameter positions.
+pub fn flat_directions(a: &DMatrix<f64>) -> Vec<Vec<usize>> {
+    let m = a.nrows();
+    let mut out = Vec::new();
+    let diag: Vec<f64> = (0..m).map(|k| a[(k, k)]).collect();
+    let max_diag = diag.iter().cloned().fold(0.0, f64::max);
+    let mut dead = Vec::new();
+    for (k, &dk) in diag.iter().enumerate() {
+        if dk.is_nan() || dk <= 1e-12 * max_diag.max(1e-300) {
+            dead.push(k);
+            out.push(vec![k]);
+        }
+    }
+    let live: Vec<usize> = (0..m).filter(|k| !dead.contains(k)).collect();
+    if live.is_empty() {
+        return out;
+    }
+    let s = DMatrix::from_fn(live.len(), live.len(), |x, y| {
+        a[(live[x], live[y])] / (diag[live[x]] * diag[live[y]]).sqrt()
+    });
+    let eig = SymmetricEigen::new(s);
+    let lmax = eig.eigenvalues.iter().cloned().fold(0.0, f64::max);
+    for (e, &l) in eig.eigenvalues.iter().enumerate() {
+        if l < 1e-10 * lmax {
+            let v = eig.eigenvectors.column(e);
+            let mut members: Vec<usize> = (0..live.len())
+                .filter(|&x| v[x].abs() > 0.2)
+                .map(|x| live[x])
+                .collect();
+            members.sort_unstable();
+            if !members.is_empty() {
+                out.push(members);
+            }
+        }
+    }
+    out
+}
+
+/// Inverse of the free negative Hessian, or `None` when it is not positive definite.
+pub fn invert(a: &DMatrix<f64>) -> Option<DMatrix<f64>> {
+    let inv = a.clone().cholesky()?.inverse();
+    inv.iter().all(|v| v.is_finite()).then_some(inv)
+}
+
+/// The sandwich A^-1 B A^-1 on the free block, B from per-situation scores summed within groups.
+pub fn robust(
+    d: &Design,
+    kind: Kind,
+    beta: &[f64],
+    free: &[usize],
+    a_inv: &DMatrix<f64>,
+) -> DMatrix<f64> {
+    let m = free.len();
+    let mut b = DMatrix::<f64>::zeros(m, m);
+    let add = |b: &mut DMatrix<f64>, s: &[f64]| {
+        for x in 0..m {
+            let sx = s[free[x]];
+            if sx == 0.0 {
+                continue;
+            }
+            for y in 0..m {
+                b[(x, y)] += sx * s[free[y]];
+            }
+        }
+    };
+    match &d.obs.group {
+        Some(groups) => {
+            let k = d.params;
+            let mut sums = vec![0.0; d.obs.groups * k];
+            for_each_score(d, kind, beta, |i, s| {
+                let g = groups[i] as usize;
+                for (t, v) in s.iter().enumerate() {
+                    sums[g * k + t] += v;
+                }
+            });
+            for g in sums.chunks(k) {
+                add(&mut b, g);
+            }
+        }
+        None => for_each_score(d, kind, beta, |_, s| add(&mut b, s)),
+    }
+    a_inv * b * a_inv
+}
+
+/// Parameters whose coefficient times the spread of their variable is so large that
+/// the choice is all but deterministic: the sign of (quasi-)separation.
+pub fn runaway(d: &Design, beta: &[f64], free: &[usize]) -> Vec<(usize, f64)> {
+    let mut out = Vec::new();
+    for &p in free {
+        let mut n = 0.0;
+        let mut s = 0.0;
+        let mut s2 = 0.0;
+        let mut one = false;
+        for (j, feats) in d.features.iter().enumerate() {
+            for f in feats.iter().filter(|f| f.param == p) {
+                if f.value == Value::One {
+                    one = true;
+                    continue;
+                }
+                for i in 0..d.situations() {
+                    if d.available(i, j) {
+                        let x = d.value(i, j, f.value);
+                        n += 1.0;
+                        s += x;
+                        s2 += x * x;
+                    }
+                }
+            }
+        }
+        let sd = if one || n < 2.0 {
+            1.0
+        } else {
+            ((s2 - s * s / n) / (n - 1.0)).max(0.0).sqrt()
+        };
+        let spread = beta[p].abs() * sd;
+        if spread > 15.0 {
+            out.push((p, spread));
+        }
+    }
+    out
+}

@@ -1,0 +1,371 @@
+//! Estimation: maximum likelihood for the spec's model, its covariance, fit
+//! statistics and diagnostics. `fit` is the room's entry point.
+
+pub mod inference;
+pub mod likelihood;
+pub mod normal;
+pub mod optimise;
+
+use std::sync::Arc;
+use std::time::Instant;
+
+use nalgebra::DMatrix;
+use serde::Serialize;
+
+pub use inference::{Diagnostic, DiagnosticKind};
+pub use likelihood::Kind;
+pub use optimise::{Progress, Step};
+
+use crate::data::Observations;
+use crate::design::Design;
+use crate::error::{Error, Result};
+use crate::spec::Spec;
+
+/// Two-sided 95% normal quantile.
+pub const Z95: f64 = 1.959_963_984_540_054;
+
+#[derive(Clone, Debug, Serialize)]
+pub struct ParameterRow {
+    pub name: String,
+    pub term: String,
+    pub estimate: f64,
+    pub std_error: f64,
+    pub robust_std_error: f64,
+    pub t_stat: f64,
+    pub p_value: f64,
+    pub ci_low: f64,
+    pub ci_high: f64,
+    pub fixed: bool,
+}
+
+#[derive(Clone, Debug, Serialize)]
+pub struct FitStats {
+    pub situations: usize,
+    pub groups: usize,
+    pub log_likelihood: f64,
+    pub null_log_likelihood: f64,
+    pub constants_log_likelihood: f64,
+    pub rho_squared: f64,
+    pub rho_squared_constants: f64,
+    pub adjusted_rho_squared: f64,
+    pub aic: f64,
+    pub bic: f64,
+    pub iterations: usize,
+    pub newton_steps: usize,
+    pub passes: usize,
+    pub gradient_norm: f64,
+    pub newton_decrement: f64,
+    pub converged: bool,
+    pub seconds: f64,
+    pub estimated_parameters: usize,
+    /// "robust" when `[data].group` is set, else "classical": which errors t, p and intervals use.
+    pub inference: String,
+}
+
+#[derive(Clone, Debug, Serialize)]
+pub struct ShareRow {
+    pub alternative: String,
+    pub observed: f64,
+    pub predicted: f64,
+}
+
+/// A fitted model: the design it was fitted on and everything estimated.
+#[derive(Clone, Debug)]
+pub struct Fit {
+    pub design: Design,
+    pub kind: Kind,
+    pub names: Vec<String>,
+    /// All K parameters, fixed ones at their value.
+    pub beta: Vec<f64>,
+    /// Positions of the estimated (not fixed) parameters.
+    pub free: Vec<usize>,
+    /// K x K covariances (zero rows for fixed parameters; NaN when not identified).
+    pub covariance: DMatrix<f64>,
+    pub robust_covariance: DMatrix<f64>,
+    pub parameters: Vec<ParameterRow>,
+    pub stats: FitStats,
+    pub shares: Vec<ShareRow>,
+    pub diagnostics: Vec<Diagnostic>,
+}
+
+impl Fit {
+    /// The covariance that inference uses (robust when the data have groups).
+    pub fn inference_covariance(&self) -> &DMatrix<f64> {
+        if self.design.obs.group.is_some() {
+            &self.robust_covariance
+        } else {
+            &self.covariance
+        }
+    }
+}
+
+fn normal_p(t: f64) -> f64 {
+    if t.is_finite() {
+        2.0 * normal::cdf(-t.abs())
+    } else {
+        f64::NAN
+    }
+}
+
+/// Log-likelihood with equal probabilities over each situation's available alternatives.
+pub fn null_log_likelihood(obs: &Observations) -> f64 {
+    let j = obs.alternatives;
+    (0..obs.situations)
+        .map(|i| {
+            let n = obs.available[i * j..(i + 1) * j]
+                .iter()
+                .filter(|a| **a)
+                .count() as f64;
+            -obs.weight[i] * n.ln()
+        })
+        .sum()
+}
+
+/// Weighted observed and predicted shares of each alternative.
+pub fn shares(spec: &Spec, d: &Design, kind: Kind, beta: &[f64]) -> Vec<ShareRow> {
+    let j = d.alternatives();
+    let p = likelihood::probabilities(d, kind, beta);
+    let mut obs = vec![0.0; j];
+    let mut pred = vec![0.0; j];
+    for i in 0..d.situations() {
+        let w = d.obs.weight[i];
+        obs[d.obs.chosen[i] as usize] += w;
+        for a in 0..j {
+            pred[a] += w * p[i * j + a];
+        }
+    }
+    let tw = d.total_weight();
+    spec.alternatives
+        .iter()
+        .enumerate()
+        .map(|(a, alt)| ShareRow {
+            alternative: alt.name.clone(),
+            observed: obs[a] / tw,
+            predicted: pred[a] / tw,
+        })
+        .collect()
+}
+
+/// Fits the spec's model to the observations.
+pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fit> {
+    let started = Instant::now();
+    let design = Design::build(spec, obs.clone());
+    let kind = Kind {
+        family: spec.family,
+        base: spec.base,
+    };
+    let k = design.params;
+    let free: Vec<usize> = (0..k)
+        .filter(|&p| spec.parameters[p].fixed.is_none())
+        .collect();
+    if design.situations() == 0 {
+        return Err(Error::Estimate("no choice situations to fit".into()));
+    }
+    let start: Vec<f64> = spec.parameters.iter().map(|p| p.start).collect();
+    let out = optimise::maximise(&design, kind, &start, &free, progress);
+    let names: Vec<String> = spec.parameters.iter().map(|p| p.name.clone()).collect();
+    let mut diagnostics = Vec::new();
+
+    // Covariance.
+    let final_eval = likelihood::evaluate(&design, kind, &out.beta, true, true);
+    let a = optimise::negative_free_hessian(final_eval.hess.as_deref().unwrap_or(&[]), k, &free);
+    let flats = inference::flat_directions(&a);
+    for group in &flats {
+        let params: Vec<String> = group.iter().map(|&x| names[free[x]].clone()).collect();
+        let terms: Vec<String> = group
+            .iter()
+            .map(|&x| spec.term_label(&spec.parameters[free[x]].term))
+            .fold(Vec::new(), |mut v, t| {
+                if !v.contains(&t) {
+                    v.push(t)
+                }
+                v
+            });
+        let message = if params.len() == 1 {
+            format!(
+                "parameter `{}` is not identified: the data carry no information on it (from {}); drop the term, fix it in [parameters], or check that its variable varies across alternatives and situations",
+                params[0], terms[0]
+            )
+        } else {
+            format!(
+                "parameters {} are not identified together: only a combination of them is estimable (from {}); their variables are collinear, so drop or fix one",
+                params.iter().map(|p| format!("`{p}`")).collect::<Vec<_>>().join(", "),
+                terms.join(", ")
+            )
+        };
+        diagnostics.push(Diagnostic {
+            kind: DiagnosticKind::NotIdentified,
+            parameters: params,
+            message,
+        });
+    }
+    let m = free.len();
+    let nan = || DMatrix::from_element(k, k, f64::NAN);
+    let (covariance, robust_covariance) = match (flats.is_empty(), inference::invert(&a)) {
+        (true, Some(a_inv)) => {
+            let r = inference::robust(&design, kind, &out.beta, &free, &a_inv);
+            let mut c = DMatrix::zeros(k, k);
+            let mut rc = DMatrix::zeros(k, k);
+            for x in 0..m {
+                for y in 0..m {
+                    c[(free[x], free[y])] = a_inv[(x, y)];
+                    rc[(free[x], free[y])] = r[(x, y)];
+                }
+            }
+            (c, rc)
+        }
+        _ => (nan(), nan()),
+    };
+
+    for (p, spread) in inference::runaway(&design, &out.beta, &free) {
+        diagnostics.push(Diagnostic {
+            kind: DiagnosticKind::Separation,
+            parameters: vec![names[p].clone()],
+            message: format!(
+                "`{}` = {:.4} runs off (one standard deviation of its variable moves utility by {:.1}): the variable (from {}) separates the choices almost perfectly, so the estimate and its error are not meaningful",
+                names[p],
+                out.beta[p],
+                spread,
+                spec.term_label(&spec.parameters[p].term)
+            ),
+        });
+    }
+    if !out.converged {
+        diagnostics.push(Diagnostic {
+            kind: DiagnosticKind::NotConverged,
+            parameters: Vec::new(),
+            message: format!(
+                "the fit did not converge (Newton decrement {:.3e}, tolerance {:.0e}){}",
+                out.criterion,
+                optimise::NEWTON_TOLERANCE,
+                out.note
+                    .as_ref()
+                    .map(|n| format!(": {n}"))
+                    .unwrap_or_default()
+            ),
+        });
+    }
+    let j = design.alternatives();
+    for (a, alt) in spec.alternatives.iter().enumerate() {
+        let avail = (0..design.situations())
+            .filter(|&i| design.available(i, a))
+            .count();
+        let chosen = obs.chosen.iter().filter(|&&c| c as usize == a).count();
+        let asc: Vec<String> = spec
+            .parameters
+            .iter()
+            .filter(|p| p.alternative == Some(a) && p.term == crate::spec::Term::Constant)
+            .map(|p| p.name.clone())
+            .collect();
+        if avail == 0 {
+            diagnostics.push(Diagnostic {
+                kind: DiagnosticKind::NeverAvailable,
+                parameters: asc,
+                message: format!(
+                    "alternative `{}` is never available, so nothing about it can be estimated",
+                    alt.name
+                ),
+            });
+        } else if chosen == 0 {
+            diagnostics.push(Diagnostic {
+                kind: DiagnosticKind::NeverChosen,
+                parameters: asc,
+                message: format!(
+                    "alternative `{}` is never chosen (available in {avail} situations): its constant runs to minus infinity",
+                    alt.name
+                ),
+            });
+        }
+    }
+    let _ = j;
+
+    // Parameter rows.
+    let robust_inference = obs.group.is_some();
+    let parameters: Vec<ParameterRow> = (0..k)
+        .map(|p| {
+            let fixed = spec.parameters[p].fixed.is_some();
+            let se = if fixed {
+                f64::NAN
+            } else {
+                covariance[(p, p)].sqrt()
+            };
+            let rse = if fixed {
+                f64::NAN
+            } else {
+                robust_covariance[(p, p)].sqrt()
+            };
+            let use_se = if robust_inference { rse } else { se };
+            let est = out.beta[p];
+            let t = est / use_se;
+            ParameterRow {
+                name: names[p].clone(),
+                term: spec.term_label(&spec.parameters[p].term),
+                estimate: est,
+                std_error: se,
+                robust_std_error: rse,
+                t_stat: t,
+                p_value: normal_p(t),
+                ci_low: est - Z95 * use_se,
+                ci_high: est + Z95 * use_se,
+                fixed,
+            }
+        })
+        .collect();
+
+    // Fit statistics.
+    let null_ll = null_log_likelihood(&obs);
+    let constants_ll = if spec.constants && spec.attributes.len() + spec.characteristics.len() > 0 {
+        let cspec = spec.constants_only();
+        let cd = Design::build(&cspec, obs.clone());
+        let cfree: Vec<usize> = (0..cd.params).collect();
+        let quiet = |_s: Step| {};
+        optimise::maximise(&cd, kind, &vec![0.0; cd.params], &cfree, &quiet).ll
+    } else if spec.constants {
+        out.ll
+    } else {
+        null_ll
+    };
+    let kf = free.len() as f64;
+    let n = design.situations() as f64;
+    let ll = out.ll;
+    let stats = FitStats {
+        situations: design.situations(),
+        groups: obs.groups,
+        log_likelihood: ll,
+        null_log_likelihood: null_ll,
+        constants_log_likelihood: constants_ll,
+        rho_squared: 1.0 - ll / null_ll,
+        rho_squared_constants: 1.0 - ll / constants_ll,
+        adjusted_rho_squared: 1.0 - (ll - kf) / null_ll,
+        aic: 2.0 * kf - 2.0 * ll,
+        bic: kf * n.ln() - 2.0 * ll,
+        iterations: out.bfgs_iterations,
+        newton_steps: out.newton_steps,
+        passes: out.passes,
+        gradient_norm: out.gradient_norm,
+        newton_decrement: out.criterion,
+        converged: out.converged,
+        seconds: started.elapsed().as_secs_f64(),
+        estimated_parameters: free.len(),
+        inference: if robust_inference {
+            "robust"
+        } else {
+            "classical"
+        }
+        .to_string(),
+    };
+    let shares = shares(spec, &design, kind, &out.beta);
+    Ok(Fit {
+        design,
+        kind,
+        names,
+        beta: out.beta,
+        free,
+        covariance,
+        robust_covariance,
+        parameters,
+        stats,
+        shares,
+        diagnostics,
+    })
+}

@@ -1,0 +1,300 @@
+//! Maximises the log-likelihood: argmin's BFGS with a More-Thuente line
+//! search (started from the inverse of the analytic Hessian where it is
+//! positive definite), then Newton steps on the analytic Hessian until the
+//! Newton decrement g' (-H)^-1 g falls below the tolerance.
+
+use std::sync::atomic::{AtomicUsize, Ordering};
+use std::sync::Mutex;
+
+use argmin::core::{CostFunction, Executor, Gradient, State};
+use argmin::solver::linesearch::MoreThuenteLineSearch;
+use argmin::solver::quasinewton::BFGS;
+use nalgebra::{DMatrix, DVector};
+
+use super::likelihood::{evaluate, Eval, Kind};
+use crate::design::Design;
+
+/// Tolerance on the Newton decrement g' (-H)^-1 g (log-likelihood units).
+pub const NEWTON_TOLERANCE: f64 = 1e-10;
+
+/// A progress report during a fit.
+#[derive(Clone, Copy, Debug)]
+pub struct Step {
+    pub phase: &'static str,
+    pub iteration: usize,
+    pub log_likelihood: f64,
+    pub gradient_norm: f64,
+}
+
+pub type Progress<'a> = &'a (dyn Fn(Step) + Sync);
+
+#[derive(Clone, Debug)]
+pub struct Outcome {
+    /// All K parameters (fixed ones at their value).
+    pub beta: Vec<f64>,
+    pub ll: f64,
+    pub bfgs_iterations: usize,
+    pub newton_steps: usize,
+    pub passes: usize,
+    pub criterion: f64,
+    pub gradient_norm: f64,
+    pub converged: bool,
+    pub note: Option<String>,
+}
+
+struct Objective<'a> {
+    d: &'a Design,
+    kind: Kind,
+    free: &'a [usize],
+    template: Vec<f64>,
+    scale: f64,
+    cache: Mutex<Option<(Vec<f64>, Eval)>>,
+    passes: &'a AtomicUsize,
+    progress: Progress<'a>,
+    iteration: AtomicUsize,
+}
+
+impl Objective<'_> {
+    fn full(&self, p: &[f64]) -> Vec<f64> {
+        let mut b = self.template.clone();
+        for (k, &i) in self.free.iter().enumerate() {
+            b[i] = p[k];
+        }
+        b
+    }
+    fn eval(&self, p: &[f64]) -> Eval {
+        if let Ok(guard) = self.cache.lock() {
+            if let Some((q, e)) = guard.as_ref() {
+                if q.as_slice() == p {
+                    return e.clone();
+                }
+            }
+        }
+        self.passes.fetch_add(1, Ordering::Relaxed);
+        let e = evaluate(self.d, self.kind, &self.full(p), true, false);
+        let gn = self
+            .free
+            .iter()
+            .map(|&i| e.grad[i] * e.grad[i])
+            .sum::<f64>()
+            .sqrt();
+        (self.progress)(Step {
+            phase: "quasi-Newton",
+            iteration: self.iteration.load(Ordering::Relaxed),
+            log_likelihood: e.ll,
+            gradient_norm: gn,
+        });
+        if let Ok(mut guard) = self.cache.lock() {
+            *guard = Some((p.to_vec(), e.clone()));
+        }
+        e
+    }
+}
+
+/// The problem as argmin sees it: minimise -log L / total weight over the free parameters.
+struct Negated<'a, 'b>(&'b Objective<'a>);
+
+impl CostFunction for Negated<'_, '_> {
+    type Param = Vec<f64>;
+    type Output = f64;
+    fn cost(&self, p: &Self::Param) -> Result<f64, argmin::core::Error> {
+        let ll = self.0.eval(p).ll;
+        Ok(if ll.is_finite() {
+            -ll * self.0.scale
+        } else {
+            f64::MAX
+        })
+    }
+}
+
+impl Gradient for Negated<'_, '_> {
+    type Param = Vec<f64>;
+    type Gradient = Vec<f64>;
+    fn gradient(&self, p: &Self::Param) -> Result<Vec<f64>, argmin::core::Error> {
+        let o = self.0;
+        o.iteration.fetch_add(1, Ordering::Relaxed);
+        let e = o.eval(p);
+        Ok(o.free.iter().map(|&i| -e.grad[i] * o.scale).collect())
+    }
+}
+
+/// The free block of the negative Hessian.
+pub fn negative_free_hessian(hess: &[f64], k: usize, free: &[usize]) -> DMatrix<f64> {
+    let m = free.len();
+    DMatrix::from_fn(m, m, |a, b| -hess[free[a] * k + free[b]])
+}
+
+pub fn maximise(
+    d: &Design,
+    kind: Kind,
+    start: &[f64],
+    free: &[usize],
+    progress: Progress,
+) -> Outcome {
+    let k = d.params;
+    let passes = AtomicUsize::new(0);
+    let scale = 1.0 / d.total_weight().max(1e-300);
+    let m = free.len();
+    let mut beta = start.to_vec();
+    if m == 0 {
+        let e = evaluate(d, kind, &beta, false, false);
+        return Outcome {
+            beta,
+            ll: e.ll,
+            bfgs_iterations: 0,
+            newton_steps: 0,
+            passes: 1,
+            criterion: 0.0,
+            gradient_norm: 0.0,
+            converged: true,
+            note: None,
+        };
+    }
+
+    // Initial inverse Hessian for BFGS: the inverse of the analytic one when positive definite.
+    let e0 = evaluate(d, kind, &beta, true, true);
+    passes.fetch_add(1, Ordering::Relaxed);
+    let h0 = negative_free_hessian(e0.hess.as_deref().unwrap_or(&[]), k, free) * scale;
+    let inv0: Vec<Vec<f64>> = match h0.clone().cholesky() {
+        Some(ch) => {
+            let inv = ch.inverse();
+            (0..m)
+                .map(|a| (0..m).map(|b| inv[(a, b)]).collect())
+                .collect()
+        }
+        None => (0..m)
+            .map(|a| {
+                (0..m)
+                    .map(|b| {
+                        if a == b {
+                            1.0 / h0[(a, a)].abs().max(1e-8)
+                        } else {
+                            0.0
+                        }
+                    })
+                    .collect()
+            })
+            .collect(),
+    };
+    let objective = Objective {
+        d,
+        kind,
+        free,
+        template: beta.clone(),
+        scale,
+        cache: Mutex::new(None),
+        passes: &passes,
+        progress,
+        iteration: AtomicUsize::new(0),
+    };
+    let x0: Vec<f64> = free.iter().map(|&i| beta[i]).collect();
+    let mut bfgs_iterations = 0;
+    let mut note = None;
+    let linesearch = MoreThuenteLineSearch::new();
+    let solver = BFGS::new(linesearch)
+        .with_tolerance_grad(1e-7)
+        .and_then(|s| s.with_tolerance_cost(1e-13));
+    match solver {
+        Ok(solver) => {
+            let run = Executor::new(Negated(&objective), solver)
+                .configure(|state| state.param(x0.clone()).inv_hessian(inv0).max_iters(300))
+                .run();
+            match run {
+                Ok(mut res) => {
+                    bfgs_iterations = res.state().get_iter() as usize;
+                    if let Some(best) = res.state.take_best_param() {
+                        if best.iter().all(|v| v.is_finite()) {
+                            beta = objective.full(&best);
+                        }
+                    }
+                }
+                Err(e) => {
+                    note = Some(format!(
+                        "the quasi-Newton phase stopped early ({e}); Newton steps continued"
+                    ))
+                }
+            }
+        }
+        Err(e) => note = Some(format!("quasi-Newton setup failed: {e}")),
+    }
+
+    // Newton phase on the analytic Hessian.
+    let mut newton_steps = 0;
+    let mut converged = false;
+    let mut criterion = f64::INFINITY;
+    let mut e = evaluate(d, kind, &beta, true, true);
+    passes.fetch_add(1, Ordering::Relaxed);
+    for _ in 0..100 {
+        let g = DVector::from_iterator(m, free.iter().map(|&i| e.grad[i]));
+        let a = negative_free_hessian(e.hess.as_deref().unwrap_or(&[]), k, free);
+        let Some(ch) = a.cholesky() else {
+            note.get_or_insert_with(|| {
+                "the Hessian is not negative definite at the end of the search".to_string()
+            });
+            break;
+        };
+        let step = ch.solve(&g);
+        criterion = g.dot(&step);
+        progress(Step {
+            phase: "Newton",
+            iteration: bfgs_iterations + newton_steps,
+            log_likelihood: e.ll,
+            gradient_norm: g.norm(),
+        });
+        if criterion < NEWTON_TOLERANCE {
+            // Take the last (tiny) step as well: Newton's quadratic convergence then
+            // leaves the estimates exact to rounding rather than to the tolerance.
+            let mut last = beta.clone();
+            for (s, &i) in free.iter().enumerate() {
+                last[i] += step[s];
+            }
+            let el = evaluate(d, kind, &last, true, true);
+            passes.fetch_add(1, Ordering::Relaxed);
+            if el.ll.is_finite() && el.ll >= e.ll - 1e-9 * e.ll.abs().max(1.0) {
+                beta = last;
+                e = el;
+            }
+            converged = true;
+            break;
+        }
+        let mut t = 1.0;
+        let mut accepted = false;
+        while t > 1e-12 {
+            let mut trial = beta.clone();
+            for (s, &i) in free.iter().enumerate() {
+                trial[i] += t * step[s];
+            }
+            let et = evaluate(d, kind, &trial, true, true);
+            passes.fetch_add(1, Ordering::Relaxed);
+            if et.ll.is_finite() && et.ll >= e.ll - 1e-12 * e.ll.abs().max(1.0) {
+                beta = trial;
+                e = et;
+                accepted = true;
+                break;
+            }
+            t *= 0.5;
+        }
+        newton_steps += 1;
+        if !accepted {
+            // No improving step: at the optimum up to rounding.
+            converged = criterion < 1e-6;
+            break;
+        }
+    }
+    let gradient_norm = free
+        .iter()
+        .map(|&i| e.grad[i] * e.grad[i])
+        .sum::<f64>()
+        .sqrt();
+    Outcome {
+        beta,
+        ll: e.ll,
+        bfgs_iterations,
+        newton_steps,
+        passes: passes.load(Ordering::Relaxed),
+        criterion,
+        gradient_norm,
+        converged,
+        note,
+    }
+}

@@ -1,0 +1,88 @@
+//! The summary `sharecast check` prints: situations, decision makers,
+//! alternatives with choice counts, shares and availability, and parameters.
+
+use std::fmt::Write;
+
+use crate::data::Observations;
+use crate::spec::Spec;
+
+pub fn summary(spec: &Spec, obs: &Observations) -> String {
+    let mut s = String::new();
+    let j = obs.alternatives;
+    let title = spec.title.as_deref().unwrap_or("(untitled model)");
+    let _ = writeln!(s, "spec      {}  —  {title}", spec.path.display());
+    let _ = writeln!(
+        s,
+        "data      {} ({} layout)",
+        spec.data.file.display(),
+        match spec.data.layout {
+            crate::spec::Layout::Wide { .. } => "wide",
+            crate::spec::Layout::Long { .. } => "long",
+        }
+    );
+    let _ = writeln!(
+        s,
+        "model     {}, base alternative `{}`",
+        spec.family.name(),
+        spec.alternatives[spec.base].name
+    );
+    let _ = writeln!(s, "situations {}", obs.situations);
+    match &obs.group {
+        Some(_) => {
+            let _ = writeln!(
+                s,
+                "decision makers {} (column `{}`)",
+                obs.groups,
+                spec.data.group.as_deref().unwrap_or("")
+            );
+        }
+        None => {
+            let _ = writeln!(
+                s,
+                "decision makers not given (each situation counts as its own)"
+            );
+        }
+    }
+    if let Some(w) = &spec.data.weight {
+        let _ = writeln!(
+            s,
+            "weights   column `{w}`, total {:.2} (rescaled to average 1 for estimation)",
+            obs.weight_total
+        );
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(s, "  alternative        chosen    share   available");
+    let mut counts = vec![0usize; j];
+    for c in &obs.chosen {
+        counts[*c as usize] += 1;
+    }
+    for (a, alt) in spec.alternatives.iter().enumerate() {
+        let avail = (0..obs.situations)
+            .filter(|&i| obs.available[i * j + a])
+            .count();
+        let _ = writeln!(
+            s,
+            "  {:<16} {:>8} {:>8.4} {:>8} ({:.1}%)",
+            alt.name,
+            counts[a],
+            counts[a] as f64 / obs.situations as f64,
+            avail,
+            100.0 * avail as f64 / obs.situations as f64
+        );
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(
+        s,
+        "parameters to estimate ({}):",
+        spec.parameters.iter().filter(|p| p.fixed.is_none()).count()
+    );
+    for p in &spec.parameters {
+        let note = match p.fixed {
+            Some(v) => format!("  (fixed at {v})"),
+            None if p.start != 0.0 => format!("  (starts at {})", p.start),
+            None => String::new(),
+        };
+        let _ = writeln!(s, "  {:<24} {}{note}", p.name, spec.term_label(&p.term));
+    }
+    s
+}

@@ -1,0 +1,66 @@
+//! Report: turns fits, analyses and scenarios into text for the terminal and
+//! the JSON results document. Nothing here computes a statistic.
+
+pub mod check;
+pub mod json;
+pub mod text;
+
+use crate::spec::{Family, Spec};
+
+/// The cautions line every report carries.
+pub fn cautions(spec: &Spec) -> String {
+    let iia = match spec.family {
+        Family::Logit if spec.alternatives.len() > 2 => {
+            " Logit assumes independence from irrelevant alternatives (IIA): a changed or removed option draws share from all others in proportion to their shares."
+        }
+        _ => "",
+    };
+    format!(
+        "Cautions: forecasts rest on the model's assumptions and on how well the sample represents the population it is applied to.{iia} Transport appraisal should follow the local official guidance on values and methods."
+    )
+}
+
+/// A number in a fixed-width column: fixed point for ordinary magnitudes, scientific otherwise.
+pub fn num(x: f64, width: usize) -> String {
+    if x.is_nan() {
+        return format!("{:>width$}", "—");
+    }
+    let a = x.abs();
+    let s = if a == 0.0 {
+        "0".to_string()
+    } else if !(1e-4..1e6).contains(&a) {
+        format!("{x:.3e}")
+    } else if a >= 1000.0 {
+        format!("{x:.1}")
+    } else if a >= 1.0 {
+        format!("{x:.4}")
+    } else {
+        format!("{x:.5}")
+    };
+    format!("{s:>width$}")
+}
+
+/// p-values: small ones as an upper bound.
+pub fn pval(p: f64) -> String {
+    if p.is_nan() {
+        "—".to_string()
+    } else if p < 0.0001 {
+        "<.0001".to_string()
+    } else {
+        format!("{p:.4}")
+    }
+}
+
+/// Whether stdout is a colour terminal.
+pub fn colour() -> bool {
+    use std::io::IsTerminal;
+    std::io::stdout().is_terminal() && std::env::var_os("NO_COLOR").is_none()
+}
+
+pub fn red(s: &str, on: bool) -> String {
+    if on {
+        format!("\x1b[1;31m{s}\x1b[0m")
+    } else {
+        s.to_string()
+    }
+}

@@ -1,0 +1,165 @@
+//! The terminal fit report, in sharecast's own layout: a header block, the
+//! fit block, estimates grouped by the spec term they come from, shares,
+//! diagnostics and the cautions line.
+
+use std::fmt::Write;
+
+use super::{cautions, num, pval, red};
+use crate::estimate::{DiagnosticKind, Fit};
+use crate::spec::{Family, Spec, Term};
+
+pub fn header(spec: &Spec, fit: &Fit, colour: bool) -> String {
+    let mut s = String::new();
+    let st = &fit.stats;
+    let title = spec.title.as_deref().unwrap_or("(untitled model)");
+    let _ = writeln!(s, "━━ sharecast ━━ {title}");
+    let _ = writeln!(
+        s,
+        "model    {} · {} alternatives · base `{}` · {} parameters estimated",
+        spec.family.name(),
+        spec.alternatives.len(),
+        spec.alternatives[spec.base].name,
+        st.estimated_parameters
+    );
+    let groups = if fit.design.obs.group.is_some() {
+        format!(" · {} decision makers", st.groups)
+    } else {
+        String::new()
+    };
+    let _ = writeln!(
+        s,
+        "data     {} · {} situations{groups}",
+        spec.data.file_written, st.situations
+    );
+    let status = if st.converged {
+        "converged".to_string()
+    } else {
+        red("DID NOT CONVERGE", colour)
+    };
+    let _ = writeln!(
+        s,
+        "search   {status}: {} quasi-Newton iterations, {} Newton steps, {} passes over the data, {:.3} s (gradient norm {:.2e})",
+        st.iterations, st.newton_steps, st.passes, st.seconds, st.gradient_norm
+    );
+    let _ = writeln!(s);
+    let _ = writeln!(s, "how well it fits");
+    let _ = writeln!(
+        s,
+        "  log-likelihood {:>14.4}   at equal shares {:>14.4}   constants only {:>14.4}",
+        st.log_likelihood, st.null_log_likelihood, st.constants_log_likelihood
+    );
+    let _ = writeln!(
+        s,
+        "  rho² vs equal  {:>14.4}   rho² vs constants {:>12.4}   adjusted rho² {:>15.4}",
+        st.rho_squared, st.rho_squared_constants, st.adjusted_rho_squared
+    );
+    let _ = writeln!(
+        s,
+        "  AIC            {:>14.4}   BIC             {:>14.4}",
+        st.aic, st.bic
+    );
+    s
+}
+
+pub fn estimates(spec: &Spec, fit: &Fit) -> String {
+    let mut s = String::new();
+    let which = if fit.stats.inference == "robust" {
+        "robust errors clustered by decision maker"
+    } else {
+        "classical errors"
+    };
+    let odds = spec.family == Family::Logit && spec.alternatives.len() == 2;
+    let _ = writeln!(s, "estimates  (t, p and the 95% interval use {which})");
+    let _ = writeln!(
+        s,
+        "  {:<26}{:>12}{:>11}{:>11}{:>9}{:>8}   {:<25}{}",
+        "parameter",
+        "value",
+        "s.e.",
+        "robust",
+        "t",
+        "p",
+        "95% interval",
+        if odds { "  odds ×" } else { "" }
+    );
+    let mut last_term: Option<String> = None;
+    for (k, row) in fit.parameters.iter().enumerate() {
+        if last_term.as_deref() != Some(row.term.as_str()) {
+            let _ = writeln!(s, "  ┌ {}", row.term);
+            last_term = Some(row.term.clone());
+        }
+        if row.fixed {
+            let _ = writeln!(s, "  │ {:<24}{}   (fixed)", row.name, num(row.estimate, 12));
+            continue;
+        }
+        let interval = format!("{} … {}", num(row.ci_low, 0), num(row.ci_high, 0));
+        let odds_col = match (&spec.parameters[k].term, odds) {
+            (Term::Characteristic(_), true) => format!("  {}", num(row.estimate.exp(), 8)),
+            _ => String::new(),
+        };
+        let _ = writeln!(
+            s,
+            "  │ {:<24}{}{}{}{:>9.2}{:>8}   {:<25}{odds_col}",
+            row.name,
+            num(row.estimate, 12),
+            num(row.std_error, 11),
+            num(row.robust_std_error, 11),
+            row.t_stat,
+            pval(row.p_value),
+            interval
+        );
+    }
+    s
+}
+
+pub fn shares(fit: &Fit) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "shares (weighted)   observed   predicted");
+    for r in &fit.shares {
+        let _ = writeln!(
+            s,
+            "  {:<16}{:>11.4}{:>12.4}",
+            r.alternative, r.observed, r.predicted
+        );
+    }
+    s
+}
+
+pub fn diagnostics(fit: &Fit, colour: bool) -> String {
+    let mut s = String::new();
+    if fit.diagnostics.is_empty() {
+        let _ = writeln!(
+            s,
+            "diagnostics: none — the Hessian is well conditioned and no coefficient runs off"
+        );
+        return s;
+    }
+    let _ = writeln!(s, "diagnostics");
+    for d in &fit.diagnostics {
+        let line = format!("  ! {}", d.message);
+        let line = if d.kind == DiagnosticKind::NotConverged {
+            red(&line, colour)
+        } else {
+            line
+        };
+        let _ = writeln!(s, "{line}");
+    }
+    s
+}
+
+/// The whole fit report without analysis sections.
+pub fn fit_report(spec: &Spec, fit: &Fit, colour: bool) -> String {
+    let mut s = header(spec, fit, colour);
+    s.push('\n');
+    s.push_str(&estimates(spec, fit));
+    s.push('\n');
+    s.push_str(&shares(fit));
+    s.push('\n');
+    s.push_str(&diagnostics(fit, colour));
+    s
+}
+
+/// The closing line of every report.
+pub fn closing(spec: &Spec) -> String {
+    format!("{}\n", cautions(spec))
+}

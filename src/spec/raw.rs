@@ -1,0 +1,108 @@
+//! The spec file exactly as written: serde types that reject unknown keys.
+//! Checking what the values mean is the job of `spec::validate`.
+
+use serde::Deserialize;
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawSpec {
+    pub title: Option<String>,
+    pub data: RawData,
+    pub model: RawModel,
+    /// Kept as a table so that the written order of alternatives survives.
+    pub alternatives: toml::Table,
+    #[serde(default)]
+    pub attribute: Vec<RawAttribute>,
+    #[serde(default)]
+    pub characteristic: Vec<RawCharacteristic>,
+    #[serde(default)]
+    pub derived: toml::Table,
+    #[serde(default)]
+    pub parameters: toml::Table,
+    #[serde(default)]
+    pub ratio: Vec<RawRatio>,
+    pub validation: Option<RawValidation>,
+    pub calibration: Option<RawCalibration>,
+    #[serde(default)]
+    pub restrictions: Vec<String>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawData {
+    pub file: String,
+    pub layout: String,
+    pub choice: Option<String>,
+    pub situation: Option<String>,
+    pub alternative: Option<String>,
+    pub chosen: Option<String>,
+    pub weight: Option<String>,
+    pub group: Option<String>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawModel {
+    pub family: String,
+    pub base: String,
+    pub constants: Option<bool>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawAlternative {
+    pub available: Option<String>,
+    pub code: Option<i64>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawAttribute {
+    pub name: String,
+    pub coefficient: Option<String>,
+    /// Wide layout: a column name or a number per alternative.
+    pub columns: Option<toml::Table>,
+    /// Long layout: the one column holding the attribute.
+    pub column: Option<String>,
+    /// Long layout: which alternatives get the term (default all).
+    pub alternatives: Option<Vec<String>>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawCharacteristic {
+    pub name: String,
+    pub column: String,
+    pub alternatives: Option<Vec<String>>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawParameter {
+    pub start: Option<f64>,
+    pub fixed: Option<f64>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawRatio {
+    pub name: String,
+    pub numerator: String,
+    pub denominator: String,
+    pub scale: Option<f64>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawValidation {
+    pub holdout: Option<toml::Value>,
+    pub seed: Option<u64>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawCalibration {
+    pub targets: toml::Table,
+    pub tolerance: Option<f64>,
+    pub max_iterations: Option<usize>,
+}

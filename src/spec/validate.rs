@@ -1,0 +1,573 @@
+//! Checks a raw spec and builds the validated `Spec`, with messages that name
+//! the key at fault (`[model].base`, `[[attribute]] cost: columns.tram`, ...).
+
+use std::path::Path;
+
+use super::expr::{BinOp, Expr};
+use super::raw::{RawParameter, RawSpec};
+use super::*;
+
+pub(super) fn validate(raw: RawSpec, path: &Path) -> Result<Spec> {
+    let fail = |msg: String| Error::spec(path, msg);
+
+    // [data]
+    let d = &raw.data;
+    let layout = match d.layout.as_str() {
+        "wide" => {
+            if d.situation.is_some() || d.alternative.is_some() || d.chosen.is_some() {
+                return Err(fail(
+                    "[data]: layout \"wide\" takes `choice`; `situation`, `alternative` and `chosen` belong to layout \"long\"".into(),
+                ));
+            }
+            let choice = d.choice.clone().ok_or_else(|| {
+                fail("[data]: layout \"wide\" needs `choice` (the column holding the chosen alternative)".into())
+            })?;
+            Layout::Wide { choice }
+        }
+        "long" => {
+            if d.choice.is_some() {
+                return Err(fail(
+                    "[data]: layout \"long\" takes `situation`, `alternative` and `chosen`; `choice` belongs to layout \"wide\"".into(),
+                ));
+            }
+            let need = |v: &Option<String>, key: &str| {
+                v.clone()
+                    .ok_or_else(|| fail(format!("[data]: layout \"long\" needs `{key}`")))
+            };
+            Layout::Long {
+                situation: need(&d.situation, "situation")?,
+                alternative: need(&d.alternative, "alternative")?,
+                chosen: need(&d.chosen, "chosen")?,
+            }
+        }
+        other => {
+            return Err(fail(format!(
+                "[data].layout: \"{other}\" is not a layout (use \"wide\" or \"long\")"
+            )))
+        }
+    };
+    let long = matches!(layout, Layout::Long { .. });
+    let dir = path.parent().unwrap_or_else(|| Path::new("."));
+    let data = DataSpec {
+        file: dir.join(&d.file),
+        file_written: d.file.clone(),
+        layout,
+        weight: d.weight.clone(),
+        group: d.group.clone(),
+    };
+
+    // [model]
+    let family = match raw.model.family.as_str() {
+        "logit" => Family::Logit,
+        "probit" => Family::Probit,
+        other => {
+            return Err(fail(format!(
+                "[model].family: \"{other}\" is not a family (use \"logit\" or \"probit\")"
+            )))
+        }
+    };
+
+    // [alternatives.*]
+    let mut alternatives = Vec::new();
+    for (name, value) in raw.alternatives.iter() {
+        let alt: raw::RawAlternative = value.clone().try_into().map_err(|e| {
+            fail(format!(
+                "[alternatives.{name}]: {}",
+                e.to_string().trim_end()
+            ))
+        })?;
+        if let Some(code) = alt.code {
+            if let Some(other) = alternatives
+                .iter()
+                .find(|a: &&Alternative| a.code == Some(code))
+            {
+                return Err(fail(format!(
+                    "[alternatives.{name}].code: code {code} is already used by `{}`",
+                    other.name
+                )));
+            }
+        }
+        alternatives.push(Alternative {
+            name: name.clone(),
+            available: alt.available,
+            code: alt.code,
+        });
+    }
+    if alternatives.len() < 2 {
+        return Err(fail(format!(
+            "[alternatives]: a choice needs at least two alternatives, found {}",
+            alternatives.len()
+        )));
+    }
+    if family == Family::Probit && alternatives.len() != 2 {
+        return Err(fail(format!(
+            "[model].family: \"probit\" is binary and needs exactly two alternatives, found {}",
+            alternatives.len()
+        )));
+    }
+    let index_of = |name: &str| alternatives.iter().position(|a| a.name == name);
+    let base = index_of(&raw.model.base).ok_or_else(|| {
+        fail(format!(
+            "[model].base: `{}` is not one of the alternatives ({})",
+            raw.model.base,
+            alternatives
+                .iter()
+                .map(|a| a.name.as_str())
+                .collect::<Vec<_>>()
+                .join(", ")
+        ))
+    })?;
+    let constants = raw.model.constants.unwrap_or(true);
+
+    // [[attribute]]
+    let mut term_names: Vec<String> = Vec::new();
+    let mut attributes = Vec::new();
+    for a in &raw.attribute {
+        let at = |msg: String| fail(format!("[[attribute]] {}: {msg}", a.name));
+        if term_names.contains(&a.name) {
+            return Err(at("the name is used twice".into()));
+        }
+        term_names.push(a.name.clone());
+        let coefficient = match a.coefficient.as_deref().unwrap_or("shared") {
+            "shared" => Coefficient::Shared,
+            "per-alternative" => Coefficient::PerAlternative,
+            other => {
+                return Err(at(format!(
+                    "coefficient: \"{other}\" is not known (use \"shared\" or \"per-alternative\")"
+                )))
+            }
+        };
+        let mut sources = vec![None; alternatives.len()];
+        if long {
+            if a.columns.is_some() {
+                return Err(at(
+                    "`columns` is for layout \"wide\"; in layout \"long\" write `column = \"...\"`"
+                        .into(),
+                ));
+            }
+            let column = a
+                .column
+                .clone()
+                .ok_or_else(|| at("layout \"long\" needs `column`".into()))?;
+            match &a.alternatives {
+                None => sources
+                    .iter_mut()
+                    .for_each(|s| *s = Some(Source::Column(column.clone()))),
+                Some(list) => {
+                    for name in list {
+                        let j = index_of(name).ok_or_else(|| {
+                            at(format!(
+                                "alternatives: `{name}` is not a declared alternative"
+                            ))
+                        })?;
+                        sources[j] = Some(Source::Column(column.clone()));
+                    }
+                }
+            }
+        } else {
+            if a.column.is_some() || a.alternatives.is_some() {
+                return Err(at("layout \"wide\" takes `columns = { alt = \"column\" or number }`, not `column`/`alternatives`".into()));
+            }
+            let columns = a
+                .columns
+                .as_ref()
+                .ok_or_else(|| at("layout \"wide\" needs `columns`".into()))?;
+            for (name, v) in columns.iter() {
+                let j = index_of(name).ok_or_else(|| {
+                    at(format!(
+                        "columns.{name}: `{name}` is not a declared alternative"
+                    ))
+                })?;
+                sources[j] = Some(match v {
+                    toml::Value::String(s) => Source::Column(s.clone()),
+                    toml::Value::Integer(i) => Source::Value(*i as f64),
+                    toml::Value::Float(f) => Source::Value(*f),
+                    _ => {
+                        return Err(at(format!(
+                            "columns.{name}: give a column name or a number"
+                        )))
+                    }
+                });
+            }
+        }
+        if sources.iter().all(|s| s.is_none()) {
+            return Err(at("the attribute enters no alternative".into()));
+        }
+        attributes.push(Attribute {
+            name: a.name.clone(),
+            coefficient,
+            sources,
+        });
+    }
+
+    // [[characteristic]]
+    let mut characteristics = Vec::new();
+    for c in &raw.characteristic {
+        let at = |msg: String| fail(format!("[[characteristic]] {}: {msg}", c.name));
+        if term_names.contains(&c.name) {
+            return Err(at("the name is used twice".into()));
+        }
+        term_names.push(c.name.clone());
+        let alts = match &c.alternatives {
+            None => (0..alternatives.len()).filter(|&j| j != base).collect(),
+            Some(list) => {
+                let mut v = Vec::new();
+                for name in list {
+                    let j = index_of(name).ok_or_else(|| {
+                        at(format!(
+                            "alternatives: `{name}` is not a declared alternative"
+                        ))
+                    })?;
+                    if j == base {
+                        return Err(at(format!(
+                            "alternatives: `{name}` is the base, whose characteristic coefficients are 0"
+                        )));
+                    }
+                    if !v.contains(&j) {
+                        v.push(j);
+                    }
+                }
+                v.sort_unstable();
+                v
+            }
+        };
+        if alts.is_empty() {
+            return Err(at("the characteristic enters no alternative".into()));
+        }
+        characteristics.push(Characteristic {
+            name: c.name.clone(),
+            column: c.column.clone(),
+            alternatives: alts,
+        });
+    }
+
+    // [derived]
+    let mut derived = Vec::new();
+    for (name, v) in raw.derived.iter() {
+        let text = v
+            .as_str()
+            .ok_or_else(|| fail(format!("[derived].{name}: give the expression as a string")))?;
+        let e = Expr::parse(text).map_err(|e| fail(format!("[derived].{name}: {e}")))?;
+        derived.push((name.clone(), e));
+    }
+
+    // The parameter list.
+    let mut parameters = Vec::new();
+    let push =
+        |parameters: &mut Vec<Parameter>, name: String, term: Term, alternative: Option<usize>| {
+            parameters.push(Parameter {
+                name,
+                term,
+                alternative,
+                start: 0.0,
+                fixed: None,
+            })
+        };
+    if constants {
+        for (j, alt) in alternatives.iter().enumerate() {
+            if j != base {
+                push(
+                    &mut parameters,
+                    format!("asc_{}", alt.name),
+                    Term::Constant,
+                    Some(j),
+                );
+            }
+        }
+    }
+    for (k, a) in attributes.iter().enumerate() {
+        match a.coefficient {
+            Coefficient::Shared => push(&mut parameters, a.name.clone(), Term::Attribute(k), None),
+            Coefficient::PerAlternative => {
+                for (j, s) in a.sources.iter().enumerate() {
+                    if s.is_some() {
+                        let name = format!("{}_{}", a.name, alternatives[j].name);
+                        push(&mut parameters, name, Term::Attribute(k), Some(j));
+                    }
+                }
+            }
+        }
+    }
+    for (k, c) in characteristics.iter().enumerate() {
+        for &j in &c.alternatives {
+            let name = format!("{}_{}", c.name, alternatives[j].name);
+            push(&mut parameters, name, Term::Characteristic(k), Some(j));
+        }
+    }
+    for (i, p) in parameters.iter().enumerate() {
+        if parameters[..i].iter().any(|q| q.name == p.name) {
+            return Err(fail(format!(
+                "two parameters would both be named `{}`; rename an attribute or characteristic",
+                p.name
+            )));
+        }
+    }
+    let known = |parameters: &[Parameter]| {
+        parameters
+            .iter()
+            .map(|p| p.name.clone())
+            .collect::<Vec<_>>()
+            .join(", ")
+    };
+
+    // [parameters]
+    for (name, v) in raw.parameters.iter() {
+        let Some(p) = parameters.iter_mut().find(|p| &p.name == name) else {
+            return Err(fail(format!(
+                "[parameters].{name}: no parameter of this model is named `{name}` (the model has: {})",
+                known(&parameters)
+            )));
+        };
+        let rp: RawParameter = v
+            .clone()
+            .try_into()
+            .map_err(|e| fail(format!("[parameters].{name}: {}", e.to_string().trim_end())))?;
+        if rp.start.is_some() && rp.fixed.is_some() {
+            return Err(fail(format!(
+                "[parameters].{name}: give `start` or `fixed`, not both"
+            )));
+        }
+        if let Some(s) = rp.start {
+            p.start = s;
+        }
+        if let Some(f) = rp.fixed {
+            p.start = f;
+            p.fixed = Some(f);
+        }
+        if !p.start.is_finite() {
+            return Err(fail(format!(
+                "[parameters].{name}: the value must be finite"
+            )));
+        }
+    }
+
+    // [[ratio]]
+    let mut ratios = Vec::new();
+    for r in &raw.ratio {
+        let find = |key: &str, name: &str| {
+            parameters.iter().position(|p| p.name == name).ok_or_else(|| {
+                fail(format!(
+                    "[[ratio]] {}: {key} `{name}` is not a parameter of this model (the model has: {})",
+                    r.name,
+                    known(&parameters)
+                ))
+            })
+        };
+        ratios.push(Ratio {
+            name: r.name.clone(),
+            numerator: find("numerator", &r.numerator)?,
+            denominator: find("denominator", &r.denominator)?,
+            scale: r.scale.unwrap_or(1.0),
+        });
+    }
+
+    // [validation]
+    let holdout = match &raw.validation {
+        None => None,
+        Some(v) => match &v.holdout {
+            None => None,
+            Some(toml::Value::Float(f)) if *f > 0.0 && *f < 1.0 => Some(Holdout::Fraction {
+                fraction: *f,
+                seed: v.seed.unwrap_or(1),
+            }),
+            Some(toml::Value::String(s)) => Some(Holdout::Column(s.clone())),
+            Some(_) => return Err(fail(
+                "[validation].holdout: give a fraction between 0 and 1 or the name of a 0/1 column"
+                    .into(),
+            )),
+        },
+    };
+
+    // [calibration]
+    let calibration = match &raw.calibration {
+        None => None,
+        Some(c) => Some(
+            parse_targets(
+                &c.targets,
+                &alternatives,
+                base,
+                constants,
+                "[calibration].targets",
+            )
+            .map_err(fail)
+            .map(|targets| Calibration {
+                targets,
+                tolerance: c.tolerance.unwrap_or(1e-8),
+                max_iterations: c.max_iterations.unwrap_or(1000),
+            })?,
+        ),
+    };
+
+    // restrictions
+    let mut restrictions = Vec::new();
+    for text in &raw.restrictions {
+        restrictions.push(
+            parse_restriction(text, &parameters)
+                .map_err(|m| fail(format!("restrictions: `{text}`: {m}")))?,
+        );
+    }
+
+    Ok(Spec {
+        path: path.to_path_buf(),
+        title: raw.title,
+        data,
+        family,
+        base,
+        constants,
+        alternatives,
+        attributes,
+        characteristics,
+        derived,
+        parameters,
+        ratios,
+        holdout,
+        calibration,
+        restrictions,
+    })
+}
+
+/// Share targets for constant calibration (also used by scenario files).
+pub fn parse_targets(
+    table: &toml::Table,
+    alternatives: &[Alternative],
+    base: usize,
+    constants: bool,
+    key: &str,
+) -> std::result::Result<Vec<(usize, f64)>, String> {
+    if !constants {
+        return Err(format!(
+            "{key}: calibration adjusts the constants, but [model].constants is false"
+        ));
+    }
+    let mut targets = Vec::new();
+    for (name, v) in table.iter() {
+        let j = alternatives
+            .iter()
+            .position(|a| &a.name == name)
+            .ok_or_else(|| format!("{key}.{name}: `{name}` is not a declared alternative"))?;
+        let s = match v {
+            toml::Value::Float(f) => *f,
+            toml::Value::Integer(i) => *i as f64,
+            _ => return Err(format!("{key}.{name}: give a share between 0 and 1")),
+        };
+        if !(s > 0.0 && s < 1.0) {
+            return Err(format!(
+                "{key}.{name}: the share {s} is not strictly between 0 and 1"
+            ));
+        }
+        targets.push((j, s));
+    }
+    if targets.is_empty() {
+        return Err(format!("{key}: no targets given"));
+    }
+    let sum: f64 = targets.iter().map(|t| t.1).sum();
+    let has_base = targets.iter().any(|t| t.0 == base);
+    if has_base && targets.len() != alternatives.len() {
+        return Err(format!(
+            "{key}: the base alternative has a target, so every alternative needs one (its constant stays at 0)"
+        ));
+    }
+    if targets.len() == alternatives.len() && (sum - 1.0).abs() > 1e-6 {
+        return Err(format!(
+            "{key}: the targets of all alternatives add up to {sum}, not 1"
+        ));
+    }
+    if sum >= 1.0 + 1e-9 {
+        return Err(format!("{key}: the targets add up to {sum}, more than 1"));
+    }
+    targets.sort_by_key(|t| t.0);
+    Ok(targets)
+}
+
+/// Parses `lhs = rhs`, both linear in parameter names, into `a' beta = c`.
+pub fn parse_restriction(
+    text: &str,
+    parameters: &[Parameter],
+) -> std::result::Result<Restriction, String> {
+    let parts: Vec<&str> = text.split('=').collect();
+    if parts.len() != 2 {
+        return Err(
+            "write one `=` between two linear expressions, e.g. `cost_bus = cost_rail`".into(),
+        );
+    }
+    let lhs = Expr::parse(parts[0]).map_err(|e| e.to_string())?;
+    let rhs = Expr::parse(parts[1]).map_err(|e| e.to_string())?;
+    let mut coef = vec![0.0; parameters.len()];
+    let mut c = 0.0;
+    linear(&lhs, 1.0, &mut coef, &mut c, parameters)?;
+    linear(&rhs, -1.0, &mut coef, &mut c, parameters)?;
+    let coefficients: Vec<(usize, f64)> = coef
+        .iter()
+        .enumerate()
+        .filter(|(_, v)| **v != 0.0)
+        .map(|(k, v)| (k, *v))
+        .collect();
+    if coefficients.is_empty() {
+        return Err("names no parameter".into());
+    }
+    Ok(Restriction {
+        text: text.trim().to_string(),
+        coefficients,
+        constant: -c,
+    })
+}
+
+fn constant_value(e: &Expr) -> Option<f64> {
+    match e {
+        Expr::Num(v) => Some(*v),
+        Expr::Neg(x) => constant_value(x).map(|v| -v),
+        Expr::Bin(op, a, b) => {
+            let (a, b) = (constant_value(a)?, constant_value(b)?);
+            match op {
+                BinOp::Add => Some(a + b),
+                BinOp::Sub => Some(a - b),
+                BinOp::Mul => Some(a * b),
+                BinOp::Div => Some(a / b),
+                _ => None,
+            }
+        }
+        _ => None,
+    }
+}
+
+fn linear(
+    e: &Expr,
+    sign: f64,
+    coef: &mut [f64],
+    c: &mut f64,
+    parameters: &[Parameter],
+) -> std::result::Result<(), String> {
+    if let Some(v) = constant_value(e) {
+        *c += sign * v;
+        return Ok(());
+    }
+    match e {
+        Expr::Col(name) => {
+            let k = parameters
+                .iter()
+                .position(|p| &p.name == name)
+                .ok_or_else(|| format!("`{name}` is not a parameter of this model"))?;
+            coef[k] += sign;
+            Ok(())
+        }
+        Expr::Neg(x) => linear(x, -sign, coef, c, parameters),
+        Expr::Bin(BinOp::Add, a, b) => {
+            linear(a, sign, coef, c, parameters)?;
+            linear(b, sign, coef, c, parameters)
+        }
+        Expr::Bin(BinOp::Sub, a, b) => {
+            linear(a, sign, coef, c, parameters)?;
+            linear(b, -sign, coef, c, parameters)
+        }
+        Expr::Bin(BinOp::Mul, a, b) => match (constant_value(a), constant_value(b)) {
+            (Some(v), _) => linear(b, sign * v, coef, c, parameters),
+            (_, Some(v)) => linear(a, sign * v, coef, c, parameters),
+            _ => Err("is not linear in the parameters".into()),
+        },
+        Expr::Bin(BinOp::Div, a, b) => match constant_value(b) {
+            Some(v) if v != 0.0 => linear(a, sign / v, coef, c, parameters),
+            _ => Err("is not linear in the parameters".into()),
+        },
+        _ => Err("is not linear in the parameters".into()),
+    }
+}

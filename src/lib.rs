@@ -1,13 +1,14 @@
 //! sharecast: discrete-choice models from a TOML spec, in rooms that pass data one way:
 //! spec -> data -> design -> estimate -> analysis -> scenario -> report / tui.
 
+pub mod analysis;
+pub mod bench;
 pub mod data;
 pub mod design;
 pub mod error;
 pub mod estimate;
 pub mod rng;
 pub mod spec;
-// pub mod analysis;
 // pub mod scenario;
 pub mod cli;
 pub mod demo;

@@ -1,6 +1,7 @@
 //! The command line: argument parsing and one function per subcommand. Each
 //! returns an exit code or an error value; `main` only prints and exits.
 
+mod comparecmd;
 mod fitcmd;
 
 use std::io::IsTerminal;
@@ -11,7 +12,7 @@ use std::time::Instant;
 
 use clap::{Parser, Subcommand};
 
-use crate::data::{self, Dataset, Extra};
+use crate::data::{self, Dataset, Extra, Observations};
 use crate::error::Result;
 use crate::estimate::Step;
 use crate::spec::Spec;
@@ -33,6 +34,8 @@ pub enum Command {
     Check { spec: PathBuf },
     /// Fit the model and print the report (or the JSON results document).
     Fit(fitcmd::FitArgs),
+    /// Fit several specs and compare them side by side (LR tests where nested).
+    Compare(comparecmd::CompareArgs),
     /// Write the invented demo data sets into a folder.
     DemoData {
         /// Target folder.
@@ -41,6 +44,8 @@ pub enum Command {
         #[arg(long)]
         force: bool,
     },
+    /// Time loading, one likelihood pass and a whole fit on simulated data.
+    Bench(crate::bench::BenchArgs),
 }
 
 /// Loads a spec and its data (with extra columns, e.g. for segments).
@@ -73,6 +78,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             Ok(ExitCode::SUCCESS)
         }
         Command::Fit(args) => fitcmd::run(args),
+        Command::Compare(args) => comparecmd::run(args),
         Command::DemoData { dir, force } => {
             crate::demo::write_all(&dir, force)?;
             println!(
@@ -82,13 +88,45 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             );
             Ok(ExitCode::SUCCESS)
         }
+        Command::Bench(args) => crate::bench::run(args),
     }
 }
 
-/// Shared by commands that fit: fits with the stderr progress line.
-pub fn fit_quietly(spec: &Spec, ds: &Dataset) -> Result<crate::estimate::Fit> {
+/// What `fit_quietly` fits: a borrowed `Dataset` (its observations are copied)
+/// or an owned one (its observations are moved and the rest dropped: no copy).
+pub trait IntoObservations {
+    fn into_observations(self) -> Arc<Observations>;
+}
+
+impl IntoObservations for &Dataset {
+    fn into_observations(self) -> Arc<Observations> {
+        Arc::new(self.obs.clone())
+    }
+}
+
+impl IntoObservations for Dataset {
+    fn into_observations(self) -> Arc<Observations> {
+        Arc::new(self.obs)
+    }
+}
+
+impl IntoObservations for Observations {
+    fn into_observations(self) -> Arc<Observations> {
+        Arc::new(self)
+    }
+}
+
+impl IntoObservations for Arc<Observations> {
+    fn into_observations(self) -> Arc<Observations> {
+        self
+    }
+}
+
+/// Shared by commands that fit: fits with the stderr progress line. Pass the
+/// dataset by value when it is not needed afterwards, to avoid a copy.
+pub fn fit_quietly(spec: &Spec, ds: impl IntoObservations) -> Result<crate::estimate::Fit> {
     let progress = stderr_progress();
-    let fit = crate::estimate::fit(spec, Arc::new(ds.obs.clone()), &progress);
+    let fit = crate::estimate::fit(spec, ds.into_observations(), &progress);
     if std::io::stderr().is_terminal() {
         eprint!("\r{:100}\r", "");
     }

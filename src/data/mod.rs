@@ -153,3 +153,51 @@ fn add_derived(spec: &Spec, table: &mut Table) -> Result<()> {
     }
     Ok(())
 }
+
+impl Observations {
+    /// The situations where `keep[i]` is true, with groups renumbered.
+    pub fn subset(&self, keep: &[bool]) -> Observations {
+        let j = self.alternatives;
+        let idx: Vec<usize> = (0..self.situations).filter(|&i| keep[i]).collect();
+        let mut group_map = std::collections::HashMap::new();
+        let group = self.group.as_ref().map(|g| {
+            idx.iter()
+                .map(|&i| {
+                    let n = group_map.len() as u32;
+                    *group_map.entry(g[i]).or_insert(n)
+                })
+                .collect::<Vec<u32>>()
+        });
+        let raw_per_unit = self.weight_total / self.weight.iter().sum::<f64>().max(1e-300);
+        let weight: Vec<f64> = idx.iter().map(|&i| self.weight[i]).collect();
+        let weight_total = weight.iter().sum::<f64>() * raw_per_unit;
+        Observations {
+            situations: idx.len(),
+            alternatives: j,
+            chosen: idx.iter().map(|&i| self.chosen[i]).collect(),
+            available: idx
+                .iter()
+                .flat_map(|&i| self.available[i * j..(i + 1) * j].to_vec())
+                .collect(),
+            weight,
+            weight_total,
+            groups: group_map.len(),
+            group,
+            attributes: self
+                .attributes
+                .iter()
+                .map(|x| {
+                    idx.iter()
+                        .flat_map(|&i| x[i * j..(i + 1) * j].to_vec())
+                        .collect()
+                })
+                .collect(),
+            characteristics: self
+                .characteristics
+                .iter()
+                .map(|z| idx.iter().map(|&i| z[i]).collect())
+                .collect(),
+            first_row: idx.iter().map(|&i| self.first_row[i]).collect(),
+        }
+    }
+}

@@ -170,7 +170,23 @@ pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fi
     let final_eval = likelihood::evaluate(&design, kind, &out.beta, true, true);
     let a = optimise::negative_free_hessian(final_eval.hess.as_deref().unwrap_or(&[]), k, &free);
     let flats = inference::flat_directions(&a);
+    let runaway = inference::runaway(&design, &out.beta, &free);
+    // Constants of alternatives that are available but never chosen: their own
+    // diagnostic below explains why they run off, so they are reported once.
+    let never_chosen: Vec<usize> = (0..k)
+        .filter(|&p| {
+            let par = &spec.parameters[p];
+            par.term == crate::spec::Term::Constant
+                && par.alternative.is_some_and(|a| {
+                    !obs.chosen.iter().any(|&c| c as usize == a)
+                        && (0..design.situations()).any(|i| design.available(i, a))
+                })
+        })
+        .collect();
     for group in &flats {
+        if group.len() == 1 && never_chosen.contains(&free[group[0]]) {
+            continue;
+        }
         let params: Vec<String> = group.iter().map(|&x| names[free[x]].clone()).collect();
         let terms: Vec<String> = group
             .iter()
@@ -181,15 +197,37 @@ pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fi
                 }
                 v
             });
-        let message = if params.len() == 1 {
+        // A flat direction next to a coefficient that runs off comes from
+        // separation (fitted probabilities of 0 or 1), not from collinearity.
+        let runners: Vec<String> = group
+            .iter()
+            .filter(|&&x| runaway.iter().any(|r| r.0 == free[x]))
+            .map(|&x| format!("`{}`", names[free[x]]))
+            .collect();
+        let listed = params
+            .iter()
+            .map(|p| format!("`{p}`"))
+            .collect::<Vec<_>>()
+            .join(", ");
+        let message = if !runners.is_empty() {
+            let (what, them) = if params.len() == 1 {
+                (format!("parameter {listed} is"), "it")
+            } else {
+                (format!("parameters {listed} are"), "them")
+            };
+            format!(
+                "{what} not identified (from {}): {} runs off, so the fitted probabilities are all but 0 or 1 and the data no longer pin {them} down",
+                terms.join(", "),
+                runners.join(", ")
+            )
+        } else if params.len() == 1 {
             format!(
                 "parameter `{}` is not identified: the data carry no information on it (from {}); drop the term, fix it in [parameters], or check that its variable varies across alternatives and situations",
                 params[0], terms[0]
             )
         } else {
             format!(
-                "parameters {} are not identified together: only a combination of them is estimable (from {}); their variables are collinear, so drop or fix one",
-                params.iter().map(|p| format!("`{p}`")).collect::<Vec<_>>().join(", "),
+                "parameters {listed} are not identified together: only a combination of them is estimable (from {}); their variables are collinear, so drop or fix one",
                 terms.join(", ")
             )
         };
@@ -217,7 +255,10 @@ pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fi
         _ => (nan(), nan()),
     };
 
-    for (p, spread) in inference::runaway(&design, &out.beta, &free) {
+    for (p, spread) in runaway {
+        if never_chosen.contains(&p) {
+            continue;
+        }
         diagnostics.push(Diagnostic {
             kind: DiagnosticKind::Separation,
             parameters: vec![names[p].clone()],
@@ -267,11 +308,22 @@ pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fi
                 ),
             });
         } else if chosen == 0 {
+            // The flat direction of its constant (suppressed above) withholds the errors.
+            let withheld = flats.iter().any(|g| {
+                g.len() == 1
+                    && never_chosen.contains(&free[g[0]])
+                    && spec.parameters[free[g[0]]].alternative == Some(a)
+            });
+            let note = if withheld {
+                "; standard errors are withheld while it stays in the model (fix its constant in [parameters] or drop the alternative)"
+            } else {
+                ""
+            };
             diagnostics.push(Diagnostic {
                 kind: DiagnosticKind::NeverChosen,
                 parameters: asc,
                 message: format!(
-                    "alternative `{}` is never chosen (available in {avail} situations): its constant runs to minus infinity",
+                    "alternative `{}` is never chosen (available in {avail} situations): its constant runs to minus infinity{note}",
                     alt.name
                 ),
             });

@@ -1,7 +1,9 @@
 //! Report: turns fits, analyses and scenarios into text for the terminal and
 //! the JSON results document. Nothing here computes a statistic.
 
+pub mod analysis;
 pub mod check;
+pub mod compare;
 pub mod json;
 pub mod text;
 

@@ -8,6 +8,7 @@ mod validate;
 use std::path::{Path, PathBuf};
 
 pub use expr::Expr;
+pub use validate::{parse_restriction, parse_targets};
 
 use crate::error::{Error, Result};
 

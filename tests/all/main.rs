@@ -1,8 +1,12 @@
 //! The one integration-test binary (polars is linked once). Each module checks
 //! one room against an outside reference or a fact of the method.
 
+mod analysis;
 mod common;
 mod derivatives;
+mod diagnostics;
+mod fit_cli;
 mod layouts;
+mod recovery;
 mod references;
 mod spec_errors;

@@ -1,0 +1,83 @@
+//! Diversion: where an alternative's demand goes when it is withdrawn (by
+//! re-simulating every situation without it), and attribute (price)
+//! diversion ratios -(dQ_j/dx_k) / (dQ_k/dx_k).
+
+use serde::Serialize;
+
+use super::sensitivity::Sens;
+use super::simulate::{shares, shares_with};
+use crate::design::Design;
+use crate::estimate::likelihood::Kind;
+
+#[derive(Clone, Debug, Serialize)]
+pub struct DiversionRow {
+    pub removed: String,
+    pub to: String,
+    /// Share of the removed alternative's predicted demand that moves to `to`.
+    pub share: f64,
+}
+
+#[derive(Clone, Debug, Serialize)]
+pub struct PriceDiversionRow {
+    pub attribute: String,
+    pub changed: String,
+    pub to: String,
+    pub ratio: f64,
+}
+
+/// Removal diversion for every alternative with positive predicted share.
+/// Demand of situations where the removed alternative was the only one is lost
+/// (it appears as the shortfall of the row sum from 1).
+pub fn removal(d: &Design, kind: Kind, beta: &[f64], names: &[String]) -> Vec<DiversionRow> {
+    let base = shares(d, kind, beta);
+    let j = d.alternatives();
+    let mut out = Vec::new();
+    for k in 0..j {
+        if base[k] <= 0.0 {
+            continue;
+        }
+        let after = shares_with(d, kind, beta, |_, v| v[k] = f64::NEG_INFINITY);
+        for to in 0..j {
+            if to != k {
+                out.push(DiversionRow {
+                    removed: names[k].clone(),
+                    to: names[to].clone(),
+                    share: (after[to] - base[to]) / base[k],
+                });
+            }
+        }
+    }
+    out
+}
+
+/// Attribute diversion ratios for attribute `a` from the marginal effects in `sens`.
+pub fn price(
+    sens: &Sens,
+    a: usize,
+    attribute: &str,
+    present: &[bool],
+    names: &[String],
+) -> Vec<PriceDiversionRow> {
+    let j = sens.alternatives;
+    let mut out = Vec::new();
+    for k in 0..j {
+        if !present[k] {
+            continue;
+        }
+        let own = sens.attr_me[(a * j + k) * j + k];
+        if own == 0.0 {
+            continue;
+        }
+        for to in 0..j {
+            if to != k {
+                out.push(PriceDiversionRow {
+                    attribute: attribute.to_string(),
+                    changed: names[k].clone(),
+                    to: names[to].clone(),
+                    ratio: -sens.attr_me[(a * j + k) * j + to] / own,
+                });
+            }
+        }
+    }
+    out
+}

@@ -1,0 +1,269 @@
+//! Post-estimation analysis: elasticities, marginal effects, value ratios,
+//! diversion, validation and tests between models. Aggregate figures use
+//! sample enumeration over the estimation data with the spec's weights.
+
+pub mod compare;
+pub mod delta;
+pub mod diversion;
+pub mod hypothesis;
+pub mod ratios;
+pub mod sensitivity;
+pub mod simulate;
+pub mod validation;
+
+use serde::Serialize;
+
+use crate::data::Dataset;
+use crate::error::{Error, Result};
+use crate::estimate::Fit;
+use crate::spec::{Coefficient, Restriction, Spec};
+
+pub use diversion::{DiversionRow, PriceDiversionRow};
+pub use hypothesis::{ChiTest, IiaTest};
+pub use ratios::RatioRow;
+pub use sensitivity::{ElasticityRow, MarginalRow, Sens, TermMap};
+pub use validation::{SegmentShareRow, Validation};
+
+#[derive(Clone, Debug)]
+pub struct Options {
+    /// Percentage change for arc elasticities, as a fraction (0.10 = 10%).
+    pub arc_change: f64,
+    /// Krinsky-Robb draws for ratio intervals.
+    pub draws: usize,
+    pub seed: u64,
+    /// Attribute for the price diversion ratios (default: the first shared one).
+    pub diversion_attribute: Option<String>,
+    /// Segment column for observed vs predicted shares.
+    pub by: Option<String>,
+    /// Alternative to drop for the Hausman-McFadden IIA test.
+    pub iia_drop: Option<String>,
+    /// Restrictions for a Wald test besides the spec's own.
+    pub restrictions: Vec<String>,
+}
+
+impl Default for Options {
+    fn default() -> Self {
+        Options {
+            arc_change: 0.10,
+            draws: 10_000,
+            seed: 7,
+            diversion_attribute: None,
+            by: None,
+            iia_drop: None,
+            restrictions: Vec::new(),
+        }
+    }
+}
+
+#[derive(Clone, Debug, Serialize)]
+pub struct Analysis {
+    pub arc_change: f64,
+    pub elasticities: Vec<ElasticityRow>,
+    pub marginal_effects: Vec<MarginalRow>,
+    pub ratios: Vec<RatioRow>,
+    pub diversion: Vec<DiversionRow>,
+    pub price_diversion: Vec<PriceDiversionRow>,
+    pub segments: Vec<SegmentShareRow>,
+    pub validation: Validation,
+    pub wald: Option<ChiTest>,
+    pub iia: Option<IiaTest>,
+    pub warnings: Vec<String>,
+}
+
+/// The alternatives where attribute `a` enters.
+pub fn attribute_present(spec: &Spec, a: usize) -> Vec<bool> {
+    spec.attributes[a]
+        .sources
+        .iter()
+        .map(|s| s.is_some())
+        .collect()
+}
+
+/// Elasticity and marginal-effect rows with delta-method errors and arc elasticities.
+pub fn sensitivity_rows(
+    spec: &Spec,
+    fit: &Fit,
+    arc_change: f64,
+) -> (Vec<ElasticityRow>, Vec<MarginalRow>, Sens) {
+    let d = &fit.design;
+    let map = TermMap::new(spec, d);
+    let sens = sensitivity::sensitivities(d, fit.kind, &map, &fit.beta);
+    let flat = sens.flat();
+    let se = delta::delta_se(fit, &|b| {
+        sensitivity::sensitivities(d, fit.kind, &map, b).flat()
+    });
+    let j = d.alternatives();
+    let na = spec.attributes.len();
+    let names = spec.alternative_names();
+    let base_shares = simulate::shares(d, fit.kind, &fit.beta);
+    let mut el = Vec::new();
+    let mut me = Vec::new();
+    let off_me = na * j * j;
+    let off_ce = 2 * na * j * j;
+    let off_cm = off_ce + spec.characteristics.len() * j;
+    for (a, attr) in spec.attributes.iter().enumerate() {
+        for k in 0..j {
+            let Some(param) = map.attribute[a][k] else {
+                continue;
+            };
+            let b = fit.beta[param];
+            let arc = simulate::shares_with(d, fit.kind, &fit.beta, |i, v| {
+                if v[k].is_finite() {
+                    v[k] += b * d.obs.attributes[a][i * j + k] * arc_change;
+                }
+            });
+            for jj in 0..j {
+                let idx = (a * j + k) * j + jj;
+                el.push(ElasticityRow {
+                    variable: attr.name.clone(),
+                    changed: Some(names[k].clone()),
+                    affected: names[jj].clone(),
+                    value: flat[idx],
+                    std_error: se[idx],
+                    arc: (arc[jj] / base_shares[jj] - 1.0) / arc_change,
+                });
+                me.push(MarginalRow {
+                    variable: attr.name.clone(),
+                    changed: Some(names[k].clone()),
+                    alternative: names[jj].clone(),
+                    value: flat[off_me + idx],
+                    std_error: se[off_me + idx],
+                });
+            }
+        }
+    }
+    for (c, ch) in spec.characteristics.iter().enumerate() {
+        let arc = simulate::shares_with(d, fit.kind, &fit.beta, |i, v| {
+            let z = d.obs.characteristics[c][i];
+            for (vl, param) in v.iter_mut().zip(&map.characteristic[c]) {
+                if let (Some(p), true) = (param, vl.is_finite()) {
+                    *vl += fit.beta[*p] * z * arc_change;
+                }
+            }
+        });
+        for jj in 0..j {
+            let idx = c * j + jj;
+            el.push(ElasticityRow {
+                variable: ch.name.clone(),
+                changed: None,
+                affected: names[jj].clone(),
+                value: flat[off_ce + idx],
+                std_error: se[off_ce + idx],
+                arc: (arc[jj] / base_shares[jj] - 1.0) / arc_change,
+            });
+            me.push(MarginalRow {
+                variable: ch.name.clone(),
+                changed: None,
+                alternative: names[jj].clone(),
+                value: flat[off_cm + idx],
+                std_error: se[off_cm + idx],
+            });
+        }
+    }
+    (el, me, sens)
+}
+
+/// Which attribute the price diversion ratios use.
+pub fn diversion_attribute(spec: &Spec, requested: Option<&str>) -> Result<Option<usize>> {
+    match requested {
+        Some(name) => spec
+            .attributes
+            .iter()
+            .position(|a| a.name == name)
+            .map(Some)
+            .ok_or_else(|| {
+                Error::Usage(format!(
+                    "--diversion-attribute: `{name}` is not an attribute of the spec"
+                ))
+            }),
+        None => Ok(spec
+            .attributes
+            .iter()
+            .position(|a| a.coefficient == Coefficient::Shared)),
+    }
+}
+
+pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<Analysis> {
+    let d = &fit.design;
+    let names = spec.alternative_names();
+    let mut warnings = Vec::new();
+    let (elasticities, marginal_effects, sens) = sensitivity_rows(spec, fit, opts.arc_change);
+
+    let draws = if spec.ratios.is_empty() {
+        None
+    } else {
+        delta::draws(fit, opts.draws, opts.seed)
+    };
+    if !spec.ratios.is_empty() && draws.is_none() {
+        warnings.push(
+            "the covariance is not positive definite, so no Krinsky-Robb draws were made".into(),
+        );
+    }
+    let ratios = ratios::ratios(fit, &spec.ratios, draws.as_deref(), opts.seed);
+    warnings.extend(
+        ratios
+            .iter()
+            .filter_map(|r| r.warning.as_ref().map(|w| format!("{}: {w}", r.name))),
+    );
+
+    let diversion = diversion::removal(d, fit.kind, &fit.beta, &names);
+    let price_diversion = match diversion_attribute(spec, opts.diversion_attribute.as_deref())? {
+        Some(a) => diversion::price(
+            &sens,
+            a,
+            &spec.attributes[a].name,
+            &attribute_present(spec, a),
+            &names,
+        ),
+        None => Vec::new(),
+    };
+
+    let segments = match &opts.by {
+        Some(col) => validation::by_segment(spec, fit, &ds.table, col)?,
+        None => Vec::new(),
+    };
+    let (hit_rate, mean_chosen_probability) = validation::hits(d, fit.kind, &fit.beta);
+    let holdout = match validation::holdout_mask(spec, &ds.obs, &ds.table)? {
+        Some(mask) => Some(validation::holdout(spec, &ds.obs, &mask)?),
+        None => None,
+    };
+
+    let mut restrictions: Vec<Restriction> = spec.restrictions.clone();
+    for text in &opts.restrictions {
+        restrictions.push(
+            crate::spec::parse_restriction(text, &spec.parameters)
+                .map_err(|m| Error::Usage(format!("--restrict `{text}`: {m}")))?,
+        );
+    }
+    let wald = if restrictions.is_empty() {
+        None
+    } else {
+        Some(hypothesis::wald(fit, &restrictions)?)
+    };
+    let iia = match &opts.iia_drop {
+        Some(name) => {
+            let m = spec.alternative_index(name).ok_or_else(|| {
+                Error::Usage(format!("--iia-drop: `{name}` is not an alternative"))
+            })?;
+            Some(hypothesis::hausman_mcfadden(spec, &ds.obs, fit, m)?)
+        }
+        None => None,
+    };
+    Ok(Analysis {
+        arc_change: opts.arc_change,
+        elasticities,
+        marginal_effects,
+        ratios,
+        diversion,
+        price_diversion,
+        segments,
+        validation: Validation {
+            hit_rate,
+            mean_chosen_probability,
+            holdout,
+        },
+        wald,
+        iia,
+        warnings,
+    })
+}

@@ -1,0 +1,226 @@
+//! Point and aggregate elasticities and average marginal effects of every
+//! attribute and characteristic, from the derivatives dP_ij/dV_ik of each
+//! family (logit: P_ij (1[j=k] - P_ik); binary probit: +-phi(V_o - V_b)).
+
+use serde::Serialize;
+
+use crate::design::{Design, Value};
+use crate::estimate::likelihood::Kind;
+use crate::estimate::normal;
+use crate::spec::{Family, Spec};
+
+/// Which parameter multiplies attribute `a` in alternative `k`, and characteristic `c` in `l`.
+#[derive(Clone, Debug)]
+pub struct TermMap {
+    pub attribute: Vec<Vec<Option<usize>>>,
+    pub characteristic: Vec<Vec<Option<usize>>>,
+}
+
+impl TermMap {
+    pub fn new(spec: &Spec, d: &Design) -> TermMap {
+        let j = d.alternatives();
+        let mut attribute = vec![vec![None; j]; spec.attributes.len()];
+        let mut characteristic = vec![vec![None; j]; spec.characteristics.len()];
+        for (k, feats) in d.features.iter().enumerate() {
+            for f in feats {
+                match f.value {
+                    Value::Attribute(a) => attribute[a][k] = Some(f.param),
+                    Value::Characteristic(c) => characteristic[c][k] = Some(f.param),
+                    Value::One => {}
+                }
+            }
+        }
+        TermMap {
+            attribute,
+            characteristic,
+        }
+    }
+}
+
+/// dP_j/dV_k of one situation into `dp` (J x J row-major, row = affected j).
+#[inline]
+pub fn dprob(kind: Kind, v: &[f64], p: &[f64], dp: &mut [f64]) {
+    let n = p.len();
+    dp.iter_mut().for_each(|x| *x = 0.0);
+    match kind.family {
+        Family::Logit => {
+            for j in 0..n {
+                if p[j] == 0.0 {
+                    continue;
+                }
+                for k in 0..n {
+                    dp[j * n + k] = p[j] * (((j == k) as u8 as f64) - p[k]);
+                }
+            }
+        }
+        Family::Probit => {
+            let (b, o) = (kind.base, 1 - kind.base);
+            if v[b].is_finite() && v[o].is_finite() {
+                let phi = normal::pdf(v[o] - v[b]);
+                dp[o * n + o] = phi;
+                dp[o * n + b] = -phi;
+                dp[b * n + o] = -phi;
+                dp[b * n + b] = phi;
+            }
+        }
+    }
+}
+
+/// Aggregate figures at one parameter vector, flattened for the delta method.
+#[derive(Clone, Debug)]
+pub struct Sens {
+    pub alternatives: usize,
+    /// [a][k changed][j affected] aggregate elasticities of share j to attribute a of k.
+    pub attr_elast: Vec<f64>,
+    /// [a][k][j] average marginal effects dP_j/dx_k.
+    pub attr_me: Vec<f64>,
+    /// [c][j] aggregate elasticities of share j to characteristic c.
+    pub char_elast: Vec<f64>,
+    /// [c][j] average marginal effects dP_j/dz.
+    pub char_me: Vec<f64>,
+}
+
+impl Sens {
+    pub fn flat(&self) -> Vec<f64> {
+        let mut v = self.attr_elast.clone();
+        v.extend(&self.attr_me);
+        v.extend(&self.char_elast);
+        v.extend(&self.char_me);
+        v
+    }
+}
+
+pub fn sensitivities(d: &Design, kind: Kind, map: &TermMap, beta: &[f64]) -> Sens {
+    let j = d.alternatives();
+    let na = map.attribute.len();
+    let nc = map.characteristic.len();
+    let w = &d.obs.weight;
+    // layout of the accumulator: [attr num a,k,j][attr me a,k,j][char num c,j][char me c,j][P sums j]
+    let (o1, o2, o3, o4) = (
+        na * j * j,
+        2 * na * j * j,
+        2 * na * j * j + nc * j,
+        2 * na * j * j + 2 * nc * j,
+    );
+    let width = o4 + j;
+    let sums = {
+        let run = |range: std::ops::Range<usize>| {
+            let mut acc = vec![0.0; width];
+            let mut v = vec![0.0; j];
+            let mut p = vec![0.0; j];
+            let mut dp = vec![0.0; j * j];
+            for i in range {
+                d.utilities(beta, i, &mut v);
+                crate::estimate::likelihood::probabilities_from_utilities(kind, &v, &mut p);
+                dprob(kind, &v, &p, &mut dp);
+                let wi = w[i];
+                for a in 0..na {
+                    for k in 0..j {
+                        let Some(param) = map.attribute[a][k] else {
+                            continue;
+                        };
+                        if !d.available(i, k) {
+                            continue;
+                        }
+                        let b = beta[param];
+                        let x = d.obs.attributes[a][i * j + k];
+                        for jj in 0..j {
+                            let dpk = dp[jj * j + k];
+                            acc[(a * j + k) * j + jj] += wi * b * x * dpk;
+                            acc[o1 + (a * j + k) * j + jj] += wi * b * dpk;
+                        }
+                    }
+                }
+                for c in 0..nc {
+                    let z = d.obs.characteristics[c][i];
+                    for jj in 0..j {
+                        let mut s = 0.0;
+                        for l in 0..j {
+                            if let Some(param) = map.characteristic[c][l] {
+                                s += dp[jj * j + l] * beta[param];
+                            }
+                        }
+                        acc[o2 + c * j + jj] += wi * z * s;
+                        acc[o3 + c * j + jj] += wi * s;
+                    }
+                }
+                for jj in 0..j {
+                    acc[o4 + jj] += wi * p[jj];
+                }
+            }
+            acc
+        };
+        let chunks = d.chunks();
+        let parts: Vec<Vec<f64>> = if chunks.len() <= 1 {
+            chunks.into_iter().map(run).collect()
+        } else {
+            std::thread::scope(|s| {
+                let hs: Vec<_> = chunks
+                    .into_iter()
+                    .map(|r| s.spawn(move || run(r)))
+                    .collect();
+                hs.into_iter()
+                    .map(|h| h.join().unwrap_or_else(|e| std::panic::resume_unwind(e)))
+                    .collect()
+            })
+        };
+        let mut out = vec![0.0; width];
+        for p in parts {
+            out.iter_mut().zip(&p).for_each(|(a, b)| *a += b);
+        }
+        out
+    };
+    let tw = d.total_weight();
+    let psum = &sums[o4..o4 + j];
+    let ratio = |num: f64, jj: usize| {
+        if psum[jj] > 0.0 {
+            num / psum[jj]
+        } else {
+            f64::NAN
+        }
+    };
+    let mut attr_elast = vec![0.0; na * j * j];
+    let mut attr_me = vec![0.0; na * j * j];
+    for idx in 0..na * j * j {
+        let jj = idx % j;
+        attr_elast[idx] = ratio(sums[idx], jj);
+        attr_me[idx] = sums[o1 + idx] / tw;
+    }
+    let mut char_elast = vec![0.0; nc * j];
+    let mut char_me = vec![0.0; nc * j];
+    for idx in 0..nc * j {
+        char_elast[idx] = ratio(sums[o2 + idx], idx % j);
+        char_me[idx] = sums[o3 + idx] / tw;
+    }
+    Sens {
+        alternatives: j,
+        attr_elast,
+        attr_me,
+        char_elast,
+        char_me,
+    }
+}
+
+/// One reported elasticity (JSON contract: variable, changed, affected, value, std_error).
+#[derive(Clone, Debug, Serialize)]
+pub struct ElasticityRow {
+    pub variable: String,
+    /// The alternative whose attribute changes; null for characteristics.
+    pub changed: Option<String>,
+    pub affected: String,
+    pub value: f64,
+    pub std_error: f64,
+    /// Arc elasticity for the stated percentage change, by re-simulation.
+    pub arc: f64,
+}
+
+/// One average marginal effect (JSON: variable, alternative, value, std_error).
+#[derive(Clone, Debug, Serialize)]
+pub struct MarginalRow {
+    pub variable: String,
+    /// For attributes, the alternative whose attribute changes; null for characteristics.
+    pub changed: Option<String>,
+    pub alternative: String,
+    pub value: f64,
+    pub std_error: f64,
+}

@@ -1,0 +1,161 @@
+//! Validation: observed against predicted shares (overall and by segment),
+//! hit rate, mean probability of the chosen alternative, and a hold-out fit.
+
+use std::sync::Arc;
+
+use serde::Serialize;
+
+use super::simulate::fold;
+use crate::data::{Observations, Table};
+use crate::design::Design;
+use crate::error::{Error, Result};
+use crate::estimate::{self, likelihood, Fit, Kind, Step};
+use crate::rng::Rng;
+use crate::spec::{Holdout, Spec};
+
+#[derive(Clone, Debug, Serialize)]
+pub struct SegmentShareRow {
+    pub segment: String,
+    pub alternative: String,
+    pub situations: usize,
+    pub observed: f64,
+    pub predicted: f64,
+}
+
+#[derive(Clone, Debug, Serialize)]
+pub struct HoldoutReport {
+    pub situations: usize,
+    pub estimation_situations: usize,
+    pub log_likelihood: f64,
+    pub null_log_likelihood: f64,
+    pub shares: Vec<estimate::ShareRow>,
+}
+
+#[derive(Clone, Debug, Serialize)]
+pub struct Validation {
+    pub hit_rate: f64,
+    pub mean_chosen_probability: f64,
+    pub holdout: Option<HoldoutReport>,
+}
+
+/// Weighted hit rate (the most probable alternative was chosen) and mean probability of the choice.
+pub fn hits(d: &Design, kind: Kind, beta: &[f64]) -> (f64, f64) {
+    let obs = &d.obs;
+    let sums = fold(
+        d,
+        kind,
+        beta,
+        2,
+        |_, _| {},
+        |i, p, acc| {
+            let c = obs.chosen[i] as usize;
+            let best = (0..p.len()).fold(0, |b, j| if p[j] > p[b] { j } else { b });
+            acc[0] += obs.weight[i] * (best == c) as u8 as f64;
+            acc[1] += obs.weight[i] * p[c];
+        },
+    );
+    let tw = d.total_weight();
+    (sums[0] / tw, sums[1] / tw)
+}
+
+/// Observed and predicted shares by the labels of a situation-level column.
+pub fn by_segment(
+    spec: &Spec,
+    fit: &Fit,
+    table: &Table,
+    column: &str,
+) -> Result<Vec<SegmentShareRow>> {
+    let labels = table.keys(column, "--by segment column")?;
+    let d = &fit.design;
+    let j = d.alternatives();
+    let p = likelihood::probabilities(d, fit.kind, &fit.beta);
+    let mut order: Vec<String> = Vec::new();
+    for l in &labels {
+        if !order.contains(l) {
+            order.push(l.clone());
+        }
+    }
+    order.sort_by(|a, b| match (a.parse::<f64>(), b.parse::<f64>()) {
+        (Ok(x), Ok(y)) => x.total_cmp(&y),
+        _ => a.cmp(b),
+    });
+    let mut out = Vec::new();
+    for seg in &order {
+        let (mut w, mut n) = (0.0, 0);
+        let mut obs = vec![0.0; j];
+        let mut pred = vec![0.0; j];
+        for i in 0..d.situations() {
+            if &labels[i] != seg {
+                continue;
+            }
+            let wi = d.obs.weight[i];
+            w += wi;
+            n += 1;
+            obs[d.obs.chosen[i] as usize] += wi;
+            for a in 0..j {
+                pred[a] += wi * p[i * j + a];
+            }
+        }
+        for (a, alt) in spec.alternatives.iter().enumerate() {
+            out.push(SegmentShareRow {
+                segment: seg.clone(),
+                alternative: alt.name.clone(),
+                situations: n,
+                observed: obs[a] / w,
+                predicted: pred[a] / w,
+            });
+        }
+    }
+    Ok(out)
+}
+
+/// Which situations are held out, from the spec's `[validation]`.
+pub fn holdout_mask(spec: &Spec, obs: &Observations, table: &Table) -> Result<Option<Vec<bool>>> {
+    match &spec.holdout {
+        None => Ok(None),
+        Some(Holdout::Fraction { fraction, seed }) => {
+            let mut rng = Rng::new(*seed);
+            Ok(Some(
+                (0..obs.situations)
+                    .map(|_| rng.uniform() < *fraction)
+                    .collect(),
+            ))
+        }
+        Some(Holdout::Column(c)) => {
+            let v = table.numbers(c, "[validation].holdout")?;
+            if let Some(r) = v.iter().position(|x| *x != 0.0 && *x != 1.0) {
+                return Err(Error::data(
+                    &table.file,
+                    format!(
+                        "column `{c}` ([validation].holdout), row {}: must be 0 or 1",
+                        r + 1
+                    ),
+                ));
+            }
+            Ok(Some(v.iter().map(|x| *x == 1.0).collect()))
+        }
+    }
+}
+
+/// Fits on the situations not held out and scores the held-out ones.
+pub fn holdout(spec: &Spec, obs: &Observations, mask: &[bool]) -> Result<HoldoutReport> {
+    let held = mask.iter().filter(|m| **m).count();
+    if held == 0 || held == obs.situations {
+        return Err(Error::Usage(
+            "[validation].holdout leaves no situations on one side of the split".into(),
+        ));
+    }
+    let train = obs.subset(&mask.iter().map(|m| !m).collect::<Vec<_>>());
+    let test = Arc::new(obs.subset(mask));
+    let quiet = |_s: Step| {};
+    let fit = estimate::fit(spec, Arc::new(train), &quiet)?;
+    let d = Design::build(spec, test.clone());
+    let e = likelihood::evaluate(&d, fit.kind, &fit.beta, false, false);
+    Ok(HoldoutReport {
+        situations: held,
+        estimation_situations: obs.situations - held,
+        log_likelihood: e.ll,
+        null_log_likelihood: estimate::null_log_likelihood(&test),
+        shares: estimate::shares(spec, &d, fit.kind, &fit.beta),
+    })
+}

@@ -1,0 +1,640 @@
+//! `sharecast bench`: simulates a large wide data set from known logit
+//! parameters (invented data, fixed seed), fits it the way `sharecast fit`
+//! does, and times each stage: loading the CSV, one likelihood+gradient pass
+//! (against the time to merely stream the bytes that pass reads), the number
+//! of passes, the whole fit, `sharecast fit` as a separate process, and the
+//! peak memory. `docs/performance.md` reports the figures.
+
+use std::fmt::Write as _;
+use std::io::Write as _;
+use std::path::{Path, PathBuf};
+use std::process::{Command, ExitCode, Stdio};
+use std::time::{Duration, Instant};
+
+use clap::{Args, ValueEnum};
+use serde_json::json;
+
+use crate::data::{self, Extra, Observations};
+use crate::design::Design;
+use crate::error::{Error, Result};
+use crate::estimate::likelihood::{evaluate, Kind};
+use crate::rng::Rng;
+use crate::spec::Spec;
+
+/// Alternatives of the simulated choice (the first is the base).
+const ALTS: [&str; 5] = ["a1", "a2", "a3", "a4", "a5"];
+
+/// Seed of the simulated data.
+pub const SEED: u64 = 20_251_201;
+
+/// The simulated model.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum Model {
+    /// 4 constants, 3 shared attributes (a column per alternative), 2
+    /// characteristics on the 4 non-base alternatives: 15 parameters.
+    Full,
+    /// 4 constants and the 2 characteristics only: 12 parameters.
+    Characteristics,
+}
+
+impl Model {
+    fn label(self) -> &'static str {
+        match self {
+            Model::Full => "full",
+            Model::Characteristics => "characteristics",
+        }
+    }
+    fn attributes(self) -> &'static [Attr] {
+        match self {
+            Model::Full => &ATTRS,
+            Model::Characteristics => &[],
+        }
+    }
+}
+
+/// A simulated attribute: uniform on `low..high` (alternative j adds `shift * j`),
+/// written with `decimals` digits; `beta` is its true coefficient.
+struct Attr {
+    name: &'static str,
+    low: f64,
+    high: f64,
+    shift: f64,
+    decimals: u32,
+    beta: f64,
+}
+
+const ATTRS: [Attr; 3] = [
+    Attr {
+        name: "cost",
+        low: 1.0,
+        high: 9.0,
+        shift: 0.5,
+        decimals: 2,
+        beta: -0.45,
+    },
+    Attr {
+        name: "time",
+        low: 5.0,
+        high: 50.0,
+        shift: -2.0,
+        decimals: 1,
+        beta: -0.035,
+    },
+    Attr {
+        name: "rating",
+        low: 1.0,
+        high: 5.0,
+        shift: 0.0,
+        decimals: 1,
+        beta: 0.30,
+    },
+];
+
+/// True constants of a2..a5.
+const ASC: [f64; 4] = [0.40, -0.30, 0.20, -0.50];
+/// True income coefficients of a2..a5 (income in thousands, 10..120).
+const INCOME: [f64; 4] = [0.010, -0.008, 0.005, 0.012];
+/// True age coefficients of a2..a5 (age in years, 18..80).
+const AGE: [f64; 4] = [-0.015, 0.010, 0.020, -0.005];
+
+#[derive(Args, Debug)]
+pub struct BenchArgs {
+    /// Number of choice situations to simulate.
+    #[arg(long, default_value_t = 1_000_000)]
+    pub situations: usize,
+    /// Which model to simulate and fit.
+    #[arg(long, value_enum, default_value_t = Model::Full)]
+    pub model: Model,
+    /// Write the data and spec into this folder and keep them (default: a temporary folder, removed after).
+    #[arg(long, value_name = "DIR")]
+    pub keep: Option<PathBuf>,
+    /// Only write the data and spec (needs --keep); time nothing.
+    #[arg(long, requires = "keep")]
+    pub write_only: bool,
+    /// Timed repetitions of the likelihood pass and of the streaming pass (the median is reported).
+    #[arg(long, default_value_t = 9)]
+    pub repeats: usize,
+    /// Skip the run of `sharecast fit` as a separate process.
+    #[arg(long)]
+    pub no_process: bool,
+    /// Print the figures as JSON.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// True value of each parameter, in the spec's parameter order.
+pub fn truth(model: Model) -> Vec<(String, f64)> {
+    let mut out: Vec<(String, f64)> = Vec::new();
+    for (j, b) in ASC.iter().enumerate() {
+        out.push((format!("asc_{}", ALTS[j + 1]), *b));
+    }
+    for a in model.attributes() {
+        out.push((a.name.to_string(), a.beta));
+    }
+    for (j, b) in INCOME.iter().enumerate() {
+        out.push((format!("income_{}", ALTS[j + 1]), *b));
+    }
+    for (j, b) in AGE.iter().enumerate() {
+        out.push((format!("age_{}", ALTS[j + 1]), *b));
+    }
+    out
+}
+
+/// The spec text for the simulated file `data_file` (relative to the spec).
+pub fn spec_text(model: Model, data_file: &str) -> String {
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "# Simulated by `sharecast bench` (invented data, seed {SEED}).\n\
+         title = \"sharecast bench: {} model\"\n\n\
+         [data]\nfile = \"{data_file}\"\nlayout = \"wide\"\nchoice = \"choice\"\n\n\
+         [model]\nfamily = \"logit\"\nbase = \"a1\"\n",
+        model.label()
+    );
+    for (j, a) in ALTS.iter().enumerate() {
+        let _ = writeln!(s, "[alternatives.{a}]\ncode = {}\n", j + 1);
+    }
+    for a in model.attributes() {
+        let cols: Vec<String> = ALTS
+            .iter()
+            .map(|alt| format!("{alt} = \"{}_{alt}\"", a.name))
+            .collect();
+        let _ = writeln!(
+            s,
+            "[[attribute]]\nname = \"{}\"\ncolumns = {{ {} }}\n",
+            a.name,
+            cols.join(", ")
+        );
+    }
+    for c in ["income", "age"] {
+        let _ = writeln!(s, "[[characteristic]]\nname = \"{c}\"\ncolumn = \"{c}\"\n");
+    }
+    s
+}
+
+/// Appends `scaled / 10^decimals` in fixed notation (exactly what the parser reads back).
+fn push_fixed(buf: &mut Vec<u8>, scaled: i64, decimals: u32) {
+    if scaled < 0 {
+        buf.push(b'-');
+    }
+    let m = scaled.unsigned_abs();
+    let p = 10u64.pow(decimals);
+    let _ = write!(buf, "{}", m / p);
+    if decimals > 0 {
+        let _ = write!(buf, ".{:0width$}", m % p, width = decimals as usize);
+    }
+}
+
+/// A uniform draw rounded to `decimals`: (value as written, scaled integer).
+fn draw(rng: &mut Rng, low: f64, high: f64, decimals: u32) -> (f64, i64) {
+    let p = 10f64.powi(decimals as i32);
+    let scaled = ((low + (high - low) * rng.uniform()) * p).round() as i64;
+    (scaled as f64 / p, scaled)
+}
+
+/// Writes `n` simulated situations as a wide CSV, one row at a time (nothing of size n is held).
+pub fn write_data(path: &Path, model: Model, n: usize) -> Result<()> {
+    let file = std::fs::File::create(path).map_err(|e| Error::io(path, e))?;
+    let mut w = std::io::BufWriter::with_capacity(1 << 20, file);
+    let attrs = model.attributes();
+    let mut header = String::from("id,choice,income,age");
+    for a in attrs {
+        for alt in ALTS {
+            let _ = write!(header, ",{}_{alt}", a.name);
+        }
+    }
+    header.push('\n');
+    w.write_all(header.as_bytes())
+        .map_err(|e| Error::io(path, e))?;
+    let mut rng = Rng::new(SEED);
+    let mut line: Vec<u8> = Vec::with_capacity(256);
+    let mut x = vec![0.0; attrs.len() * ALTS.len()];
+    let mut xs = vec![0i64; attrs.len() * ALTS.len()];
+    for i in 0..n {
+        let (income, income_s) = draw(&mut rng, 10.0, 120.0, 1);
+        let age = (18 + rng.below(63)) as f64;
+        for (a, at) in attrs.iter().enumerate() {
+            for j in 0..ALTS.len() {
+                let shift = at.shift * j as f64;
+                let (v, s) = draw(&mut rng, at.low + shift, at.high + shift, at.decimals);
+                x[a * ALTS.len() + j] = v;
+                xs[a * ALTS.len() + j] = s;
+            }
+        }
+        let mut best = 0;
+        let mut best_u = f64::NEG_INFINITY;
+        for j in 0..ALTS.len() {
+            let mut v = 0.0;
+            if j > 0 {
+                v += ASC[j - 1] + INCOME[j - 1] * income + AGE[j - 1] * age;
+            }
+            for (a, at) in attrs.iter().enumerate() {
+                v += at.beta * x[a * ALTS.len() + j];
+            }
+            let u = v + rng.gumbel();
+            if u > best_u {
+                best_u = u;
+                best = j;
+            }
+        }
+        line.clear();
+        let _ = write!(line, "{},{},", i + 1, best + 1);
+        push_fixed(&mut line, income_s, 1);
+        let _ = write!(line, ",{age}");
+        for (a, at) in attrs.iter().enumerate() {
+            for j in 0..ALTS.len() {
+                line.push(b',');
+                push_fixed(&mut line, xs[a * ALTS.len() + j], at.decimals);
+            }
+        }
+        line.push(b'\n');
+        w.write_all(&line).map_err(|e| Error::io(path, e))?;
+    }
+    w.flush().map_err(|e| Error::io(path, e))
+}
+
+/// Writes `bench.csv` and `bench.toml` into `dir`; returns the spec's path.
+pub fn write_set(dir: &Path, model: Model, n: usize) -> Result<PathBuf> {
+    std::fs::create_dir_all(dir).map_err(|e| Error::io(dir, e))?;
+    let data = dir.join("bench.csv");
+    let spec = dir.join("bench.toml");
+    write_data(&data, model, n)?;
+    std::fs::write(&spec, spec_text(model, "bench.csv")).map_err(|e| Error::io(&spec, e))?;
+    Ok(spec)
+}
+
+/// A field of /proc/self/status (or another process's) in bytes, e.g. `VmHWM`.
+pub fn status_bytes(status: &str, field: &str) -> Option<u64> {
+    let line = status
+        .lines()
+        .find(|l| l.starts_with(field) && l[field.len()..].starts_with(':'))?;
+    let kb: u64 = line[field.len() + 1..]
+        .split_whitespace()
+        .next()?
+        .parse()
+        .ok()?;
+    Some(kb * 1024)
+}
+
+/// Peak resident memory of this process so far (VmHWM), when /proc tells it.
+pub fn peak_memory() -> Option<u64> {
+    let s = std::fs::read_to_string("/proc/self/status").ok()?;
+    status_bytes(&s, "VmHWM")
+}
+
+fn median(mut v: Vec<f64>) -> f64 {
+    if v.is_empty() {
+        return f64::NAN;
+    }
+    v.sort_by(|a, b| a.total_cmp(b));
+    let n = v.len();
+    if n % 2 == 1 {
+        v[n / 2]
+    } else {
+        0.5 * (v[n / 2 - 1] + v[n / 2])
+    }
+}
+
+/// The arrays a logit pass reads, and their size in bytes.
+fn pass_bytes(d: &Design) -> usize {
+    let o = &*d.obs;
+    let (attrs, chars) = used_arrays(d);
+    attrs.len() * o.situations * o.alternatives * 8
+        + chars.len() * o.situations * 8
+        + o.available.len()
+        + o.chosen.len() * 4
+        + o.weight.len() * 8
+}
+
+/// Attribute and characteristic arrays some feature reads.
+fn used_arrays(d: &Design) -> (Vec<usize>, Vec<usize>) {
+    let mut attrs = Vec::new();
+    let mut chars = Vec::new();
+    for f in d.features.iter().flatten() {
+        match f.value {
+            crate::design::Value::Attribute(a) if !attrs.contains(&a) => attrs.push(a),
+            crate::design::Value::Characteristic(c) if !chars.contains(&c) => chars.push(c),
+            _ => {}
+        }
+    }
+    (attrs, chars)
+}
+
+fn sum(x: &[f64]) -> f64 {
+    // Four accumulators so that the sum runs at memory speed, not at the adder's latency.
+    let mut s = [0.0f64; 4];
+    let mut it = x.chunks_exact(4);
+    for c in &mut it {
+        s[0] += c[0];
+        s[1] += c[1];
+        s[2] += c[2];
+        s[3] += c[3];
+    }
+    s[0] + s[1] + s[2] + s[3] + it.remainder().iter().sum::<f64>()
+}
+
+/// Reads every byte a logit pass reads once (summing them), split over the
+/// cores the way the pass is; returns the sum so that nothing is optimised away.
+fn stream_once(d: &Design) -> f64 {
+    let o: &Observations = &d.obs;
+    let j = o.alternatives;
+    let (attrs, chars) = used_arrays(d);
+    let run = |r: std::ops::Range<usize>| {
+        let mut t = 0.0;
+        for &a in &attrs {
+            t += sum(&o.attributes[a][r.start * j..r.end * j]);
+        }
+        for &c in &chars {
+            t += sum(&o.characteristics[c][r.clone()]);
+        }
+        t += sum(&o.weight[r.clone()]);
+        t += o.available[r.start * j..r.end * j]
+            .iter()
+            .map(|&b| b as u64)
+            .sum::<u64>() as f64;
+        t += o.chosen[r].iter().map(|&c| c as u64).sum::<u64>() as f64;
+        t
+    };
+    let chunks = d.chunks();
+    std::thread::scope(|s| {
+        let hs: Vec<_> = chunks
+            .into_iter()
+            .map(|r| s.spawn(move || run(r)))
+            .collect();
+        hs.into_iter().map(|h| h.join().unwrap_or(f64::NAN)).sum()
+    })
+}
+
+/// Runs `sharecast fit SPEC --json` as a separate process: wall seconds and,
+/// polled from /proc every few milliseconds, its peak resident memory.
+fn time_process(spec: &Path) -> Result<(f64, Option<u64>, bool)> {
+    let exe = std::env::current_exe().map_err(|e| Error::Usage(format!("bench: {e}")))?;
+    let started = Instant::now();
+    let mut child = Command::new(exe)
+        .arg("fit")
+        .arg(spec)
+        .arg("--json")
+        .stdin(Stdio::null())
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .spawn()
+        .map_err(|e| Error::Usage(format!("bench: could not start `sharecast fit`: {e}")))?;
+    let status_path = format!("/proc/{}/status", child.id());
+    let mut peak = None;
+    let status = loop {
+        if let Ok(s) = std::fs::read_to_string(&status_path) {
+            if let Some(b) = status_bytes(&s, "VmHWM") {
+                peak = Some(peak.map_or(b, |p: u64| p.max(b)));
+            }
+        }
+        match child.try_wait() {
+            Ok(Some(st)) => break st,
+            Ok(None) => std::thread::sleep(Duration::from_millis(2)),
+            Err(e) => return Err(Error::Usage(format!("bench: waiting for the fit: {e}"))),
+        }
+    };
+    Ok((started.elapsed().as_secs_f64(), peak, status.success()))
+}
+
+fn mb(b: Option<u64>) -> String {
+    b.map(|b| format!("{:.0} MB", b as f64 / 1e6))
+        .unwrap_or_else(|| "n/a".into())
+}
+
+fn ms(s: f64) -> String {
+    if s < 1.0 {
+        format!("{:.1} ms", s * 1e3)
+    } else {
+        format!("{:.2} s", s)
+    }
+}
+
+pub fn run(args: BenchArgs) -> Result<ExitCode> {
+    let process_start = Instant::now();
+    if args.situations == 0 {
+        return Err(Error::Usage("--situations must be at least 1".into()));
+    }
+    let temp = args.keep.is_none();
+    let dir = match &args.keep {
+        Some(d) => d.clone(),
+        None => std::env::temp_dir().join(format!("sharecast-bench-{}", std::process::id())),
+    };
+    let t = Instant::now();
+    let spec_path = write_set(&dir, args.model, args.situations)?;
+    let generate_s = t.elapsed().as_secs_f64();
+    if args.write_only {
+        println!(
+            "wrote {} and {} ({} situations, {} model, {:.1} s)",
+            dir.join("bench.csv").display(),
+            spec_path.display(),
+            args.situations,
+            args.model.label(),
+            generate_s
+        );
+        return Ok(ExitCode::SUCCESS);
+    }
+    let result = measure(&args, &spec_path, generate_s, process_start);
+    if temp {
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+    result
+}
+
+fn measure(
+    args: &BenchArgs,
+    spec_path: &Path,
+    generate_s: f64,
+    process_start: Instant,
+) -> Result<ExitCode> {
+    let csv_bytes = std::fs::metadata(spec_path.with_file_name("bench.csv"))
+        .map(|m| m.len())
+        .unwrap_or(0);
+    let peak_before = peak_memory();
+    let spec = Spec::from_file(spec_path)?;
+    let t = Instant::now();
+    let ds = data::load(&spec, &Extra::default())?;
+    let load_s = t.elapsed().as_secs_f64();
+    let peak_load = peak_memory();
+    let t = Instant::now();
+    let fit = crate::cli::fit_quietly(&spec, ds)?;
+    let fit_s = t.elapsed().as_secs_f64();
+    let peak_fit = peak_memory();
+    let in_process_s = process_start.elapsed().as_secs_f64() - generate_s;
+
+    let d = &fit.design;
+    let kind = Kind {
+        family: spec.family,
+        base: spec.base,
+    };
+    let beta = &fit.beta;
+    let reps = args.repeats.max(1);
+    let mut grad_t = Vec::new();
+    let mut hess_t = Vec::new();
+    let mut ll_check = 0.0;
+    for _ in 0..reps {
+        let t = Instant::now();
+        let e = evaluate(d, kind, beta, true, false);
+        grad_t.push(t.elapsed().as_secs_f64());
+        ll_check = std::hint::black_box(e.ll);
+    }
+    for _ in 0..reps.div_ceil(2) {
+        let t = Instant::now();
+        let e = evaluate(d, kind, beta, true, true);
+        hess_t.push(t.elapsed().as_secs_f64());
+        std::hint::black_box(e.ll);
+    }
+    let mut stream_t = Vec::new();
+    for _ in 0..reps {
+        let t = Instant::now();
+        std::hint::black_box(stream_once(d));
+        stream_t.push(t.elapsed().as_secs_f64());
+    }
+    let pass_s = median(grad_t);
+    let hess_s = median(hess_t);
+    let stream_s = median(stream_t);
+    let bytes = pass_bytes(d);
+    let process = if args.no_process {
+        None
+    } else {
+        Some(time_process(spec_path)?)
+    };
+
+    let truth = truth(args.model);
+    let fit_rows: Vec<serde_json::Value> = fit
+        .parameters
+        .iter()
+        .map(|p| {
+            let t = truth
+                .iter()
+                .find(|t| t.0 == p.name)
+                .map(|t| t.1)
+                .unwrap_or(f64::NAN);
+            json!({"name": p.name, "true": t, "estimate": p.estimate, "std_error": p.std_error})
+        })
+        .collect();
+    let max_z = fit
+        .parameters
+        .iter()
+        .filter_map(|p| {
+            let t = truth.iter().find(|t| t.0 == p.name)?.1;
+            Some(((p.estimate - t) / p.std_error).abs())
+        })
+        .fold(0.0, f64::max);
+    let threads = std::thread::available_parallelism()
+        .map(|t| t.get())
+        .unwrap_or(1);
+    let s = &fit.stats;
+    let doc = json!({
+        "situations": d.situations(),
+        "alternatives": d.alternatives(),
+        "parameters": d.params,
+        "model": args.model.label(),
+        "threads": threads,
+        "csv_bytes": csv_bytes,
+        "generate_seconds": generate_s,
+        "load_seconds": load_s,
+        "fit_seconds": fit_s,
+        "load_and_fit_seconds": in_process_s,
+        "pass_seconds": pass_s,
+        "hessian_pass_seconds": hess_s,
+        "stream_seconds": stream_s,
+        "pass_bytes": bytes,
+        "pass_over_stream": pass_s / stream_s,
+        "passes": s.passes,
+        "bfgs_iterations": s.iterations,
+        "newton_steps": s.newton_steps,
+        "converged": s.converged,
+        "log_likelihood": s.log_likelihood,
+        "log_likelihood_recheck": ll_check,
+        "peak_memory_bytes_before_load": peak_before,
+        "peak_memory_bytes_after_load": peak_load,
+        "peak_memory_bytes": peak_fit,
+        "process_seconds": process.map(|p| p.0),
+        "process_peak_memory_bytes": process.and_then(|p| p.1),
+        "process_succeeded": process.map(|p| p.2),
+        "max_abs_z_vs_truth": max_z,
+        "estimates": fit_rows,
+    });
+    if args.json {
+        println!("{}", serde_json::to_string_pretty(&doc).unwrap_or_default());
+        return Ok(ExitCode::SUCCESS);
+    }
+    let n = d.situations();
+    println!(
+        "sharecast bench: {} situations x {} alternatives, {} parameters ({} model), {} threads",
+        n,
+        d.alternatives(),
+        d.params,
+        args.model.label(),
+        threads
+    );
+    println!();
+    let rows: Vec<(&str, String)> = vec![
+        (
+            "simulate and write the CSV",
+            format!("{} ({:.0} MB)", ms(generate_s), csv_bytes as f64 / 1e6),
+        ),
+        ("load the CSV (data::load)", ms(load_s)),
+        (
+            "fit (estimate::fit, all of it)",
+            format!(
+                "{}  ({} passes: {} quasi-Newton iterations, {} Newton steps)",
+                ms(fit_s),
+                s.passes,
+                s.iterations,
+                s.newton_steps
+            ),
+        ),
+        ("load + fit in this process", ms(in_process_s)),
+        (
+            "likelihood + gradient pass",
+            format!("{}  (median of {reps})", ms(pass_s)),
+        ),
+        ("likelihood + gradient + Hessian", ms(hess_s)),
+        (
+            "stream the pass's bytes once",
+            format!(
+                "{}  ({:.0} MB, {:.1} GB/s)",
+                ms(stream_s),
+                bytes as f64 / 1e6,
+                bytes as f64 / stream_s / 1e9
+            ),
+        ),
+        ("pass / stream", format!("{:.2}x", pass_s / stream_s)),
+        (
+            "peak memory (VmHWM, this process)",
+            format!(
+                "{}  (before load {}, after load {})",
+                mb(peak_fit),
+                mb(peak_before),
+                mb(peak_load)
+            ),
+        ),
+    ];
+    let mut rows = rows;
+    if let Some((wall, peak, ok)) = process {
+        rows.push((
+            "`sharecast fit` as a process",
+            format!(
+                "{} wall, peak {}{}",
+                ms(wall),
+                mb(peak),
+                if ok { "" } else { "  (it FAILED)" }
+            ),
+        ));
+    }
+    rows.push((
+        "log-likelihood at the estimates",
+        format!(
+            "{:.4}  (converged: {})",
+            s.log_likelihood,
+            if s.converged { "yes" } else { "no" }
+        ),
+    ));
+    rows.push(("largest |estimate - truth| / s.e.", format!("{max_z:.2}")));
+    let width = rows.iter().map(|r| r.0.len()).max().unwrap_or(0);
+    for (k, v) in rows {
+        println!("  {k:<width$}  {v}");
+    }
+    Ok(ExitCode::SUCCESS)
+}

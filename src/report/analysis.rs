@@ -1,0 +1,269 @@
+//! The analysis sections of the terminal report: elasticity and diversion
+//! matrices, marginal effects, value ratios, validation and tests.
+
+use std::fmt::Write;
+
+use crate::analysis::Analysis;
+use crate::spec::Spec;
+
+/// Decimals that show about three significant digits of `v`.
+fn decimals(v: f64) -> usize {
+    if v == 0.0 || !v.is_finite() {
+        return 3;
+    }
+    (2 - v.abs().log10().floor() as i32).clamp(3, 7) as usize
+}
+
+fn cell(v: f64, se: f64) -> String {
+    if v.is_nan() {
+        return "·".to_string();
+    }
+    let d = decimals(v);
+    if se.is_nan() {
+        format!("{v:.d$}")
+    } else {
+        format!("{v:.d$}±{se:.d$}")
+    }
+}
+
+/// A matrix with row labels, column labels and pre-formatted cells.
+fn matrix(
+    s: &mut String,
+    corner: &str,
+    rows: &[String],
+    cols: &[String],
+    cells: &dyn Fn(usize, usize) -> String,
+) {
+    let w = cols
+        .iter()
+        .map(|c| c.chars().count())
+        .chain(
+            (0..rows.len())
+                .flat_map(|r| (0..cols.len()).map(move |c| (r, c)))
+                .map(|(r, c)| cells(r, c).chars().count()),
+        )
+        .max()
+        .unwrap_or(6)
+        + 2;
+    let lw = rows
+        .iter()
+        .map(|r| r.chars().count())
+        .chain([corner.chars().count()])
+        .max()
+        .unwrap_or(8)
+        + 2;
+    let _ = write!(s, "  {corner:<lw$}");
+    for c in cols {
+        let _ = write!(s, "{c:>w$}");
+    }
+    let _ = writeln!(s);
+    for (r, label) in rows.iter().enumerate() {
+        let _ = write!(s, "  {label:<lw$}");
+        for c in 0..cols.len() {
+            let _ = write!(s, "{:>w$}", cells(r, c));
+        }
+        let _ = writeln!(s);
+    }
+}
+
+pub fn sections(spec: &Spec, a: &Analysis) -> String {
+    let mut s = String::new();
+    let names = spec.alternative_names();
+    let _ = writeln!(
+        s,
+        "elasticities of predicted shares (sample enumeration, weighted; ± delta-method s.e.)"
+    );
+    for attr in &spec.attributes {
+        let rows: Vec<&crate::analysis::ElasticityRow> = a
+            .elasticities
+            .iter()
+            .filter(|e| e.variable == attr.name)
+            .collect();
+        let changed: Vec<String> = names
+            .iter()
+            .filter(|n| {
+                rows.iter()
+                    .any(|e| e.changed.as_deref() == Some(n.as_str()))
+            })
+            .cloned()
+            .collect();
+        let _ = writeln!(
+            s,
+            "  {} of the row's alternative changes → share of the column's alternative",
+            attr.name
+        );
+        matrix(&mut s, "changed \\ share", &changed, &names, &|r, c| {
+            rows.iter()
+                .find(|e| {
+                    e.changed.as_deref() == Some(changed[r].as_str()) && e.affected == names[c]
+                })
+                .map(|e| cell(e.value, e.std_error))
+                .unwrap_or_default()
+        });
+    }
+    if !spec.characteristics.is_empty() {
+        let vars: Vec<String> = spec
+            .characteristics
+            .iter()
+            .map(|c| c.name.clone())
+            .collect();
+        let _ = writeln!(
+            s,
+            "  characteristics (the decision maker's value changes) → share"
+        );
+        matrix(&mut s, "variable \\ share", &vars, &names, &|r, c| {
+            a.elasticities
+                .iter()
+                .find(|e| e.variable == vars[r] && e.changed.is_none() && e.affected == names[c])
+                .map(|e| cell(e.value, e.std_error))
+                .unwrap_or_default()
+        });
+        let _ = writeln!(
+            s,
+            "\naverage marginal effects dP/dz of characteristics (± s.e.)"
+        );
+        matrix(&mut s, "variable \\ share", &vars, &names, &|r, c| {
+            a.marginal_effects
+                .iter()
+                .find(|e| e.variable == vars[r] && e.changed.is_none() && e.alternative == names[c])
+                .map(|e| cell(e.value, e.std_error))
+                .unwrap_or_default()
+        });
+    }
+    let own: Vec<&crate::analysis::ElasticityRow> = a
+        .elasticities
+        .iter()
+        .filter(|e| e.changed.as_deref() == Some(e.affected.as_str()))
+        .collect();
+    if !own.is_empty() {
+        let _ = writeln!(
+            s,
+            "\nown elasticities, point and arc ({:+.0}% change by re-simulation)",
+            100.0 * a.arc_change
+        );
+        for e in own {
+            let _ = writeln!(
+                s,
+                "  {:<12} {:<14} point {:>9.4}   arc {:>9.4}",
+                e.variable, e.affected, e.value, e.arc
+            );
+        }
+    }
+    if !a.ratios.is_empty() {
+        let _ = writeln!(
+            s,
+            "\nvalue ratios            value      s.e.   delta 95%               Krinsky-Robb 95%"
+        );
+        for r in &a.ratios {
+            let _ = writeln!(
+                s,
+                "  {:<18}{:>10.4}{:>10.4}   {:>9.4} … {:<9.4}   {:>9.4} … {:<9.4} ({} draws, seed {})",
+                r.name, r.value, r.std_error, r.ci_low, r.ci_high, r.kr_low, r.kr_high, r.draws, r.seed
+            );
+        }
+    }
+    if !a.diversion.is_empty() {
+        let removed: Vec<String> = names
+            .iter()
+            .filter(|n| a.diversion.iter().any(|d| &d.removed == *n))
+            .cloned()
+            .collect();
+        let _ = writeln!(
+            s,
+            "\ndiversion on withdrawal: share of the row's demand that moves to each column"
+        );
+        matrix(&mut s, "removed \\ to", &removed, &names, &|r, c| {
+            if removed[r] == names[c] {
+                return "—".into();
+            }
+            a.diversion
+                .iter()
+                .find(|d| d.removed == removed[r] && d.to == names[c])
+                .map(|d| format!("{:.3}", d.share))
+                .unwrap_or_default()
+        });
+    }
+    if let Some(first) = a.price_diversion.first() {
+        let changed: Vec<String> = names
+            .iter()
+            .filter(|n| a.price_diversion.iter().any(|d| &d.changed == *n))
+            .cloned()
+            .collect();
+        let _ = writeln!(
+            s,
+            "\n{} diversion ratios -(dQ_to/dx)/(dQ_row/dx) for a change in the row's {}",
+            first.attribute, first.attribute
+        );
+        matrix(&mut s, "changed \\ to", &changed, &names, &|r, c| {
+            if changed[r] == names[c] {
+                return "—".into();
+            }
+            a.price_diversion
+                .iter()
+                .find(|d| d.changed == changed[r] && d.to == names[c])
+                .map(|d| format!("{:.3}", d.ratio))
+                .unwrap_or_default()
+        });
+    }
+    let v = &a.validation;
+    let _ = writeln!(
+        s,
+        "\nvalidation: hit rate {:.4} (most probable alternative chosen), mean probability of the choice {:.4}",
+        v.hit_rate, v.mean_chosen_probability
+    );
+    if let Some(h) = &v.holdout {
+        let _ = writeln!(
+            s,
+            "  hold-out: {} situations scored by a fit on the other {}; log-likelihood {:.4} (equal shares {:.4})",
+            h.situations, h.estimation_situations, h.log_likelihood, h.null_log_likelihood
+        );
+        for r in &h.shares {
+            let _ = writeln!(
+                s,
+                "    {:<16} observed {:.4}   predicted {:.4}",
+                r.alternative, r.observed, r.predicted
+            );
+        }
+    }
+    if !a.segments.is_empty() {
+        let _ = writeln!(
+            s,
+            "  by segment        alternative        n   observed  predicted"
+        );
+        for r in &a.segments {
+            let _ = writeln!(
+                s,
+                "    {:<16}{:<16}{:>6}{:>11.4}{:>11.4}",
+                r.segment, r.alternative, r.situations, r.observed, r.predicted
+            );
+        }
+    }
+    for t in a.wald.iter() {
+        let _ = writeln!(
+            s,
+            "\n{}: statistic {:.4}, {} df, p {}",
+            t.name,
+            t.statistic,
+            t.df,
+            super::pval(t.p_value)
+        );
+    }
+    if let Some(t) = &a.iia {
+        let _ = writeln!(
+            s,
+            "\nIIA (Hausman-McFadden, `{}` dropped): statistic {:.4}, {} df, p {}  — compared {}",
+            t.dropped,
+            t.statistic,
+            t.df,
+            super::pval(t.p_value),
+            t.compared.join(", ")
+        );
+        if let Some(n) = &t.note {
+            let _ = writeln!(s, "  note: {n}");
+        }
+    }
+    for w in &a.warnings {
+        let _ = writeln!(s, "  ! {w}");
+    }
+    s
+}

@@ -3,16 +3,16 @@
 
 pub mod analysis;
 pub mod bench;
+pub mod cli;
 pub mod data;
+pub mod demo;
 pub mod design;
 pub mod error;
 pub mod estimate;
-pub mod rng;
-pub mod spec;
-// pub mod scenario;
-pub mod cli;
-pub mod demo;
 pub mod report;
+pub mod rng;
+pub mod scenario;
+pub mod spec;
 // pub mod tui;
 
 pub use error::{Error, Result};

@@ -3,6 +3,7 @@
 
 mod comparecmd;
 mod fitcmd;
+mod simcmd;
 
 use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
@@ -36,6 +37,10 @@ pub enum Command {
     Fit(fitcmd::FitArgs),
     /// Fit several specs and compare them side by side (LR tests where nested).
     Compare(comparecmd::CompareArgs),
+    /// Forecast shares under a scenario (what-if), with uncertainty bands.
+    Simulate(simcmd::SimulateArgs),
+    /// Shares over a range of one attribute of one alternative (a demand curve).
+    Sweep(simcmd::SweepArgs),
     /// Write the invented demo data sets into a folder.
     DemoData {
         /// Target folder.
@@ -79,6 +84,8 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
         }
         Command::Fit(args) => fitcmd::run(args),
         Command::Compare(args) => comparecmd::run(args),
+        Command::Simulate(args) => simcmd::simulate(args),
+        Command::Sweep(args) => simcmd::sweep(args),
         Command::DemoData { dir, force } => {
             crate::demo::write_all(&dir, force)?;
             println!(

@@ -136,7 +136,23 @@ pub fn read(path: &Path, numeric: &[String], text: &[String]) -> Result<Table> {
         let col = df.column(name).map_err(|e| polars_err(path, e))?;
         let series = col.as_materialized_series();
         let converted = if is_text(name) {
-            TCol::Text(text_values(series).map_err(|e| polars_err(path, e))?)
+            let t = text_values(series).map_err(|e| polars_err(path, e))?;
+            // A column wanted both ways (a segment that a filter also reads) stays numeric when it can.
+            let parsed: Option<Vec<f64>> = numeric
+                .contains(name)
+                .then(|| {
+                    t.iter()
+                        .map(|v| match v {
+                            None => Some(f64::NAN),
+                            Some(x) => x.trim().parse::<f64>().ok(),
+                        })
+                        .collect()
+                })
+                .flatten();
+            match parsed {
+                Some(v) => TCol::Num(v),
+                None => TCol::Text(t),
+            }
         } else {
             TCol::Num(numeric_values(series).map_err(|e| polars_err(path, e))?)
         };

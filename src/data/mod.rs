@@ -136,7 +136,6 @@ pub fn needed_columns(spec: &Spec, extra: &Extra) -> (Vec<String>, Vec<String>) 
     for c in &extra.numeric {
         add(&mut numeric, c);
     }
-    let numeric = numeric.into_iter().filter(|c| !text.contains(c)).collect();
     (numeric, text)
 }
 

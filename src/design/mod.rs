@@ -143,6 +143,38 @@ impl Design {
         self.obs.weight.iter().sum()
     }
 
+    /// Runs `f(range, accumulator)` on one contiguous range of situations per core,
+    /// each with its own zeroed accumulator of length `width`, and returns their sum.
+    pub fn par_fold<F>(&self, width: usize, f: F) -> Vec<f64>
+    where
+        F: Fn(std::ops::Range<usize>, &mut [f64]) + Sync,
+    {
+        let run = |r: std::ops::Range<usize>| {
+            let mut acc = vec![0.0; width];
+            f(r, &mut acc);
+            acc
+        };
+        let chunks = self.chunks();
+        let parts: Vec<Vec<f64>> = if chunks.len() <= 1 {
+            chunks.into_iter().map(run).collect()
+        } else {
+            std::thread::scope(|s| {
+                let hs: Vec<_> = chunks
+                    .into_iter()
+                    .map(|r| s.spawn(move || run(r)))
+                    .collect();
+                hs.into_iter()
+                    .map(|h| h.join().unwrap_or_else(|e| std::panic::resume_unwind(e)))
+                    .collect()
+            })
+        };
+        let mut out = vec![0.0; width];
+        for p in parts {
+            out.iter_mut().zip(&p).for_each(|(a, b)| *a += b);
+        }
+        out
+    }
+
     /// Split of `0..situations` into one contiguous range per core.
     pub fn chunks(&self) -> Vec<std::ops::Range<usize>> {
         let n = self.situations();

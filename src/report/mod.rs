@@ -4,6 +4,7 @@
 pub mod analysis;
 pub mod check;
 pub mod compare;
+pub mod forecast;
 pub mod json;
 pub mod text;
 

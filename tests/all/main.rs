@@ -9,4 +9,5 @@ mod fit_cli;
 mod layouts;
 mod recovery;
 mod references;
+mod scenarios;
 mod spec_errors;

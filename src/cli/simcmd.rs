@@ -1,0 +1,155 @@
+//! `sharecast simulate` (what-if forecasts) and `sharecast sweep` (demand curves).
+
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+use clap::Args;
+
+use crate::data::{self, Extra};
+use crate::error::{Error, Result};
+use crate::report;
+use crate::scenario::{self, export, prepare, Market, Scenario};
+use crate::spec::Spec;
+
+#[derive(Args, Debug)]
+pub struct SimulateArgs {
+    pub spec: PathBuf,
+    /// The scenario file (TOML; see docs/scenarios.md).
+    #[arg(long)]
+    pub scenario: PathBuf,
+    /// Forecast over another data file with the same columns instead of the estimation data.
+    #[arg(long, value_name = "FILE")]
+    pub data: Option<PathBuf>,
+    /// Report shares per value of this column too.
+    #[arg(long, value_name = "COLUMN")]
+    pub by: Option<String>,
+    /// Parameter draws for the uncertainty bands (0 = none).
+    #[arg(long, default_value_t = 1000)]
+    pub draws: usize,
+    #[arg(long, default_value_t = 7)]
+    pub seed: u64,
+    /// Market size: a number of choices, or `weights` to read the weight column as demand units.
+    #[arg(long, value_name = "N|weights")]
+    pub market: Option<String>,
+    /// Print the forecast as JSON.
+    #[arg(long)]
+    pub json: bool,
+    /// Write the forecast (.csv, .parquet: tidy table; .json: the JSON document).
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+    /// With --out: write each situation's base and scenario probabilities instead.
+    #[arg(long)]
+    pub per_situation: bool,
+    /// Replace an existing --out file.
+    #[arg(long)]
+    pub force: bool,
+}
+
+#[derive(Args, Debug)]
+pub struct SweepArgs {
+    pub spec: PathBuf,
+    #[arg(long)]
+    pub attribute: String,
+    #[arg(long)]
+    pub alternative: String,
+    /// First multiplier of the attribute.
+    #[arg(long, default_value_t = 0.5)]
+    pub from: f64,
+    /// Last multiplier.
+    #[arg(long, default_value_t = 1.5)]
+    pub to: f64,
+    #[arg(long, default_value_t = 11)]
+    pub steps: usize,
+    #[arg(long)]
+    pub json: bool,
+}
+
+fn market(text: &Option<String>) -> Result<Option<Market>> {
+    match text.as_deref() {
+        None => Ok(None),
+        Some("weights") => Ok(Some(Market::Weights)),
+        Some(t) => t
+            .parse::<f64>()
+            .ok()
+            .filter(|v| *v > 0.0 && v.is_finite())
+            .map(|v| Some(Market::Total(v)))
+            .ok_or_else(|| {
+                Error::Usage(format!(
+                    "--market: `{t}` is neither a positive number nor `weights`"
+                ))
+            }),
+    }
+}
+
+pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
+    let spec = Spec::from_file(&args.spec)?;
+    let sc = Scenario::from_file(&args.scenario, &spec)?;
+    let market = market(&args.market)?;
+    if let Some(out) = &args.out {
+        crate::data::write::check_overwrite(out, args.force)?;
+    }
+    // The fit uses the estimation data; the forecast may run over another file.
+    let extra = Extra {
+        numeric: sc.columns(),
+        text: args.by.iter().cloned().collect(),
+    };
+    let est = data::load(&spec, &extra)?;
+    let fit = super::fit_quietly(&spec, &est)?;
+    let (fit, ds) = match &args.data {
+        None => (fit, est),
+        Some(file) => {
+            let other = data::load_file(&spec, file, &extra)?;
+            let design =
+                crate::design::Design::build(&spec, std::sync::Arc::new(other.obs.clone()));
+            (crate::estimate::Fit { design, ..fit }, other)
+        }
+    };
+    let opts = scenario::Options {
+        draws: args.draws,
+        seed: args.seed,
+        by: args.by.clone(),
+        market,
+    };
+    let f = scenario::forecast(&spec, &fit, &ds, &sc, &opts)?;
+    if let Some(out) = &args.out {
+        if args.per_situation {
+            let prep = prepare::prepare(&spec, &fit.design, &ds.table, &sc)?;
+            let (beta, _) = scenario::base_parameters(&spec, &fit, &sc)?;
+            export::per_situation(out, args.force, &fit.design, fit.kind, &beta, &prep)?;
+        } else {
+            export::forecast(out, args.force, &f)?;
+        }
+    }
+    if args.json {
+        println!("{}", serde_json::to_string_pretty(&f).unwrap_or_default());
+    } else {
+        print!("{}", report::forecast::text(&f));
+        println!();
+        print!("{}", report::text::closing(&spec));
+        if let Some(out) = &args.out {
+            println!("wrote {}", out.display());
+        }
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+pub fn sweep(args: SweepArgs) -> Result<ExitCode> {
+    let (spec, ds) = super::open(&args.spec, &Extra::default())?;
+    let fit = super::fit_quietly(&spec, &ds)?;
+    let req = scenario::sweep::Request {
+        attribute: args.attribute.clone(),
+        alternative: args.alternative.clone(),
+        from: args.from,
+        to: args.to,
+        steps: args.steps,
+    };
+    let sw = scenario::sweep::sweep(&spec, &fit, &ds, &req)?;
+    if args.json {
+        println!("{}", serde_json::to_string_pretty(&sw).unwrap_or_default());
+    } else {
+        print!("{}", report::forecast::sweep(&sw));
+        println!();
+        print!("{}", report::text::closing(&spec));
+    }
+    Ok(ExitCode::SUCCESS)
+}

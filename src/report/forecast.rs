@@ -1,0 +1,124 @@
+//! The terminal report of `sharecast simulate` and `sharecast sweep`.
+
+use std::fmt::Write;
+
+use crate::scenario::sweep::Sweep;
+use crate::scenario::Forecast;
+
+pub fn text(f: &Forecast) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "━━ sharecast forecast ━━ {}", f.scenario);
+    let bands = if f.draws > 0 {
+        format!(
+            "95% bands from {} parameter draws (seed {})",
+            f.draws, f.seed
+        )
+    } else {
+        "no uncertainty bands (0 draws)".to_string()
+    };
+    let _ = writeln!(
+        s,
+        "{} situations by sample enumeration · {bands}",
+        f.situations
+    );
+    if let Some(c) = &f.calibration {
+        let _ = writeln!(
+            s,
+            "\nconstants calibrated to target shares in {} iterations (largest gap {:.1e})",
+            c.iterations, c.max_error
+        );
+        let _ = writeln!(
+            s,
+            "  alternative      parameter         target   estimated  calibrated   share before"
+        );
+        for r in &c.rows {
+            let _ = writeln!(
+                s,
+                "  {:<16} {:<16} {:>7.4} {:>11.4} {:>11.4} {:>14.4}",
+                r.alternative, r.parameter, r.target, r.estimated, r.calibrated, r.share_before
+            );
+        }
+    }
+    let volumes = f.market.is_some();
+    let revenue = f.shares.iter().any(|r| r.base_revenue.is_some());
+    let _ = writeln!(
+        s,
+        "\n  alternative          base   scenario     change   relative    scenario 95%          change 95%{}{}",
+        if volumes { "          volume before → after" } else { "" },
+        if revenue { "          revenue before → after" } else { "" }
+    );
+    for r in &f.shares {
+        let relative = if r.relative_change.is_finite() {
+            format!("{:+.1}%", 100.0 * r.relative_change)
+        } else {
+            "new".to_string()
+        };
+        let mut line = format!(
+            "  {:<16}{:>9.4}{:>11.4}{:>+11.4}{:>11}   {:>7.4} … {:<7.4}   {:>+8.4} … {:<+8.4}",
+            r.alternative,
+            r.base,
+            r.scenario,
+            r.change,
+            relative,
+            r.low,
+            r.high,
+            r.change_low,
+            r.change_high
+        );
+        if let (Some(b), Some(a)) = (r.base_volume, r.scenario_volume) {
+            let _ = write!(line, "   {b:>12.1} → {a:<12.1}");
+        }
+        if let (Some(b), Some(a)) = (r.base_revenue, r.scenario_revenue) {
+            let _ = write!(line, "   {b:>12.1} → {a:<12.1}");
+        }
+        let _ = writeln!(s, "{}", line.trim_end());
+    }
+    if !f.switching.is_empty() {
+        let _ = writeln!(s, "\nswitching: share of all demand that moves (losses paired with gains within each situation)");
+        for r in &f.switching {
+            if r.share >= 5e-5 {
+                let _ = writeln!(s, "  {:<16} → {:<16} {:>9.4}", r.from, r.to, r.share);
+            }
+        }
+    }
+    if !f.segments.is_empty() {
+        let _ = writeln!(
+            s,
+            "\nby {}        alternative          n       base   scenario     change    scenario 95%",
+            f.segment_column.as_deref().unwrap_or("segment")
+        );
+        for r in &f.segments {
+            let _ = writeln!(
+                s,
+                "  {:<14}{:<16}{:>7}{:>11.4}{:>11.4}{:>+11.4}   {:.4} … {:.4}",
+                r.segment, r.alternative, r.situations, r.base, r.scenario, r.change, r.low, r.high
+            );
+        }
+    }
+    for w in &f.warnings {
+        let _ = writeln!(s, "  ! {w}");
+    }
+    s
+}
+
+pub fn sweep(sw: &Sweep) -> String {
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "━━ sharecast demand curve ━━ {} of {} multiplied",
+        sw.attribute, sw.alternative
+    );
+    let _ = write!(s, "  {:>10}", "multiplier");
+    for a in &sw.alternatives {
+        let _ = write!(s, "{a:>12}");
+    }
+    let _ = writeln!(s);
+    for p in &sw.points {
+        let _ = write!(s, "  {:>10.4}", p.multiplier);
+        for v in &p.shares {
+            let _ = write!(s, "{v:>12.4}");
+        }
+        let _ = writeln!(s);
+    }
+    s
+}

@@ -1,0 +1,113 @@
+//! Constant calibration: adjust the alternative-specific constants so that
+//! predicted base shares match known market shares, iterating
+//! asc_j += ln(target_j / predicted_j) with the base alternative held at 0.
+
+use serde::Serialize;
+
+use crate::analysis::simulate::shares;
+use crate::design::Design;
+use crate::error::{Error, Result};
+use crate::estimate::likelihood::Kind;
+use crate::spec::{Spec, Term};
+
+#[derive(Clone, Debug, Serialize)]
+pub struct CalibrationRow {
+    pub alternative: String,
+    pub parameter: String,
+    pub target: f64,
+    pub estimated: f64,
+    pub calibrated: f64,
+    pub share_before: f64,
+    pub share_after: f64,
+}
+
+#[derive(Clone, Debug, Serialize)]
+pub struct Calibrated {
+    pub iterations: usize,
+    pub max_error: f64,
+    pub rows: Vec<CalibrationRow>,
+    #[serde(skip)]
+    pub beta: Vec<f64>,
+}
+
+pub fn calibrate(
+    spec: &Spec,
+    d: &Design,
+    kind: Kind,
+    beta: &[f64],
+    targets: &[(usize, f64)],
+    tol: f64,
+    max_iterations: usize,
+) -> Result<Calibrated> {
+    let mut b = beta.to_vec();
+    let mut params = Vec::new();
+    for &(j, t) in targets {
+        if j == spec.base {
+            continue;
+        }
+        let p = spec
+            .parameters
+            .iter()
+            .position(|p| p.term == Term::Constant && p.alternative == Some(j))
+            .ok_or_else(|| {
+                Error::Usage(format!(
+                    "calibration: `{}` has no constant to adjust",
+                    spec.alternatives[j].name
+                ))
+            })?;
+        params.push((j, p, t));
+    }
+    let before = shares(d, kind, &b);
+    for &(j, _, _) in &params {
+        if before[j] <= 0.0 {
+            return Err(Error::Usage(format!(
+                "calibration: `{}` is never available, so its share cannot be matched",
+                spec.alternatives[j].name
+            )));
+        }
+    }
+    let mut iterations = 0;
+    let mut s = before.clone();
+    let err = |s: &[f64]| {
+        targets
+            .iter()
+            .map(|&(j, t)| (s[j] - t).abs())
+            .fold(0.0, f64::max)
+    };
+    while err(&s) > tol {
+        if iterations >= max_iterations {
+            return Err(Error::Usage(format!(
+                "calibration did not reach the targets within {max_iterations} iterations (largest gap {:.2e}); are the targets attainable with the availabilities in the data?",
+                err(&s)
+            )));
+        }
+        for &(j, p, t) in &params {
+            b[p] += (t / s[j]).ln();
+        }
+        s = shares(d, kind, &b);
+        iterations += 1;
+    }
+    let rows = targets
+        .iter()
+        .map(|&(j, t)| {
+            let p = params.iter().find(|x| x.0 == j).map(|x| x.1);
+            CalibrationRow {
+                alternative: spec.alternatives[j].name.clone(),
+                parameter: p
+                    .map(|p| spec.parameters[p].name.clone())
+                    .unwrap_or_else(|| "(base, held at 0)".into()),
+                target: t,
+                estimated: p.map(|p| beta[p]).unwrap_or(0.0),
+                calibrated: p.map(|p| b[p]).unwrap_or(0.0),
+                share_before: before[j],
+                share_after: s[j],
+            }
+        })
+        .collect();
+    Ok(Calibrated {
+        iterations,
+        max_error: err(&s),
+        rows,
+        beta: b,
+    })
+}

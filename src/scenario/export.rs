@@ -1,0 +1,149 @@
+//! Exports of a forecast: a tidy table (one row per segment and alternative)
+//! as CSV, Parquet or JSON, or each situation's probabilities. Files are
+//! written atomically and never replace an existing file without `force`.
+
+use std::path::Path;
+
+use super::prepare::Prepared;
+use super::Forecast;
+use crate::data::write::{self, Values};
+use crate::design::Design;
+use crate::error::{Error, Result};
+use crate::estimate::likelihood::{probabilities_from_utilities, Kind};
+
+fn ext(path: &Path) -> String {
+    path.extension()
+        .and_then(|e| e.to_str())
+        .unwrap_or("")
+        .to_ascii_lowercase()
+}
+
+/// The tidy columns: segment, alternative, base, scenario, change, low, high.
+pub fn tidy(f: &Forecast) -> Vec<(String, Values)> {
+    let mut seg = Vec::new();
+    let mut alt = Vec::new();
+    let mut cols: [Vec<f64>; 5] = Default::default();
+    for r in &f.shares {
+        seg.push("all".to_string());
+        alt.push(r.alternative.clone());
+        for (c, v) in cols
+            .iter_mut()
+            .zip([r.base, r.scenario, r.change, r.low, r.high])
+        {
+            c.push(v);
+        }
+    }
+    for r in &f.segments {
+        seg.push(r.segment.clone());
+        alt.push(r.alternative.clone());
+        for (c, v) in cols
+            .iter_mut()
+            .zip([r.base, r.scenario, r.change, r.low, r.high])
+        {
+            c.push(v);
+        }
+    }
+    let [b, s, c, l, h] = cols;
+    vec![
+        ("segment".into(), Values::Text(seg)),
+        ("alternative".into(), Values::Text(alt)),
+        ("base".into(), Values::Num(b)),
+        ("scenario".into(), Values::Num(s)),
+        ("change".into(), Values::Num(c)),
+        ("low".into(), Values::Num(l)),
+        ("high".into(), Values::Num(h)),
+    ]
+}
+
+/// Writes the forecast to `path` (.csv, .parquet or .json).
+pub fn forecast(path: &Path, force: bool, f: &Forecast) -> Result<()> {
+    match ext(path).as_str() {
+        "json" => write::text(
+            path,
+            force,
+            &(serde_json::to_string_pretty(f).unwrap_or_default() + "\n"),
+        ),
+        "csv" | "parquet" => write::table(path, force, &tidy(f)),
+        _ => Err(Error::io(
+            path,
+            "exports are written as .csv, .parquet or .json",
+        )),
+    }
+}
+
+/// Each situation's base and scenario probabilities (one row per situation).
+pub fn per_situation(
+    path: &Path,
+    force: bool,
+    d: &Design,
+    kind: Kind,
+    beta: &[f64],
+    prep: &Prepared,
+) -> Result<()> {
+    let j = d.alternatives();
+    let m = prep.alternatives();
+    let n = d.situations();
+    let mut base: Vec<Vec<f64>> = vec![Vec::with_capacity(n); m];
+    let mut scen: Vec<Vec<f64>> = vec![Vec::with_capacity(n); m];
+    let mut v = vec![0.0; j];
+    let mut v1 = vec![0.0; m];
+    let mut p0 = vec![0.0; j];
+    let mut p1 = vec![0.0; m];
+    for i in 0..n {
+        d.utilities(beta, i, &mut v);
+        probabilities_from_utilities(kind, &v, &mut p0);
+        prep.utilities(d, beta, i, &v, &mut v1);
+        if v1.iter().any(|x| x.is_finite()) {
+            probabilities_from_utilities(kind, &v1, &mut p1);
+        } else {
+            p1.iter_mut().for_each(|x| *x = 0.0);
+        }
+        for a in 0..m {
+            base[a].push(if a < j { p0[a] } else { 0.0 });
+            scen[a].push(p1[a]);
+        }
+    }
+    let mut cols = vec![(
+        "row".to_string(),
+        Values::Int(d.obs.first_row.iter().map(|r| *r as i64).collect()),
+    )];
+    for (a, name) in prep.names.iter().enumerate() {
+        cols.push((
+            format!("base_{name}"),
+            Values::Num(std::mem::take(&mut base[a])),
+        ));
+    }
+    for (a, name) in prep.names.iter().enumerate() {
+        cols.push((
+            format!("scenario_{name}"),
+            Values::Num(std::mem::take(&mut scen[a])),
+        ));
+    }
+    match ext(path).as_str() {
+        "csv" | "parquet" => write::table(path, force, &cols),
+        "json" => {
+            let mut rows = Vec::with_capacity(n);
+            for i in 0..n {
+                let mut o = serde_json::Map::new();
+                for (name, v) in &cols {
+                    let val = match v {
+                        Values::Num(x) => serde_json::json!(x[i]),
+                        Values::Int(x) => serde_json::json!(x[i]),
+                        Values::Text(x) => serde_json::json!(x[i]),
+                    };
+                    o.insert(name.clone(), val);
+                }
+                rows.push(serde_json::Value::Object(o));
+            }
+            write::text(
+                path,
+                force,
+                &(serde_json::to_string(&rows).unwrap_or_default() + "\n"),
+            )
+        }
+        _ => Err(Error::io(
+            path,
+            "exports are written as .csv, .parquet or .json",
+        )),
+    }
+}

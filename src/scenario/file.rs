@@ -1,0 +1,444 @@
+//! Scenario files: the TOML a what-if is written in, checked against the
+//! spec (attribute, alternative and expression errors name the key), and
+//! written back out (the workbench saves its what-ifs this way).
+
+use std::fmt::Write;
+use std::path::Path;
+
+use serde::Deserialize;
+
+use crate::error::{Error, Result};
+use crate::spec::{parse_targets, Expr, Spec};
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawScenario {
+    name: Option<String>,
+    #[serde(default)]
+    change: Vec<RawChange>,
+    #[serde(default)]
+    remove: Vec<String>,
+    #[serde(default)]
+    new_alternative: Vec<RawNew>,
+    calibration: Option<RawCalibration>,
+    price: Option<String>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawChange {
+    attribute: String,
+    alternative: Option<String>,
+    multiply: Option<f64>,
+    add: Option<f64>,
+    set: Option<f64>,
+    #[serde(rename = "where")]
+    filter: Option<String>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawNew {
+    name: String,
+    like: String,
+    constant: Option<f64>,
+    available: Option<String>,
+    #[serde(default)]
+    attributes: toml::Table,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawCalibration {
+    targets: toml::Table,
+}
+
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Op {
+    Multiply(f64),
+    Add(f64),
+    Set(f64),
+}
+
+impl Op {
+    pub fn apply(self, x: f64) -> f64 {
+        match self {
+            Op::Multiply(m) => x * m,
+            Op::Add(a) => x + a,
+            Op::Set(s) => s,
+        }
+    }
+}
+
+#[derive(Clone, Debug, PartialEq)]
+pub enum Target {
+    /// Attribute index and the alternative whose value changes.
+    Attribute {
+        attribute: usize,
+        alternative: usize,
+    },
+    Characteristic {
+        characteristic: usize,
+    },
+}
+
+#[derive(Clone, Debug, PartialEq)]
+pub struct Change {
+    pub target: Target,
+    pub op: Op,
+    /// Only situations where this evaluates to non-zero.
+    pub filter: Option<(String, Expr)>,
+}
+
+#[derive(Clone, Debug, PartialEq)]
+pub enum NewValue {
+    Number(f64),
+    Expression(String, Expr),
+}
+
+#[derive(Clone, Debug, PartialEq)]
+pub struct NewAlternative {
+    pub name: String,
+    pub like: usize,
+    pub constant: Option<f64>,
+    /// A 0/1 availability column; default: wherever `like` is available.
+    pub available: Option<String>,
+    /// (attribute index, value); attributes not listed take `like`'s values.
+    pub attributes: Vec<(usize, NewValue)>,
+}
+
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct Scenario {
+    pub name: String,
+    pub changes: Vec<Change>,
+    pub remove: Vec<usize>,
+    pub new_alternatives: Vec<NewAlternative>,
+    /// Share targets for constant calibration (overrides the spec's).
+    pub calibration: Option<Vec<(usize, f64)>>,
+    /// The attribute that is a price, for revenue.
+    pub price: Option<usize>,
+}
+
+impl Scenario {
+    pub fn from_file(path: &Path, spec: &Spec) -> Result<Scenario> {
+        if path.is_dir() {
+            return Err(Error::spec(path, "is a directory, not a scenario file"));
+        }
+        let text = std::fs::read_to_string(path).map_err(|e| Error::io(path, e))?;
+        Scenario::from_str(&text, path, spec)
+    }
+
+    pub fn from_str(text: &str, path: &Path, spec: &Spec) -> Result<Scenario> {
+        let fail = |m: String| Error::spec(path, m);
+        let raw: RawScenario = toml::from_str(text).map_err(|e| {
+            fail(format!(
+                "not a valid scenario: {}",
+                e.to_string().trim_end()
+            ))
+        })?;
+        let alt = |key: &str, name: &str| {
+            spec.alternative_index(name).ok_or_else(|| {
+                fail(format!(
+                    "{key}: `{name}` is not an alternative of the spec ({})",
+                    spec.alternative_names().join(", ")
+                ))
+            })
+        };
+        let parse_expr =
+            |key: &str, text: &str| Expr::parse(text).map_err(|e| fail(format!("{key}: {e}")));
+        let mut changes = Vec::new();
+        for (n, c) in raw.change.iter().enumerate() {
+            let key = format!("[[change]] #{} ({})", n + 1, c.attribute);
+            let ops = [
+                c.multiply.map(Op::Multiply),
+                c.add.map(Op::Add),
+                c.set.map(Op::Set),
+            ];
+            let given: Vec<Op> = ops.iter().flatten().copied().collect();
+            if given.len() != 1 {
+                return Err(fail(format!(
+                    "{key}: give exactly one of `multiply`, `add` or `set` (found {})",
+                    given.len()
+                )));
+            }
+            let op = given[0];
+            let target = if let Some(a) = spec.attributes.iter().position(|x| x.name == c.attribute)
+            {
+                let name = c.alternative.as_deref().ok_or_else(|| {
+                    fail(format!("{key}: `{}` is an attribute, so name the `alternative` whose value changes", c.attribute))
+                })?;
+                let k = alt(&format!("{key}.alternative"), name)?;
+                if spec.attributes[a].sources[k].is_none() {
+                    return Err(fail(format!(
+                        "{key}: attribute `{}` does not enter alternative `{name}`",
+                        c.attribute
+                    )));
+                }
+                Target::Attribute {
+                    attribute: a,
+                    alternative: k,
+                }
+            } else if let Some(ci) = spec
+                .characteristics
+                .iter()
+                .position(|x| x.name == c.attribute)
+            {
+                if c.alternative.is_some() {
+                    return Err(fail(format!(
+                        "{key}: `{}` is a characteristic of the decision maker; leave out `alternative`",
+                        c.attribute
+                    )));
+                }
+                Target::Characteristic { characteristic: ci }
+            } else {
+                let known: Vec<&str> = spec
+                    .attributes
+                    .iter()
+                    .map(|a| a.name.as_str())
+                    .chain(spec.characteristics.iter().map(|c| c.name.as_str()))
+                    .collect();
+                return Err(fail(format!(
+                    "{key}.attribute: `{}` is not an attribute or characteristic of the spec ({})",
+                    c.attribute,
+                    known.join(", ")
+                )));
+            };
+            let filter = match &c.filter {
+                Some(t) => Some((t.clone(), parse_expr(&format!("{key}.where"), t)?)),
+                None => None,
+            };
+            changes.push(Change { target, op, filter });
+        }
+        let mut remove = Vec::new();
+        for r in &raw.remove {
+            let k = alt("remove", r)?;
+            if !remove.contains(&k) {
+                remove.push(k);
+            }
+        }
+        if remove.len() >= spec.alternatives.len() && raw.new_alternative.is_empty() {
+            return Err(fail(
+                "remove: withdrawing every alternative leaves nothing to choose".into(),
+            ));
+        }
+        let mut new_alternatives = Vec::new();
+        for n in &raw.new_alternative {
+            let key = format!("[[new_alternative]] {}", n.name);
+            if spec.alternative_index(&n.name).is_some()
+                || new_alternatives
+                    .iter()
+                    .any(|x: &NewAlternative| x.name == n.name)
+            {
+                return Err(fail(format!("{key}: the name is taken")));
+            }
+            let like = alt(&format!("{key}.like"), &n.like)?;
+            let mut attributes = Vec::new();
+            for (name, v) in n.attributes.iter() {
+                let a = spec
+                    .attributes
+                    .iter()
+                    .position(|x| &x.name == name)
+                    .ok_or_else(|| {
+                        fail(format!(
+                            "{key}.attributes.{name}: `{name}` is not an attribute of the spec"
+                        ))
+                    })?;
+                if spec.attributes[a].sources[like].is_none() {
+                    return Err(fail(format!(
+                        "{key}.attributes.{name}: `{name}` does not enter `{}`, so the new alternative has no coefficient for it",
+                        n.like
+                    )));
+                }
+                let value = match v {
+                    toml::Value::Integer(i) => NewValue::Number(*i as f64),
+                    toml::Value::Float(f) => NewValue::Number(*f),
+                    toml::Value::String(s) => NewValue::Expression(
+                        s.clone(),
+                        parse_expr(&format!("{key}.attributes.{name}"), s)?,
+                    ),
+                    _ => {
+                        return Err(fail(format!(
+                            "{key}.attributes.{name}: give a number or an expression string"
+                        )))
+                    }
+                };
+                attributes.push((a, value));
+            }
+            new_alternatives.push(NewAlternative {
+                name: n.name.clone(),
+                like,
+                constant: n.constant,
+                available: n.available.clone(),
+                attributes,
+            });
+        }
+        let calibration = match &raw.calibration {
+            Some(c) => Some(
+                parse_targets(
+                    &c.targets,
+                    &spec.alternatives,
+                    spec.base,
+                    spec.constants,
+                    "[calibration].targets",
+                )
+                .map_err(fail)?,
+            ),
+            None => None,
+        };
+        let price = match &raw.price {
+            Some(p) => Some(
+                spec.attributes
+                    .iter()
+                    .position(|a| &a.name == p)
+                    .ok_or_else(|| fail(format!("price: `{p}` is not an attribute of the spec")))?,
+            ),
+            None => None,
+        };
+        Ok(Scenario {
+            name: raw.name.unwrap_or_else(|| {
+                path.file_stem()
+                    .map(|s| s.to_string_lossy().to_string())
+                    .unwrap_or_default()
+            }),
+            changes,
+            remove,
+            new_alternatives,
+            calibration,
+            price,
+        })
+    }
+
+    /// Columns of the data that the scenario's expressions read.
+    pub fn columns(&self) -> Vec<String> {
+        let mut out: Vec<String> = Vec::new();
+        {
+            let mut add = |e: &Expr| {
+                for c in e.columns() {
+                    if !out.contains(&c) {
+                        out.push(c);
+                    }
+                }
+            };
+            for c in &self.changes {
+                if let Some((_, e)) = &c.filter {
+                    add(e);
+                }
+            }
+            for n in &self.new_alternatives {
+                for (_, v) in &n.attributes {
+                    if let NewValue::Expression(_, e) = v {
+                        add(e);
+                    }
+                }
+            }
+        }
+        for n in &self.new_alternatives {
+            if let Some(a) = &n.available {
+                if !out.contains(a) {
+                    out.push(a.clone());
+                }
+            }
+        }
+        out
+    }
+
+    /// The scenario as a TOML file that `from_str` reads back.
+    pub fn to_toml(&self, spec: &Spec) -> String {
+        let q = |s: &str| toml::Value::String(s.to_string()).to_string();
+        let key = |s: &str| {
+            if !s.is_empty()
+                && s.chars()
+                    .all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-')
+            {
+                s.to_string()
+            } else {
+                q(s)
+            }
+        };
+        let mut s = String::new();
+        let _ = writeln!(s, "name = {}", q(&self.name));
+        if !self.remove.is_empty() {
+            let names: Vec<String> = self
+                .remove
+                .iter()
+                .map(|&k| q(&spec.alternatives[k].name))
+                .collect();
+            let _ = writeln!(s, "remove = [{}]", names.join(", "));
+        }
+        if let Some(p) = self.price {
+            let _ = writeln!(s, "price = {}", q(&spec.attributes[p].name));
+        }
+        for c in &self.changes {
+            let _ = writeln!(s, "\n[[change]]");
+            match c.target {
+                Target::Attribute {
+                    attribute,
+                    alternative,
+                } => {
+                    let _ = writeln!(s, "attribute = {}", q(&spec.attributes[attribute].name));
+                    let _ = writeln!(
+                        s,
+                        "alternative = {}",
+                        q(&spec.alternatives[alternative].name)
+                    );
+                }
+                Target::Characteristic { characteristic } => {
+                    let _ = writeln!(
+                        s,
+                        "attribute = {}",
+                        q(&spec.characteristics[characteristic].name)
+                    );
+                }
+            }
+            let (key, v) = match c.op {
+                Op::Multiply(v) => ("multiply", v),
+                Op::Add(v) => ("add", v),
+                Op::Set(v) => ("set", v),
+            };
+            let _ = writeln!(s, "{key} = {}", toml::Value::Float(v));
+            if let Some((text, _)) = &c.filter {
+                let _ = writeln!(s, "where = {}", q(text));
+            }
+        }
+        for n in &self.new_alternatives {
+            let _ = writeln!(
+                s,
+                "\n[[new_alternative]]\nname = {}\nlike = {}",
+                q(&n.name),
+                q(&spec.alternatives[n.like].name)
+            );
+            if let Some(c) = n.constant {
+                let _ = writeln!(s, "constant = {}", toml::Value::Float(c));
+            }
+            if let Some(a) = &n.available {
+                let _ = writeln!(s, "available = {}", q(a));
+            }
+            let parts: Vec<String> = n
+                .attributes
+                .iter()
+                .map(|(a, v)| {
+                    let v = match v {
+                        NewValue::Number(x) => toml::Value::Float(*x).to_string(),
+                        NewValue::Expression(t, _) => q(t),
+                    };
+                    format!("{} = {v}", key(&spec.attributes[*a].name))
+                })
+                .collect();
+            let _ = writeln!(s, "attributes = {{ {} }}", parts.join(", "));
+        }
+        if let Some(t) = &self.calibration {
+            let parts: Vec<String> = t
+                .iter()
+                .map(|(j, v)| {
+                    format!(
+                        "{} = {}",
+                        key(&spec.alternatives[*j].name),
+                        toml::Value::Float(*v)
+                    )
+                })
+                .collect();
+            let _ = writeln!(s, "\n[calibration]\ntargets = {{ {} }}", parts.join(", "));
+        }
+        s
+    }
+}

@@ -1,0 +1,293 @@
+//! Scenarios and forecasts: what-if simulation by sample enumeration with
+//! uncertainty bands from parameter draws, constant calibration, demand
+//! curves, and exports a spreadsheet can read.
+
+pub mod calibrate;
+pub mod export;
+pub mod file;
+pub mod prepare;
+pub mod simulate;
+pub mod sweep;
+
+use serde::Serialize;
+
+pub use file::{Change, NewAlternative, Op, Scenario, Target};
+
+use crate::analysis::delta::{draws, quantile};
+use crate::data::Dataset;
+use crate::error::{Error, Result};
+use crate::estimate::Fit;
+use crate::spec::{Family, Spec};
+
+/// How shares become volumes.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Market {
+    /// A total number of choices (trips, purchases) in the market.
+    Total(f64),
+    /// The spec's weight column, read as demand units.
+    Weights,
+}
+
+#[derive(Clone, Debug)]
+pub struct Options {
+    pub draws: usize,
+    pub seed: u64,
+    pub by: Option<String>,
+    pub market: Option<Market>,
+}
+
+impl Default for Options {
+    fn default() -> Self {
+        Options {
+            draws: 1000,
+            seed: 7,
+            by: None,
+            market: None,
+        }
+    }
+}
+
+#[derive(Clone, Debug, Serialize)]
+pub struct ShareRow {
+    pub alternative: String,
+    pub base: f64,
+    pub scenario: f64,
+    pub change: f64,
+    pub relative_change: f64,
+    pub low: f64,
+    pub high: f64,
+    pub change_low: f64,
+    pub change_high: f64,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub base_volume: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub scenario_volume: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub base_revenue: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub scenario_revenue: Option<f64>,
+}
+
+#[derive(Clone, Debug, Serialize)]
+pub struct SwitchRow {
+    pub from: String,
+    pub to: String,
+    pub share: f64,
+}
+
+#[derive(Clone, Debug, Serialize)]
+pub struct SegmentRow {
+    pub segment: String,
+    pub alternative: String,
+    pub situations: usize,
+    pub base: f64,
+    pub scenario: f64,
+    pub change: f64,
+    pub low: f64,
+    pub high: f64,
+}
+
+/// A forecast: everything `simulate` reports, exports and writes as JSON.
+#[derive(Clone, Debug, Serialize)]
+pub struct Forecast {
+    pub scenario: String,
+    pub draws: usize,
+    pub seed: u64,
+    pub situations: usize,
+    pub shares: Vec<ShareRow>,
+    pub switching: Vec<SwitchRow>,
+    pub segments: Vec<SegmentRow>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub segment_column: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub market: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub calibration: Option<calibrate::Calibrated>,
+    pub warnings: Vec<String>,
+}
+
+/// Segment index of every situation and the labels, for a situation-level column.
+pub fn segment_index(ds: &Dataset, column: &str) -> Result<(Vec<u32>, Vec<String>)> {
+    let keys = ds.table.keys(column, "--by segment column")?;
+    let mut labels: Vec<String> = Vec::new();
+    for k in &keys {
+        if !labels.contains(k) {
+            labels.push(k.clone());
+        }
+    }
+    labels.sort_by(|a, b| match (a.parse::<f64>(), b.parse::<f64>()) {
+        (Ok(x), Ok(y)) => x.total_cmp(&y),
+        _ => a.cmp(b),
+    });
+    let idx = keys
+        .iter()
+        .map(|k| labels.iter().position(|l| l == k).unwrap_or(0) as u32)
+        .collect();
+    Ok((idx, labels))
+}
+
+/// The parameter vector scenarios use: calibrated when targets are given (scenario first, then spec).
+pub fn base_parameters(
+    spec: &Spec,
+    fit: &Fit,
+    scenario: &Scenario,
+) -> Result<(Vec<f64>, Option<calibrate::Calibrated>)> {
+    let targets = scenario
+        .calibration
+        .clone()
+        .or_else(|| spec.calibration.as_ref().map(|c| c.targets.clone()));
+    let (tol, max_it) = spec
+        .calibration
+        .as_ref()
+        .map(|c| (c.tolerance, c.max_iterations))
+        .unwrap_or((1e-8, 1000));
+    match targets {
+        None => Ok((fit.beta.clone(), None)),
+        Some(t) => {
+            let c = calibrate::calibrate(spec, &fit.design, fit.kind, &fit.beta, &t, tol, max_it)?;
+            Ok((c.beta.clone(), Some(c)))
+        }
+    }
+}
+
+pub fn forecast(
+    spec: &Spec,
+    fit: &Fit,
+    ds: &Dataset,
+    scenario: &Scenario,
+    opts: &Options,
+) -> Result<Forecast> {
+    if spec.family == Family::Probit && !scenario.new_alternatives.is_empty() {
+        return Err(Error::Usage(
+            "new alternatives need a logit model: binary probit has exactly two alternatives"
+                .into(),
+        ));
+    }
+    let d = &fit.design;
+    let prep = prepare::prepare(spec, d, &ds.table, scenario)?;
+    let (beta, calibration) = base_parameters(spec, fit, scenario)?;
+    let seg = match &opts.by {
+        Some(c) => Some(segment_index(ds, c)?),
+        None => None,
+    };
+    let seg_arg = seg.as_ref().map(|(i, l)| (i.as_slice(), l.len()));
+    let point = simulate::run(d, fit.kind, &beta, &prep, seg_arg, scenario.price);
+    let m = prep.alternatives();
+    let mut warnings = Vec::new();
+
+    // Bands from draws of the parameters; a calibration shift is carried to every draw.
+    let shift: Vec<f64> = beta.iter().zip(&fit.beta).map(|(a, b)| a - b).collect();
+    let mut band_scen = vec![Vec::new(); m];
+    let mut band_change = vec![Vec::new(); m];
+    let nseg = seg.as_ref().map(|s| s.1.len()).unwrap_or(0);
+    let mut band_seg = vec![Vec::new(); nseg * m];
+    if opts.draws > 0 {
+        match draws(fit, opts.draws, opts.seed) {
+            Some(all) => {
+                for b in all {
+                    let b: Vec<f64> = b.iter().zip(&shift).map(|(x, s)| x + s).collect();
+                    let (base, scen, segs) = simulate::shares_only(d, fit.kind, &b, &prep, seg_arg);
+                    for a in 0..m {
+                        band_scen[a].push(scen[a]);
+                        band_change[a].push(scen[a] - base[a]);
+                    }
+                    for (s, (_, sc)) in segs.iter().enumerate() {
+                        for a in 0..m {
+                            band_seg[s * m + a].push(sc[a]);
+                        }
+                    }
+                }
+            }
+            None => warnings
+                .push("the covariance is not positive definite: no uncertainty bands".into()),
+        }
+    }
+    let band = |v: &mut Vec<f64>| {
+        v.sort_by(|a, b| a.total_cmp(b));
+        (quantile(v, 0.025), quantile(v, 0.975))
+    };
+    let market = match &opts.market {
+        Some(Market::Total(t)) => Some(*t),
+        Some(Market::Weights) => Some(d.obs.weight_total),
+        None => None,
+    };
+    let mut shares = Vec::new();
+    for a in 0..m {
+        let (low, high) = band(&mut band_scen[a]);
+        let (change_low, change_high) = band(&mut band_change[a]);
+        let (b, s) = (point.base[a], point.scenario[a]);
+        shares.push(ShareRow {
+            alternative: prep.names[a].clone(),
+            base: b,
+            scenario: s,
+            change: s - b,
+            relative_change: if b > 0.0 { (s - b) / b } else { f64::NAN },
+            low,
+            high,
+            change_low,
+            change_high,
+            base_volume: market.map(|t| t * b),
+            scenario_volume: market.map(|t| t * s),
+            base_revenue: point
+                .revenue
+                .as_ref()
+                .and_then(|r| market.map(|t| t * r.0[a])),
+            scenario_revenue: point
+                .revenue
+                .as_ref()
+                .and_then(|r| market.map(|t| t * r.1[a])),
+        });
+    }
+    if point.revenue.is_some() && market.is_none() {
+        warnings.push("a price attribute is named but no market size is given (--market), so no revenue is shown".into());
+    }
+    let mut switching = Vec::new();
+    for from in 0..m {
+        for to in 0..m {
+            let share = point.switching[from * m + to];
+            if from != to && share > 0.0 {
+                switching.push(SwitchRow {
+                    from: prep.names[from].clone(),
+                    to: prep.names[to].clone(),
+                    share,
+                });
+            }
+        }
+    }
+    let mut segments = Vec::new();
+    if let Some((_, labels)) = &seg {
+        for (s, label) in labels.iter().enumerate() {
+            let (b, sc) = &point.segments[s];
+            for a in 0..m {
+                let (low, high) = band(&mut band_seg[s * m + a]);
+                segments.push(SegmentRow {
+                    segment: label.clone(),
+                    alternative: prep.names[a].clone(),
+                    situations: point.segment_count[s] as usize,
+                    base: b[a],
+                    scenario: sc[a],
+                    change: sc[a] - b[a],
+                    low,
+                    high,
+                });
+            }
+        }
+    }
+    Ok(Forecast {
+        scenario: scenario.name.clone(),
+        draws: if band_scen.first().is_some_and(|v| !v.is_empty()) {
+            opts.draws
+        } else {
+            0
+        },
+        seed: opts.seed,
+        situations: d.situations(),
+        shares,
+        switching,
+        segments,
+        segment_column: opts.by.clone(),
+        market,
+        calibration,
+        warnings,
+    })
+}

@@ -1,0 +1,260 @@
+//! Turns a scenario into changes of the design's numbers: per changed
+//! attribute and alternative the difference in its value, per changed
+//! characteristic the difference in the decision maker's value, and the
+//! values of new alternatives. Utilities at any parameter vector then follow
+//! without copying the design.
+
+use super::file::{NewValue, Scenario, Target};
+use crate::analysis::TermMap;
+use crate::data::Table;
+use crate::design::Design;
+use crate::error::{Error, Result};
+use crate::spec::{Expr, Spec, Term};
+
+/// A new alternative ready to simulate.
+#[derive(Clone, Debug)]
+pub struct PreparedNew {
+    pub name: String,
+    pub like: usize,
+    /// Constant override (else `like`'s constant at the parameter vector used).
+    pub constant: Option<f64>,
+    pub available: Vec<bool>,
+    /// Per attribute entering `like`: (parameter, values per situation).
+    pub attributes: Vec<(usize, Vec<f64>)>,
+}
+
+#[derive(Clone, Debug)]
+pub struct Prepared {
+    /// Alternatives of the scenario: the spec's, then the new ones.
+    pub names: Vec<String>,
+    /// Value changes of attributes: (attribute, parameter, alternative, change per situation).
+    pub attribute_deltas: Vec<(usize, usize, usize, Vec<f64>)>,
+    /// (characteristic, value change per situation).
+    pub characteristic_deltas: Vec<(usize, Vec<f64>)>,
+    pub removed: Vec<bool>,
+    pub new: Vec<PreparedNew>,
+    /// Characteristic parameters per alternative (for characteristic changes and new alternatives).
+    pub map: TermMap,
+    /// The constant's parameter of each spec alternative.
+    pub constant_param: Vec<Option<usize>>,
+}
+
+fn eval(table: &Table, key: &str, text: &str, e: &Expr, spec: &Spec) -> Result<Vec<f64>> {
+    let lookup = |c: &str| table.raw_numbers(c);
+    let v = e.eval(&lookup, table.nrows).map_err(|m| {
+        Error::spec(&spec.path, format!("{key} `{text}`: {m} (the data file's columns and the spec's [derived] names can be used)"))
+    })?;
+    if let Some(r) = v.iter().position(|x| !x.is_finite()) {
+        return Err(Error::data(
+            &table.file,
+            format!(
+                "{key} `{text}` is not a finite number at row {} (missing values in its columns?)",
+                r + 1
+            ),
+        ));
+    }
+    Ok(v)
+}
+
+pub fn prepare(spec: &Spec, d: &Design, table: &Table, s: &Scenario) -> Result<Prepared> {
+    let n = d.situations();
+    let j = d.alternatives();
+    let map = TermMap::new(spec, d);
+    if table.nrows != n {
+        return Err(Error::Usage(
+            "the scenario's data table does not match the design".into(),
+        ));
+    }
+    // Current values of changed attributes, so that successive changes compound.
+    let mut current: Vec<((usize, usize), Vec<f64>)> = Vec::new();
+    let mut chars: Vec<(usize, Vec<f64>)> = Vec::new();
+    for (ci, ch) in s.changes.iter().enumerate() {
+        let mask = match &ch.filter {
+            Some((text, e)) => Some(eval(
+                table,
+                &format!("[[change]] #{} where", ci + 1),
+                text,
+                e,
+                spec,
+            )?),
+            None => None,
+        };
+        let keep = |i: usize| mask.as_ref().is_none_or(|m| m[i] != 0.0);
+        match ch.target {
+            Target::Attribute {
+                attribute,
+                alternative,
+            } => {
+                let pos = match current.iter().position(|c| c.0 == (attribute, alternative)) {
+                    Some(p) => p,
+                    None => {
+                        let x = (0..n)
+                            .map(|i| d.obs.attributes[attribute][i * j + alternative])
+                            .collect();
+                        current.push(((attribute, alternative), x));
+                        current.len() - 1
+                    }
+                };
+                let x = &mut current[pos].1;
+                for (i, xi) in x.iter_mut().enumerate() {
+                    if keep(i) && d.available(i, alternative) {
+                        *xi = ch.op.apply(*xi);
+                    }
+                }
+            }
+            Target::Characteristic { characteristic } => {
+                let pos = match chars.iter().position(|c| c.0 == characteristic) {
+                    Some(p) => p,
+                    None => {
+                        chars.push((
+                            characteristic,
+                            d.obs.characteristics[characteristic].clone(),
+                        ));
+                        chars.len() - 1
+                    }
+                };
+                for (i, zi) in chars[pos].1.iter_mut().enumerate() {
+                    if keep(i) {
+                        *zi = ch.op.apply(*zi);
+                    }
+                }
+            }
+        }
+    }
+    let mut attribute_deltas = Vec::new();
+    for ((a, k), x) in current {
+        let Some(param) = map.attribute[a][k] else {
+            continue;
+        };
+        let delta: Vec<f64> = (0..n)
+            .map(|i| x[i] - d.obs.attributes[a][i * j + k])
+            .collect();
+        attribute_deltas.push((a, param, k, delta));
+    }
+    let characteristic_deltas = chars
+        .into_iter()
+        .map(|(c, z)| {
+            let delta = z
+                .iter()
+                .zip(&d.obs.characteristics[c])
+                .map(|(a, b)| a - b)
+                .collect();
+            (c, delta)
+        })
+        .collect();
+    let mut removed = vec![false; j];
+    for &k in &s.remove {
+        removed[k] = true;
+    }
+    let constant_param: Vec<Option<usize>> = (0..j)
+        .map(|k| {
+            spec.parameters
+                .iter()
+                .position(|p| p.term == Term::Constant && p.alternative == Some(k))
+        })
+        .collect();
+    let mut new = Vec::new();
+    for na in &s.new_alternatives {
+        let available = match &na.available {
+            Some(c) => {
+                let v = table.numbers(c, &format!("[[new_alternative]] {}.available", na.name))?;
+                v.iter().map(|x| *x != 0.0).collect()
+            }
+            None => (0..n).map(|i| d.available(i, na.like)).collect(),
+        };
+        let mut attributes = Vec::new();
+        for (a, attr) in spec.attributes.iter().enumerate() {
+            let Some(param) = map.attribute[a][na.like] else {
+                continue;
+            };
+            let values = match na.attributes.iter().find(|x| x.0 == a) {
+                Some((_, NewValue::Number(v))) => vec![*v; n],
+                Some((_, NewValue::Expression(text, e))) => eval(
+                    table,
+                    &format!("[[new_alternative]] {}.attributes.{}", na.name, attr.name),
+                    text,
+                    e,
+                    spec,
+                )?,
+                None => (0..n)
+                    .map(|i| d.obs.attributes[a][i * j + na.like])
+                    .collect(),
+            };
+            attributes.push((param, values));
+        }
+        new.push(PreparedNew {
+            name: na.name.clone(),
+            like: na.like,
+            constant: na.constant,
+            available,
+            attributes,
+        });
+    }
+    let mut names = spec.alternative_names();
+    names.extend(new.iter().map(|x| x.name.clone()));
+    Ok(Prepared {
+        names,
+        attribute_deltas,
+        characteristic_deltas,
+        removed,
+        new,
+        map,
+        constant_param,
+    })
+}
+
+impl Prepared {
+    pub fn alternatives(&self) -> usize {
+        self.names.len()
+    }
+
+    /// Scenario utilities of situation `i` at `beta` into `out` (length of `names`),
+    /// given its base utilities `base` (length J, -inf = unavailable).
+    #[inline]
+    pub fn utilities(&self, d: &Design, beta: &[f64], i: usize, base: &[f64], out: &mut [f64]) {
+        let j = base.len();
+        out[..j].copy_from_slice(base);
+        for (_, param, k, delta) in &self.attribute_deltas {
+            if out[*k].is_finite() {
+                out[*k] += beta[*param] * delta[i];
+            }
+        }
+        for (c, delta) in &self.characteristic_deltas {
+            for (l, p) in self.map.characteristic[*c].iter().enumerate() {
+                if let (Some(p), true) = (p, out[l].is_finite()) {
+                    out[l] += beta[*p] * delta[i];
+                }
+            }
+        }
+        for (k, r) in self.removed.iter().enumerate() {
+            if *r {
+                out[k] = f64::NEG_INFINITY;
+            }
+        }
+        for (m, na) in self.new.iter().enumerate() {
+            let slot = &mut out[j + m];
+            if !na.available[i] {
+                *slot = f64::NEG_INFINITY;
+                continue;
+            }
+            let mut v = match (na.constant, self.constant_param[na.like]) {
+                (Some(c), _) => c,
+                (None, Some(p)) => beta[p],
+                (None, None) => 0.0,
+            };
+            for (param, values) in &na.attributes {
+                v += beta[*param] * values[i];
+            }
+            for (c, params) in self.map.characteristic.iter().enumerate() {
+                if let Some(p) = params[na.like] {
+                    let mut z = d.obs.characteristics[c][i];
+                    if let Some((_, delta)) = self.characteristic_deltas.iter().find(|x| x.0 == c) {
+                        z += delta[i];
+                    }
+                    v += beta[p] * z;
+                }
+            }
+            *slot = v;
+        }
+    }
+}

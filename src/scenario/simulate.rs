@@ -1,0 +1,173 @@
+//! Sample enumeration of a prepared scenario: base and scenario shares,
+//! the switching matrix, per-segment shares and revenue, in one pass; and
+//! the same shares over parameter draws for uncertainty bands.
+
+use super::prepare::Prepared;
+use crate::design::Design;
+use crate::estimate::likelihood::{probabilities_from_utilities, Kind};
+
+/// What one pass over the situations gives (all divided by the relevant total weight).
+#[derive(Clone, Debug)]
+pub struct Pass {
+    pub base: Vec<f64>,
+    pub scenario: Vec<f64>,
+    /// [from][to] share of all demand moving from a base alternative to a scenario one
+    /// (diagonal: staying).
+    pub switching: Vec<f64>,
+    /// Per segment: (base, scenario) shares.
+    pub segments: Vec<(Vec<f64>, Vec<f64>)>,
+    pub segment_weight: Vec<f64>,
+    pub segment_count: Vec<f64>,
+    /// Mean price paid per situation by alternative (base, scenario), when a price attribute is named.
+    pub revenue: Option<(Vec<f64>, Vec<f64>)>,
+}
+
+/// Pairs one situation's base and scenario probabilities: each alternative keeps
+/// min(P, P'); what losers lose goes to gainers in proportion to their gains.
+/// Under logit this equals the individual switching formula when one alternative changes.
+#[inline]
+pub fn pair(p0: &[f64], p1: &[f64], flows: &mut [f64], w: f64) {
+    let m = p1.len();
+    let gain: f64 = (0..m).map(|l| (p1[l] - p0[l]).max(0.0)).sum();
+    for a in 0..m {
+        let pa = p0[a];
+        flows[a * m + a] += w * pa.min(p1[a]);
+        let loss = pa - p1[a];
+        if loss > 0.0 && gain > 0.0 {
+            for l in 0..m {
+                let g = p1[l] - p0[l];
+                if g > 0.0 {
+                    flows[a * m + l] += w * loss * g / gain;
+                }
+            }
+        }
+    }
+}
+
+/// Point simulation at `beta`. `segments` gives each situation's segment index (and the count of segments).
+pub fn run(
+    d: &Design,
+    kind: Kind,
+    beta: &[f64],
+    prep: &Prepared,
+    segments: Option<(&[u32], usize)>,
+    price: Option<usize>,
+) -> Pass {
+    let j = d.alternatives();
+    let m = prep.alternatives();
+    let ns = segments.map(|s| s.1).unwrap_or(0);
+    let w = &d.obs.weight;
+    // accumulator: base m | scen m | switch m*m | seg ns*(2m + 2) | revenue 2m
+    let o_sw = 2 * m;
+    let o_seg = o_sw + m * m;
+    let o_rev = o_seg + ns * (2 * m + 2);
+    let width = o_rev + 2 * m;
+    let price_delta: Vec<Option<&Vec<f64>>> = (0..j)
+        .map(|k| {
+            prep.attribute_deltas
+                .iter()
+                .find(|x| Some(x.0) == price && x.2 == k)
+                .map(|x| &x.3)
+        })
+        .collect();
+    let price_new: Vec<Option<&Vec<f64>>> = prep
+        .new
+        .iter()
+        .map(|na| {
+            price.and_then(|a| {
+                let p = prep.map.attribute[a][na.like]?;
+                na.attributes.iter().find(|x| x.0 == p).map(|x| &x.1)
+            })
+        })
+        .collect();
+    let acc = d.par_fold(width, |range, acc| {
+        let mut v = vec![0.0; j];
+        let mut v1 = vec![0.0; m];
+        let mut p0 = vec![0.0; m];
+        let mut p1 = vec![0.0; m];
+        for i in range {
+            d.utilities(beta, i, &mut v);
+            probabilities_from_utilities(kind, &v, &mut p0[..j]);
+            p0[j..].iter_mut().for_each(|x| *x = 0.0);
+            prep.utilities(d, beta, i, &v, &mut v1);
+            if v1.iter().all(|x| !x.is_finite()) {
+                p1.iter_mut().for_each(|x| *x = 0.0);
+            } else {
+                probabilities_from_utilities(kind, &v1, &mut p1);
+            }
+            let wi = w[i];
+            for a in 0..m {
+                acc[a] += wi * p0[a];
+                acc[m + a] += wi * p1[a];
+            }
+            pair(&p0, &p1, &mut acc[o_sw..o_seg], wi);
+            if let Some((seg, _)) = segments {
+                let s = seg[i] as usize;
+                let base = o_seg + s * (2 * m + 2);
+                for a in 0..m {
+                    acc[base + a] += wi * p0[a];
+                    acc[base + m + a] += wi * p1[a];
+                }
+                acc[base + 2 * m] += wi;
+                acc[base + 2 * m + 1] += 1.0;
+            }
+            if let Some(a) = price {
+                for k in 0..j {
+                    let x0 = d.obs.attributes[a][i * j + k];
+                    let x1 = x0 + price_delta[k].map(|dl| dl[i]).unwrap_or(0.0);
+                    acc[o_rev + k] += wi * p0[k] * x0;
+                    acc[o_rev + m + k] += wi * p1[k] * x1;
+                }
+                for (n, pn) in price_new.iter().enumerate() {
+                    if let Some(values) = pn {
+                        acc[o_rev + m + j + n] += wi * p1[j + n] * values[i];
+                    }
+                }
+            }
+        }
+    });
+    let tw = d.total_weight();
+    let scale = |v: &[f64], t: f64| v.iter().map(|x| x / t).collect::<Vec<f64>>();
+    let mut segs = Vec::new();
+    let mut sw = Vec::new();
+    let mut sc = Vec::new();
+    for s in 0..ns {
+        let base = o_seg + s * (2 * m + 2);
+        let wt = acc[base + 2 * m];
+        segs.push((
+            scale(&acc[base..base + m], wt),
+            scale(&acc[base + m..base + 2 * m], wt),
+        ));
+        sw.push(wt);
+        sc.push(acc[base + 2 * m + 1]);
+    }
+    Pass {
+        base: scale(&acc[..m], tw),
+        scenario: scale(&acc[m..2 * m], tw),
+        switching: scale(&acc[o_sw..o_seg], tw),
+        segments: segs,
+        segment_weight: sw,
+        segment_count: sc,
+        revenue: price.map(|_| {
+            (
+                scale(&acc[o_rev..o_rev + m], tw),
+                scale(&acc[o_rev + m..o_rev + 2 * m], tw),
+            )
+        }),
+    }
+}
+
+/// (base, scenario) shares of each segment.
+pub type SegmentShares = Vec<(Vec<f64>, Vec<f64>)>;
+
+/// Scenario shares only (for draws and sweeps): (base, scenario) overall and per segment.
+pub fn shares_only(
+    d: &Design,
+    kind: Kind,
+    beta: &[f64],
+    prep: &Prepared,
+    segments: Option<(&[u32], usize)>,
+) -> (Vec<f64>, Vec<f64>, SegmentShares) {
+    let p = run(d, kind, beta, prep, segments, None);
+    (p.base, p.scenario, p.segments)
+}

@@ -1,0 +1,96 @@
+//! Demand curves: shares of every alternative as one attribute of one
+//! alternative is multiplied across a range.
+
+use serde::Serialize;
+
+use super::file::{Change, Op, Scenario, Target};
+use super::{base_parameters, prepare, simulate};
+use crate::data::Dataset;
+use crate::error::{Error, Result};
+use crate::estimate::Fit;
+use crate::spec::Spec;
+
+#[derive(Clone, Debug, Serialize)]
+pub struct SweepPoint {
+    pub multiplier: f64,
+    /// Shares in the order of `alternatives`.
+    pub shares: Vec<f64>,
+}
+
+#[derive(Clone, Debug, Serialize)]
+pub struct Sweep {
+    pub attribute: String,
+    pub alternative: String,
+    pub alternatives: Vec<String>,
+    pub points: Vec<SweepPoint>,
+}
+
+/// What to sweep: attribute of alternative, multiplied from `from` to `to` in `steps` steps.
+#[derive(Clone, Debug)]
+pub struct Request {
+    pub attribute: String,
+    pub alternative: String,
+    pub from: f64,
+    pub to: f64,
+    pub steps: usize,
+}
+
+pub fn sweep(spec: &Spec, fit: &Fit, ds: &Dataset, req: &Request) -> Result<Sweep> {
+    let (attribute, alternative, from, to, steps) = (
+        req.attribute.as_str(),
+        req.alternative.as_str(),
+        req.from,
+        req.to,
+        req.steps,
+    );
+    let a = spec
+        .attributes
+        .iter()
+        .position(|x| x.name == attribute)
+        .ok_or_else(|| {
+            Error::Usage(format!(
+                "--attribute: `{attribute}` is not an attribute of the spec"
+            ))
+        })?;
+    let k = spec.alternative_index(alternative).ok_or_else(|| {
+        Error::Usage(format!(
+            "--alternative: `{alternative}` is not an alternative of the spec"
+        ))
+    })?;
+    if spec.attributes[a].sources[k].is_none() {
+        return Err(Error::Usage(format!(
+            "attribute `{attribute}` does not enter `{alternative}`"
+        )));
+    }
+    if steps < 2 || !(from.is_finite() && to.is_finite()) {
+        return Err(Error::Usage(
+            "--steps must be at least 2 and --from/--to finite".into(),
+        ));
+    }
+    let (beta, _) = base_parameters(spec, fit, &Scenario::default())?;
+    let mut points = Vec::with_capacity(steps);
+    for s in 0..steps {
+        let multiplier = from + (to - from) * s as f64 / (steps - 1) as f64;
+        let sc = Scenario {
+            name: format!("{attribute} of {alternative} x {multiplier}"),
+            changes: vec![Change {
+                target: Target::Attribute {
+                    attribute: a,
+                    alternative: k,
+                },
+                op: Op::Multiply(multiplier),
+                filter: None,
+            }],
+            ..Scenario::default()
+        };
+        let prep = prepare::prepare(spec, &fit.design, &ds.table, &sc)?;
+        let (_, shares, _) = simulate::shares_only(&fit.design, fit.kind, &beta, &prep, None);
+        points.push(SweepPoint { multiplier, shares });
+    }
+    Ok(Sweep {
+        attribute: attribute.to_string(),
+        alternative: alternative.to_string(),
+        alternatives: spec.alternative_names(),
+        points,
+    })
+}

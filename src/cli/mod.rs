@@ -129,6 +129,32 @@ impl IntoObservations for Arc<Observations> {
     }
 }
 
+/// Uses a saved fit (`fit --save`) when its fingerprint matches the spec and data;
+/// otherwise fits. The note says which happened and why.
+pub fn fit_or_restore(
+    spec: &Spec,
+    ds: &Dataset,
+    load: Option<&Path>,
+) -> Result<(crate::estimate::Fit, Option<String>)> {
+    let Some(path) = load else {
+        return Ok((fit_quietly(spec, ds)?, None));
+    };
+    let text = std::fs::read_to_string(path).map_err(|e| crate::Error::io(path, e))?;
+    let doc: serde_json::Value = serde_json::from_str(&text)
+        .map_err(|e| crate::Error::io(path, format!("not a results document: {e}")))?;
+    let want = crate::report::json::fingerprint(spec);
+    if doc["fingerprint"].as_str() == Some(want.as_str()) {
+        let fit = crate::estimate::restore(spec, Arc::new(ds.obs.clone()), &doc)?;
+        Ok((
+            fit,
+            Some(format!("estimates loaded from {}", path.display())),
+        ))
+    } else {
+        let fit = fit_quietly(spec, ds)?;
+        Ok((fit, Some(format!("{} was saved from another spec or data (fingerprint differs), so the model was refitted", path.display()))))
+    }
+}
+
 /// Shared by commands that fit: fits with the stderr progress line. Pass the
 /// dataset by value when it is not needed afterwards, to avoid a copy.
 pub fn fit_quietly(spec: &Spec, ds: impl IntoObservations) -> Result<crate::estimate::Fit> {

@@ -43,6 +43,9 @@ pub struct SimulateArgs {
     /// Replace an existing --out file.
     #[arg(long)]
     pub force: bool,
+    /// Reuse a fit saved with `fit --save` when spec and data are unchanged.
+    #[arg(long, value_name = "FILE.json")]
+    pub load: Option<PathBuf>,
 }
 
 #[derive(Args, Debug)]
@@ -62,6 +65,9 @@ pub struct SweepArgs {
     pub steps: usize,
     #[arg(long)]
     pub json: bool,
+    /// Reuse a fit saved with `fit --save` when spec and data are unchanged.
+    #[arg(long, value_name = "FILE.json")]
+    pub load: Option<PathBuf>,
 }
 
 fn market(text: &Option<String>) -> Result<Option<Market>> {
@@ -94,7 +100,10 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
         text: args.by.iter().cloned().collect(),
     };
     let est = data::load(&spec, &extra)?;
-    let fit = super::fit_quietly(&spec, &est)?;
+    let (fit, note) = super::fit_or_restore(&spec, &est, args.load.as_deref())?;
+    if let Some(n) = note {
+        eprintln!("{n}");
+    }
     let (fit, ds) = match &args.data {
         None => (fit, est),
         Some(file) => {
@@ -135,7 +144,10 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
 
 pub fn sweep(args: SweepArgs) -> Result<ExitCode> {
     let (spec, ds) = super::open(&args.spec, &Extra::default())?;
-    let fit = super::fit_quietly(&spec, &ds)?;
+    let (fit, note) = super::fit_or_restore(&spec, &ds, args.load.as_deref())?;
+    if let Some(n) = note {
+        eprintln!("{n}");
+    }
     let req = scenario::sweep::Request {
         attribute: args.attribute.clone(),
         alternative: args.alternative.clone(),

@@ -163,6 +163,72 @@ pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fi
     }
     let start: Vec<f64> = spec.parameters.iter().map(|p| p.start).collect();
     let out = optimise::maximise(&design, kind, &start, &free, progress);
+    finish(spec, obs, design, kind, free, out, started, None)
+}
+
+/// A fit rebuilt from a saved results document (`fit --save`) without searching:
+/// estimates are taken from the document; covariances, statistics and diagnostics
+/// are recomputed at them in a few passes. The caller checks the fingerprint.
+pub fn restore(spec: &Spec, obs: Arc<Observations>, doc: &serde_json::Value) -> Result<Fit> {
+    let started = Instant::now();
+    let bad = |m: &str| Error::Usage(format!("the saved results do not match this spec: {m}"));
+    let rows = doc["parameters"]
+        .as_array()
+        .ok_or_else(|| bad("no `parameters` list"))?;
+    let mut beta = Vec::with_capacity(spec.parameters.len());
+    for p in &spec.parameters {
+        let row = rows
+            .iter()
+            .find(|r| r["name"].as_str() == Some(p.name.as_str()))
+            .ok_or_else(|| bad(&format!("parameter `{}` is missing", p.name)))?;
+        let v = row["estimate"]
+            .as_f64()
+            .ok_or_else(|| bad(&format!("parameter `{}` has no estimate", p.name)))?;
+        beta.push(p.fixed.unwrap_or(v));
+    }
+    let design = Design::build(spec, obs.clone());
+    let kind = Kind {
+        family: spec.family,
+        base: spec.base,
+    };
+    let free: Vec<usize> = (0..design.params)
+        .filter(|&p| spec.parameters[p].fixed.is_none())
+        .collect();
+    let e = likelihood::evaluate(&design, kind, &beta, true, false);
+    let f = &doc["fit"];
+    let get = |k: &str| f[k].as_u64().unwrap_or(0) as usize;
+    let out = optimise::Outcome {
+        ll: e.ll,
+        gradient_norm: free
+            .iter()
+            .map(|&i| e.grad[i] * e.grad[i])
+            .sum::<f64>()
+            .sqrt(),
+        beta,
+        bfgs_iterations: get("iterations"),
+        newton_steps: get("newton_steps"),
+        passes: get("passes"),
+        criterion: f["newton_decrement"].as_f64().unwrap_or(0.0),
+        converged: f["converged"].as_bool().unwrap_or(false),
+        note: None,
+    };
+    let constants_ll = f["constants_log_likelihood"].as_f64();
+    finish(spec, obs, design, kind, free, out, started, constants_ll)
+}
+
+/// Everything after the search: covariance, diagnostics, parameter rows and statistics.
+#[allow(clippy::too_many_arguments)]
+fn finish(
+    spec: &Spec,
+    obs: Arc<Observations>,
+    design: Design,
+    kind: Kind,
+    free: Vec<usize>,
+    out: optimise::Outcome,
+    started: Instant,
+    saved_constants_ll: Option<f64>,
+) -> Result<Fit> {
+    let k = design.params;
     let names: Vec<String> = spec.parameters.iter().map(|p| p.name.clone()).collect();
     let mut diagnostics = Vec::new();
 
@@ -366,7 +432,9 @@ pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fi
 
     // Fit statistics.
     let null_ll = null_log_likelihood(&obs);
-    let constants_ll = if spec.constants && spec.attributes.len() + spec.characteristics.len() > 0 {
+    let constants_ll = if let Some(c) = saved_constants_ll {
+        c
+    } else if spec.constants && spec.attributes.len() + spec.characteristics.len() > 0 {
         let cspec = spec.constants_only();
         let cd = Design::build(&cspec, obs.clone());
         let cfree: Vec<usize> = (0..cd.params).collect();

@@ -235,6 +235,11 @@ pub fn maximise(
         };
         let step = ch.solve(&g);
         criterion = g.dot(&step);
+        eprintln!(
+            "TRACE newton k={k} ll={} crit={criterion:e} gn={:e}",
+            e.ll,
+            g.norm()
+        );
         progress(Step {
             phase: "Newton",
             iteration: bfgs_iterations + newton_steps,
@@ -272,6 +277,7 @@ pub fn maximise(
                 accepted = true;
                 break;
             }
+            eprintln!("TRACE   trial t={t} ll={} vs {}", et.ll, e.ll);
             t *= 0.5;
         }
         newton_steps += 1;

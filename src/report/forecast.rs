@@ -5,6 +5,18 @@ use std::fmt::Write;
 use crate::scenario::sweep::Sweep;
 use crate::scenario::Forecast;
 
+/// A band "low … high", or a dash when there were no draws.
+fn band(low: f64, high: f64, signed: bool) -> String {
+    if low.is_nan() || high.is_nan() {
+        return format!("{:^19}", "—");
+    }
+    if signed {
+        format!("{low:>+8.4} … {high:<+8.4}")
+    } else {
+        format!("{low:>7.4} … {high:<7.4}")
+    }
+}
+
 pub fn text(f: &Forecast) -> String {
     let mut s = String::new();
     let _ = writeln!(s, "━━ sharecast forecast ━━ {}", f.scenario);
@@ -54,16 +66,14 @@ pub fn text(f: &Forecast) -> String {
             "new".to_string()
         };
         let mut line = format!(
-            "  {:<16}{:>9.4}{:>11.4}{:>+11.4}{:>11}   {:>7.4} … {:<7.4}   {:>+8.4} … {:<+8.4}",
+            "  {:<16}{:>9.4}{:>11.4}{:>+11.4}{:>11}   {}   {}",
             r.alternative,
             r.base,
             r.scenario,
             r.change,
             relative,
-            r.low,
-            r.high,
-            r.change_low,
-            r.change_high
+            band(r.low, r.high, false),
+            band(r.change_low, r.change_high, true)
         );
         if let (Some(b), Some(a)) = (r.base_volume, r.scenario_volume) {
             let _ = write!(line, "   {b:>12.1} → {a:<12.1}");
@@ -90,8 +100,14 @@ pub fn text(f: &Forecast) -> String {
         for r in &f.segments {
             let _ = writeln!(
                 s,
-                "  {:<14}{:<16}{:>7}{:>11.4}{:>11.4}{:>+11.4}   {:.4} … {:.4}",
-                r.segment, r.alternative, r.situations, r.base, r.scenario, r.change, r.low, r.high
+                "  {:<14}{:<16}{:>7}{:>11.4}{:>11.4}{:>+11.4}   {}",
+                r.segment,
+                r.alternative,
+                r.situations,
+                r.base,
+                r.scenario,
+                r.change,
+                band(r.low, r.high, false)
             );
         }
     }

@@ -290,7 +290,7 @@ pub(super) fn long(
             let v = table.numeric_column(c, &role)?;
             for s in 0..n {
                 if let Some(r) = cell[s * nalt + j] {
-                    if !v[r].is_finite() {
+                    if !super::table::usable(v[r]) {
                         return Err(Error::data(
                             file,
                             format!(
@@ -359,10 +359,10 @@ pub(super) fn long(
                     Source::Column(c) => {
                         let role = format!("attribute {}", a.name);
                         let v = table.numeric_column(c, &role)?[r];
-                        if !v.is_finite() {
+                        if !super::table::usable(v) {
                             return Err(Error::data(
                                 file,
-                                format!("column `{c}` ({role}), row {}: missing, non-numeric or infinite", r + 1),
+                                format!("column `{c}` ({role}), row {}: missing, non-numeric, infinite or too large", r + 1),
                             ));
                         }
                         v

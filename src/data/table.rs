@@ -126,7 +126,15 @@ pub fn number_key(x: f64) -> String {
     }
 }
 
-/// Errors on the first non-finite value among the rows `keep` selects.
+/// Largest magnitude a model variable may take: beyond it utilities lose all precision.
+pub const MAX_MAGNITUDE: f64 = 1e15;
+
+/// Finite and not absurdly large.
+pub fn usable(x: f64) -> bool {
+    x.is_finite() && x.abs() <= MAX_MAGNITUDE
+}
+
+/// Errors on the first non-finite (or absurdly large) value among the rows `keep` selects.
 pub fn check_finite(
     file: &Path,
     name: &str,
@@ -137,7 +145,7 @@ pub fn check_finite(
     let mut count = 0usize;
     let mut first = None;
     for (i, x) in v.iter().enumerate() {
-        if !x.is_finite() && keep(i) {
+        if !usable(*x) && keep(i) {
             count += 1;
             first.get_or_insert((i, *x));
         }
@@ -153,7 +161,7 @@ pub fn check_finite(
             Err(Error::data(
                 file,
                 format!(
-                    "column `{name}` ({role}): {count} row(s) missing, non-numeric or infinite; first at row {} ({what})",
+                    "column `{name}` ({role}): {count} row(s) missing, non-numeric, infinite or too large; first at row {} ({what})",
                     i + 1
                 ),
             ))

@@ -2,9 +2,11 @@
 //! one room against an outside reference or a fact of the method.
 
 mod analysis;
+mod catalogue;
 mod common;
 mod derivatives;
 mod diagnostics;
+mod edge_cases;
 mod fit_cli;
 mod layouts;
 mod recovery;

@@ -1,6 +1,7 @@
 //! Estimation: maximum likelihood for the spec's model, its covariance, fit
 //! statistics and diagnostics. `fit` is the room's entry point.
 
+pub mod diagnose;
 pub mod inference;
 pub mod likelihood;
 pub mod normal;
@@ -230,79 +231,11 @@ fn finish(
 ) -> Result<Fit> {
     let k = design.params;
     let names: Vec<String> = spec.parameters.iter().map(|p| p.name.clone()).collect();
-    let mut diagnostics = Vec::new();
-
     // Covariance.
     let final_eval = likelihood::evaluate(&design, kind, &out.beta, true, true);
     let a = optimise::negative_free_hessian(final_eval.hess.as_deref().unwrap_or(&[]), k, &free);
     let flats = inference::flat_directions(&a);
-    let runaway = inference::runaway(&design, &out.beta, &free);
-    // Constants of alternatives that are available but never chosen: their own
-    // diagnostic below explains why they run off, so they are reported once.
-    let never_chosen: Vec<usize> = (0..k)
-        .filter(|&p| {
-            let par = &spec.parameters[p];
-            par.term == crate::spec::Term::Constant
-                && par.alternative.is_some_and(|a| {
-                    !obs.chosen.iter().any(|&c| c as usize == a)
-                        && (0..design.situations()).any(|i| design.available(i, a))
-                })
-        })
-        .collect();
-    for group in &flats {
-        if group.len() == 1 && never_chosen.contains(&free[group[0]]) {
-            continue;
-        }
-        let params: Vec<String> = group.iter().map(|&x| names[free[x]].clone()).collect();
-        let terms: Vec<String> = group
-            .iter()
-            .map(|&x| spec.term_label(&spec.parameters[free[x]].term))
-            .fold(Vec::new(), |mut v, t| {
-                if !v.contains(&t) {
-                    v.push(t)
-                }
-                v
-            });
-        // A flat direction next to a coefficient that runs off comes from
-        // separation (fitted probabilities of 0 or 1), not from collinearity.
-        let runners: Vec<String> = group
-            .iter()
-            .filter(|&&x| runaway.iter().any(|r| r.0 == free[x]))
-            .map(|&x| format!("`{}`", names[free[x]]))
-            .collect();
-        let listed = params
-            .iter()
-            .map(|p| format!("`{p}`"))
-            .collect::<Vec<_>>()
-            .join(", ");
-        let message = if !runners.is_empty() {
-            let (what, them) = if params.len() == 1 {
-                (format!("parameter {listed} is"), "it")
-            } else {
-                (format!("parameters {listed} are"), "them")
-            };
-            format!(
-                "{what} not identified (from {}): {} runs off, so the fitted probabilities are all but 0 or 1 and the data no longer pin {them} down",
-                terms.join(", "),
-                runners.join(", ")
-            )
-        } else if params.len() == 1 {
-            format!(
-                "parameter `{}` is not identified: the data carry no information on it (from {}); drop the term, fix it in [parameters], or check that its variable varies across alternatives and situations",
-                params[0], terms[0]
-            )
-        } else {
-            format!(
-                "parameters {listed} are not identified together: only a combination of them is estimable (from {}); their variables are collinear, so drop or fix one",
-                terms.join(", ")
-            )
-        };
-        diagnostics.push(Diagnostic {
-            kind: DiagnosticKind::NotIdentified,
-            parameters: params,
-            message,
-        });
-    }
+    let diagnostics = diagnose::diagnose(spec, &design, &obs, &free, &names, &out, &flats);
     let m = free.len();
     let nan = || DMatrix::from_element(k, k, f64::NAN);
     let (covariance, robust_covariance) = match (flats.is_empty(), inference::invert(&a)) {
@@ -320,82 +253,6 @@ fn finish(
         }
         _ => (nan(), nan()),
     };
-
-    for (p, spread) in runaway {
-        if never_chosen.contains(&p) {
-            continue;
-        }
-        diagnostics.push(Diagnostic {
-            kind: DiagnosticKind::Separation,
-            parameters: vec![names[p].clone()],
-            message: format!(
-                "`{}` = {:.4} runs off (one standard deviation of its variable moves utility by {:.1}): the variable (from {}) separates the choices almost perfectly, so the estimate and its error are not meaningful",
-                names[p],
-                out.beta[p],
-                spread,
-                spec.term_label(&spec.parameters[p].term)
-            ),
-        });
-    }
-    if !out.converged {
-        diagnostics.push(Diagnostic {
-            kind: DiagnosticKind::NotConverged,
-            parameters: Vec::new(),
-            message: format!(
-                "the fit did not converge (Newton decrement {:.3e}, tolerance {:.0e}){}",
-                out.criterion,
-                optimise::NEWTON_TOLERANCE,
-                out.note
-                    .as_ref()
-                    .map(|n| format!(": {n}"))
-                    .unwrap_or_default()
-            ),
-        });
-    }
-    let j = design.alternatives();
-    for (a, alt) in spec.alternatives.iter().enumerate() {
-        let avail = (0..design.situations())
-            .filter(|&i| design.available(i, a))
-            .count();
-        let chosen = obs.chosen.iter().filter(|&&c| c as usize == a).count();
-        let asc: Vec<String> = spec
-            .parameters
-            .iter()
-            .filter(|p| p.alternative == Some(a) && p.term == crate::spec::Term::Constant)
-            .map(|p| p.name.clone())
-            .collect();
-        if avail == 0 {
-            diagnostics.push(Diagnostic {
-                kind: DiagnosticKind::NeverAvailable,
-                parameters: asc,
-                message: format!(
-                    "alternative `{}` is never available, so nothing about it can be estimated",
-                    alt.name
-                ),
-            });
-        } else if chosen == 0 {
-            // The flat direction of its constant (suppressed above) withholds the errors.
-            let withheld = flats.iter().any(|g| {
-                g.len() == 1
-                    && never_chosen.contains(&free[g[0]])
-                    && spec.parameters[free[g[0]]].alternative == Some(a)
-            });
-            let note = if withheld {
-                "; standard errors are withheld while it stays in the model (fix its constant in [parameters] or drop the alternative)"
-            } else {
-                ""
-            };
-            diagnostics.push(Diagnostic {
-                kind: DiagnosticKind::NeverChosen,
-                parameters: asc,
-                message: format!(
-                    "alternative `{}` is never chosen (available in {avail} situations): its constant runs to minus infinity{note}",
-                    alt.name
-                ),
-            });
-        }
-    }
-    let _ = j;
 
     // Parameter rows.
     let robust_inference = obs.group.is_some();

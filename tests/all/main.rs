@@ -4,6 +4,7 @@
 mod analysis;
 mod catalogue;
 mod common;
+mod demo_specs;
 mod derivatives;
 mod diagnostics;
 mod edge_cases;

@@ -13,6 +13,6 @@ pub mod report;
 pub mod rng;
 pub mod scenario;
 pub mod spec;
-// pub mod tui;
+pub mod tui;
 
 pub use error::{Error, Result};

@@ -51,6 +51,8 @@ pub enum Command {
     },
     /// Time loading, one likelihood pass and a whole fit on simulated data.
     Bench(crate::bench::BenchArgs),
+    /// The interactive workbench: estimates, elasticities, diversion, what-ifs and curves.
+    Explore(crate::tui::ExploreArgs),
 }
 
 /// Loads a spec and its data (with extra columns, e.g. for segments).
@@ -96,6 +98,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             Ok(ExitCode::SUCCESS)
         }
         Command::Bench(args) => crate::bench::run(args),
+        Command::Explore(args) => crate::tui::run(args),
     }
 }
 

@@ -14,3 +14,4 @@ mod recovery;
 mod references;
 mod scenarios;
 mod spec_errors;
+mod tui;

@@ -1,0 +1,151 @@
+//! The diversion view: where an alternative's demand goes when it is
+//! withdrawn, and the price diversion ratios for a change in the row's price
+//! attribute, both from the analysis and shaded by size.
+
+use ratatui::buffer::Buffer;
+use ratatui::layout::{Constraint, Layout, Rect};
+use ratatui::text::{Line, Span};
+use ratatui::widgets::{Paragraph, Widget};
+
+use super::app::{App, Pending};
+use super::theme::{Theme, GLYPHS, SHARE_CUTS};
+use super::widgets::{left, panel, right};
+
+/// Rows of (row label, [(column label, value)]) drawn as a shaded matrix.
+fn matrix(
+    rows: &[String],
+    cols: &[String],
+    value: &dyn Fn(&str, &str) -> Option<f64>,
+    width: usize,
+    corner: &str,
+    t: &Theme,
+) -> Vec<Line<'static>> {
+    let lw = 16;
+    let cw = (width.saturating_sub(lw) / cols.len().max(1)).clamp(8, 14);
+    let mut head = left(corner, lw);
+    for c in cols {
+        head.push_str(&right(c, cw));
+    }
+    let mut lines = vec![Line::from(Span::styled(head, t.header()))];
+    for r in rows {
+        let mut spans = vec![Span::styled(left(r, lw), t.bold())];
+        for c in cols {
+            spans.push(Span::raw(" "));
+            match value(r, c) {
+                Some(v) if r != c => {
+                    let g = Theme::glyph(v, &SHARE_CUTS);
+                    spans.push(Span::styled(
+                        right(&format!("{v:.3} {g}"), cw - 1),
+                        t.heat(v, &SHARE_CUTS),
+                    ));
+                }
+                _ => spans.push(Span::styled(right("—", cw - 1), t.dim())),
+            }
+        }
+        lines.push(Line::from(spans));
+    }
+    lines
+}
+
+pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
+    let Some(l) = app.loaded() else {
+        return;
+    };
+    let t = &app.theme;
+    let a = match &l.analysis {
+        Pending::Ready(a) => a,
+        other => {
+            let msg = match other {
+                Pending::Failed(e) => e.clone(),
+                _ => "computing the diversion ratios…".into(),
+            };
+            Paragraph::new(msg)
+                .block(panel("diversion", t))
+                .render(area, buf);
+            return;
+        }
+    };
+    let alts = l.model.spec.alternative_names();
+    let mut removed: Vec<String> = Vec::new();
+    for r in &a.diversion {
+        if !removed.contains(&r.removed) {
+            removed.push(r.removed.clone());
+        }
+    }
+    let mut changed: Vec<String> = Vec::new();
+    for r in &a.price_diversion {
+        if !changed.contains(&r.changed) {
+            changed.push(r.changed.clone());
+        }
+    }
+    let top_h = removed.len() as u16 + 4;
+    let [top, bottom] =
+        Layout::vertical([Constraint::Length(top_h), Constraint::Min(3)]).areas(area);
+
+    let block = panel(
+        "diversion on withdrawal: share of the row's demand that moves to each column",
+        t,
+    );
+    let inner = block.inner(top);
+    block.render(top, buf);
+    let get = |r: &str, c: &str| {
+        a.diversion
+            .iter()
+            .find(|d| d.removed == r && d.to == c)
+            .map(|d| d.share)
+    };
+    let mut lines = matrix(
+        &removed,
+        &alts,
+        &get,
+        inner.width as usize,
+        "removed \\ to",
+        t,
+    );
+    let mut legend = vec![Span::styled("share ", t.dim())];
+    for (g, c) in GLYPHS.iter().skip(1).zip(SHARE_CUTS) {
+        legend.push(Span::styled(format!(" {g}"), t.heat(c, &SHARE_CUTS)));
+        legend.push(Span::styled(format!("≥{c} "), t.dim()));
+    }
+    lines.push(Line::from(legend));
+    Paragraph::new(lines).render(inner, buf);
+
+    let attr = a
+        .price_diversion
+        .first()
+        .map(|r| r.attribute.clone())
+        .unwrap_or_default();
+    let title = if attr.is_empty() {
+        "price diversion ratios".to_string()
+    } else {
+        format!(
+            "{attr} diversion ratios: -(dQ to / d{attr}) / (dQ row / d{attr}) for the row's {attr}"
+        )
+    };
+    let block = panel(title, t);
+    let inner = block.inner(bottom);
+    block.render(bottom, buf);
+    if changed.is_empty() {
+        Paragraph::new(Span::styled(
+            "no shared attribute to read as a price: the spec has none",
+            t.dim(),
+        ))
+        .render(inner, buf);
+        return;
+    }
+    let get = |r: &str, c: &str| {
+        a.price_diversion
+            .iter()
+            .find(|d| d.changed == r && d.to == c)
+            .map(|d| d.ratio)
+    };
+    let lines = matrix(
+        &changed,
+        &alts,
+        &get,
+        inner.width as usize,
+        "changed \\ to",
+        t,
+    );
+    Paragraph::new(lines).render(inner, buf);
+}

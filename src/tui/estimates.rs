@@ -1,0 +1,335 @@
+//! The estimates view: the parameter table grouped by spec term, with a
+//! strip per row that shows where the interval lies against zero, the
+//! choice of classical or robust errors, sorting, and the value ratios.
+
+use ratatui::buffer::Buffer;
+use ratatui::layout::{Constraint, Layout, Rect};
+use ratatui::text::{Line, Span};
+use ratatui::widgets::{Paragraph, Widget};
+
+use super::app::App;
+use super::keys::Action;
+use super::widgets::{fixed, interval_strip, left, panel, right};
+use crate::estimate::{normal, Fit, ParameterRow, Z95};
+use crate::report::{num, pval};
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub enum Sort {
+    #[default]
+    Spec,
+    LargestT,
+    Name,
+}
+
+impl Sort {
+    pub fn label(self) -> &'static str {
+        match self {
+            Sort::Spec => "spec order",
+            Sort::LargestT => "largest |t| first",
+            Sort::Name => "by name",
+        }
+    }
+}
+
+#[derive(Clone, Debug)]
+pub struct State {
+    pub cursor: usize,
+    /// `None`: the errors the fit's inference uses; else robust (true) or classical.
+    pub robust: Option<bool>,
+    pub sort: Sort,
+    pub grouped: bool,
+}
+
+impl Default for State {
+    fn default() -> Self {
+        State {
+            cursor: 0,
+            robust: None,
+            sort: Sort::Spec,
+            grouped: true,
+        }
+    }
+}
+
+/// A parameter row as shown: the chosen standard error and what follows from it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Shown {
+    pub name: String,
+    pub term: String,
+    pub estimate: f64,
+    pub std_error: f64,
+    pub t: f64,
+    pub p: f64,
+    pub low: f64,
+    pub high: f64,
+    pub fixed: bool,
+}
+
+/// Whether the fit's own t, p and intervals use robust errors.
+pub fn fit_robust(fit: &Fit) -> bool {
+    fit.stats.inference == "robust"
+}
+
+/// The row under the chosen errors. With the fit's own choice the library's
+/// t, p and interval are shown as they are; with the other errors they follow
+/// the library's formulas (estimate / s.e., normal p, estimate ∓ z·s.e.).
+pub fn shown(r: &ParameterRow, robust: bool, fit_is_robust: bool) -> Shown {
+    let se = if robust {
+        r.robust_std_error
+    } else {
+        r.std_error
+    };
+    let (t, p, low, high) = if robust == fit_is_robust {
+        (r.t_stat, r.p_value, r.ci_low, r.ci_high)
+    } else {
+        let t = r.estimate / se;
+        let p = if t.is_finite() {
+            2.0 * normal::cdf(-t.abs())
+        } else {
+            f64::NAN
+        };
+        (t, p, r.estimate - Z95 * se, r.estimate + Z95 * se)
+    };
+    Shown {
+        name: r.name.clone(),
+        term: r.term.clone(),
+        estimate: r.estimate,
+        std_error: se,
+        t,
+        p,
+        low,
+        high,
+        fixed: r.fixed,
+    }
+}
+
+/// The rows in display order: (group heading, row) where a heading starts a group.
+pub fn ordered(fit: &Fit, st: &State) -> Vec<(Option<String>, Shown)> {
+    let robust = st.robust.unwrap_or_else(|| fit_robust(fit));
+    let rows: Vec<Shown> = fit
+        .parameters
+        .iter()
+        .map(|r| shown(r, robust, fit_robust(fit)))
+        .collect();
+    let mut terms: Vec<String> = Vec::new();
+    for r in &rows {
+        if st.grouped && !terms.contains(&r.term) {
+            terms.push(r.term.clone());
+        }
+    }
+    if !st.grouped {
+        terms.push(String::new());
+    }
+    let mut out = Vec::new();
+    for term in terms {
+        let mut group: Vec<Shown> = rows
+            .iter()
+            .filter(|r| !st.grouped || r.term == term)
+            .cloned()
+            .collect();
+        match st.sort {
+            Sort::Spec => {}
+            Sort::LargestT => group.sort_by(|a, b| b.t.abs().total_cmp(&a.t.abs())),
+            Sort::Name => group.sort_by(|a, b| a.name.cmp(&b.name)),
+        }
+        for (i, r) in group.into_iter().enumerate() {
+            let head = (st.grouped && i == 0).then(|| term.clone());
+            out.push((head, r));
+        }
+    }
+    out
+}
+
+pub fn on(app: &mut App, a: Action) {
+    let n = app
+        .loaded()
+        .map(|l| l.model.fit.parameters.len())
+        .unwrap_or(0);
+    let robust_now = app
+        .loaded()
+        .map(|l| fit_robust(&l.model.fit))
+        .unwrap_or(false);
+    let st = &mut app.estimates;
+    match a {
+        Action::Up => st.cursor = st.cursor.saturating_sub(1),
+        Action::Down => st.cursor = (st.cursor + 1).min(n.saturating_sub(1)),
+        Action::Top => st.cursor = 0,
+        Action::Bottom => st.cursor = n.saturating_sub(1),
+        Action::ToggleErrors => st.robust = Some(!st.robust.unwrap_or(robust_now)),
+        Action::CycleSort => {
+            st.sort = match st.sort {
+                Sort::Spec => Sort::LargestT,
+                Sort::LargestT => Sort::Name,
+                Sort::Name => Sort::Spec,
+            }
+        }
+        Action::ToggleGrouping => st.grouped = !st.grouped,
+        _ => {}
+    }
+}
+
+/// Short numbers for interval ends: four significant digits.
+fn short(x: f64) -> String {
+    if !x.is_finite() {
+        return "—".into();
+    }
+    let a = x.abs();
+    let d = if a >= 100.0 {
+        1
+    } else if a >= 10.0 {
+        2
+    } else if a >= 1.0 {
+        3
+    } else if a >= 0.001 {
+        4
+    } else {
+        return format!("{x:.1e}");
+    };
+    format!("{x:.d$}")
+}
+
+pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
+    let Some(l) = app.loaded() else {
+        return;
+    };
+    let t = &app.theme;
+    let fit = &l.model.fit;
+    let st = &app.estimates;
+    let robust = st.robust.unwrap_or_else(|| fit_robust(fit));
+    let ratios = l.analysis.ready().map(|a| a.ratios.as_slice());
+    let ratio_h = match ratios {
+        Some([]) => 0,
+        Some(r) => r.len() as u16 + 3,
+        None => 3,
+    };
+    let [table, bottom] =
+        Layout::vertical([Constraint::Min(6), Constraint::Length(ratio_h)]).areas(area);
+    let errors = if robust {
+        if fit.design.obs.group.is_some() {
+            "robust s.e. clustered by decision maker"
+        } else {
+            "robust s.e. by situation"
+        }
+    } else {
+        "classical s.e."
+    };
+    let title = format!("estimates · {errors} · {}", st.sort.label());
+    let block = panel(title, t);
+    let inner = block.inner(table);
+    block.render(table, buf);
+    let w = inner.width as usize;
+    let longest = fit
+        .parameters
+        .iter()
+        .map(|r| r.name.chars().count())
+        .max()
+        .unwrap_or(0);
+    let (nw, ew, sw, tw, pw, iw) = ((longest + 3).clamp(15, 26), 10, 9, 7, 7, 17);
+    let strip_w = w.saturating_sub(nw + ew + sw + tw + pw + iw + 2).max(5);
+    let mut lines = vec![Line::from(Span::styled(
+        format!(
+            "{}{}{}{}{}{}  {}",
+            left("parameter", nw),
+            right("estimate", ew),
+            right("s.e.", sw),
+            right("t", tw),
+            right("p", pw),
+            right("95% interval", iw),
+            left(
+                if strip_w >= 12 {
+                    "0 ┆ interval"
+                } else {
+                    "vs 0 ┆"
+                },
+                strip_w
+            )
+        ),
+        t.header(),
+    ))];
+    let rows = ordered(fit, st);
+    let mut cursor_line = 0;
+    for (i, (head, r)) in rows.iter().enumerate() {
+        if let Some(h) = head {
+            lines.push(Line::from(Span::styled(format!("▸ {h}"), t.accent())));
+        }
+        if i == st.cursor {
+            cursor_line = lines.len();
+        }
+        let se = if r.fixed {
+            "fixed".to_string()
+        } else {
+            num(r.std_error, 0)
+        };
+        let interval = format!("{}…{}", short(r.low), short(r.high));
+        let text = format!(
+            "{}{}{}{}{}{}",
+            left(
+                &format!("{} {}", if i == st.cursor { '›' } else { ' ' }, r.name),
+                nw
+            ),
+            right(num(r.estimate, 0).trim(), ew),
+            right(se.trim(), sw),
+            right(&fixed(r.t, 2), tw),
+            right(&pval(r.p), pw),
+            right(&interval, iw),
+        );
+        let style = if i == st.cursor {
+            t.selected()
+        } else {
+            Default::default()
+        };
+        let mut spans = vec![Span::styled(text, style), Span::raw("  ")];
+        spans.extend(interval_strip(r.low, r.estimate, r.high, strip_w, t).spans);
+        lines.push(Line::from(spans));
+    }
+    let height = inner.height as usize;
+    let offset = cursor_line.saturating_sub(height.saturating_sub(1));
+    let visible: Vec<Line> = if offset > 0 {
+        std::iter::once(lines[0].clone())
+            .chain(lines.into_iter().skip(offset + 1))
+            .collect()
+    } else {
+        lines
+    };
+    Paragraph::new(visible).render(inner, buf);
+
+    if ratio_h == 0 {
+        return;
+    }
+    let block = panel("value ratios", t);
+    let inner = block.inner(bottom);
+    block.render(bottom, buf);
+    let mut lines = vec![Line::from(Span::styled(
+        format!(
+            "{}{}{}{}{}",
+            left("ratio", 20),
+            right("value", 10),
+            right("s.e.", 9),
+            right("delta 95%", 18),
+            right("Krinsky-Robb 95%", 19)
+        ),
+        t.header(),
+    ))];
+    match ratios {
+        Some(rs) => {
+            for r in rs {
+                lines.push(Line::from(format!(
+                    "{}{}{}{}{}",
+                    left(&r.name, 20),
+                    right(&fixed(r.value, 4), 10),
+                    right(&fixed(r.std_error, 4), 9),
+                    right(&format!("{}…{}", short(r.ci_low), short(r.ci_high)), 18),
+                    right(&format!("{}…{}", short(r.kr_low), short(r.kr_high)), 19),
+                )));
+            }
+        }
+        None => {
+            let msg = match &l.analysis {
+                super::app::Pending::Failed(e) => e.clone(),
+                _ => "computing…".into(),
+            };
+            lines.push(Line::from(Span::styled(msg, t.dim())));
+        }
+    }
+    Paragraph::new(lines).render(inner, buf);
+}

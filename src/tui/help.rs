@@ -1,0 +1,62 @@
+//! The help overlay: every key from the key map's table, in two columns when
+//! the terminal is wide enough, scrolled with ↑↓ when it is not tall enough.
+
+use ratatui::buffer::Buffer;
+use ratatui::layout::{Constraint, Layout, Rect};
+use ratatui::text::{Line, Span};
+use ratatui::widgets::{Clear, Paragraph, Widget};
+
+use super::app::App;
+use super::keys::HELP;
+use super::theme::Theme;
+use super::widgets::{left, panel};
+
+fn section_lines(from: usize, to: usize, kw: usize, t: &Theme) -> Vec<Line<'static>> {
+    let mut lines = Vec::new();
+    for (n, (name, keys)) in HELP[from..to].iter().enumerate() {
+        if n > 0 {
+            lines.push(Line::from(""));
+        }
+        lines.push(Line::from(Span::styled(name.to_string(), t.accent())));
+        for (k, what) in keys.iter() {
+            lines.push(Line::from(vec![
+                Span::styled(left(&format!("  {k}"), kw), t.bold()),
+                Span::raw(what.to_string()),
+            ]));
+        }
+    }
+    lines
+}
+
+pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
+    let t = &app.theme;
+    let w = area.width.min(100);
+    let h = area.height.min(24);
+    let popup = Rect {
+        x: area.x + (area.width - w) / 2,
+        y: area.y + (area.height - h) / 2,
+        width: w,
+        height: h,
+    };
+    Clear.render(popup, buf);
+    let block = panel("keys · ? or Esc closes · ↑↓ scroll", t);
+    let inner = block.inner(popup);
+    block.render(popup, buf);
+    let kw = 14;
+    let scroll = (app.help_scroll, 0);
+    if inner.width >= 70 {
+        let [a, b] = Layout::horizontal([Constraint::Percentage(50), Constraint::Percentage(50)])
+            .areas(inner);
+        let split = 3;
+        Paragraph::new(section_lines(0, split, kw, t))
+            .scroll(scroll)
+            .render(a, buf);
+        Paragraph::new(section_lines(split, HELP.len(), kw, t))
+            .scroll(scroll)
+            .render(b, buf);
+    } else {
+        Paragraph::new(section_lines(0, HELP.len(), kw, t))
+            .scroll(scroll)
+            .render(inner, buf);
+    }
+}

@@ -1,0 +1,216 @@
+//! The overview view: the data (situations, decision makers, alternatives with
+//! observed and predicted shares and availability), the fit statistics and
+//! search, then the findings: how the fit was obtained, diagnostics, the
+//! analysis warnings and the cautions line.
+
+use ratatui::buffer::Buffer;
+use ratatui::layout::{Constraint, Layout, Rect};
+use ratatui::text::{Line, Span};
+use ratatui::widgets::{Paragraph, Widget, Wrap};
+
+use super::app::{App, Pending};
+use super::widgets::{fixed, left, panel, right};
+use crate::spec::Layout as DataLayout;
+
+pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
+    let Some(l) = app.loaded() else {
+        return;
+    };
+    let t = &app.theme;
+    let spec = &l.model.spec;
+    let fit = &l.model.fit;
+    let obs = &l.model.ds.obs;
+    let s = &fit.stats;
+    let j = spec.alternatives.len();
+    let top_h = ((j + 6).max(11) as u16 + 2).min(area.height.saturating_sub(5));
+    let [top, bottom] =
+        Layout::vertical([Constraint::Length(top_h), Constraint::Min(3)]).areas(area);
+    let [data, stats] =
+        Layout::horizontal([Constraint::Percentage(52), Constraint::Percentage(48)]).areas(top);
+
+    // Data.
+    let layout = match spec.data.layout {
+        DataLayout::Wide { .. } => "wide",
+        DataLayout::Long { .. } => "long",
+    };
+    let mut lines = vec![
+        Line::from(vec![
+            Span::styled("spec  ", t.dim()),
+            Span::raw(l.model.path.display().to_string()),
+        ]),
+        Line::from(vec![
+            Span::styled("data  ", t.dim()),
+            Span::raw(spec.data.file_written.clone()),
+        ]),
+        Line::from(vec![
+            Span::styled(format!("{}", s.situations), t.bold()),
+            Span::raw(format!(" choice situations ({layout} layout)")),
+        ]),
+        Line::from(match (&obs.group, &spec.data.group) {
+            (Some(_), Some(col)) => vec![
+                Span::styled(format!("{}", s.groups), t.bold()),
+                Span::raw(format!(" decision makers (`{col}`)")),
+            ],
+            _ => vec![Span::raw("no decision makers given")],
+        }),
+        Line::from(match &spec.data.weight {
+            Some(w) => format!("weights `{w}`, total {:.1}", obs.weight_total),
+            None => "unweighted".to_string(),
+        }),
+        Line::from(Span::styled(
+            format!(
+                "{}{}{}{}",
+                left("alternative", 12),
+                right("observed", 9),
+                right("predicted", 10),
+                right("avail", 6)
+            ),
+            t.header(),
+        )),
+    ];
+    for (a, alt) in spec.alternatives.iter().enumerate() {
+        let avail = (0..obs.situations)
+            .filter(|&i| obs.available.get(i * j + a).copied().unwrap_or(false))
+            .count();
+        let share = fit.shares.get(a);
+        let pct = 100.0 * avail as f64 / obs.situations.max(1) as f64;
+        let mut name = alt.name.clone();
+        if a == spec.base {
+            name.push_str(" ◆");
+        }
+        lines.push(Line::from(format!(
+            "{}{}{}{}",
+            left(&name, 12),
+            right(&fixed(share.map(|r| r.observed).unwrap_or(f64::NAN), 4), 9),
+            right(
+                &fixed(share.map(|r| r.predicted).unwrap_or(f64::NAN), 4),
+                10
+            ),
+            right(&format!("{pct:.0}%"), 6),
+        )));
+    }
+    Paragraph::new(lines)
+        .block(panel("data · ◆ base · weighted shares", t))
+        .render(data, buf);
+
+    // Fit.
+    let row = |label: &str, value: String| {
+        Line::from(vec![
+            Span::raw(left(label, 20)),
+            Span::styled(right(&value, 14), t.bold()),
+        ])
+    };
+    let search = if s.converged {
+        Span::styled("converged ✓", t.good())
+    } else {
+        Span::styled("NOT converged ✗", t.warn())
+    };
+    let mut lines = vec![
+        Line::from(format!(
+            "{} · base {} · K = {}",
+            spec.family.name(),
+            spec.alternatives[spec.base].name,
+            s.estimated_parameters
+        )),
+        row("log-likelihood", fixed(s.log_likelihood, 3)),
+        row("  at equal shares", fixed(s.null_log_likelihood, 3)),
+        row("  constants only", fixed(s.constants_log_likelihood, 3)),
+        Line::from(vec![
+            Span::raw("rho² "),
+            Span::styled(fixed(s.rho_squared, 4), t.bold()),
+            Span::raw(" · vs constants "),
+            Span::styled(fixed(s.rho_squared_constants, 4), t.bold()),
+        ]),
+        row("adjusted rho²", fixed(s.adjusted_rho_squared, 4)),
+        Line::from(vec![
+            Span::raw("AIC "),
+            Span::styled(fixed(s.aic, 2), t.bold()),
+            Span::raw(" · BIC "),
+            Span::styled(fixed(s.bic, 2), t.bold()),
+        ]),
+        Line::from(vec![
+            search,
+            Span::raw(format!(" {:.2} s · |g| {:.1e}", s.seconds, s.gradient_norm)),
+        ]),
+        Line::from(format!(
+            "search: {} + {} Newton, {} passes",
+            s.iterations, s.newton_steps, s.passes
+        )),
+    ];
+    match &l.analysis {
+        Pending::Ready(a) => {
+            let v = &a.validation;
+            lines.push(Line::from(format!(
+                "hit rate {} · P(choice) {}",
+                fixed(v.hit_rate, 4),
+                fixed(v.mean_chosen_probability, 4)
+            )));
+            if let Some(h) = &v.holdout {
+                lines.push(Line::from(format!(
+                    "hold-out LL {}, equal {}",
+                    fixed(h.log_likelihood, 1),
+                    fixed(h.null_log_likelihood, 1)
+                )));
+            }
+        }
+        Pending::Waiting => lines.push(Line::from(Span::styled("validation: computing…", t.dim()))),
+        Pending::Failed(e) => lines.push(Line::from(Span::styled(e.clone(), t.warn()))),
+    }
+    Paragraph::new(lines)
+        .block(panel("fit", t))
+        .render(stats, buf);
+
+    let lines = findings(app);
+    Paragraph::new(lines)
+        .wrap(Wrap { trim: true })
+        .scroll((app.scroll[0], 0))
+        .block(panel("findings  ↑↓ scroll", t))
+        .render(bottom, buf);
+}
+
+/// The findings: how the fit was obtained, diagnostics, warnings, the cautions.
+fn findings(app: &App) -> Vec<Line<'static>> {
+    let Some(l) = app.loaded() else {
+        return Vec::new();
+    };
+    let t = &app.theme;
+    let fit = &l.model.fit;
+    let mut lines = Vec::new();
+    if let Some(n) = &l.model.note {
+        lines.push(Line::from(Span::styled(format!("ℹ {n}"), t.bold())));
+    }
+    if fit.diagnostics.is_empty() {
+        lines.push(Line::from(vec![
+            Span::styled("diagnostics: none", t.good()),
+            Span::raw(" — the Hessian is well conditioned and no coefficient runs off"),
+        ]));
+    }
+    for d in &fit.diagnostics {
+        let kind = serde_json::to_value(d.kind)
+            .ok()
+            .and_then(|v| v.as_str().map(|s| s.replace('_', " ")))
+            .unwrap_or_default();
+        lines.push(Line::from(vec![
+            Span::styled(format!("⚠ {kind}: "), t.warn()),
+            Span::raw(d.message.clone()),
+        ]));
+    }
+    if let Pending::Ready(a) = &l.analysis {
+        for w in &a.warnings {
+            lines.push(Line::from(vec![
+                Span::styled("⚠ ", t.warn()),
+                Span::raw(w.clone()),
+            ]));
+        }
+    }
+    lines.push(Line::from(Span::styled(
+        crate::report::cautions(&l.model.spec),
+        t.dim(),
+    )));
+    lines
+}
+
+/// Roughly how many screen lines the findings take (for the scroll limit).
+pub fn findings_height(app: &App) -> usize {
+    findings(app).iter().map(|l| l.width() / 60 + 1).sum()
+}

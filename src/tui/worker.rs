@@ -1,0 +1,241 @@
+//! The background worker: fits, analyses, parameter draws and demand curves
+//! run here, one job at a time, and report back as messages over a channel.
+//! A queued band or curve request that a newer one of the same kind replaces
+//! is skipped; a panic inside a job becomes an error message, not a crash.
+
+use std::collections::VecDeque;
+use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::path::{Path, PathBuf};
+use std::sync::mpsc::{self, Receiver, Sender};
+use std::sync::Arc;
+
+use super::app::Msg;
+use crate::data::{Dataset, Extra};
+use crate::error::{Error, Result};
+use crate::estimate::{self, Fit, Progress, Step};
+use crate::scenario::{self, sweep, Scenario};
+use crate::spec::Spec;
+
+/// A fitted spec with its data: cheap to clone, shared by the state and the worker.
+#[derive(Clone, Debug)]
+pub struct Model {
+    pub path: PathBuf,
+    pub spec: Arc<Spec>,
+    pub ds: Arc<Dataset>,
+    pub fit: Arc<Fit>,
+    /// How the fit was obtained when `--load` was given.
+    pub note: Option<String>,
+}
+
+/// A result the worker is still computing.
+#[derive(Clone, Debug)]
+pub enum Pending<T> {
+    Waiting,
+    Ready(Box<T>),
+    Failed(String),
+}
+
+impl<T> Pending<T> {
+    pub fn ready(&self) -> Option<&T> {
+        match self {
+            Pending::Ready(t) => Some(t),
+            _ => None,
+        }
+    }
+}
+
+/// Parameter draws behind the what-if uncertainty band.
+pub const DRAWS: usize = 500;
+/// Seed of those draws (the `simulate` command's default).
+pub const SEED: u64 = 7;
+
+#[derive(Debug)]
+pub enum Job {
+    /// Load and fit each spec in turn (restoring from `load` when its fingerprint matches).
+    Open {
+        paths: Vec<PathBuf>,
+        load: Option<PathBuf>,
+    },
+    Analyse {
+        index: usize,
+        model: Model,
+    },
+    /// The what-if forecast with draws, for the band.
+    Band {
+        index: usize,
+        generation: u64,
+        model: Model,
+        scenario: Scenario,
+    },
+    Curve {
+        index: usize,
+        generation: u64,
+        model: Model,
+        request: sweep::Request,
+    },
+}
+
+impl Job {
+    /// Band and curve requests are replaced by newer ones for the same model.
+    fn supersedes(&self, older: &Job) -> bool {
+        match (self, older) {
+            (Job::Band { index: a, .. }, Job::Band { index: b, .. }) => a == b,
+            (Job::Curve { index: a, .. }, Job::Curve { index: b, .. }) => a == b,
+            _ => false,
+        }
+    }
+}
+
+/// Runs `f`, turning an error or a panic into a message.
+fn guarded<T>(f: impl FnOnce() -> Result<T>) -> std::result::Result<T, String> {
+    match catch_unwind(AssertUnwindSafe(f)) {
+        Ok(Ok(t)) => Ok(t),
+        Ok(Err(e)) => Err(e.to_string()),
+        Err(p) => {
+            let what = p
+                .downcast_ref::<&str>()
+                .map(|s| s.to_string())
+                .or_else(|| p.downcast_ref::<String>().cloned())
+                .unwrap_or_else(|| "unknown".into());
+            Err(format!("internal error (please report it): {what}"))
+        }
+    }
+}
+
+/// Loads a spec and its data and fits it, or restores a saved fit whose fingerprint matches.
+pub fn open_one(path: &Path, load: Option<&Path>, progress: Progress) -> Result<Model> {
+    let (spec, ds) = crate::cli::open(path, &Extra::default())?;
+    let obs = Arc::new(ds.obs.clone());
+    let (fit, note) = match load {
+        None => (estimate::fit(&spec, obs, progress)?, None),
+        Some(file) => {
+            let text = std::fs::read_to_string(file).map_err(|e| Error::io(file, e))?;
+            let doc: serde_json::Value = serde_json::from_str(&text)
+                .map_err(|e| Error::io(file, format!("not a results document: {e}")))?;
+            let want = crate::report::json::fingerprint(&spec);
+            if doc["fingerprint"].as_str() == Some(want.as_str()) {
+                let fit = estimate::restore(&spec, obs, &doc)?;
+                (
+                    fit,
+                    Some(format!("estimates loaded from {}", file.display())),
+                )
+            } else {
+                let fit = estimate::fit(&spec, obs, progress)?;
+                let note = format!(
+                    "{} was saved from another spec or data (fingerprint differs), so the model was refitted",
+                    file.display()
+                );
+                (fit, Some(note))
+            }
+        }
+    };
+    Ok(Model {
+        path: path.to_path_buf(),
+        spec: Arc::new(spec),
+        ds: Arc::new(ds),
+        fit: Arc::new(fit),
+        note,
+    })
+}
+
+/// Runs one job, sending its messages (progress first, the result last).
+pub fn execute(job: Job, send: &(dyn Fn(Msg) + Sync)) {
+    match job {
+        Job::Open { paths, load } => {
+            for (index, path) in paths.iter().enumerate() {
+                send(Msg::Loading {
+                    index,
+                    path: path.clone(),
+                });
+                let progress = |step: Step| send(Msg::Progress { index, step });
+                match guarded(|| open_one(path, load.as_deref(), &progress)) {
+                    Ok(model) => send(Msg::Opened { index, model }),
+                    Err(e) => {
+                        send(Msg::Failed(e));
+                        return;
+                    }
+                }
+            }
+        }
+        Job::Analyse { index, model } => {
+            let result = guarded(|| {
+                crate::analysis::analyse(
+                    &model.spec,
+                    &model.fit,
+                    &model.ds,
+                    &crate::analysis::Options::default(),
+                )
+            });
+            send(Msg::Analysed {
+                index,
+                result: result.map(Box::new),
+            });
+        }
+        Job::Band {
+            index,
+            generation,
+            model,
+            scenario,
+        } => {
+            let opts = scenario::Options {
+                draws: DRAWS,
+                seed: SEED,
+                by: None,
+                market: None,
+            };
+            let result = guarded(|| {
+                scenario::forecast(&model.spec, &model.fit, &model.ds, &scenario, &opts)
+            });
+            send(Msg::Band {
+                index,
+                generation,
+                result: result.map(Box::new),
+            });
+        }
+        Job::Curve {
+            index,
+            generation,
+            model,
+            request,
+        } => {
+            let result = guarded(|| sweep::sweep(&model.spec, &model.fit, &model.ds, &request));
+            send(Msg::Curve {
+                index,
+                generation,
+                result: result.map(Box::new),
+            });
+        }
+    }
+}
+
+fn serve(jobs: Receiver<Job>, out: Sender<Msg>) {
+    let send = move |m: Msg| {
+        let _ = out.send(m);
+    };
+    let mut queue: VecDeque<Job> = VecDeque::new();
+    loop {
+        if queue.is_empty() {
+            match jobs.recv() {
+                Ok(j) => queue.push_back(j),
+                Err(_) => return,
+            }
+        }
+        queue.extend(jobs.try_iter());
+        let Some(job) = queue.pop_front() else {
+            continue;
+        };
+        if queue.iter().any(|newer| newer.supersedes(&job)) {
+            continue;
+        }
+        execute(job, &send);
+    }
+}
+
+/// Starts the worker thread; send it jobs on the returned channel.
+pub fn spawn(out: Sender<Msg>) -> std::io::Result<Sender<Job>> {
+    let (tx, rx) = mpsc::channel();
+    std::thread::Builder::new()
+        .name("sharecast-worker".into())
+        .spawn(move || serve(rx, out))?;
+    Ok(tx)
+}

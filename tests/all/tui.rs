@@ -1,0 +1,731 @@
+//! The workbench (`sharecast explore`): every view drawn on the demo model and
+//! read back from ratatui's test backend; key sequences applied to `update`
+//! checked against the library called directly; and the real binary driven
+//! in tmux.
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+use std::sync::{Arc, Mutex, OnceLock};
+use std::time::{Duration, Instant};
+
+use ratatui::backend::TestBackend;
+use ratatui::crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
+use ratatui::Terminal;
+use sharecast::scenario::{self, Op, Scenario, Target};
+use sharecast::tui::app::{update, App, Model, Msg, Prompt, Stage, View};
+use sharecast::tui::theme::{Theme, ELASTICITY_CUTS};
+use sharecast::tui::worker::{self, Job};
+use sharecast::tui::{estimates, keys, levers};
+
+use crate::common::*;
+
+fn model(rel: &str) -> Model {
+    static CACHE: OnceLock<Mutex<Vec<(String, Model)>>> = OnceLock::new();
+    let cache = CACHE.get_or_init(|| Mutex::new(Vec::new()));
+    let mut c = cache.lock().unwrap();
+    if let Some((_, m)) = c.iter().find(|(r, _)| r == rel) {
+        return m.clone();
+    }
+    let (spec, ds) = load(rel);
+    let fit = fit_spec(&spec, &ds);
+    let m = Model {
+        path: PathBuf::from(rel),
+        spec: Arc::new(spec),
+        ds: Arc::new(ds),
+        fit: Arc::new(fit),
+        note: None,
+    };
+    c.push((rel.to_string(), m.clone()));
+    m
+}
+
+/// Runs jobs as the worker would, feeding every message back through `update`.
+fn drain(app: &mut App, jobs: Vec<Job>) {
+    let mut queue = jobs;
+    while !queue.is_empty() {
+        let job = queue.remove(0);
+        let out = Mutex::new(Vec::new());
+        worker::execute(job, &|m| out.lock().unwrap().push(m));
+        for m in out.into_inner().unwrap() {
+            queue.extend(update(app, m));
+        }
+    }
+}
+
+/// A workbench on the demo model with its analysis, band and curve computed.
+fn demo(specs: &[&str]) -> App {
+    let (mut app, jobs) =
+        App::with_models(specs.iter().map(|s| model(s)).collect(), Theme::plain());
+    drain(&mut app, jobs);
+    app
+}
+
+fn press(app: &mut App, code: KeyCode) -> Vec<Job> {
+    update(app, Msg::Key(KeyEvent::new(code, KeyModifiers::NONE)))
+}
+
+fn keys(app: &mut App, text: &str) -> Vec<Job> {
+    text.chars()
+        .flat_map(|c| press(app, KeyCode::Char(c)))
+        .collect()
+}
+
+fn screen(app: &App, w: u16, h: u16) -> String {
+    let mut term = Terminal::new(TestBackend::new(w, h)).unwrap();
+    term.draw(|f| f.render_widget(app, f.area())).unwrap();
+    let buf = term.backend().buffer();
+    (0..h)
+        .map(|y| {
+            (0..w)
+                .map(|x| buf[(x, y)].symbol().to_string())
+                .collect::<String>()
+                + "\n"
+        })
+        .collect()
+}
+
+#[track_caller]
+fn has(text: &str, want: &[&str]) {
+    for w in want {
+        assert!(text.contains(w), "`{w}` not on the screen:\n{text}");
+    }
+}
+
+fn point(rel: &str, sc: &Scenario) -> scenario::Forecast {
+    let m = model(rel);
+    let opts = scenario::Options {
+        draws: 0,
+        ..Default::default()
+    };
+    scenario::forecast(&m.spec, &m.fit, &m.ds, sc, &opts).unwrap()
+}
+
+fn whatif_shares(app: &App) -> Vec<(f64, f64)> {
+    let f = app.loaded().unwrap().whatif.point.as_ref().unwrap();
+    f.shares.iter().map(|r| (r.base, r.scenario)).collect()
+}
+
+#[test]
+fn overview_shows_the_data_the_fit_and_the_cautions() {
+    let app = demo(&["specs/commute.toml"]);
+    let s = screen(&app, 80, 24);
+    let fit = &model("specs/commute.toml").fit;
+    has(
+        &s,
+        &[
+            "1 overview",
+            "7 compare",
+            "6000",
+            "2000 decision makers",
+            "car ◆",
+            "walk",
+        ],
+    );
+    has(
+        &s,
+        &[
+            "0.2631",
+            &format!("{:.3}", fit.stats.log_likelihood),
+            "converged ✓",
+        ],
+    );
+    has(
+        &s,
+        &[
+            "diagnostics: none",
+            "Cautions:",
+            "specs/commute.toml · logit",
+            "q quit",
+        ],
+    );
+    let big = screen(&app, 120, 40);
+    has(
+        &big,
+        &[
+            "hit rate",
+            "Transport appraisal",
+            "independence from irrelevant",
+        ],
+    );
+}
+
+#[test]
+fn estimates_are_grouped_by_term_with_errors_sort_and_ratios() {
+    let mut app = demo(&["specs/commute.toml"]);
+    keys(&mut app, "2");
+    let s = screen(&app, 100, 40);
+    has(
+        &s,
+        &[
+            "▸ constants",
+            "▸ attribute cost",
+            "▸ characteristic age",
+            "asc_bus",
+            "-0.58466",
+        ],
+    );
+    has(
+        &s,
+        &[
+            "0.13993",
+            "<.0001",
+            "robust s.e. clustered",
+            "├",
+            "●",
+            "┤",
+            "value_of_time",
+            "7.1844",
+        ],
+    );
+    keys(&mut app, "e");
+    has(&screen(&app, 100, 40), &["classical s.e.", "0.13661"]);
+    keys(&mut app, "es");
+    let s = screen(&app, 100, 40);
+    let at = |n: &str| s.find(n).unwrap();
+    assert!(
+        at("asc_walk") < at("asc_bus") && at("asc_bus") < at("asc_rail"),
+        "{s}"
+    );
+    keys(&mut app, "t");
+    assert!(!screen(&app, 100, 40).contains("▸ constants"));
+}
+
+#[test]
+fn classical_errors_on_a_clustered_fit_match_the_library_without_groups() {
+    // The grouped fit shown with classical errors must agree with the library's own
+    // rows for the same model fitted without `[data].group` (classical inference).
+    let text = std::fs::read_to_string(path("specs/commute.toml")).unwrap();
+    let spec = sharecast::spec::Spec::from_str(
+        &text.replace("group = \"person_id\"\n", ""),
+        &path("specs/commute_ungrouped.toml"),
+    )
+    .unwrap();
+    let ds = sharecast::data::load(&spec, &Default::default()).unwrap();
+    let plain = fit_spec(&spec, &ds);
+    let grouped = model("specs/commute.toml").fit;
+    for (g, p) in grouped.parameters.iter().zip(&plain.parameters) {
+        let s = estimates::shown(g, false, true);
+        for (what, got, want) in [
+            ("t", s.t, p.t_stat),
+            ("p", s.p, p.p_value),
+            ("low", s.low, p.ci_low),
+            ("high", s.high, p.ci_high),
+        ] {
+            assert_close(&format!("{} {what}", p.name), got, want, 1e-6);
+        }
+        assert_eq!(estimates::shown(g, true, true).t, g.t_stat);
+    }
+}
+
+#[test]
+fn elasticities_and_diversion_show_the_analysis_figures() {
+    let mut app = demo(&["specs/commute.toml"]);
+    let a = app.loaded().unwrap().analysis.ready().unwrap().clone();
+    let own = |v: &str, k: &str| {
+        a.elasticities
+            .iter()
+            .find(|r| r.variable == v && r.changed.as_deref() == Some(k) && r.affected == k)
+            .unwrap()
+            .clone()
+    };
+    keys(&mut app, "3");
+    let s = screen(&app, 80, 24);
+    has(
+        &s,
+        &[
+            "elasticities of cost (1/6)",
+            "changed \\ share",
+            &format!("{:+.3}", own("cost", "rail").value),
+        ],
+    );
+    has(&s, &["▓", "warm: share falls", "marginal effects dP/dcost"]);
+    keys(&mut app, "la");
+    has(
+        &screen(&app, 80, 24),
+        &[
+            "elasticities of time (2/6)",
+            "arc (+10%)",
+            &format!("{:+.3}", own("time", "walk").arc),
+        ],
+    );
+    keys(&mut app, "4");
+    let s = screen(&app, 80, 24);
+    let d = a
+        .diversion
+        .iter()
+        .find(|r| r.removed == "rail" && r.to == "bus")
+        .unwrap();
+    let p = a
+        .price_diversion
+        .iter()
+        .find(|r| r.changed == "car" && r.to == "rail")
+        .unwrap();
+    has(
+        &s,
+        &[
+            "removed \\ to",
+            &format!("{:.3}", d.share),
+            &format!("{:.3}", p.ratio),
+            "cost diversion ratios",
+        ],
+    );
+}
+
+#[test]
+fn stepping_a_fare_gives_the_scenario_and_shares_of_the_library() {
+    let rail_up = Scenario::from_file(
+        &path("specs/scenarios/rail_fare_up.toml"),
+        &model("specs/commute.toml").spec,
+    )
+    .unwrap();
+    let want: Vec<(f64, f64)> = point("specs/commute.toml", &rail_up)
+        .shares
+        .iter()
+        .map(|r| (r.base, r.scenario))
+        .collect();
+    // Three ways to the same what-if: a big step, ten small steps, a typed change.
+    for how in ["L", "llllllllll", "\n+10%\n"] {
+        let mut app = demo(&["specs/commute.toml"]);
+        keys(&mut app, "5jjjjjj");
+        for c in how.chars() {
+            let code = if c == '\n' {
+                KeyCode::Enter
+            } else {
+                KeyCode::Char(c)
+            };
+            let jobs = press(&mut app, code);
+            drain(&mut app, jobs);
+        }
+        let l = app.loaded().unwrap();
+        let sc = l.whatif.scenario(&l.model.spec);
+        assert_eq!(sc.changes.len(), 1, "{how}");
+        assert_eq!(
+            sc.changes[0].target,
+            Target::Attribute {
+                attribute: 0,
+                alternative: 2
+            }
+        );
+        assert_eq!(sc.changes[0].op, Op::Multiply(1.1), "{how}");
+        assert_eq!(whatif_shares(&app), want, "{how}");
+        let s = screen(&app, 80, 24);
+        has(
+            &s,
+            &[
+                "×1.10 (+10%)",
+                "0.2270 → 0.2133",
+                "band: 95% of 500 parameter draws",
+            ],
+        );
+        let band = l.whatif.band.as_ref().unwrap();
+        assert!(band
+            .shares
+            .iter()
+            .all(|r| r.low <= r.scenario && r.scenario <= r.high));
+    }
+}
+
+#[test]
+fn withdrawing_and_resetting_follow_the_library() {
+    let mut app = demo(&["specs/commute.toml"]);
+    keys(&mut app, "5jjw");
+    let l = app.loaded().unwrap();
+    assert_eq!(l.whatif.removed, vec![1]);
+    let sc =
+        Scenario::from_str("remove = [\"bus\"]\n", Path::new("x.toml"), &l.model.spec).unwrap();
+    let want: Vec<(f64, f64)> = point("specs/commute.toml", &sc)
+        .shares
+        .iter()
+        .map(|r| (r.base, r.scenario))
+        .collect();
+    assert_eq!(whatif_shares(&app), want);
+    assert_eq!(want[1].1, 0.0);
+    has(&screen(&app, 80, 24), &["bus ✕", "bus withdrawn"]);
+    keys(&mut app, "lr");
+    assert_eq!(app.loaded().unwrap().whatif.changed(), 0);
+    keys(&mut app, "lR");
+    let l = app.loaded().unwrap();
+    assert!(l.whatif.removed.is_empty() && l.whatif.changed() == 0);
+    let base: Vec<(f64, f64)> = whatif_shares(&app);
+    assert!(base.iter().all(|(b, s)| b == s));
+}
+
+#[test]
+fn a_stale_band_is_dropped_and_the_current_one_kept() {
+    let mut app = demo(&["specs/commute.toml"]);
+    keys(&mut app, "5");
+    let old = keys(&mut app, "l");
+    let new = keys(&mut app, "l");
+    drain(&mut app, old);
+    assert!(
+        app.loaded().unwrap().whatif.band.is_none(),
+        "a stale band was kept"
+    );
+    has(&screen(&app, 80, 24), &["drawing 500 parameter sets"]);
+    drain(&mut app, new);
+    assert_eq!(
+        app.loaded().unwrap().whatif.band.as_ref().unwrap().draws,
+        worker::DRAWS
+    );
+}
+
+#[test]
+fn parsing_and_stepping_changes() {
+    assert_eq!(levers::parse_change("+10%"), Ok(Op::Multiply(1.1)));
+    assert_eq!(levers::parse_change("-5%"), Ok(Op::Multiply(0.95)));
+    assert_eq!(levers::parse_change("x1.2"), Ok(Op::Multiply(1.2)));
+    assert_eq!(levers::parse_change(" +2 "), Ok(Op::Add(2.0)));
+    assert_eq!(levers::parse_change("=3.5"), Ok(Op::Set(3.5)));
+    assert_eq!(levers::parse_change("3.5"), Ok(Op::Set(3.5)));
+    for bad in ["", "abc", "+", "x", "=inf", "NaN%"] {
+        assert!(levers::parse_change(bad).is_err(), "{bad}");
+    }
+    assert_eq!(
+        levers::stepped(None, false, false),
+        Some(Op::Multiply(0.99))
+    );
+    assert_eq!(levers::stepped(Some(Op::Multiply(0.99)), true, false), None);
+    assert_eq!(levers::stepped(Some(Op::Add(0.1)), false, false), None);
+    assert_eq!(
+        levers::stepped(Some(Op::Multiply(0.05)), false, true),
+        Some(Op::Multiply(0.0))
+    );
+}
+
+fn type_path(app: &mut App, key: char, file: &Path) {
+    keys(app, &key.to_string());
+    if let Some(Prompt::Line { text, .. }) = app.prompt.clone() {
+        for _ in text.chars() {
+            press(app, KeyCode::Backspace);
+        }
+    }
+    keys(app, &file.display().to_string());
+    press(app, KeyCode::Enter);
+}
+
+#[test]
+fn saving_and_exporting_never_overwrite_without_y() {
+    let dir = scratch("tui_save");
+    let file = dir.join("what.toml");
+    let mut app = demo(&["specs/commute.toml"]);
+    keys(&mut app, "5jjjjjjL");
+    type_path(&mut app, 's', &file);
+    let spec = model("specs/commute.toml").spec;
+    let back = Scenario::from_file(&file, &spec).unwrap();
+    let l = app.loaded().unwrap();
+    assert_eq!(back.changes, l.whatif.scenario(&spec).changes);
+    let first = std::fs::read_to_string(&file).unwrap();
+    // simulate reads the saved file
+    let (code, out, _) = run(&[
+        "simulate",
+        "specs/commute.toml",
+        "--scenario",
+        file.to_str().unwrap(),
+        "--draws",
+        "0",
+    ]);
+    assert_eq!(code, 0);
+    assert!(out.contains("0.2133"), "{out}");
+
+    keys(&mut app, "jw");
+    type_path(&mut app, 's', &file);
+    assert!(matches!(app.prompt, Some(Prompt::Overwrite { .. })));
+    keys(&mut app, "n");
+    assert!(app.status.as_ref().unwrap().text.starts_with("kept"));
+    assert_eq!(
+        std::fs::read_to_string(&file).unwrap(),
+        first,
+        "replaced without y"
+    );
+    type_path(&mut app, 's', &file);
+    keys(&mut app, "y");
+    let now = Scenario::from_file(&file, &spec).unwrap();
+    assert_eq!(now.remove, vec![2]);
+
+    let csv = dir.join("what.csv");
+    type_path(&mut app, 'x', &dir.join("what.xlsx"));
+    assert!(
+        matches!(app.prompt, Some(Prompt::Line { .. })),
+        "a bad extension keeps the prompt"
+    );
+    press(&mut app, KeyCode::Esc);
+    type_path(&mut app, 'x', &csv);
+    let body = std::fs::read_to_string(&csv).unwrap();
+    assert!(
+        body.starts_with("segment,alternative,base,scenario,change,low,high"),
+        "{body}"
+    );
+    type_path(&mut app, 'x', &csv);
+    assert!(matches!(app.prompt, Some(Prompt::Overwrite { .. })));
+    update(
+        &mut app,
+        Msg::Key(KeyEvent::new(KeyCode::Char('c'), KeyModifiers::CONTROL)),
+    );
+    assert!(app.quit, "Ctrl-C quits even in a prompt");
+}
+
+#[test]
+fn the_demand_curve_is_the_library_sweep() {
+    let mut app = demo(&["specs/commute.toml"]);
+    let jobs = keys(&mut app, "5jjjjjjc");
+    assert_eq!(app.view, View::Curve);
+    drain(&mut app, jobs);
+    let l = app.loaded().unwrap();
+    let m = &l.model;
+    let req = sharecast::scenario::sweep::Request {
+        attribute: "cost".into(),
+        alternative: "rail".into(),
+        from: 0.5,
+        to: 1.5,
+        steps: 21,
+    };
+    let want = sharecast::scenario::sweep::sweep(&m.spec, &m.fit, &m.ds, &req).unwrap();
+    let got = l.curve.sweep.as_ref().unwrap();
+    assert_eq!(got.points.len(), 21);
+    for (g, w) in got.points.iter().zip(&want.points) {
+        assert_eq!(g.shares, w.shares);
+    }
+    let s = screen(&app, 80, 24);
+    has(
+        &s,
+        &[
+            "share of rail · cost of rail scaled",
+            "×0.50",
+            "×1.50",
+            "at ×1.00: rail 0.2270",
+        ],
+    );
+    keys(&mut app, "lll");
+    has(&screen(&app, 80, 24), &["at ×1.15"]);
+    let stale = keys(&mut app, "+");
+    keys(&mut app, "-");
+    drain(&mut app, stale);
+    assert!(
+        app.loaded().unwrap().curve.sweep.is_none(),
+        "a stale curve was kept"
+    );
+}
+
+#[test]
+fn compare_sets_two_specs_side_by_side() {
+    let mut app = demo(&["specs/commute.toml"]);
+    keys(&mut app, "7");
+    has(
+        &screen(&app, 80, 24),
+        &[
+            "One spec is open",
+            "sharecast explore specs/commute.toml specs/commute_generic.toml",
+        ],
+    );
+    let mut app = demo(&["specs/commute.toml", "specs/commute_generic.toml"]);
+    keys(&mut app, "7");
+    let s = screen(&app, 100, 40);
+    has(
+        &s,
+        &[
+            "[1] specs/commute.toml",
+            "[2] specs/commute_generic.toml",
+            "asc_bus",
+            "AIC (rank)",
+            "[2] nests in [1]",
+            "LR χ²",
+        ],
+    );
+    has(&s, &["model 1/2"]);
+    keys(&mut app, &"j".repeat(200));
+    let most = sharecast::tui::compare::height(&app) as u16;
+    assert!(
+        app.scroll[6] < most && app.scroll[6] > 0,
+        "scrolled to {}",
+        app.scroll[6]
+    );
+    keys(&mut app, "gm");
+    has(
+        &screen(&app, 100, 40),
+        &["model 2/2", "specs/commute_generic.toml · logit"],
+    );
+}
+
+#[test]
+fn help_lists_every_key_and_small_terminals_are_told_to_grow() {
+    let mut app = demo(&["specs/commute.toml"]);
+    keys(&mut app, "?");
+    let s = screen(&app, 100, 30);
+    for (_, section) in keys::HELP {
+        for (_, what) in section.iter() {
+            has(&s, &[what]);
+        }
+    }
+    let doc = std::fs::read_to_string(path("docs/workbench.md"))
+        .unwrap()
+        .replace("\\|", "|");
+    for (name, section) in keys::HELP {
+        for (k, what) in section.iter() {
+            assert!(
+                doc.contains(&format!("| `{k}` | {name} | {what} |")),
+                "docs/workbench.md lacks {k}: {what}"
+            );
+        }
+    }
+    press(&mut app, KeyCode::Esc);
+    assert!(!app.help);
+    for (w, h) in [(79, 24), (80, 23), (40, 10)] {
+        has(&screen(&app, w, h), &["enlarge the terminal"]);
+    }
+    keys(&mut app, "q");
+    assert!(app.quit);
+}
+
+#[test]
+fn the_progress_view_and_a_failure_are_shown() {
+    let (mut app, jobs) = App::new(
+        vec![PathBuf::from("specs/commute.toml")],
+        None,
+        Theme::plain(),
+    );
+    assert!(matches!(jobs[0], Job::Open { .. }));
+    has(
+        &screen(&app, 80, 24),
+        &["fitting specs/commute.toml", "loading the data"],
+    );
+    let step = sharecast::estimate::Step {
+        phase: "quasi-Newton",
+        iteration: 7,
+        log_likelihood: -7000.25,
+        gradient_norm: 0.5,
+    };
+    update(&mut app, Msg::Progress { index: 0, step });
+    has(
+        &screen(&app, 80, 24),
+        &["iteration", "-7000.250000", "5.000e-1"],
+    );
+    update(&mut app, Msg::Failed("specs/x.toml: no such file".into()));
+    has(&screen(&app, 80, 24), &["could not open", "no such file"]);
+    assert!(matches!(app.stage, Stage::Failed(_)));
+}
+
+#[test]
+fn a_saved_fit_is_restored_when_its_fingerprint_matches() {
+    let dir = scratch("tui_load");
+    let saved = dir.join("fit.json");
+    let (code, _, err) = run(&[
+        "fit",
+        "specs/commute.toml",
+        "--save",
+        saved.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let quiet = |_s: sharecast::estimate::Step| {};
+    let m = worker::open_one(&path("specs/commute.toml"), Some(&saved), &quiet).unwrap();
+    assert!(m
+        .note
+        .as_deref()
+        .unwrap()
+        .starts_with("estimates loaded from"));
+    assert_close(
+        "restored LL",
+        m.fit.stats.log_likelihood,
+        model("specs/commute.toml").fit.stats.log_likelihood,
+        1e-12,
+    );
+    let other =
+        worker::open_one(&path("specs/commute_generic.toml"), Some(&saved), &quiet).unwrap();
+    assert!(other.note.as_deref().unwrap().contains("refitted"));
+}
+
+#[test]
+fn heat_cells_carry_colour_and_symbols() {
+    let colour = Theme { colour: true };
+    assert!(colour.heat(-0.7, &ELASTICITY_CUTS).bg.is_some());
+    assert_ne!(
+        colour.heat(-0.7, &ELASTICITY_CUTS).bg,
+        colour.heat(0.7, &ELASTICITY_CUTS).bg
+    );
+    let plain = Theme::plain().heat(-1.5, &ELASTICITY_CUTS);
+    assert!(plain.bg.is_none() && plain.fg.is_none());
+    assert_eq!(Theme::glyph(-1.5, &ELASTICITY_CUTS), "█");
+    assert_eq!(Theme::glyph(0.01, &ELASTICITY_CUTS), " ");
+}
+
+/// A tmux server of its own, killed when the test ends however it ends.
+struct Tmux(String);
+
+impl Tmux {
+    fn cmd(&self, args: &[&str]) -> String {
+        let out = Command::new("tmux")
+            .arg("-L")
+            .arg(&self.0)
+            .args(args)
+            .output()
+            .unwrap();
+        String::from_utf8_lossy(&out.stdout).to_string()
+    }
+    fn wait(&self, what: &str, secs: u64) -> String {
+        let t = Instant::now();
+        loop {
+            let s = self.cmd(&["capture-pane", "-p", "-t", "w"]);
+            if s.contains(what) {
+                return s;
+            }
+            assert!(
+                t.elapsed() < Duration::from_secs(secs),
+                "`{what}` did not appear:\n{s}"
+            );
+            std::thread::sleep(Duration::from_millis(100));
+        }
+    }
+}
+
+impl Drop for Tmux {
+    fn drop(&mut self) {
+        let _ = Command::new("tmux")
+            .args(["-L", &self.0, "kill-server"])
+            .output();
+    }
+}
+
+#[test]
+fn the_real_binary_runs_in_tmux() {
+    if Command::new("tmux").arg("-V").output().is_err() {
+        eprintln!("note: tmux is not installed, so the end-to-end workbench test is skipped");
+        return;
+    }
+    let dir = scratch("tui_tmux");
+    let status = dir.join("exit");
+    let t = Tmux(format!("sharecast-test-{}", std::process::id()));
+    let shell = format!(
+        "cd '{}' && '{}' explore specs/commute.toml; echo EXIT=$? > '{}'",
+        root().display(),
+        env!("CARGO_BIN_EXE_sharecast"),
+        status.display()
+    );
+    t.cmd(&[
+        "new-session",
+        "-d",
+        "-s",
+        "w",
+        "-x",
+        "120",
+        "-y",
+        "40",
+        &shell,
+    ]);
+    t.wait("converged", 60);
+    t.cmd(&["send-keys", "-t", "w", "2"]);
+    t.wait("-0.58466", 10);
+    t.cmd(&["send-keys", "-t", "w", "5"]);
+    t.wait("0.2270 → 0.2270", 10);
+    t.cmd(&["send-keys", "-t", "w", "j", "j", "j", "j", "j", "j", "L"]);
+    t.wait("0.2270 → 0.2133", 10);
+    t.wait("band: 95% of 500", 30);
+    t.cmd(&["send-keys", "-t", "w", "q"]);
+    let start = Instant::now();
+    while !std::fs::read_to_string(&status).is_ok_and(|s| s.contains("EXIT=")) {
+        assert!(
+            start.elapsed() < Duration::from_secs(10),
+            "the workbench did not quit"
+        );
+        std::thread::sleep(Duration::from_millis(100));
+    }
+    assert_eq!(std::fs::read_to_string(&status).unwrap().trim(), "EXIT=0");
+}

@@ -154,6 +154,19 @@ fn add_derived(spec: &Spec, table: &mut Table) -> Result<()> {
 }
 
 impl Observations {
+    /// In how many situations alternative `j` is available.
+    pub fn available_count(&self, j: usize) -> usize {
+        let m = self.alternatives;
+        (0..self.situations)
+            .filter(|&i| self.available[i * m + j])
+            .count()
+    }
+
+    /// How many situations chose alternative `j`.
+    pub fn chosen_count(&self, j: usize) -> usize {
+        self.chosen.iter().filter(|&&c| c as usize == j).count()
+    }
+
     /// The situations where `keep[i]` is true, with groups renumbered.
     pub fn subset(&self, keep: &[bool]) -> Observations {
         let j = self.alternatives;

@@ -39,6 +39,35 @@ pub struct ParameterRow {
     pub fixed: bool,
 }
 
+/// t statistic, two-sided normal p-value and 95% interval of one parameter under chosen errors.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Inference {
+    pub std_error: f64,
+    pub t_stat: f64,
+    pub p_value: f64,
+    pub ci_low: f64,
+    pub ci_high: f64,
+}
+
+impl ParameterRow {
+    /// The row's inference with classical (`robust = false`) or robust errors.
+    pub fn inference(&self, robust: bool) -> Inference {
+        let se = if robust {
+            self.robust_std_error
+        } else {
+            self.std_error
+        };
+        let t = self.estimate / se;
+        Inference {
+            std_error: se,
+            t_stat: t,
+            p_value: normal_p(t),
+            ci_low: self.estimate - Z95 * se,
+            ci_high: self.estimate + Z95 * se,
+        }
+    }
+}
+
 #[derive(Clone, Debug, Serialize)]
 pub struct FitStats {
     pub situations: usize,

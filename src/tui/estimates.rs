@@ -10,7 +10,7 @@ use ratatui::widgets::{Paragraph, Widget};
 use super::app::App;
 use super::keys::Action;
 use super::widgets::{fixed, interval_strip, left, panel, right};
-use crate::estimate::{normal, Fit, ParameterRow, Z95};
+use crate::estimate::{Fit, ParameterRow};
 use crate::report::{num, pval};
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
@@ -70,25 +70,14 @@ pub fn fit_robust(fit: &Fit) -> bool {
     fit.stats.inference == "robust"
 }
 
-/// The row under the chosen errors. With the fit's own choice the library's
-/// t, p and interval are shown as they are; with the other errors they follow
-/// the library's formulas (estimate / s.e., normal p, estimate ∓ z·s.e.).
+/// The row under the chosen errors, as the library computes it (`ParameterRow::inference`).
 pub fn shown(r: &ParameterRow, robust: bool, fit_is_robust: bool) -> Shown {
-    let se = if robust {
-        r.robust_std_error
-    } else {
-        r.std_error
-    };
+    let inf = r.inference(robust);
+    let se = inf.std_error;
     let (t, p, low, high) = if robust == fit_is_robust {
         (r.t_stat, r.p_value, r.ci_low, r.ci_high)
     } else {
-        let t = r.estimate / se;
-        let p = if t.is_finite() {
-            2.0 * normal::cdf(-t.abs())
-        } else {
-            f64::NAN
-        };
-        (t, p, r.estimate - Z95 * se, r.estimate + Z95 * se)
+        (inf.t_stat, inf.p_value, inf.ci_low, inf.ci_high)
     };
     Shown {
         name: r.name.clone(),

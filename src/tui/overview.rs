@@ -69,9 +69,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         )),
     ];
     for (a, alt) in spec.alternatives.iter().enumerate() {
-        let avail = (0..obs.situations)
-            .filter(|&i| obs.available.get(i * j + a).copied().unwrap_or(false))
-            .count();
+        let avail = obs.available_count(a);
         let share = fit.shares.get(a);
         let pct = 100.0 * avail as f64 / obs.situations.max(1) as f64;
         let mut name = alt.name.clone();

@@ -3,12 +3,14 @@
 
 pub mod expr;
 pub mod raw;
+mod restriction;
 mod validate;
 
 use std::path::{Path, PathBuf};
 
 pub use expr::Expr;
-pub use validate::{parse_restriction, parse_targets};
+pub use restriction::parse_restriction;
+pub use validate::parse_targets;
 
 use crate::error::{Error, Result};
 

@@ -120,6 +120,13 @@ pub struct BenchArgs {
     /// Print the figures as JSON.
     #[arg(long)]
     pub json: bool,
+    /// For profilers: only load the data and run this many likelihood+gradient
+    /// passes at the true parameters (with --hessian, full passes), then stop.
+    #[arg(long, value_name = "PASSES")]
+    pub profile: Option<usize>,
+    /// With --profile: passes with the Hessian.
+    #[arg(long, requires = "profile")]
+    pub hessian: bool,
 }
 
 /// True value of each parameter, in the spec's parameter order.
@@ -365,15 +372,26 @@ fn stream_once(d: &Design) -> f64 {
     })
 }
 
-/// Runs `sharecast fit SPEC --json` as a separate process: wall seconds and,
-/// polled from /proc every few milliseconds, its peak resident memory.
-fn time_process(spec: &Path) -> Result<(f64, Option<u64>, bool)> {
+/// This program's path (a rebuild while it runs leaves the old one " (deleted)").
+fn own_path() -> Result<PathBuf> {
     let exe = std::env::current_exe().map_err(|e| Error::Usage(format!("bench: {e}")))?;
+    let text = exe.to_string_lossy();
+    Ok(match text.strip_suffix(" (deleted)") {
+        Some(t) => PathBuf::from(t),
+        None => exe,
+    })
+}
+
+/// Runs `sharecast fit SPEC --json [extra]` as a separate process: wall seconds
+/// and, polled from /proc every few milliseconds, its peak resident memory.
+fn time_process(spec: &Path, extra: &[&str]) -> Result<(f64, Option<u64>, bool)> {
+    let exe = own_path()?;
     let started = Instant::now();
     let mut child = Command::new(exe)
         .arg("fit")
         .arg(spec)
         .arg("--json")
+        .args(extra)
         .stdin(Stdio::null())
         .stdout(Stdio::null())
         .stderr(Stdio::null())
@@ -402,7 +420,9 @@ fn mb(b: Option<u64>) -> String {
 }
 
 fn ms(s: f64) -> String {
-    if s < 1.0 {
+    if s < 0.01 {
+        format!("{:.3} ms", s * 1e3)
+    } else if s < 1.0 {
         format!("{:.1} ms", s * 1e3)
     } else {
         format!("{:.2} s", s)
@@ -410,7 +430,6 @@ fn ms(s: f64) -> String {
 }
 
 pub fn run(args: BenchArgs) -> Result<ExitCode> {
-    let process_start = Instant::now();
     if args.situations == 0 {
         return Err(Error::Usage("--situations must be at least 1".into()));
     }
@@ -433,19 +452,47 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
         );
         return Ok(ExitCode::SUCCESS);
     }
-    let result = measure(&args, &spec_path, generate_s, process_start);
+    let result = match args.profile {
+        Some(passes) => profile(&args, &spec_path, passes),
+        None => measure(&args, &spec_path, generate_s),
+    };
     if temp {
         let _ = std::fs::remove_dir_all(&dir);
     }
     result
 }
 
-fn measure(
-    args: &BenchArgs,
-    spec_path: &Path,
-    generate_s: f64,
-    process_start: Instant,
-) -> Result<ExitCode> {
+/// Runs `passes` passes at the true parameters, for a profiler to watch.
+fn profile(args: &BenchArgs, spec_path: &Path, passes: usize) -> Result<ExitCode> {
+    let spec = Spec::from_file(spec_path)?;
+    let ds = data::load(&spec, &Extra::default())?;
+    let d = Design::build(&spec, std::sync::Arc::new(ds.obs));
+    let kind = Kind {
+        family: spec.family,
+        base: spec.base,
+    };
+    let beta: Vec<f64> = truth(args.model).iter().map(|t| t.1).collect();
+    let t = Instant::now();
+    let mut ll = 0.0;
+    for _ in 0..passes {
+        ll += evaluate(&d, kind, &beta, true, args.hessian).ll;
+    }
+    let s = t.elapsed().as_secs_f64() / passes.max(1) as f64;
+    println!(
+        "{passes} passes{}: {} each, {:.1} ns per situation (log-likelihood {:.6})",
+        if args.hessian {
+            " with the Hessian"
+        } else {
+            ""
+        },
+        ms(s),
+        s * 1e9 / d.situations() as f64,
+        ll / passes.max(1) as f64
+    );
+    Ok(ExitCode::SUCCESS)
+}
+
+fn measure(args: &BenchArgs, spec_path: &Path, generate_s: f64) -> Result<ExitCode> {
     let csv_bytes = std::fs::metadata(spec_path.with_file_name("bench.csv"))
         .map(|m| m.len())
         .unwrap_or(0);
@@ -459,7 +506,13 @@ fn measure(
     let fit = crate::cli::fit_quietly(&spec, ds)?;
     let fit_s = t.elapsed().as_secs_f64();
     let peak_fit = peak_memory();
-    let in_process_s = process_start.elapsed().as_secs_f64() - generate_s;
+    // The CSV read alone (polars and the copy into columns), after the peak is taken.
+    let (numeric, text) = data::needed_columns(&spec, &Extra::default());
+    let t = Instant::now();
+    let table = data::load::read(&spec.data.file, &numeric, &text)?;
+    let read_s = t.elapsed().as_secs_f64();
+    drop(table);
+    let in_process_s = load_s + fit_s;
 
     let d = &fit.design;
     let kind = Kind {
@@ -489,14 +542,38 @@ fn measure(
         std::hint::black_box(stream_once(d));
         stream_t.push(t.elapsed().as_secs_f64());
     }
+    // Where the fit's time goes: the main optimisation, the constants-only
+    // reference model (for rho-squared), and the per-situation scores.
+    let free: Vec<usize> = fit.free.clone();
+    let start: Vec<f64> = spec.parameters.iter().map(|p| p.start).collect();
+    let quiet = |_s: crate::estimate::Step| {};
+    let t = Instant::now();
+    let main_out = crate::estimate::optimise::maximise(d, kind, &start, &free, &quiet);
+    let main_s = t.elapsed().as_secs_f64();
+    let cspec = spec.constants_only();
+    let cd = Design::build(&cspec, d.obs.clone());
+    let cfree: Vec<usize> = (0..cd.params).collect();
+    let t = Instant::now();
+    let const_out =
+        crate::estimate::optimise::maximise(&cd, kind, &vec![0.0; cd.params], &cfree, &quiet);
+    let const_s = t.elapsed().as_secs_f64();
+    let t = Instant::now();
+    let mut score_sum = 0.0;
+    crate::estimate::likelihood::for_each_score(d, kind, beta, |_, s| score_sum += s[0]);
+    std::hint::black_box(score_sum);
+    let scores_s = t.elapsed().as_secs_f64();
+
     let pass_s = median(grad_t);
     let hess_s = median(hess_t);
     let stream_s = median(stream_t);
     let bytes = pass_bytes(d);
-    let process = if args.no_process {
-        None
+    let (process, process_analysis) = if args.no_process {
+        (None, None)
     } else {
-        Some(time_process(spec_path)?)
+        (
+            Some(time_process(spec_path, &["--no-analysis"])?),
+            Some(time_process(spec_path, &[])?),
+        )
     };
 
     let truth = truth(args.model);
@@ -533,6 +610,7 @@ fn measure(
         "csv_bytes": csv_bytes,
         "generate_seconds": generate_s,
         "load_seconds": load_s,
+        "csv_read_seconds": read_s,
         "fit_seconds": fit_s,
         "load_and_fit_seconds": in_process_s,
         "pass_seconds": pass_s,
@@ -541,6 +619,11 @@ fn measure(
         "pass_bytes": bytes,
         "pass_over_stream": pass_s / stream_s,
         "passes": s.passes,
+        "main_optimisation_seconds": main_s,
+        "main_optimisation_passes": main_out.passes,
+        "constants_model_seconds": const_s,
+        "constants_model_passes": const_out.passes,
+        "scores_seconds": scores_s,
         "bfgs_iterations": s.iterations,
         "newton_steps": s.newton_steps,
         "converged": s.converged,
@@ -552,6 +635,9 @@ fn measure(
         "process_seconds": process.map(|p| p.0),
         "process_peak_memory_bytes": process.and_then(|p| p.1),
         "process_succeeded": process.map(|p| p.2),
+        "process_with_analysis_seconds": process_analysis.map(|p| p.0),
+        "process_with_analysis_peak_memory_bytes": process_analysis.and_then(|p| p.1),
+        "process_with_analysis_succeeded": process_analysis.map(|p| p.2),
         "max_abs_z_vs_truth": max_z,
         "estimates": fit_rows,
     });
@@ -574,7 +660,10 @@ fn measure(
             "simulate and write the CSV",
             format!("{} ({:.0} MB)", ms(generate_s), csv_bytes as f64 / 1e6),
         ),
-        ("load the CSV (data::load)", ms(load_s)),
+        (
+            "load the CSV (data::load)",
+            format!("{}  (the CSV read alone {})", ms(load_s), ms(read_s)),
+        ),
         (
             "fit (estimate::fit, all of it)",
             format!(
@@ -585,6 +674,15 @@ fn measure(
                 s.newton_steps
             ),
         ),
+        (
+            "  of which: the optimisation",
+            format!("{}  ({} passes)", ms(main_s), main_out.passes),
+        ),
+        (
+            "  the constants-only model",
+            format!("{}  ({} passes)", ms(const_s), const_out.passes),
+        ),
+        ("  per-situation scores", ms(scores_s)),
         ("load + fit in this process", ms(in_process_s)),
         (
             "likelihood + gradient pass",
@@ -612,16 +710,21 @@ fn measure(
         ),
     ];
     let mut rows = rows;
-    if let Some((wall, peak, ok)) = process {
-        rows.push((
-            "`sharecast fit` as a process",
-            format!(
-                "{} wall, peak {}{}",
-                ms(wall),
-                mb(peak),
-                if ok { "" } else { "  (it FAILED)" }
-            ),
-        ));
+    for (label, p) in [
+        ("`sharecast fit --no-analysis`", process),
+        ("`sharecast fit` (with analysis)", process_analysis),
+    ] {
+        if let Some((wall, peak, ok)) = p {
+            rows.push((
+                label,
+                format!(
+                    "{} wall, peak {}{}",
+                    ms(wall),
+                    mb(peak),
+                    if ok { "" } else { "  (it FAILED)" }
+                ),
+            ));
+        }
     }
     rows.push((
         "log-likelihood at the estimates",

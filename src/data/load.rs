@@ -131,10 +131,22 @@ pub fn read(path: &Path, numeric: &[String], text: &[String]) -> Result<Table> {
     if nrows == 0 {
         return Err(Error::data(path, "the file has a header but no data rows"));
     }
+    for name in &wanted {
+        df.column(name).map_err(|e| polars_err(path, e))?;
+    }
+    // Columns are taken out of the frame one at a time and dropped once
+    // converted, so that the file is not held twice over at its full size.
+    let mut columns = df.into_columns();
     let mut table = Table::new(path, nrows);
     for name in &wanted {
-        let col = df.column(name).map_err(|e| polars_err(path, e))?;
-        let series = col.as_materialized_series();
+        let Some(at) = columns.iter().position(|c| c.name().as_str() == name) else {
+            return Err(Error::data(
+                path,
+                format!("could not be read as data: no column `{name}`"),
+            ));
+        };
+        let series = columns.swap_remove(at).take_materialized_series();
+        let series = &series;
         let converted = if is_text(name) {
             let t = text_values(series).map_err(|e| polars_err(path, e))?;
             // A column wanted both ways (a segment that a filter also reads) stays numeric when it can.
@@ -179,8 +191,23 @@ fn numeric_values(s: &Series) -> PolarsResult<Vec<f64>> {
             .map(|v| v.map(|b| b as u8 as f64).unwrap_or(f64::NAN))
             .collect());
     }
+    if let DataType::Float64 = s.dtype() {
+        return Ok(f64_values(s.f64()?));
+    }
     let f = s.cast(&DataType::Float64)?;
-    Ok(f.f64()?.iter().map(|v| v.unwrap_or(f64::NAN)).collect())
+    Ok(f64_values(f.f64()?))
+}
+
+/// Float64 values with missing ones as NaN, copied chunk by chunk.
+fn f64_values(ca: &Float64Chunked) -> Vec<f64> {
+    if ca.null_count() > 0 {
+        return ca.iter().map(|v| v.unwrap_or(f64::NAN)).collect();
+    }
+    let mut out = Vec::with_capacity(ca.len());
+    for arr in ca.downcast_iter() {
+        out.extend_from_slice(arr.values());
+    }
+    out
 }
 
 fn text_values(s: &Series) -> PolarsResult<Vec<Option<String>>> {

@@ -86,26 +86,73 @@ fn groups(spec: &Spec, table: &Table, rows: &[usize]) -> Result<(Option<Vec<u32>
     Ok((Some(out), index.len()))
 }
 
+/// The chosen alternative of each row of a wide file. The few distinct values of
+/// the choice column are looked up once each (a file has millions of rows but
+/// a handful of alternatives); rows are read in place rather than copied.
+fn wide_choices(spec: &Spec, table: &Table, choice: &str) -> Result<Vec<u32>> {
+    let lookup = alt_lookup(spec);
+    let unknown = |i: usize, k: &str| {
+        Error::data(
+            &table.file,
+            format!(
+                "column `{choice}` ([data].choice), row {}: `{k}` is not a declared alternative or code (declared: {})",
+                i + 1,
+                declared(spec)
+            ),
+        )
+    };
+    let mut chosen = Vec::with_capacity(table.nrows);
+    match table.column(choice) {
+        Some(Column::Text(v)) if v.iter().all(|k| k.is_some()) => {
+            let mut seen: Vec<(&str, u32)> = Vec::new();
+            for (i, k) in v.iter().enumerate() {
+                let k = k.as_deref().unwrap_or_default();
+                let j = match seen.iter().find(|s| s.0 == k) {
+                    Some(s) => s.1,
+                    None => {
+                        let j = lookup(k).ok_or_else(|| unknown(i, k))? as u32;
+                        if seen.len() < 64 {
+                            seen.push((k, j));
+                        }
+                        j
+                    }
+                };
+                chosen.push(j);
+            }
+        }
+        Some(Column::Num(v)) if v.iter().all(|x| !x.is_nan()) => {
+            let mut seen: Vec<(u64, u32)> = Vec::new();
+            for (i, x) in v.iter().enumerate() {
+                let bits = x.to_bits();
+                let j = match seen.iter().find(|s| s.0 == bits) {
+                    Some(s) => s.1,
+                    None => {
+                        let k = super::table::number_key(*x);
+                        let j = lookup(&k).ok_or_else(|| unknown(i, &k))? as u32;
+                        if seen.len() < 64 {
+                            seen.push((bits, j));
+                        }
+                        j
+                    }
+                };
+                chosen.push(j);
+            }
+        }
+        // Missing values or no such column: the keys' own errors.
+        _ => {
+            for (i, k) in table.keys(choice, "[data].choice")?.iter().enumerate() {
+                chosen.push(lookup(k).ok_or_else(|| unknown(i, k))? as u32);
+            }
+        }
+    }
+    Ok(chosen)
+}
+
 pub(super) fn wide(spec: &Spec, table: &Table, choice: &str) -> Result<Observations> {
     let n = table.nrows;
     let nalt = spec.alternatives.len();
     let file = &table.file;
-    let lookup = alt_lookup(spec);
-    let keys = table.keys(choice, "[data].choice")?;
-    let mut chosen = Vec::with_capacity(n);
-    for (i, k) in keys.iter().enumerate() {
-        let j = lookup(k).ok_or_else(|| {
-            Error::data(
-                file,
-                format!(
-                    "column `{choice}` ([data].choice), row {}: `{k}` is not a declared alternative or code (declared: {})",
-                    i + 1,
-                    declared(spec)
-                ),
-            )
-        })?;
-        chosen.push(j as u32);
-    }
+    let chosen = wide_choices(spec, table, choice)?;
     let mut available = vec![true; n * nalt];
     for (j, alt) in spec.alternatives.iter().enumerate() {
         if let Some(c) = &alt.available {

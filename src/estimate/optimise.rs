@@ -222,6 +222,7 @@ pub fn maximise(
     let mut newton_steps = 0;
     let mut converged = false;
     let mut criterion = f64::INFINITY;
+    let mut stalls = 0;
     let mut e = evaluate(d, kind, &beta, true, true);
     passes.fetch_add(1, Ordering::Relaxed);
     for _ in 0..100 {
@@ -235,11 +236,6 @@ pub fn maximise(
         };
         let step = ch.solve(&g);
         criterion = g.dot(&step);
-        eprintln!(
-            "TRACE newton k={k} ll={} crit={criterion:e} gn={:e}",
-            e.ll,
-            g.norm()
-        );
         progress(Step {
             phase: "Newton",
             iteration: bfgs_iterations + newton_steps,
@@ -253,7 +249,8 @@ pub fn maximise(
             for (s, &i) in free.iter().enumerate() {
                 last[i] += step[s];
             }
-            let el = evaluate(d, kind, &last, true, true);
+            // Only its log-likelihood and gradient are used from here on.
+            let el = evaluate(d, kind, &last, true, false);
             passes.fetch_add(1, Ordering::Relaxed);
             if el.ll.is_finite() && el.ll >= e.ll - 1e-9 * e.ll.abs().max(1.0) {
                 beta = last;
@@ -264,6 +261,7 @@ pub fn maximise(
         }
         let mut t = 1.0;
         let mut accepted = false;
+        let mut improved = false;
         while t > 1e-12 {
             let mut trial = beta.clone();
             for (s, &i) in free.iter().enumerate() {
@@ -272,17 +270,24 @@ pub fn maximise(
             let et = evaluate(d, kind, &trial, true, true);
             passes.fetch_add(1, Ordering::Relaxed);
             if et.ll.is_finite() && et.ll >= e.ll - 1e-12 * e.ll.abs().max(1.0) {
+                improved = et.ll > e.ll;
                 beta = trial;
                 e = et;
                 accepted = true;
                 break;
             }
-            eprintln!("TRACE   trial t={t} ll={} vs {}", et.ll, e.ll);
             t *= 0.5;
         }
         newton_steps += 1;
         if !accepted {
             // No improving step: at the optimum up to rounding.
+            converged = criterion < 1e-6;
+            break;
+        }
+        // Steps that no longer raise the log-likelihood at all: it is at its
+        // maximum to rounding, and more steps would only wander within it.
+        stalls = if improved { 0 } else { stalls + 1 };
+        if stalls >= 3 {
             converged = criterion < 1e-6;
             break;
         }

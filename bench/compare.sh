@@ -1,0 +1,31 @@
+#!/usr/bin/env bash
+# Side-by-side timing of `sharecast fit` against statsmodels (MNLogit and
+# ConditionalLogit) on invented data simulated by `sharecast bench`.
+#
+#   bench/compare.sh                  # 200,000 situations (MNLogit), 20,000 (ConditionalLogit)
+#   bench/compare.sh --condlogit-n 5000  # a smaller ConditionalLogit case (it is slow)
+#   bench/compare.sh --mnl-n 100000 --repeats 5
+#
+# Everything it makes goes under bench/out/ (git-ignored): the data, a copy of
+# the binary (so that a rebuild while it runs changes nothing), a throwaway
+# virtual environment with statsmodels and pandas, and compare.json.
+set -euo pipefail
+
+here="$(cd "$(dirname "$0")" && pwd)"
+root="$(dirname "$here")"
+out="$here/out"
+mkdir -p "$out"
+
+(cd "$root" && cargo build --release)
+cp "$root/target/release/sharecast" "$out/sharecast"
+
+venv="$out/venv"
+if [ ! -x "$venv/bin/python" ]; then
+    python3 -m venv "$venv"
+    "$venv/bin/pip" install --quiet --upgrade pip
+    "$venv/bin/pip" install --quiet statsmodels pandas
+fi
+
+echo "machine: $(nproc) cores, $(grep -m1 'model name' /proc/cpuinfo | cut -d: -f2 | xargs), \
+$(awk '/MemTotal/ {printf "%.1f GB", $2/1e6}' /proc/meminfo)"
+"$venv/bin/python" "$here/compare.py" --sharecast "$out/sharecast" --out "$out" "$@"

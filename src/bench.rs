@@ -105,7 +105,8 @@ pub struct BenchArgs {
     /// Which model to simulate and fit.
     #[arg(long, value_enum, default_value_t = Model::Full)]
     pub model: Model,
-    /// Write the data and spec into this folder and keep them (default: a temporary folder, removed after).
+    /// Write the data and spec into this folder and keep them, replacing its
+    /// bench.csv and bench.toml (default: a temporary folder, removed after).
     #[arg(long, value_name = "DIR")]
     pub keep: Option<PathBuf>,
     /// Only write the data and spec (needs --keep); time nothing.
@@ -341,7 +342,8 @@ fn sum(x: &[f64]) -> f64 {
 }
 
 /// Reads every byte a logit pass reads once (summing them), split over the
-/// cores the way the pass is; returns the sum so that nothing is optimised away.
+/// cores the way the pass is (`likelihood::on_pieces`); returns the sum so that
+/// nothing is optimised away.
 fn stream_once(d: &Design) -> f64 {
     let o: &Observations = &d.obs;
     let j = o.alternatives;
@@ -362,14 +364,9 @@ fn stream_once(d: &Design) -> f64 {
         t += o.chosen[r].iter().map(|&c| c as u64).sum::<u64>() as f64;
         t
     };
-    let chunks = d.chunks();
-    std::thread::scope(|s| {
-        let hs: Vec<_> = chunks
-            .into_iter()
-            .map(|r| s.spawn(move || run(r)))
-            .collect();
-        hs.into_iter().map(|h| h.join().unwrap_or(f64::NAN)).sum()
-    })
+    crate::estimate::likelihood::on_pieces(o.situations, run)
+        .into_iter()
+        .sum()
 }
 
 /// This program's path (a rebuild while it runs leaves the old one " (deleted)").

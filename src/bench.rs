@@ -560,6 +560,31 @@ fn measure(args: &BenchArgs, spec_path: &Path, generate_s: f64) -> Result<ExitCo
     std::hint::black_box(score_sum);
     let scores_s = t.elapsed().as_secs_f64();
 
+    // A what-if after one change (the first attribute of the second alternative
+    // x 1.1): prepare the change and re-simulate every situation, point estimate only.
+    let whatif = crate::scenario::Scenario {
+        name: "bench".into(),
+        changes: vec![crate::scenario::Change {
+            target: crate::scenario::Target::Attribute {
+                attribute: 0,
+                alternative: 1.min(d.alternatives() - 1),
+            },
+            op: crate::scenario::Op::Multiply(1.1),
+            filter: None,
+        }],
+        ..Default::default()
+    };
+    let empty = crate::data::Table::new(&spec.data.file, d.situations());
+    let mut whatif_t = Vec::new();
+    for _ in 0..reps {
+        let t = Instant::now();
+        let prep = crate::scenario::prepare::prepare(&spec, d, &empty, &whatif)?;
+        let pass = crate::scenario::simulate::run(d, kind, beta, &prep, None, None);
+        std::hint::black_box(pass.scenario[0]);
+        whatif_t.push(t.elapsed().as_secs_f64());
+    }
+    let whatif_s = median(whatif_t);
+
     let pass_s = median(grad_t);
     let hess_s = median(hess_t);
     let stream_s = median(stream_t);
@@ -615,6 +640,7 @@ fn measure(args: &BenchArgs, spec_path: &Path, generate_s: f64) -> Result<ExitCo
         "stream_seconds": stream_s,
         "pass_bytes": bytes,
         "pass_over_stream": pass_s / stream_s,
+        "whatif_seconds": whatif_s,
         "passes": s.passes,
         "main_optimisation_seconds": main_s,
         "main_optimisation_passes": main_out.passes,
@@ -696,6 +722,13 @@ fn measure(args: &BenchArgs, spec_path: &Path, generate_s: f64) -> Result<ExitCo
             ),
         ),
         ("pass / stream", format!("{:.2}x", pass_s / stream_s)),
+        (
+            "what-if after one change (point)",
+            format!(
+                "{}  (median of {reps}; prepare and re-simulate)",
+                ms(whatif_s)
+            ),
+        ),
         (
             "peak memory (VmHWM, this process)",
             format!(

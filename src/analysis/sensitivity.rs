@@ -103,73 +103,50 @@ pub fn sensitivities(d: &Design, kind: Kind, map: &TermMap, beta: &[f64]) -> Sen
         2 * na * j * j + 2 * nc * j,
     );
     let width = o4 + j;
-    let sums = {
-        let run = |range: std::ops::Range<usize>| {
-            let mut acc = vec![0.0; width];
-            let mut v = vec![0.0; j];
-            let mut p = vec![0.0; j];
-            let mut dp = vec![0.0; j * j];
-            for i in range {
-                d.utilities(beta, i, &mut v);
-                crate::estimate::likelihood::probabilities_from_utilities(kind, &v, &mut p);
-                dprob(kind, &v, &p, &mut dp);
-                let wi = w[i];
-                for a in 0..na {
-                    for k in 0..j {
-                        let Some(param) = map.attribute[a][k] else {
-                            continue;
-                        };
-                        if !d.available(i, k) {
-                            continue;
-                        }
-                        let b = beta[param];
-                        let x = d.obs.attributes[a][i * j + k];
-                        for jj in 0..j {
-                            let dpk = dp[jj * j + k];
-                            acc[(a * j + k) * j + jj] += wi * b * x * dpk;
-                            acc[o1 + (a * j + k) * j + jj] += wi * b * dpk;
-                        }
+    let sums = d.par_fold(width, |range, acc| {
+        let mut v = vec![0.0; j];
+        let mut p = vec![0.0; j];
+        let mut dp = vec![0.0; j * j];
+        for i in range {
+            d.utilities(beta, i, &mut v);
+            crate::estimate::likelihood::probabilities_from_utilities(kind, &v, &mut p);
+            dprob(kind, &v, &p, &mut dp);
+            let wi = w[i];
+            for a in 0..na {
+                for k in 0..j {
+                    let Some(param) = map.attribute[a][k] else {
+                        continue;
+                    };
+                    if !d.available(i, k) {
+                        continue;
                     }
-                }
-                for c in 0..nc {
-                    let z = d.obs.characteristics[c][i];
+                    let b = beta[param];
+                    let x = d.obs.attributes[a][i * j + k];
                     for jj in 0..j {
-                        let mut s = 0.0;
-                        for l in 0..j {
-                            if let Some(param) = map.characteristic[c][l] {
-                                s += dp[jj * j + l] * beta[param];
-                            }
-                        }
-                        acc[o2 + c * j + jj] += wi * z * s;
-                        acc[o3 + c * j + jj] += wi * s;
+                        let dpk = dp[jj * j + k];
+                        acc[(a * j + k) * j + jj] += wi * b * x * dpk;
+                        acc[o1 + (a * j + k) * j + jj] += wi * b * dpk;
                     }
-                }
-                for jj in 0..j {
-                    acc[o4 + jj] += wi * p[jj];
                 }
             }
-            acc
-        };
-        let chunks = d.chunks();
-        let parts: Vec<Vec<f64>> = if chunks.len() <= 1 {
-            chunks.into_iter().map(run).collect()
-        } else {
-            std::thread::scope(|s| {
-                let hs: Vec<_> = chunks
-                    .into_iter()
-                    .map(|r| s.spawn(move || run(r)))
-                    .collect();
-                hs.into_iter()
-                    .map(|h| h.join().unwrap_or_else(|e| std::panic::resume_unwind(e)))
-                    .collect()
-            })
-        };
-        let mut out = vec![0.0; width];
-        for p in parts {
-            out.iter_mut().zip(&p).for_each(|(a, b)| *a += b);
+            for c in 0..nc {
+                let z = d.obs.characteristics[c][i];
+                for jj in 0..j {
+                    let mut s = 0.0;
+                    for l in 0..j {
+                        if let Some(param) = map.characteristic[c][l] {
+                            s += dp[jj * j + l] * beta[param];
+                        }
+                    }
+                    acc[o2 + c * j + jj] += wi * z * s;
+                    acc[o3 + c * j + jj] += wi * s;
+                }
+            }
+            for jj in 0..j {
+                acc[o4 + jj] += wi * p[jj];
+            }
         }
-        out
-    };
+    });
     let tw = d.total_weight();
     let psum = &sums[o4..o4 + j];
     let ratio = |num: f64, jj: usize| {

@@ -13,8 +13,7 @@ where
     F: Fn(usize, &[f64], &mut [f64]) + Sync,
 {
     let j = d.alternatives();
-    let run = |range: std::ops::Range<usize>| {
-        let mut acc = vec![0.0; width];
+    d.par_fold(width, |range, acc| {
         let mut v = vec![0.0; j];
         let mut p = vec![0.0; j];
         for i in range {
@@ -24,29 +23,9 @@ where
                 continue; // nothing left to choose
             }
             probabilities_from_utilities(kind, &v, &mut p);
-            f(i, &p, &mut acc);
+            f(i, &p, acc);
         }
-        acc
-    };
-    let chunks = d.chunks();
-    let parts: Vec<Vec<f64>> = if chunks.len() <= 1 {
-        chunks.into_iter().map(run).collect()
-    } else {
-        std::thread::scope(|s| {
-            let hs: Vec<_> = chunks
-                .into_iter()
-                .map(|r| s.spawn(move || run(r)))
-                .collect();
-            hs.into_iter()
-                .map(|h| h.join().unwrap_or_else(|e| std::panic::resume_unwind(e)))
-                .collect()
-        })
-    };
-    let mut out = vec![0.0; width];
-    for p in parts {
-        out.iter_mut().zip(&p).for_each(|(a, b)| *a += b);
-    }
-    out
+    })
 }
 
 /// Weighted aggregate shares (divided by the total weight of all situations).

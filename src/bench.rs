@@ -579,7 +579,8 @@ fn measure(args: &BenchArgs, spec_path: &Path, generate_s: f64) -> Result<ExitCo
     for _ in 0..reps {
         let t = Instant::now();
         let prep = crate::scenario::prepare::prepare(&spec, d, &empty, &whatif)?;
-        let pass = crate::scenario::simulate::run(d, kind, beta, &prep, None, None);
+        let pass =
+            crate::scenario::simulate::run(d, kind, beta, &prep, None, None, Some(fit.baseline()));
         std::hint::black_box(pass.scenario[0]);
         whatif_t.push(t.elapsed().as_secs_f64());
     }
@@ -725,7 +726,7 @@ fn measure(args: &BenchArgs, spec_path: &Path, generate_s: f64) -> Result<ExitCo
         (
             "what-if after one change (point)",
             format!(
-                "{}  (median of {reps}; prepare and re-simulate)",
+                "{}  (median of {reps}; prepare and re-simulate against the cached base)",
                 ms(whatif_s)
             ),
         ),

@@ -110,7 +110,14 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
             let other = data::load_file(&spec, file, &extra)?;
             let design =
                 crate::design::Design::build(&spec, std::sync::Arc::new(other.obs.clone()));
-            (crate::estimate::Fit { design, ..fit }, other)
+            (
+                crate::estimate::Fit {
+                    design,
+                    baseline: Default::default(),
+                    ..fit
+                },
+                other,
+            )
         }
     };
     let opts = scenario::Options {

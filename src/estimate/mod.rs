@@ -116,9 +116,55 @@ pub struct Fit {
     pub stats: FitStats,
     pub shares: Vec<ShareRow>,
     pub diagnostics: Vec<Diagnostic>,
+    /// Utilities and probabilities of every situation at `beta`, computed on first use
+    /// (what-ifs re-simulate against them). Reset it when the design changes.
+    pub baseline: std::sync::OnceLock<Baseline>,
+}
+
+/// Each situation's utilities and choice probabilities at the estimates, `[i * J + j]`.
+#[derive(Clone, Debug, Default)]
+pub struct Baseline {
+    pub utilities: Vec<f64>,
+    pub probabilities: Vec<f64>,
+}
+
+impl Baseline {
+    pub fn new(d: &Design, kind: Kind, beta: &[f64]) -> Baseline {
+        let j = d.alternatives();
+        let n = d.situations();
+        let mut utilities = vec![0.0; n * j];
+        let mut probabilities = vec![0.0; n * j];
+        let chunks = d.chunks();
+        let per = chunks.first().map(|c| c.len()).unwrap_or(n).max(1) * j;
+        std::thread::scope(|s| {
+            for (k, (u, p)) in utilities
+                .chunks_mut(per)
+                .zip(probabilities.chunks_mut(per))
+                .enumerate()
+            {
+                s.spawn(move || {
+                    let first = k * per / j.max(1);
+                    for (r, (ui, pi)) in u.chunks_mut(j).zip(p.chunks_mut(j)).enumerate() {
+                        d.utilities(beta, first + r, ui);
+                        likelihood::probabilities_from_utilities(kind, ui, pi);
+                    }
+                });
+            }
+        });
+        Baseline {
+            utilities,
+            probabilities,
+        }
+    }
 }
 
 impl Fit {
+    /// The baseline at the estimates (computed once).
+    pub fn baseline(&self) -> &Baseline {
+        self.baseline
+            .get_or_init(|| Baseline::new(&self.design, self.kind, &self.beta))
+    }
+
     /// The covariance that inference uses (robust when the data have groups).
     pub fn inference_covariance(&self) -> &DMatrix<f64> {
         if self.design.obs.group.is_some() {
@@ -373,5 +419,6 @@ fn finish(
         stats,
         shares,
         diagnostics,
+        baseline: std::sync::OnceLock::new(),
     })
 }

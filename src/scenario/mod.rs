@@ -171,7 +171,9 @@ pub fn forecast(
         None => None,
     };
     let seg_arg = seg.as_ref().map(|(i, l)| (i.as_slice(), l.len()));
-    let point = simulate::run(d, fit.kind, &beta, &prep, seg_arg, scenario.price);
+    // The cached baseline applies when the parameters are the estimates (no calibration).
+    let baseline = (beta == fit.beta).then(|| fit.baseline());
+    let point = simulate::run(d, fit.kind, &beta, &prep, seg_arg, scenario.price, baseline);
     let m = prep.alternatives();
     let mut warnings = Vec::new();
 

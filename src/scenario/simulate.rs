@@ -5,6 +5,7 @@
 use super::prepare::Prepared;
 use crate::design::Design;
 use crate::estimate::likelihood::{probabilities_from_utilities, Kind};
+use crate::estimate::Baseline;
 
 /// What one pass over the situations gives (all divided by the relevant total weight).
 #[derive(Clone, Debug)]
@@ -45,6 +46,7 @@ pub fn pair(p0: &[f64], p1: &[f64], flows: &mut [f64], w: f64) {
 }
 
 /// Point simulation at `beta`. `segments` gives each situation's segment index (and the count of segments).
+/// `baseline`, when given, holds the base utilities and probabilities at this `beta`.
 pub fn run(
     d: &Design,
     kind: Kind,
@@ -52,6 +54,7 @@ pub fn run(
     prep: &Prepared,
     segments: Option<(&[u32], usize)>,
     price: Option<usize>,
+    baseline: Option<&Baseline>,
 ) -> Pass {
     let j = d.alternatives();
     let m = prep.alternatives();
@@ -86,8 +89,16 @@ pub fn run(
         let mut p0 = vec![0.0; m];
         let mut p1 = vec![0.0; m];
         for i in range {
-            d.utilities(beta, i, &mut v);
-            probabilities_from_utilities(kind, &v, &mut p0[..j]);
+            match baseline {
+                Some(b) => {
+                    v.copy_from_slice(&b.utilities[i * j..(i + 1) * j]);
+                    p0[..j].copy_from_slice(&b.probabilities[i * j..(i + 1) * j]);
+                }
+                None => {
+                    d.utilities(beta, i, &mut v);
+                    probabilities_from_utilities(kind, &v, &mut p0[..j]);
+                }
+            }
             p0[j..].iter_mut().for_each(|x| *x = 0.0);
             prep.utilities(d, beta, i, &v, &mut v1);
             if v1.iter().all(|x| !x.is_finite()) {
@@ -168,6 +179,6 @@ pub fn shares_only(
     prep: &Prepared,
     segments: Option<(&[u32], usize)>,
 ) -> (Vec<f64>, Vec<f64>, SegmentShares) {
-    let p = run(d, kind, beta, prep, segments, None);
+    let p = run(d, kind, beta, prep, segments, None, None);
     (p.base, p.scenario, p.segments)
 }

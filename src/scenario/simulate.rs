@@ -45,6 +45,44 @@ pub fn pair(p0: &[f64], p1: &[f64], flows: &mut [f64], w: f64) {
     }
 }
 
+/// Logit scenario probabilities from the base ones: P'_j = P_j r_j / sum_l P_l r_l with
+/// r_j = exp(V'_j - V_j), so that only the alternatives whose utility changed cost an
+/// exponential, and a situation nothing touched keeps its probabilities exactly.
+/// Returns false (the caller then uses the full softmax) when the shortcut does not
+/// apply: an alternative that becomes available, or a utility rising by more than 50.
+#[inline]
+fn rescale(v0: &[f64], v1: &[f64], p0: &[f64], p1: &mut [f64]) -> bool {
+    let mut changed = false;
+    let mut s = 0.0;
+    for a in 0..v0.len() {
+        let (b, n) = (v0[a], v1[a]);
+        let r = if b == n || (!b.is_finite() && !n.is_finite()) {
+            1.0
+        } else if !b.is_finite() {
+            return false;
+        } else if !n.is_finite() {
+            changed = true;
+            0.0
+        } else if n - b > 50.0 {
+            return false;
+        } else {
+            changed = true;
+            (n - b).exp()
+        };
+        p1[a] = p0[a] * r;
+        s += p1[a];
+    }
+    if !changed {
+        p1.copy_from_slice(p0);
+        return true;
+    }
+    if s.is_nan() || s <= 0.0 {
+        return false;
+    }
+    p1.iter_mut().for_each(|x| *x /= s);
+    true
+}
+
 /// Point simulation at `beta`. `segments` gives each situation's segment index (and the count of segments).
 /// `baseline`, when given, holds the base utilities and probabilities at this `beta`.
 pub fn run(
@@ -83,6 +121,7 @@ pub fn run(
             })
         })
         .collect();
+    let logit = kind.family == crate::spec::Family::Logit;
     let acc = d.par_fold(width, |range, acc| {
         let mut v = vec![0.0; j];
         let mut v1 = vec![0.0; m];
@@ -103,7 +142,7 @@ pub fn run(
             prep.utilities(d, beta, i, &v, &mut v1);
             if v1.iter().all(|x| !x.is_finite()) {
                 p1.iter_mut().for_each(|x| *x = 0.0);
-            } else {
+            } else if !(logit && m == j && rescale(&v, &v1, &p0, &mut p1)) {
                 probabilities_from_utilities(kind, &v1, &mut p1);
             }
             let wi = w[i];

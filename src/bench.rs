@@ -11,15 +11,12 @@ use std::path::{Path, PathBuf};
 use std::process::{Command, ExitCode, Stdio};
 use std::time::{Duration, Instant};
 
-use clap::{Args, ValueEnum};
 use serde_json::json;
 
 use crate::data::{self, Extra, Observations};
 use crate::design::Design;
 use crate::error::{Error, Result};
-use crate::estimate::likelihood::{evaluate, Kind};
 use crate::rng::Rng;
-use crate::spec::Spec;
 
 /// Alternatives of the simulated choice (the first is the base).
 const ALTS: [&str; 5] = ["a1", "a2", "a3", "a4", "a5"];
@@ -28,7 +25,7 @@ const ALTS: [&str; 5] = ["a1", "a2", "a3", "a4", "a5"];
 pub const SEED: u64 = 20_251_201;
 
 /// The simulated model.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Model {
     /// 4 constants, 3 shared attributes (a column per alternative), 2
     /// characteristics on the 4 non-base alternatives: 15 parameters.
@@ -38,7 +35,7 @@ pub enum Model {
 }
 
 impl Model {
-    fn label(self) -> &'static str {
+    pub fn label(self) -> &'static str {
         match self {
             Model::Full => "full",
             Model::Characteristics => "characteristics",
@@ -97,36 +94,26 @@ const INCOME: [f64; 4] = [0.010, -0.008, 0.005, 0.012];
 /// True age coefficients of a2..a5 (age in years, 18..80).
 const AGE: [f64; 4] = [-0.015, 0.010, 0.020, -0.005];
 
-#[derive(Args, Debug)]
-pub struct BenchArgs {
+/// What `sharecast bench` runs (the command line's flags, `cli::benchcmd`).
+#[derive(Clone, Debug)]
+pub struct Options {
     /// Number of choice situations to simulate.
-    #[arg(long, default_value_t = 1_000_000)]
     pub situations: usize,
     /// Which model to simulate and fit.
-    #[arg(long, value_enum, default_value_t = Model::Full)]
     pub model: Model,
-    /// Write the data and spec into this folder and keep them, replacing its
-    /// bench.csv and bench.toml (default: a temporary folder, removed after).
-    #[arg(long, value_name = "DIR")]
+    /// Keep the data and spec in this folder (else a temporary one, removed after).
     pub keep: Option<PathBuf>,
-    /// Only write the data and spec (needs --keep); time nothing.
-    #[arg(long, requires = "keep")]
+    /// Only write the data and spec; time nothing.
     pub write_only: bool,
-    /// Timed repetitions of the likelihood pass and of the streaming pass (the median is reported).
-    #[arg(long, default_value_t = 9)]
+    /// Timed repetitions of the passes (the median is reported).
     pub repeats: usize,
     /// Skip the run of `sharecast fit` as a separate process.
-    #[arg(long)]
     pub no_process: bool,
     /// Print the figures as JSON.
-    #[arg(long)]
     pub json: bool,
-    /// For profilers: only load the data and run this many likelihood+gradient
-    /// passes at the true parameters (with --hessian, full passes), then stop.
-    #[arg(long, value_name = "PASSES")]
+    /// For profilers: only load and run this many passes at the true parameters.
     pub profile: Option<usize>,
-    /// With --profile: passes with the Hessian.
-    #[arg(long, requires = "profile")]
+    /// With `profile`: passes with the Hessian.
     pub hessian: bool,
 }
 
@@ -364,7 +351,7 @@ fn stream_once(d: &Design) -> f64 {
         t += o.chosen[r].iter().map(|&c| c as u64).sum::<u64>() as f64;
         t
     };
-    crate::estimate::likelihood::on_pieces(o.situations, run)
+    crate::design::on_pieces(o.situations, run)
         .into_iter()
         .sum()
 }
@@ -426,7 +413,7 @@ fn ms(s: f64) -> String {
     }
 }
 
-pub fn run(args: BenchArgs) -> Result<ExitCode> {
+pub fn run(args: Options) -> Result<ExitCode> {
     if args.situations == 0 {
         return Err(Error::Usage("--situations must be at least 1".into()));
     }
@@ -459,20 +446,29 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
     result
 }
 
+/// What the timed what-if changes: the first attribute of the second
+/// alternative, or the first characteristic when the model has no attribute.
+fn whatif_target(spec: &crate::spec::Spec) -> crate::scenario::Target {
+    if spec.attributes.is_empty() {
+        crate::scenario::Target::Characteristic { characteristic: 0 }
+    } else {
+        crate::scenario::Target::Attribute {
+            attribute: 0,
+            alternative: 1.min(spec.alternatives.len() - 1),
+        }
+    }
+}
+
 /// Runs `passes` passes at the true parameters, for a profiler to watch.
-fn profile(args: &BenchArgs, spec_path: &Path, passes: usize) -> Result<ExitCode> {
-    let spec = Spec::from_file(spec_path)?;
-    let ds = data::load(&spec, &Extra::default())?;
+fn profile(args: &Options, spec_path: &Path, passes: usize) -> Result<ExitCode> {
+    let (spec, ds) = crate::workspace::open(spec_path, &Extra::default())?;
     let d = Design::build(&spec, std::sync::Arc::new(ds.obs));
-    let kind = Kind {
-        family: spec.family,
-        base: spec.base,
-    };
+    let family = crate::model::for_spec(&spec)?;
     let beta: Vec<f64> = truth(args.model).iter().map(|t| t.1).collect();
     let t = Instant::now();
     let mut ll = 0.0;
     for _ in 0..passes {
-        ll += evaluate(&d, kind, &beta, true, args.hessian).ll;
+        ll += family.evaluate(&d, &beta, true, args.hessian).ll;
     }
     let s = t.elapsed().as_secs_f64() / passes.max(1) as f64;
     println!(
@@ -489,18 +485,19 @@ fn profile(args: &BenchArgs, spec_path: &Path, passes: usize) -> Result<ExitCode
     Ok(ExitCode::SUCCESS)
 }
 
-fn measure(args: &BenchArgs, spec_path: &Path, generate_s: f64) -> Result<ExitCode> {
+fn measure(args: &Options, spec_path: &Path, generate_s: f64) -> Result<ExitCode> {
     let csv_bytes = std::fs::metadata(spec_path.with_file_name("bench.csv"))
         .map(|m| m.len())
         .unwrap_or(0);
     let peak_before = peak_memory();
-    let spec = Spec::from_file(spec_path)?;
+    let spec = crate::model::read_spec(spec_path)?;
     let t = Instant::now();
     let ds = data::load(&spec, &Extra::default())?;
     let load_s = t.elapsed().as_secs_f64();
     let peak_load = peak_memory();
     let t = Instant::now();
-    let fit = crate::cli::fit_quietly(&spec, ds)?;
+    let quiet = |_s: crate::estimate::Step| {};
+    let fit = crate::estimate::fit(&spec, std::sync::Arc::new(ds.obs), &quiet)?;
     let fit_s = t.elapsed().as_secs_f64();
     let peak_fit = peak_memory();
     // The CSV read alone (polars and the copy into columns), after the peak is taken.
@@ -512,10 +509,7 @@ fn measure(args: &BenchArgs, spec_path: &Path, generate_s: f64) -> Result<ExitCo
     let in_process_s = load_s + fit_s;
 
     let d = &fit.design;
-    let kind = Kind {
-        family: spec.family,
-        base: spec.base,
-    };
+    let family = &*fit.family;
     let beta = &fit.beta;
     let reps = args.repeats.max(1);
     let mut grad_t = Vec::new();
@@ -523,13 +517,13 @@ fn measure(args: &BenchArgs, spec_path: &Path, generate_s: f64) -> Result<ExitCo
     let mut ll_check = 0.0;
     for _ in 0..reps {
         let t = Instant::now();
-        let e = evaluate(d, kind, beta, true, false);
+        let e = family.evaluate(d, beta, true, false);
         grad_t.push(t.elapsed().as_secs_f64());
         ll_check = std::hint::black_box(e.ll);
     }
     for _ in 0..reps.div_ceil(2) {
         let t = Instant::now();
-        let e = evaluate(d, kind, beta, true, true);
+        let e = family.evaluate(d, beta, true, true);
         hess_t.push(t.elapsed().as_secs_f64());
         std::hint::black_box(e.ll);
     }
@@ -543,32 +537,29 @@ fn measure(args: &BenchArgs, spec_path: &Path, generate_s: f64) -> Result<ExitCo
     // reference model (for rho-squared), and the per-situation scores.
     let free: Vec<usize> = fit.free.clone();
     let start: Vec<f64> = spec.parameters.iter().map(|p| p.start).collect();
-    let quiet = |_s: crate::estimate::Step| {};
     let t = Instant::now();
-    let main_out = crate::estimate::optimise::maximise(d, kind, &start, &free, &quiet);
+    let main_out = crate::estimate::optimise::maximise(d, family, &start, &free, &quiet);
     let main_s = t.elapsed().as_secs_f64();
     let cspec = spec.constants_only();
     let cd = Design::build(&cspec, d.obs.clone());
     let cfree: Vec<usize> = (0..cd.params).collect();
     let t = Instant::now();
     let const_out =
-        crate::estimate::optimise::maximise(&cd, kind, &vec![0.0; cd.params], &cfree, &quiet);
+        crate::estimate::optimise::maximise(&cd, family, &vec![0.0; cd.params], &cfree, &quiet);
     let const_s = t.elapsed().as_secs_f64();
     let t = Instant::now();
     let mut score_sum = 0.0;
-    crate::estimate::likelihood::for_each_score(d, kind, beta, |_, s| score_sum += s[0]);
+    family.for_each_score(d, beta, &mut |_, s| score_sum += s[0]);
     std::hint::black_box(score_sum);
     let scores_s = t.elapsed().as_secs_f64();
 
     // A what-if after one change (the first attribute of the second alternative
-    // x 1.1): prepare the change and re-simulate every situation, point estimate only.
+    // x 1.1, or the first characteristic x 1.1 in a model without attributes):
+    // prepare the change and re-simulate every situation, point estimate only.
     let whatif = crate::scenario::Scenario {
         name: "bench".into(),
         changes: vec![crate::scenario::Change {
-            target: crate::scenario::Target::Attribute {
-                attribute: 0,
-                alternative: 1.min(d.alternatives() - 1),
-            },
+            target: whatif_target(&spec),
             op: crate::scenario::Op::Multiply(1.1),
             filter: None,
         }],
@@ -579,8 +570,15 @@ fn measure(args: &BenchArgs, spec_path: &Path, generate_s: f64) -> Result<ExitCo
     for _ in 0..reps {
         let t = Instant::now();
         let prep = crate::scenario::prepare::prepare(&spec, d, &empty, &whatif)?;
-        let pass =
-            crate::scenario::simulate::run(d, kind, beta, &prep, None, None, Some(fit.baseline()));
+        let pass = crate::scenario::simulate::run(
+            family,
+            d,
+            beta,
+            &prep,
+            None,
+            None,
+            Some(fit.baseline()),
+        );
         std::hint::black_box(pass.scenario[0]);
         whatif_t.push(t.elapsed().as_secs_f64());
     }

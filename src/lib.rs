@@ -1,5 +1,7 @@
 //! sharecast: discrete-choice models from a TOML spec, in rooms that pass data one way:
-//! spec -> data -> design -> estimate -> analysis -> scenario -> report / tui.
+//! spec -> data -> design -> model -> estimate -> analysis -> scenario -> report,
+//! with the library workspace (open, fit or restore) under the command line,
+//! the workbench and the benchmark.
 
 pub mod analysis;
 pub mod bench;
@@ -9,10 +11,12 @@ pub mod demo;
 pub mod design;
 pub mod error;
 pub mod estimate;
+pub mod model;
 pub mod report;
 pub mod rng;
 pub mod scenario;
 pub mod spec;
 pub mod tui;
+pub mod workspace;
 
 pub use error::{Error, Result};

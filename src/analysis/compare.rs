@@ -45,7 +45,7 @@ pub fn nests(restricted: &Fit, general: &Fit) -> bool {
     let (r, g) = (names(restricted), names(general));
     r.len() < g.len()
         && r.iter().all(|n| g.contains(n))
-        && restricted.kind == general.kind
+        && restricted.family.name() == general.family.name()
         && same_data(&restricted.design.obs, &general.design.obs)
 }
 

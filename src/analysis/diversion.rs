@@ -7,7 +7,7 @@ use serde::Serialize;
 use super::sensitivity::Sens;
 use super::simulate::{shares, shares_with};
 use crate::design::Design;
-use crate::estimate::likelihood::Kind;
+use crate::model::{Baseline, Family};
 
 #[derive(Clone, Debug, Serialize)]
 pub struct DiversionRow {
@@ -28,15 +28,22 @@ pub struct PriceDiversionRow {
 /// Removal diversion for every alternative with positive predicted share.
 /// Demand of situations where the removed alternative was the only one is lost
 /// (it appears as the shortfall of the row sum from 1).
-pub fn removal(d: &Design, kind: Kind, beta: &[f64], names: &[String]) -> Vec<DiversionRow> {
-    let base = shares(d, kind, beta);
+/// Under each family's own model: the withdrawn alternative's utility becomes -inf.
+pub fn removal(
+    family: &dyn Family,
+    d: &Design,
+    beta: &[f64],
+    baseline: Option<&Baseline>,
+    names: &[String],
+) -> Vec<DiversionRow> {
+    let base = shares(family, d, beta);
     let j = d.alternatives();
     let mut out = Vec::new();
     for k in 0..j {
         if base[k] <= 0.0 {
             continue;
         }
-        let after = shares_with(d, kind, beta, |_, v| v[k] = f64::NEG_INFINITY);
+        let after = shares_with(family, d, beta, baseline, |_, v| v[k] = f64::NEG_INFINITY);
         for to in 0..j {
             if to != k {
                 out.push(DiversionRow {

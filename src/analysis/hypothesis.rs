@@ -108,6 +108,12 @@ pub fn hausman_mcfadden(
     drop: usize,
 ) -> Result<IiaTest> {
     let j = obs.alternatives;
+    if !full.family.abilities().iia {
+        return Err(Error::Usage(format!(
+            "the IIA test does not apply to the {} family: its model does not assume independence from irrelevant alternatives",
+            full.family.name()
+        )));
+    }
     if j < 3 {
         return Err(Error::Usage(
             "the IIA test needs at least three alternatives".into(),

@@ -87,15 +87,17 @@ pub fn sensitivity_rows(
 ) -> (Vec<ElasticityRow>, Vec<MarginalRow>, Sens) {
     let d = &fit.design;
     let map = TermMap::new(spec, d);
-    let sens = sensitivity::sensitivities(d, fit.kind, &map, &fit.beta);
+    let family = &*fit.family;
+    let sens = sensitivity::sensitivities(family, d, &map, &fit.beta);
     let flat = sens.flat();
     let se = delta::delta_se(fit, &|b| {
-        sensitivity::sensitivities(d, fit.kind, &map, b).flat()
+        sensitivity::sensitivities(family, d, &map, b).flat()
     });
     let j = d.alternatives();
     let na = spec.attributes.len();
     let names = spec.alternative_names();
-    let base_shares = simulate::shares(d, fit.kind, &fit.beta);
+    let baseline = Some(fit.baseline());
+    let base_shares = simulate::shares(family, d, &fit.beta);
     let mut el = Vec::new();
     let mut me = Vec::new();
     let off_me = na * j * j;
@@ -107,7 +109,7 @@ pub fn sensitivity_rows(
                 continue;
             };
             let b = fit.beta[param];
-            let arc = simulate::shares_with(d, fit.kind, &fit.beta, |i, v| {
+            let arc = simulate::shares_with(family, d, &fit.beta, baseline, |i, v| {
                 if v[k].is_finite() {
                     v[k] += b * d.obs.attributes[a][i * j + k] * arc_change;
                 }
@@ -133,7 +135,7 @@ pub fn sensitivity_rows(
         }
     }
     for (c, ch) in spec.characteristics.iter().enumerate() {
-        let arc = simulate::shares_with(d, fit.kind, &fit.beta, |i, v| {
+        let arc = simulate::shares_with(family, d, &fit.beta, baseline, |i, v| {
             let z = d.obs.characteristics[c][i];
             for (vl, param) in v.iter_mut().zip(&map.characteristic[c]) {
                 if let (Some(p), true) = (param, vl.is_finite()) {
@@ -206,7 +208,7 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
             .filter_map(|r| r.warning.as_ref().map(|w| format!("{}: {w}", r.name))),
     );
 
-    let diversion = diversion::removal(d, fit.kind, &fit.beta, &names);
+    let diversion = diversion::removal(&*fit.family, d, &fit.beta, Some(fit.baseline()), &names);
     let price_diversion = match diversion_attribute(spec, opts.diversion_attribute.as_deref())? {
         Some(a) => diversion::price(
             &sens,
@@ -222,7 +224,7 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
         Some(col) => validation::by_segment(spec, fit, &ds.table, col)?,
         None => Vec::new(),
     };
-    let (hit_rate, mean_chosen_probability) = validation::hits(d, fit.kind, &fit.beta);
+    let (hit_rate, mean_chosen_probability) = validation::hits(&*fit.family, d, &fit.beta);
     let holdout = match validation::holdout_mask(spec, &ds.obs, &ds.table)? {
         Some(mask) => Some(validation::holdout(spec, &ds.obs, &mask)?),
         None => None,

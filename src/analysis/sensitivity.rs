@@ -1,13 +1,13 @@
 //! Point and aggregate elasticities and average marginal effects of every
-//! attribute and characteristic, from the derivatives dP_ij/dV_ik of each
-//! family (logit: P_ij (1[j=k] - P_ik); binary probit: +-phi(V_o - V_b)).
+//! attribute and characteristic, from the derivatives dP_ij/dV_ik that each
+//! model family supplies (`Family::dprob`).
 
 use serde::Serialize;
 
 use crate::design::{Design, Value};
-use crate::estimate::likelihood::Kind;
-use crate::estimate::normal;
-use crate::spec::{Family, Spec};
+use crate::model::enumerate::Enumeration;
+use crate::model::Family;
+use crate::spec::Spec;
 
 /// Which parameter multiplies attribute `a` in alternative `k`, and characteristic `c` in `l`.
 #[derive(Clone, Debug)]
@@ -37,35 +37,6 @@ impl TermMap {
     }
 }
 
-/// dP_j/dV_k of one situation into `dp` (J x J row-major, row = affected j).
-#[inline]
-pub fn dprob(kind: Kind, v: &[f64], p: &[f64], dp: &mut [f64]) {
-    let n = p.len();
-    dp.iter_mut().for_each(|x| *x = 0.0);
-    match kind.family {
-        Family::Logit => {
-            for j in 0..n {
-                if p[j] == 0.0 {
-                    continue;
-                }
-                for k in 0..n {
-                    dp[j * n + k] = p[j] * (((j == k) as u8 as f64) - p[k]);
-                }
-            }
-        }
-        Family::Probit => {
-            let (b, o) = (kind.base, 1 - kind.base);
-            if v[b].is_finite() && v[o].is_finite() {
-                let phi = normal::pdf(v[o] - v[b]);
-                dp[o * n + o] = phi;
-                dp[o * n + b] = -phi;
-                dp[b * n + o] = -phi;
-                dp[b * n + b] = phi;
-            }
-        }
-    }
-}
-
 /// Aggregate figures at one parameter vector, flattened for the delta method.
 #[derive(Clone, Debug)]
 pub struct Sens {
@@ -90,7 +61,7 @@ impl Sens {
     }
 }
 
-pub fn sensitivities(d: &Design, kind: Kind, map: &TermMap, beta: &[f64]) -> Sens {
+pub fn sensitivities(family: &dyn Family, d: &Design, map: &TermMap, beta: &[f64]) -> Sens {
     let j = d.alternatives();
     let na = map.attribute.len();
     let nc = map.characteristic.len();
@@ -103,14 +74,11 @@ pub fn sensitivities(d: &Design, kind: Kind, map: &TermMap, beta: &[f64]) -> Sen
         2 * na * j * j + 2 * nc * j,
     );
     let width = o4 + j;
-    let sums = d.par_fold(width, |range, acc| {
-        let mut v = vec![0.0; j];
-        let mut p = vec![0.0; j];
-        let mut dp = vec![0.0; j * j];
-        for i in range {
-            d.utilities(beta, i, &mut v);
-            crate::estimate::likelihood::probabilities_from_utilities(kind, &v, &mut p);
-            dprob(kind, &v, &p, &mut dp);
+    let parts = Enumeration::new(family, d, beta).pieces(
+        |_| (vec![0.0; width], vec![0.0; j * j]),
+        |(acc, dp), s| {
+            let (i, v, p) = (s.i, s.v0, s.p0);
+            family.dprob(beta, v, p, dp);
             let wi = w[i];
             for a in 0..na {
                 for k in 0..j {
@@ -132,21 +100,25 @@ pub fn sensitivities(d: &Design, kind: Kind, map: &TermMap, beta: &[f64]) -> Sen
             for c in 0..nc {
                 let z = d.obs.characteristics[c][i];
                 for jj in 0..j {
-                    let mut s = 0.0;
+                    let mut sum = 0.0;
                     for l in 0..j {
                         if let Some(param) = map.characteristic[c][l] {
-                            s += dp[jj * j + l] * beta[param];
+                            sum += dp[jj * j + l] * beta[param];
                         }
                     }
-                    acc[o2 + c * j + jj] += wi * z * s;
-                    acc[o3 + c * j + jj] += wi * s;
+                    acc[o2 + c * j + jj] += wi * z * sum;
+                    acc[o3 + c * j + jj] += wi * sum;
                 }
             }
             for jj in 0..j {
                 acc[o4 + jj] += wi * p[jj];
             }
-        }
-    });
+        },
+    );
+    let mut sums = vec![0.0; width];
+    for (part, _) in parts {
+        sums.iter_mut().zip(&part).for_each(|(a, b)| *a += b);
+    }
     let tw = d.total_weight();
     let psum = &sums[o4..o4 + j];
     let ratio = |num: f64, jj: usize| {

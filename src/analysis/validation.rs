@@ -5,11 +5,12 @@ use std::sync::Arc;
 
 use serde::Serialize;
 
-use super::simulate::fold;
 use crate::data::{Observations, Table};
 use crate::design::Design;
 use crate::error::{Error, Result};
-use crate::estimate::{self, likelihood, Fit, Kind, Step};
+use crate::estimate::{self, Fit, Step};
+use crate::model::enumerate::Enumeration;
+use crate::model::Family;
 use crate::rng::Rng;
 use crate::spec::{Holdout, Spec};
 
@@ -39,21 +40,15 @@ pub struct Validation {
 }
 
 /// Weighted hit rate (the most probable alternative was chosen) and mean probability of the choice.
-pub fn hits(d: &Design, kind: Kind, beta: &[f64]) -> (f64, f64) {
+pub fn hits(family: &dyn Family, d: &Design, beta: &[f64]) -> (f64, f64) {
     let obs = &d.obs;
-    let sums = fold(
-        d,
-        kind,
-        beta,
-        2,
-        |_, _| {},
-        |i, p, acc| {
-            let c = obs.chosen[i] as usize;
-            let best = (0..p.len()).fold(0, |b, j| if p[j] > p[b] { j } else { b });
-            acc[0] += obs.weight[i] * (best == c) as u8 as f64;
-            acc[1] += obs.weight[i] * p[c];
-        },
-    );
+    let sums = Enumeration::new(family, d, beta).fold(2, |acc, s| {
+        let (i, p) = (s.i, s.p0);
+        let c = obs.chosen[i] as usize;
+        let best = (0..p.len()).fold(0, |b, j| if p[j] > p[b] { j } else { b });
+        acc[0] += obs.weight[i] * (best == c) as u8 as f64;
+        acc[1] += obs.weight[i] * p[c];
+    });
     let tw = d.total_weight();
     (sums[0] / tw, sums[1] / tw)
 }
@@ -68,7 +63,7 @@ pub fn by_segment(
     let labels = table.keys(column, "--by segment column")?;
     let d = &fit.design;
     let j = d.alternatives();
-    let p = likelihood::probabilities(d, fit.kind, &fit.beta);
+    let p = &fit.baseline().probabilities;
     let mut order: Vec<String> = Vec::new();
     for l in &labels {
         if !order.contains(l) {
@@ -150,12 +145,12 @@ pub fn holdout(spec: &Spec, obs: &Observations, mask: &[bool]) -> Result<Holdout
     let quiet = |_s: Step| {};
     let fit = estimate::fit(spec, Arc::new(train), &quiet)?;
     let d = Design::build(spec, test.clone());
-    let e = likelihood::evaluate(&d, fit.kind, &fit.beta, false, false);
+    let e = fit.family.evaluate(&d, &fit.beta, false, false);
     Ok(HoldoutReport {
         situations: held,
         estimation_situations: obs.situations - held,
         log_likelihood: e.ll,
         null_log_likelihood: estimate::null_log_likelihood(&test),
-        shares: estimate::shares(spec, &d, fit.kind, &fit.beta),
+        shares: estimate::shares(spec, &d, &*fit.family, &fit.beta),
     })
 }

@@ -121,7 +121,7 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
             print!("{}", report::analysis::sections(&spec, a));
         }
         println!();
-        print!("{}", report::text::closing(&spec));
+        print!("{}", report::text::closing(&spec, &fit));
     }
     if !fit.stats.converged && !args.allow_unconverged {
         eprintln!("error: the fit did not converge (pass --allow-unconverged to accept it)");

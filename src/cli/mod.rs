@@ -1,6 +1,7 @@
 //! The command line: argument parsing and one function per subcommand. Each
 //! returns an exit code or an error value; `main` only prints and exits.
 
+mod benchcmd;
 mod comparecmd;
 mod fitcmd;
 mod simcmd;
@@ -13,7 +14,7 @@ use std::time::Instant;
 
 use clap::{Parser, Subcommand};
 
-use crate::data::{self, Dataset, Extra, Observations};
+use crate::data::{Dataset, Extra, Observations};
 use crate::error::Result;
 use crate::estimate::Step;
 use crate::spec::Spec;
@@ -50,16 +51,24 @@ pub enum Command {
         force: bool,
     },
     /// Time loading, one likelihood pass and a whole fit on simulated data.
-    Bench(crate::bench::BenchArgs),
+    Bench(benchcmd::BenchArgs),
     /// The interactive workbench: estimates, elasticities, diversion, what-ifs and curves.
-    Explore(crate::tui::ExploreArgs),
+    Explore(ExploreArgs),
+}
+
+#[derive(clap::Args, Debug)]
+pub struct ExploreArgs {
+    /// One or more specs; with several, the compare view sets them side by side.
+    #[arg(required = true, num_args = 1..)]
+    pub specs: Vec<PathBuf>,
+    /// Reuse a fit saved with `fit --save` when spec and data are unchanged.
+    #[arg(long, value_name = "FILE.json")]
+    pub load: Option<PathBuf>,
 }
 
 /// Loads a spec and its data (with extra columns, e.g. for segments).
 pub fn open(spec_path: &Path, extra: &Extra) -> Result<(Spec, Dataset)> {
-    let spec = Spec::from_file(spec_path)?;
-    let ds = data::load(&spec, extra)?;
-    Ok((spec, ds))
+    crate::workspace::open(spec_path, extra)
 }
 
 /// A progress printer for stderr that speaks only after a second and only to a terminal.
@@ -97,8 +106,8 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             );
             Ok(ExitCode::SUCCESS)
         }
-        Command::Bench(args) => crate::bench::run(args),
-        Command::Explore(args) => crate::tui::run(args),
+        Command::Bench(args) => benchcmd::run(args),
+        Command::Explore(args) => crate::tui::run(args.specs, args.load),
     }
 }
 
@@ -133,7 +142,7 @@ impl IntoObservations for Arc<Observations> {
 }
 
 /// Uses a saved fit (`fit --save`) when its fingerprint matches the spec and data;
-/// otherwise fits. The note says which happened and why.
+/// otherwise fits (with the stderr progress line). The note says which happened and why.
 pub fn fit_or_restore(
     spec: &Spec,
     ds: &Dataset,
@@ -142,20 +151,11 @@ pub fn fit_or_restore(
     let Some(path) = load else {
         return Ok((fit_quietly(spec, ds)?, None));
     };
-    let text = std::fs::read_to_string(path).map_err(|e| crate::Error::io(path, e))?;
-    let doc: serde_json::Value = serde_json::from_str(&text)
-        .map_err(|e| crate::Error::io(path, format!("not a results document: {e}")))?;
-    let want = crate::report::json::fingerprint(spec);
-    if doc["fingerprint"].as_str() == Some(want.as_str()) {
-        let fit = crate::estimate::restore(spec, Arc::new(ds.obs.clone()), &doc)?;
-        Ok((
-            fit,
-            Some(format!("estimates loaded from {}", path.display())),
-        ))
-    } else {
-        let fit = fit_quietly(spec, ds)?;
-        Ok((fit, Some(format!("{} was saved from another spec or data (fingerprint differs), so the model was refitted", path.display()))))
-    }
+    let progress = stderr_progress();
+    let out =
+        crate::workspace::fit_or_restore(spec, Arc::new(ds.obs.clone()), Some(path), &progress);
+    clear_progress();
+    out
 }
 
 /// Shared by commands that fit: fits with the stderr progress line. Pass the
@@ -163,10 +163,15 @@ pub fn fit_or_restore(
 pub fn fit_quietly(spec: &Spec, ds: impl IntoObservations) -> Result<crate::estimate::Fit> {
     let progress = stderr_progress();
     let fit = crate::estimate::fit(spec, ds.into_observations(), &progress);
+    clear_progress();
+    fit
+}
+
+/// Clears the progress line, if one was printed.
+fn clear_progress() {
     if std::io::stderr().is_terminal() {
         eprint!("\r{:100}\r", "");
     }
-    fit
 }
 
 pub fn main() -> ExitCode {

@@ -9,7 +9,6 @@ use crate::data::{self, Extra};
 use crate::error::{Error, Result};
 use crate::report;
 use crate::scenario::{self, export, prepare, Market, Scenario};
-use crate::spec::Spec;
 
 #[derive(Args, Debug)]
 pub struct SimulateArgs {
@@ -88,7 +87,7 @@ fn market(text: &Option<String>) -> Result<Option<Market>> {
 }
 
 pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
-    let spec = Spec::from_file(&args.spec)?;
+    let spec = crate::model::read_spec(&args.spec)?;
     let sc = Scenario::from_file(&args.scenario, &spec)?;
     let market = market(&args.market)?;
     if let Some(out) = &args.out {
@@ -131,7 +130,7 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
         if args.per_situation {
             let prep = prepare::prepare(&spec, &fit.design, &ds.table, &sc)?;
             let (beta, _) = scenario::base_parameters(&spec, &fit, &sc)?;
-            export::per_situation(out, args.force, &fit.design, fit.kind, &beta, &prep)?;
+            export::per_situation(out, args.force, &*fit.family, &fit.design, &beta, &prep)?;
         } else {
             export::forecast(out, args.force, &f)?;
         }
@@ -141,7 +140,7 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
     } else {
         print!("{}", report::forecast::text(&f));
         println!();
-        print!("{}", report::text::closing(&spec));
+        print!("{}", report::text::closing(&spec, &fit));
         if let Some(out) = &args.out {
             println!("wrote {}", out.display());
         }
@@ -168,7 +167,7 @@ pub fn sweep(args: SweepArgs) -> Result<ExitCode> {
     } else {
         print!("{}", report::forecast::sweep(&sw));
         println!();
-        print!("{}", report::text::closing(&spec));
+        print!("{}", report::text::closing(&spec, &fit));
     }
     Ok(ExitCode::SUCCESS)
 }

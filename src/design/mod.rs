@@ -4,7 +4,11 @@
 //! multiplies which value, so no situations x alternatives x parameters
 //! array of structural zeros is ever built.
 
+mod pieces;
+
 use std::sync::Arc;
+
+pub use pieces::{on_pieces, pieces, run_queue};
 
 use crate::data::Observations;
 use crate::spec::{Coefficient, Spec, Term};
@@ -91,6 +95,8 @@ impl Design {
                         });
                     }
                 }
+                // A family's own parameters (scales, spreads, ...) are not linear terms.
+                Term::Family(_) => {}
             }
         }
         Design {
@@ -143,49 +149,22 @@ impl Design {
         self.obs.weight.iter().sum()
     }
 
-    /// Runs `f(range, accumulator)` on one contiguous range of situations per core,
-    /// each with its own zeroed accumulator of length `width`, and returns their sum.
+    /// Runs `f(range, accumulator)` on each piece of the situations (`pieces`),
+    /// each with its own zeroed accumulator of length `width`, spread over the
+    /// cores, and returns their sum in piece order (the same whatever the cores).
     pub fn par_fold<F>(&self, width: usize, f: F) -> Vec<f64>
     where
         F: Fn(std::ops::Range<usize>, &mut [f64]) + Sync,
     {
-        let run = |r: std::ops::Range<usize>| {
+        let parts = on_pieces(self.situations(), |r| {
             let mut acc = vec![0.0; width];
             f(r, &mut acc);
             acc
-        };
-        let chunks = self.chunks();
-        let parts: Vec<Vec<f64>> = if chunks.len() <= 1 {
-            chunks.into_iter().map(run).collect()
-        } else {
-            std::thread::scope(|s| {
-                let hs: Vec<_> = chunks
-                    .into_iter()
-                    .map(|r| s.spawn(move || run(r)))
-                    .collect();
-                hs.into_iter()
-                    .map(|h| h.join().unwrap_or_else(|e| std::panic::resume_unwind(e)))
-                    .collect()
-            })
-        };
+        });
         let mut out = vec![0.0; width];
         for p in parts {
             out.iter_mut().zip(&p).for_each(|(a, b)| *a += b);
         }
         out
-    }
-
-    /// Split of `0..situations` into one contiguous range per core.
-    pub fn chunks(&self) -> Vec<std::ops::Range<usize>> {
-        let n = self.situations();
-        let threads = std::thread::available_parallelism()
-            .map(|t| t.get())
-            .unwrap_or(1);
-        let parts = if n < 20_000 { 1 } else { threads.max(1) };
-        let size = n.div_ceil(parts).max(1);
-        (0..parts)
-            .map(|t| (t * size).min(n)..((t + 1) * size).min(n))
-            .filter(|r| !r.is_empty())
-            .collect()
     }
 }

@@ -5,10 +5,10 @@
 use nalgebra::{DMatrix, SymmetricEigen};
 use serde::Serialize;
 
-use super::likelihood::{for_each_score, Kind};
 use crate::design::{Design, Value};
+use crate::model::Family;
 
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum DiagnosticKind {
     NotIdentified,
@@ -20,7 +20,7 @@ pub enum DiagnosticKind {
 }
 
 /// A finding about the fit that names the parameters and spec terms involved.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, Serialize, serde::Deserialize)]
 pub struct Diagnostic {
     pub kind: DiagnosticKind,
     pub parameters: Vec<String>,
@@ -75,7 +75,7 @@ pub fn invert(a: &DMatrix<f64>) -> Option<DMatrix<f64>> {
 /// The sandwich A^-1 B A^-1 on the free block, B from per-situation scores summed within groups.
 pub fn robust(
     d: &Design,
-    kind: Kind,
+    family: &dyn Family,
     beta: &[f64],
     free: &[usize],
     a_inv: &DMatrix<f64>,
@@ -97,7 +97,7 @@ pub fn robust(
         Some(groups) => {
             let k = d.params;
             let mut sums = vec![0.0; d.obs.groups * k];
-            for_each_score(d, kind, beta, |i, s| {
+            family.for_each_score(d, beta, &mut |i, s| {
                 let g = groups[i] as usize;
                 for (t, v) in s.iter().enumerate() {
                     sums[g * k + t] += v;
@@ -107,7 +107,7 @@ pub fn robust(
                 add(&mut b, g);
             }
         }
-        None => for_each_score(d, kind, beta, |_, s| add(&mut b, s)),
+        None => family.for_each_score(d, beta, &mut |_, s| add(&mut b, s)),
     }
     a_inv * b * a_inv
 }

@@ -2,39 +2,46 @@
 //! statistics and diagnostics. `fit` is the room's entry point.
 
 pub mod diagnose;
+pub mod document;
 pub mod inference;
-pub mod likelihood;
-pub mod normal;
 pub mod optimise;
 
 use std::sync::Arc;
 use std::time::Instant;
 
 use nalgebra::DMatrix;
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 pub use inference::{Diagnostic, DiagnosticKind};
-pub use likelihood::Kind;
 pub use optimise::{Progress, Step};
 
 use crate::data::Observations;
 use crate::design::Design;
 use crate::error::{Error, Result};
+pub use crate::model::Baseline;
+use crate::model::{self, normal, FamilyRef};
 use crate::spec::Spec;
 
 /// Two-sided 95% normal quantile.
 pub const Z95: f64 = 1.959_963_984_540_054;
 
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, Serialize, Deserialize)]
 pub struct ParameterRow {
     pub name: String,
     pub term: String,
+    #[serde(deserialize_with = "document::nullable")]
     pub estimate: f64,
+    #[serde(deserialize_with = "document::nullable")]
     pub std_error: f64,
+    #[serde(deserialize_with = "document::nullable")]
     pub robust_std_error: f64,
+    #[serde(deserialize_with = "document::nullable")]
     pub t_stat: f64,
+    #[serde(deserialize_with = "document::nullable")]
     pub p_value: f64,
+    #[serde(deserialize_with = "document::nullable")]
     pub ci_low: f64,
+    #[serde(deserialize_with = "document::nullable")]
     pub ci_high: f64,
     pub fixed: bool,
 }
@@ -68,34 +75,47 @@ impl ParameterRow {
     }
 }
 
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, Serialize, Deserialize)]
 pub struct FitStats {
     pub situations: usize,
     pub groups: usize,
+    #[serde(deserialize_with = "document::nullable")]
     pub log_likelihood: f64,
+    #[serde(deserialize_with = "document::nullable")]
     pub null_log_likelihood: f64,
+    #[serde(deserialize_with = "document::nullable")]
     pub constants_log_likelihood: f64,
+    #[serde(deserialize_with = "document::nullable")]
     pub rho_squared: f64,
+    #[serde(deserialize_with = "document::nullable")]
     pub rho_squared_constants: f64,
+    #[serde(deserialize_with = "document::nullable")]
     pub adjusted_rho_squared: f64,
+    #[serde(deserialize_with = "document::nullable")]
     pub aic: f64,
+    #[serde(deserialize_with = "document::nullable")]
     pub bic: f64,
     pub iterations: usize,
     pub newton_steps: usize,
     pub passes: usize,
+    #[serde(deserialize_with = "document::nullable")]
     pub gradient_norm: f64,
+    #[serde(deserialize_with = "document::nullable")]
     pub newton_decrement: f64,
     pub converged: bool,
+    #[serde(deserialize_with = "document::nullable")]
     pub seconds: f64,
     pub estimated_parameters: usize,
     /// "robust" when `[data].group` is set, else "classical": which errors t, p and intervals use.
     pub inference: String,
 }
 
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, Serialize, Deserialize)]
 pub struct ShareRow {
     pub alternative: String,
+    #[serde(deserialize_with = "document::nullable")]
     pub observed: f64,
+    #[serde(deserialize_with = "document::nullable")]
     pub predicted: f64,
 }
 
@@ -103,7 +123,8 @@ pub struct ShareRow {
 #[derive(Clone, Debug)]
 pub struct Fit {
     pub design: Design,
-    pub kind: Kind,
+    /// The model family, built for the spec.
+    pub family: FamilyRef,
     pub names: Vec<String>,
     /// All K parameters, fixed ones at their value.
     pub beta: Vec<f64>,
@@ -121,48 +142,11 @@ pub struct Fit {
     pub baseline: std::sync::OnceLock<Baseline>,
 }
 
-/// Each situation's utilities and choice probabilities at the estimates, `[i * J + j]`.
-#[derive(Clone, Debug, Default)]
-pub struct Baseline {
-    pub utilities: Vec<f64>,
-    pub probabilities: Vec<f64>,
-}
-
-impl Baseline {
-    pub fn new(d: &Design, kind: Kind, beta: &[f64]) -> Baseline {
-        let j = d.alternatives();
-        let n = d.situations();
-        let mut utilities = vec![0.0; n * j];
-        let mut probabilities = vec![0.0; n * j];
-        let chunks = d.chunks();
-        let per = chunks.first().map(|c| c.len()).unwrap_or(n).max(1) * j;
-        std::thread::scope(|s| {
-            for (k, (u, p)) in utilities
-                .chunks_mut(per)
-                .zip(probabilities.chunks_mut(per))
-                .enumerate()
-            {
-                s.spawn(move || {
-                    let first = k * per / j.max(1);
-                    for (r, (ui, pi)) in u.chunks_mut(j).zip(p.chunks_mut(j)).enumerate() {
-                        d.utilities(beta, first + r, ui);
-                        likelihood::probabilities_from_utilities(kind, ui, pi);
-                    }
-                });
-            }
-        });
-        Baseline {
-            utilities,
-            probabilities,
-        }
-    }
-}
-
 impl Fit {
     /// The baseline at the estimates (computed once).
     pub fn baseline(&self) -> &Baseline {
         self.baseline
-            .get_or_init(|| Baseline::new(&self.design, self.kind, &self.beta))
+            .get_or_init(|| Baseline::new(&*self.family, &self.design, &self.beta))
     }
 
     /// The covariance that inference uses (robust when the data have groups).
@@ -198,9 +182,9 @@ pub fn null_log_likelihood(obs: &Observations) -> f64 {
 }
 
 /// Weighted observed and predicted shares of each alternative.
-pub fn shares(spec: &Spec, d: &Design, kind: Kind, beta: &[f64]) -> Vec<ShareRow> {
+pub fn shares(spec: &Spec, d: &Design, family: &dyn model::Family, beta: &[f64]) -> Vec<ShareRow> {
     let j = d.alternatives();
-    let p = likelihood::probabilities(d, kind, beta);
+    let p = model::enumerate::probabilities(family, d, beta);
     let mut obs = vec![0.0; j];
     let mut pred = vec![0.0; j];
     for i in 0..d.situations() {
@@ -226,10 +210,7 @@ pub fn shares(spec: &Spec, d: &Design, kind: Kind, beta: &[f64]) -> Vec<ShareRow
 pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fit> {
     let started = Instant::now();
     let design = Design::build(spec, obs.clone());
-    let kind = Kind {
-        family: spec.family,
-        base: spec.base,
-    };
+    let family = model::for_spec(spec)?;
     let k = design.params;
     let free: Vec<usize> = (0..k)
         .filter(|&p| spec.parameters[p].fixed.is_none())
@@ -238,41 +219,41 @@ pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fi
         return Err(Error::Estimate("no choice situations to fit".into()));
     }
     let start: Vec<f64> = spec.parameters.iter().map(|p| p.start).collect();
-    let out = optimise::maximise(&design, kind, &start, &free, progress);
-    finish(spec, obs, design, kind, free, out, started, None)
+    let out = optimise::maximise(&design, &*family, &start, &free, progress);
+    finish(spec, obs, design, family, free, out, started, None)
 }
 
 /// A fit rebuilt from a saved results document (`fit --save`) without searching:
 /// estimates are taken from the document; covariances, statistics and diagnostics
 /// are recomputed at them in a few passes. The caller checks the fingerprint.
-pub fn restore(spec: &Spec, obs: Arc<Observations>, doc: &serde_json::Value) -> Result<Fit> {
+pub fn restore(spec: &Spec, obs: Arc<Observations>, doc: &document::FitDocument) -> Result<Fit> {
     let started = Instant::now();
     let bad = |m: &str| Error::Usage(format!("the saved results do not match this spec: {m}"));
-    let rows = doc["parameters"]
-        .as_array()
-        .ok_or_else(|| bad("no `parameters` list"))?;
+    if doc.family != spec.family {
+        return Err(bad(&format!(
+            "they are of family `{}`, the spec names `{}`",
+            doc.family, spec.family
+        )));
+    }
     let mut beta = Vec::with_capacity(spec.parameters.len());
     for p in &spec.parameters {
-        let row = rows
+        let row = doc
+            .parameters
             .iter()
-            .find(|r| r["name"].as_str() == Some(p.name.as_str()))
+            .find(|r| r.name == p.name)
             .ok_or_else(|| bad(&format!("parameter `{}` is missing", p.name)))?;
-        let v = row["estimate"]
-            .as_f64()
-            .ok_or_else(|| bad(&format!("parameter `{}` has no estimate", p.name)))?;
-        beta.push(p.fixed.unwrap_or(v));
+        if !row.estimate.is_finite() {
+            return Err(bad(&format!("parameter `{}` has no estimate", p.name)));
+        }
+        beta.push(p.fixed.unwrap_or(row.estimate));
     }
     let design = Design::build(spec, obs.clone());
-    let kind = Kind {
-        family: spec.family,
-        base: spec.base,
-    };
+    let family = model::for_spec(spec)?;
     let free: Vec<usize> = (0..design.params)
         .filter(|&p| spec.parameters[p].fixed.is_none())
         .collect();
-    let e = likelihood::evaluate(&design, kind, &beta, true, false);
-    let f = &doc["fit"];
-    let get = |k: &str| f[k].as_u64().unwrap_or(0) as usize;
+    let e = family.evaluate(&design, &beta, true, false);
+    let f = &doc.fit;
     let out = optimise::Outcome {
         ll: e.ll,
         gradient_norm: free
@@ -281,15 +262,15 @@ pub fn restore(spec: &Spec, obs: Arc<Observations>, doc: &serde_json::Value) -> 
             .sum::<f64>()
             .sqrt(),
         beta,
-        bfgs_iterations: get("iterations"),
-        newton_steps: get("newton_steps"),
-        passes: get("passes"),
-        criterion: f["newton_decrement"].as_f64().unwrap_or(0.0),
-        converged: f["converged"].as_bool().unwrap_or(false),
+        bfgs_iterations: f.iterations,
+        newton_steps: f.newton_steps,
+        passes: f.passes,
+        criterion: f.newton_decrement,
+        converged: f.converged,
         note: None,
     };
-    let constants_ll = f["constants_log_likelihood"].as_f64();
-    finish(spec, obs, design, kind, free, out, started, constants_ll)
+    let constants_ll = Some(f.constants_log_likelihood).filter(|x| x.is_finite());
+    finish(spec, obs, design, family, free, out, started, constants_ll)
 }
 
 /// Everything after the search: covariance, diagnostics, parameter rows and statistics.
@@ -298,7 +279,7 @@ fn finish(
     spec: &Spec,
     obs: Arc<Observations>,
     design: Design,
-    kind: Kind,
+    family: FamilyRef,
     free: Vec<usize>,
     out: optimise::Outcome,
     started: Instant,
@@ -307,7 +288,7 @@ fn finish(
     let k = design.params;
     let names: Vec<String> = spec.parameters.iter().map(|p| p.name.clone()).collect();
     // Covariance.
-    let final_eval = likelihood::evaluate(&design, kind, &out.beta, true, true);
+    let final_eval = model::hessian::with_hessian(&*family, &design, &out.beta, &free);
     let a = optimise::negative_free_hessian(final_eval.hess.as_deref().unwrap_or(&[]), k, &free);
     let flats = inference::flat_directions(&a);
     let diagnostics = diagnose::diagnose(spec, &design, &obs, &free, &names, &out, &flats);
@@ -315,7 +296,7 @@ fn finish(
     let nan = || DMatrix::from_element(k, k, f64::NAN);
     let (covariance, robust_covariance) = match (flats.is_empty(), inference::invert(&a)) {
         (true, Some(a_inv)) => {
-            let r = inference::robust(&design, kind, &out.beta, &free, &a_inv);
+            let r = inference::robust(&design, &*family, &out.beta, &free, &a_inv);
             let mut c = DMatrix::zeros(k, k);
             let mut rc = DMatrix::zeros(k, k);
             for x in 0..m {
@@ -369,9 +350,12 @@ fn finish(
     } else if spec.constants && spec.attributes.len() + spec.characteristics.len() > 0 {
         let cspec = spec.constants_only();
         let cd = Design::build(&cspec, obs.clone());
-        let cfree: Vec<usize> = (0..cd.params).collect();
+        let cfree: Vec<usize> = (0..cd.params)
+            .filter(|&p| cspec.parameters[p].fixed.is_none())
+            .collect();
         let quiet = |_s: Step| {};
-        optimise::maximise(&cd, kind, &vec![0.0; cd.params], &cfree, &quiet).ll
+        let cstart: Vec<f64> = cspec.parameters.iter().map(|p| p.start).collect();
+        optimise::maximise(&cd, &*family, &cstart, &cfree, &quiet).ll
     } else if spec.constants {
         out.ll
     } else {
@@ -406,10 +390,10 @@ fn finish(
         }
         .to_string(),
     };
-    let shares = shares(spec, &design, kind, &out.beta);
+    let shares = shares(spec, &design, &*family, &out.beta);
     Ok(Fit {
         design,
-        kind,
+        family,
         names,
         beta: out.beta,
         free,

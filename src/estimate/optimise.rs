@@ -1,7 +1,8 @@
 //! Maximises the log-likelihood: argmin's BFGS with a More-Thuente line
-//! search (started from the inverse of the analytic Hessian where it is
-//! positive definite), then Newton steps on the analytic Hessian until the
-//! Newton decrement g' (-H)^-1 g falls below the tolerance.
+//! search (started from the inverse of the Hessian where it is positive
+//! definite), then Newton steps until the Newton decrement g' (-H)^-1 g falls
+//! below the tolerance. The Hessian is the family's analytic one where it has
+//! it, else central differences of its analytic gradient (`model::hessian`).
 
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;
@@ -11,8 +12,9 @@ use argmin::solver::linesearch::MoreThuenteLineSearch;
 use argmin::solver::quasinewton::BFGS;
 use nalgebra::{DMatrix, DVector};
 
-use super::likelihood::{evaluate, Eval, Kind};
 use crate::design::Design;
+use crate::model::hessian::with_hessian;
+use crate::model::{Eval, Family};
 
 /// Tolerance on the Newton decrement g' (-H)^-1 g (log-likelihood units).
 pub const NEWTON_TOLERANCE: f64 = 1e-10;
@@ -44,7 +46,7 @@ pub struct Outcome {
 
 struct Objective<'a> {
     d: &'a Design,
-    kind: Kind,
+    family: &'a dyn Family,
     free: &'a [usize],
     template: Vec<f64>,
     scale: f64,
@@ -71,7 +73,7 @@ impl Objective<'_> {
             }
         }
         self.passes.fetch_add(1, Ordering::Relaxed);
-        let e = evaluate(self.d, self.kind, &self.full(p), true, false);
+        let e = self.family.evaluate(self.d, &self.full(p), true, false);
         let gn = self
             .free
             .iter()
@@ -126,7 +128,7 @@ pub fn negative_free_hessian(hess: &[f64], k: usize, free: &[usize]) -> DMatrix<
 
 pub fn maximise(
     d: &Design,
-    kind: Kind,
+    family: &dyn Family,
     start: &[f64],
     free: &[usize],
     progress: Progress,
@@ -137,7 +139,7 @@ pub fn maximise(
     let m = free.len();
     let mut beta = start.to_vec();
     if m == 0 {
-        let e = evaluate(d, kind, &beta, false, false);
+        let e = family.evaluate(d, &beta, false, false);
         return Outcome {
             beta,
             ll: e.ll,
@@ -151,8 +153,8 @@ pub fn maximise(
         };
     }
 
-    // Initial inverse Hessian for BFGS: the inverse of the analytic one when positive definite.
-    let e0 = evaluate(d, kind, &beta, true, true);
+    // Initial inverse Hessian for BFGS: the inverse of the Hessian when positive definite.
+    let e0 = with_hessian(family, d, &beta, free);
     passes.fetch_add(1, Ordering::Relaxed);
     let h0 = negative_free_hessian(e0.hess.as_deref().unwrap_or(&[]), k, free) * scale;
     let inv0: Vec<Vec<f64>> = match h0.clone().cholesky() {
@@ -178,7 +180,7 @@ pub fn maximise(
     };
     let objective = Objective {
         d,
-        kind,
+        family,
         free,
         template: beta.clone(),
         scale,
@@ -218,12 +220,12 @@ pub fn maximise(
         Err(e) => note = Some(format!("quasi-Newton setup failed: {e}")),
     }
 
-    // Newton phase on the analytic Hessian.
+    // Newton phase.
     let mut newton_steps = 0;
     let mut converged = false;
     let mut criterion = f64::INFINITY;
     let mut stalls = 0;
-    let mut e = evaluate(d, kind, &beta, true, true);
+    let mut e = with_hessian(family, d, &beta, free);
     passes.fetch_add(1, Ordering::Relaxed);
     for _ in 0..100 {
         let g = DVector::from_iterator(m, free.iter().map(|&i| e.grad[i]));
@@ -250,7 +252,7 @@ pub fn maximise(
                 last[i] += step[s];
             }
             // Only its log-likelihood and gradient are used from here on.
-            let el = evaluate(d, kind, &last, true, false);
+            let el = family.evaluate(d, &last, true, false);
             passes.fetch_add(1, Ordering::Relaxed);
             if el.ll.is_finite() && el.ll >= e.ll - 1e-9 * e.ll.abs().max(1.0) {
                 beta = last;
@@ -267,7 +269,7 @@ pub fn maximise(
             for (s, &i) in free.iter().enumerate() {
                 trial[i] += t * step[s];
             }
-            let et = evaluate(d, kind, &trial, true, true);
+            let et = with_hessian(family, d, &trial, free);
             passes.fetch_add(1, Ordering::Relaxed);
             if et.ll.is_finite() && et.ll >= e.ll - 1e-12 * e.ll.abs().max(1.0) {
                 improved = et.ll > e.ll;

@@ -23,8 +23,7 @@ pub fn summary(spec: &Spec, obs: &Observations) -> String {
     let _ = writeln!(
         s,
         "model     {}, base alternative `{}`",
-        spec.family.name(),
-        spec.alternatives[spec.base].name
+        spec.family, spec.alternatives[spec.base].name
     );
     let _ = writeln!(s, "situations {}", obs.situations);
     match &obs.group {

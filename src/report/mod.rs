@@ -8,16 +8,15 @@ pub mod forecast;
 pub mod json;
 pub mod text;
 
-use crate::spec::{Family, Spec};
+use crate::model::Family;
+use crate::spec::Spec;
 
-/// The cautions line every report carries.
-pub fn cautions(spec: &Spec) -> String {
-    let iia = match spec.family {
-        Family::Logit if spec.alternatives.len() > 2 => {
-            " Logit assumes independence from irrelevant alternatives (IIA): a changed or removed option draws share from all others in proportion to their shares."
-        }
-        _ => "",
-    };
+/// The cautions line every report carries, with the family's own sentence.
+pub fn cautions(spec: &Spec, family: &dyn Family) -> String {
+    let iia = family
+        .caution(spec)
+        .map(|c| format!(" {c}"))
+        .unwrap_or_default();
     format!(
         "Cautions: forecasts rest on the model's assumptions and on how well the sample represents the population it is applied to.{iia} Transport appraisal should follow the local official guidance on values and methods."
     )

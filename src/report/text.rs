@@ -6,7 +6,7 @@ use std::fmt::Write;
 
 use super::{cautions, num, pval, red};
 use crate::estimate::{DiagnosticKind, Fit};
-use crate::spec::{Family, Spec, Term};
+use crate::spec::{Spec, Term};
 
 pub fn header(spec: &Spec, fit: &Fit, colour: bool) -> String {
     let mut s = String::new();
@@ -16,7 +16,7 @@ pub fn header(spec: &Spec, fit: &Fit, colour: bool) -> String {
     let _ = writeln!(
         s,
         "model    {} · {} alternatives · base `{}` · {} parameters estimated",
-        spec.family.name(),
+        spec.family,
         spec.alternatives.len(),
         spec.alternatives[spec.base].name,
         st.estimated_parameters
@@ -68,7 +68,7 @@ pub fn estimates(spec: &Spec, fit: &Fit) -> String {
     } else {
         "classical errors"
     };
-    let odds = spec.family == Family::Logit && spec.alternatives.len() == 2;
+    let odds = fit.family.abilities().odds_ratios;
     let _ = writeln!(s, "estimates  (t, p and the 95% interval use {which})");
     let _ = writeln!(
         s,
@@ -160,6 +160,6 @@ pub fn fit_report(spec: &Spec, fit: &Fit, colour: bool) -> String {
 }
 
 /// The closing line of every report.
-pub fn closing(spec: &Spec) -> String {
-    format!("{}\n", cautions(spec))
+pub fn closing(spec: &Spec, fit: &Fit) -> String {
+    format!("{}\n", cautions(spec, &*fit.family))
 }

@@ -7,7 +7,7 @@ use serde::Serialize;
 use crate::analysis::simulate::shares;
 use crate::design::Design;
 use crate::error::{Error, Result};
-use crate::estimate::likelihood::Kind;
+use crate::model::Family;
 use crate::spec::{Spec, Term};
 
 #[derive(Clone, Debug, Serialize)]
@@ -33,7 +33,7 @@ pub struct Calibrated {
 pub fn calibrate(
     spec: &Spec,
     d: &Design,
-    kind: Kind,
+    family: &dyn Family,
     beta: &[f64],
     targets: &[(usize, f64)],
     tol: f64,
@@ -57,7 +57,7 @@ pub fn calibrate(
             })?;
         params.push((j, p, t));
     }
-    let before = shares(d, kind, &b);
+    let before = shares(family, d, &b);
     for &(j, _, _) in &params {
         if before[j] <= 0.0 {
             return Err(Error::Usage(format!(
@@ -84,7 +84,7 @@ pub fn calibrate(
         for &(j, p, t) in &params {
             b[p] += (t / s[j]).ln();
         }
-        s = shares(d, kind, &b);
+        s = shares(family, d, &b);
         iterations += 1;
     }
     let rows = targets

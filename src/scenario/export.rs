@@ -9,7 +9,8 @@ use super::Forecast;
 use crate::data::write::{self, Values};
 use crate::design::Design;
 use crate::error::{Error, Result};
-use crate::estimate::likelihood::{probabilities_from_utilities, Kind};
+use crate::model::enumerate::Enumeration;
+use crate::model::Family;
 
 fn ext(path: &Path) -> String {
     path.extension()
@@ -75,32 +76,29 @@ pub fn forecast(path: &Path, force: bool, f: &Forecast) -> Result<()> {
 pub fn per_situation(
     path: &Path,
     force: bool,
+    family: &dyn Family,
     d: &Design,
-    kind: Kind,
     beta: &[f64],
     prep: &Prepared,
 ) -> Result<()> {
-    let j = d.alternatives();
     let m = prep.alternatives();
     let n = d.situations();
+    // Each piece's rows, alternative by alternative (base, then scenario).
+    let parts = Enumeration::new(family, d, beta).what_if(prep).pieces(
+        |r| vec![Vec::with_capacity(r.len()); 2 * m],
+        |cols, s| {
+            for a in 0..m {
+                cols[a].push(s.p0[a]);
+                cols[m + a].push(s.p1[a]);
+            }
+        },
+    );
     let mut base: Vec<Vec<f64>> = vec![Vec::with_capacity(n); m];
     let mut scen: Vec<Vec<f64>> = vec![Vec::with_capacity(n); m];
-    let mut v = vec![0.0; j];
-    let mut v1 = vec![0.0; m];
-    let mut p0 = vec![0.0; j];
-    let mut p1 = vec![0.0; m];
-    for i in 0..n {
-        d.utilities(beta, i, &mut v);
-        probabilities_from_utilities(kind, &v, &mut p0);
-        prep.utilities(d, beta, i, &v, &mut v1);
-        if v1.iter().any(|x| x.is_finite()) {
-            probabilities_from_utilities(kind, &v1, &mut p1);
-        } else {
-            p1.iter_mut().for_each(|x| *x = 0.0);
-        }
+    for part in parts {
         for a in 0..m {
-            base[a].push(if a < j { p0[a] } else { 0.0 });
-            scen[a].push(p1[a]);
+            base[a].extend_from_slice(&part[a]);
+            scen[a].extend_from_slice(&part[m + a]);
         }
     }
     let mut cols = vec![(

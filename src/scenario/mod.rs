@@ -17,7 +17,7 @@ use crate::analysis::delta::{draws, quantile};
 use crate::data::Dataset;
 use crate::error::{Error, Result};
 use crate::estimate::Fit;
-use crate::spec::{Family, Spec};
+use crate::spec::Spec;
 
 /// How shares become volumes.
 #[derive(Clone, Debug, PartialEq)]
@@ -144,7 +144,8 @@ pub fn base_parameters(
     match targets {
         None => Ok((fit.beta.clone(), None)),
         Some(t) => {
-            let c = calibrate::calibrate(spec, &fit.design, fit.kind, &fit.beta, &t, tol, max_it)?;
+            let c =
+                calibrate::calibrate(spec, &fit.design, &*fit.family, &fit.beta, &t, tol, max_it)?;
             Ok((c.beta.clone(), Some(c)))
         }
     }
@@ -157,11 +158,16 @@ pub fn forecast(
     scenario: &Scenario,
     opts: &Options,
 ) -> Result<Forecast> {
-    if spec.family == Family::Probit && !scenario.new_alternatives.is_empty() {
-        return Err(Error::Usage(
-            "new alternatives need a logit model: binary probit has exactly two alternatives"
-                .into(),
-        ));
+    if !fit.family.abilities().new_alternatives && !scenario.new_alternatives.is_empty() {
+        return Err(Error::Usage(format!(
+            "new alternatives are not available for the {} family: {}",
+            fit.family.name(),
+            if fit.family.abilities().binary_only {
+                "it has exactly two alternatives"
+            } else {
+                "its model does not define the errors of an added alternative"
+            }
+        )));
     }
     let d = &fit.design;
     let prep = prepare::prepare(spec, d, &ds.table, scenario)?;
@@ -173,7 +179,15 @@ pub fn forecast(
     let seg_arg = seg.as_ref().map(|(i, l)| (i.as_slice(), l.len()));
     // The cached baseline applies when the parameters are the estimates (no calibration).
     let baseline = (beta == fit.beta).then(|| fit.baseline());
-    let point = simulate::run(d, fit.kind, &beta, &prep, seg_arg, scenario.price, baseline);
+    let point = simulate::run(
+        &*fit.family,
+        d,
+        &beta,
+        &prep,
+        seg_arg,
+        scenario.price,
+        baseline,
+    );
     let m = prep.alternatives();
     let mut warnings = Vec::new();
 
@@ -188,7 +202,8 @@ pub fn forecast(
             Some(all) => {
                 for b in all {
                     let b: Vec<f64> = b.iter().zip(&shift).map(|(x, s)| x + s).collect();
-                    let (base, scen, segs) = simulate::shares_only(d, fit.kind, &b, &prep, seg_arg);
+                    let (base, scen, segs) =
+                        simulate::shares_only(&*fit.family, d, &b, &prep, seg_arg);
                     for a in 0..m {
                         band_scen[a].push(scen[a]);
                         band_change[a].push(scen[a] - base[a]);

@@ -9,6 +9,7 @@ use crate::analysis::TermMap;
 use crate::data::Table;
 use crate::design::Design;
 use crate::error::{Error, Result};
+use crate::model::WhatIf;
 use crate::spec::{Expr, Spec, Term};
 
 /// A new alternative ready to simulate.
@@ -256,5 +257,14 @@ impl Prepared {
             }
             *slot = v;
         }
+    }
+}
+
+impl WhatIf for Prepared {
+    fn alternatives(&self, _j: usize) -> usize {
+        self.names.len()
+    }
+    fn utilities(&self, d: &Design, beta: &[f64], i: usize, v0: &[f64], v1: &mut [f64]) {
+        Prepared::utilities(self, d, beta, i, v0, v1)
     }
 }

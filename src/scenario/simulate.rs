@@ -4,8 +4,8 @@
 
 use super::prepare::Prepared;
 use crate::design::Design;
-use crate::estimate::likelihood::{probabilities_from_utilities, Kind};
-use crate::estimate::Baseline;
+use crate::model::enumerate::Enumeration;
+use crate::model::{Baseline, Family};
 
 /// What one pass over the situations gives (all divided by the relevant total weight).
 #[derive(Clone, Debug)]
@@ -45,49 +45,11 @@ pub fn pair(p0: &[f64], p1: &[f64], flows: &mut [f64], w: f64) {
     }
 }
 
-/// Logit scenario probabilities from the base ones: P'_j = P_j r_j / sum_l P_l r_l with
-/// r_j = exp(V'_j - V_j), so that only the alternatives whose utility changed cost an
-/// exponential, and a situation nothing touched keeps its probabilities exactly.
-/// Returns false (the caller then uses the full softmax) when the shortcut does not
-/// apply: an alternative that becomes available, or a utility rising by more than 50.
-#[inline]
-fn rescale(v0: &[f64], v1: &[f64], p0: &[f64], p1: &mut [f64]) -> bool {
-    let mut changed = false;
-    let mut s = 0.0;
-    for a in 0..v0.len() {
-        let (b, n) = (v0[a], v1[a]);
-        let r = if b == n || (!b.is_finite() && !n.is_finite()) {
-            1.0
-        } else if !b.is_finite() {
-            return false;
-        } else if !n.is_finite() {
-            changed = true;
-            0.0
-        } else if n - b > 50.0 {
-            return false;
-        } else {
-            changed = true;
-            (n - b).exp()
-        };
-        p1[a] = p0[a] * r;
-        s += p1[a];
-    }
-    if !changed {
-        p1.copy_from_slice(p0);
-        return true;
-    }
-    if s.is_nan() || s <= 0.0 {
-        return false;
-    }
-    p1.iter_mut().for_each(|x| *x /= s);
-    true
-}
-
 /// Point simulation at `beta`. `segments` gives each situation's segment index (and the count of segments).
 /// `baseline`, when given, holds the base utilities and probabilities at this `beta`.
 pub fn run(
+    family: &dyn Family,
     d: &Design,
-    kind: Kind,
     beta: &[f64],
     prep: &Prepared,
     segments: Option<(&[u32], usize)>,
@@ -121,39 +83,19 @@ pub fn run(
             })
         })
         .collect();
-    let logit = kind.family == crate::spec::Family::Logit;
-    let acc = d.par_fold(width, |range, acc| {
-        let mut v = vec![0.0; j];
-        let mut v1 = vec![0.0; m];
-        let mut p0 = vec![0.0; m];
-        let mut p1 = vec![0.0; m];
-        for i in range {
-            match baseline {
-                Some(b) => {
-                    v.copy_from_slice(&b.utilities[i * j..(i + 1) * j]);
-                    p0[..j].copy_from_slice(&b.probabilities[i * j..(i + 1) * j]);
-                }
-                None => {
-                    d.utilities(beta, i, &mut v);
-                    probabilities_from_utilities(kind, &v, &mut p0[..j]);
-                }
-            }
-            p0[j..].iter_mut().for_each(|x| *x = 0.0);
-            prep.utilities(d, beta, i, &v, &mut v1);
-            if v1.iter().all(|x| !x.is_finite()) {
-                p1.iter_mut().for_each(|x| *x = 0.0);
-            } else if !(logit && m == j && rescale(&v, &v1, &p0, &mut p1)) {
-                probabilities_from_utilities(kind, &v1, &mut p1);
-            }
+    let acc = Enumeration::new(family, d, beta)
+        .baseline(baseline)
+        .what_if(prep)
+        .fold(width, |acc, s| {
+            let (i, p0, p1) = (s.i, s.p0, s.p1);
             let wi = w[i];
             for a in 0..m {
                 acc[a] += wi * p0[a];
                 acc[m + a] += wi * p1[a];
             }
-            pair(&p0, &p1, &mut acc[o_sw..o_seg], wi);
+            pair(p0, p1, &mut acc[o_sw..o_seg], wi);
             if let Some((seg, _)) = segments {
-                let s = seg[i] as usize;
-                let base = o_seg + s * (2 * m + 2);
+                let base = o_seg + seg[i] as usize * (2 * m + 2);
                 for a in 0..m {
                     acc[base + a] += wi * p0[a];
                     acc[base + m + a] += wi * p1[a];
@@ -174,8 +116,7 @@ pub fn run(
                     }
                 }
             }
-        }
-    });
+        });
     let tw = d.total_weight();
     let scale = |v: &[f64], t: f64| v.iter().map(|x| x / t).collect::<Vec<f64>>();
     let mut segs = Vec::new();
@@ -212,12 +153,12 @@ pub type SegmentShares = Vec<(Vec<f64>, Vec<f64>)>;
 
 /// Scenario shares only (for draws and sweeps): (base, scenario) overall and per segment.
 pub fn shares_only(
+    family: &dyn Family,
     d: &Design,
-    kind: Kind,
     beta: &[f64],
     prep: &Prepared,
     segments: Option<(&[u32], usize)>,
 ) -> (Vec<f64>, Vec<f64>, SegmentShares) {
-    let p = run(d, kind, beta, prep, segments, None, None);
+    let p = run(family, d, beta, prep, segments, None, None);
     (p.base, p.scenario, p.segments)
 }

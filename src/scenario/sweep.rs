@@ -84,7 +84,7 @@ pub fn sweep(spec: &Spec, fit: &Fit, ds: &Dataset, req: &Request) -> Result<Swee
             ..Scenario::default()
         };
         let prep = prepare::prepare(spec, &fit.design, &ds.table, &sc)?;
-        let (_, shares, _) = simulate::shares_only(&fit.design, fit.kind, &beta, &prep, None);
+        let (_, shares, _) = simulate::shares_only(&*fit.family, &fit.design, &beta, &prep, None);
         points.push(SweepPoint { multiplier, shares });
     }
     Ok(Sweep {

@@ -2,6 +2,7 @@
 //! parameters it implies. `raw` holds the serde types, `validate` the checks.
 
 pub mod expr;
+pub mod family;
 pub mod raw;
 mod restriction;
 mod validate;
@@ -9,26 +10,11 @@ mod validate;
 use std::path::{Path, PathBuf};
 
 pub use expr::Expr;
+pub use family::{Catalog, FamilyParameter, FamilyRules, SpecView};
 pub use restriction::parse_restriction;
 pub use validate::parse_targets;
 
 use crate::error::{Error, Result};
-
-#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
-#[serde(rename_all = "lowercase")]
-pub enum Family {
-    Logit,
-    Probit,
-}
-
-impl Family {
-    pub fn name(self) -> &'static str {
-        match self {
-            Family::Logit => "logit",
-            Family::Probit => "probit",
-        }
-    }
-}
 
 #[derive(Clone, Debug, PartialEq)]
 pub enum Layout {
@@ -95,6 +81,8 @@ pub enum Term {
     Constant,
     Attribute(usize),
     Characteristic(usize),
+    /// A parameter the model family adds (its label says what it is).
+    Family(String),
 }
 
 #[derive(Clone, Debug)]
@@ -142,7 +130,10 @@ pub struct Spec {
     pub path: PathBuf,
     pub title: Option<String>,
     pub data: DataSpec,
-    pub family: Family,
+    /// The model family's name (`[model].family`, default "logit").
+    pub family: String,
+    /// The family's own keys, as written: its sections by name, extra `[model]` keys under `model`.
+    pub family_keys: toml::Table,
     pub base: usize,
     pub constants: bool,
     pub alternatives: Vec<Alternative>,
@@ -157,24 +148,25 @@ pub struct Spec {
 }
 
 impl Spec {
-    /// Reads and validates a spec file.
-    pub fn from_file(path: &Path) -> Result<Spec> {
+    /// Reads and validates a spec file; `families` says which model families exist
+    /// (the model room's registry, `model::read_spec`, is the usual caller).
+    pub fn from_file(path: &Path, families: &dyn Catalog) -> Result<Spec> {
         if path.is_dir() {
             return Err(Error::spec(path, "is a directory, not a spec file"));
         }
         let text = std::fs::read_to_string(path).map_err(|e| Error::io(path, e))?;
-        Spec::from_str(&text, path)
+        Spec::from_str(&text, path, families)
     }
 
     /// Validates spec text; `path` names the file in messages and anchors relative paths.
-    pub fn from_str(text: &str, path: &Path) -> Result<Spec> {
+    pub fn from_str(text: &str, path: &Path, families: &dyn Catalog) -> Result<Spec> {
         let raw: raw::RawSpec = toml::from_str(text).map_err(|e| {
             Error::spec(
                 path,
                 format!("not a valid spec: {}", e.to_string().trim_end()),
             )
         })?;
-        validate::validate(raw, path)
+        validate::validate(raw, path, families)
     }
 
     pub fn alternative_index(&self, name: &str) -> Option<usize> {
@@ -195,6 +187,7 @@ impl Spec {
             Term::Constant => "constants".to_string(),
             Term::Attribute(a) => format!("attribute {}", self.attributes[*a].name),
             Term::Characteristic(c) => format!("characteristic {}", self.characteristics[*c].name),
+            Term::Family(label) => label.clone(),
         }
     }
 
@@ -203,15 +196,21 @@ impl Spec {
         self.derived.iter().map(|d| d.0.as_str()).collect()
     }
 
-    /// A copy restricted to constants only (the reference model for rho-squared).
+    /// A copy restricted to constants only (the reference model for rho-squared);
+    /// a family's own parameters stay, held at their starting values.
     pub fn constants_only(&self) -> Spec {
         let mut s = self.clone();
         s.attributes.clear();
         s.characteristics.clear();
-        s.parameters.retain(|p| p.term == Term::Constant);
+        s.parameters
+            .retain(|p| matches!(p.term, Term::Constant | Term::Family(_)));
         for p in s.parameters.iter_mut() {
-            p.fixed = None;
-            p.start = 0.0;
+            if p.term == Term::Constant {
+                p.fixed = None;
+                p.start = 0.0;
+            } else {
+                p.fixed = Some(p.start);
+            }
         }
         s.ratios.clear();
         s.restrictions.clear();

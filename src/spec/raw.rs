@@ -1,10 +1,11 @@
 //! The spec file exactly as written: serde types that reject unknown keys.
+//! The top level and `[model]` keep keys they do not know in `extra`, for the
+//! model family to claim (`spec::family`); `spec::validate` rejects the rest.
 //! Checking what the values mean is the job of `spec::validate`.
 
 use serde::Deserialize;
 
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
 pub struct RawSpec {
     pub title: Option<String>,
     pub data: RawData,
@@ -25,6 +26,9 @@ pub struct RawSpec {
     pub calibration: Option<RawCalibration>,
     #[serde(default)]
     pub restrictions: Vec<String>,
+    /// Keys no common section claims: a family's sections, or mistakes.
+    #[serde(flatten)]
+    pub extra: toml::Table,
 }
 
 #[derive(Debug, Deserialize)]
@@ -41,11 +45,14 @@ pub struct RawData {
 }
 
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
 pub struct RawModel {
-    pub family: String,
+    /// Defaults to "logit".
+    pub family: Option<String>,
     pub base: String,
     pub constants: Option<bool>,
+    /// Keys the family may claim.
+    #[serde(flatten)]
+    pub extra: toml::Table,
 }
 
 #[derive(Debug, Deserialize)]

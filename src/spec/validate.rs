@@ -7,7 +7,7 @@ use super::expr::Expr;
 use super::raw::{RawParameter, RawSpec};
 use super::*;
 
-pub(super) fn validate(raw: RawSpec, path: &Path) -> Result<Spec> {
+pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Result<Spec> {
     let fail = |msg: String| Error::spec(path, msg);
 
     // [data]
@@ -57,15 +57,19 @@ pub(super) fn validate(raw: RawSpec, path: &Path) -> Result<Spec> {
     };
 
     // [model]
-    let family = match raw.model.family.as_str() {
-        "logit" => Family::Logit,
-        "probit" => Family::Probit,
-        other => {
-            return Err(fail(format!(
-                "[model].family: \"{other}\" is not a family (use \"logit\" or \"probit\")"
-            )))
-        }
+    let family = raw.model.family.as_deref().unwrap_or("logit").to_string();
+    let Some(rules) = families.rules(&family) else {
+        let known: Vec<String> = families
+            .names()
+            .iter()
+            .map(|n| format!("\"{n}\""))
+            .collect();
+        return Err(fail(format!(
+            "[model].family: \"{family}\" is not a family (use one of {})",
+            known.join(", ")
+        )));
     };
+    let family_keys = family_keys(&raw, rules, &family).map_err(fail)?;
 
     // [alternatives.*]
     let mut alternatives = Vec::new();
@@ -96,12 +100,6 @@ pub(super) fn validate(raw: RawSpec, path: &Path) -> Result<Spec> {
     if alternatives.len() < 2 {
         return Err(fail(format!(
             "[alternatives]: a choice needs at least two alternatives, found {}",
-            alternatives.len()
-        )));
-    }
-    if family == Family::Probit && alternatives.len() != 2 {
-        return Err(fail(format!(
-            "[model].family: \"probit\" is binary and needs exactly two alternatives, found {}",
             alternatives.len()
         )));
     }
@@ -294,6 +292,27 @@ pub(super) fn validate(raw: RawSpec, path: &Path) -> Result<Spec> {
             push(&mut parameters, name, Term::Characteristic(k), Some(j));
         }
     }
+    let extra = rules
+        .check(&SpecView {
+            layout: &data.layout,
+            alternatives: &alternatives,
+            base,
+            constants,
+            attributes: &attributes,
+            characteristics: &characteristics,
+            parameters: &parameters,
+            keys: &family_keys,
+        })
+        .map_err(fail)?;
+    for p in extra {
+        parameters.push(Parameter {
+            name: p.name,
+            term: Term::Family(p.label),
+            alternative: None,
+            start: p.start,
+            fixed: None,
+        });
+    }
     for (i, p) in parameters.iter().enumerate() {
         if parameters[..i].iter().any(|q| q.name == p.name) {
             return Err(fail(format!(
@@ -412,6 +431,7 @@ pub(super) fn validate(raw: RawSpec, path: &Path) -> Result<Spec> {
         title: raw.title,
         data,
         family,
+        family_keys,
         base,
         constants,
         alternatives,
@@ -424,6 +444,42 @@ pub(super) fn validate(raw: RawSpec, path: &Path) -> Result<Spec> {
         calibration,
         restrictions,
     })
+}
+
+/// The family's own keys out of what the common sections did not claim: its
+/// sections, and its extra `[model]` keys under `model`. Anything else is unknown.
+fn family_keys(
+    raw: &RawSpec,
+    rules: &dyn FamilyRules,
+    family: &str,
+) -> std::result::Result<toml::Table, String> {
+    let mut keys = toml::Table::new();
+    for (k, v) in &raw.extra {
+        if !rules.sections().contains(&k.as_str()) {
+            return Err(format!(
+                "unknown key `{k}` (not a section of the spec for family \"{family}\"; see docs/spec-format.md)"
+            ));
+        }
+        keys.insert(k.clone(), v.clone());
+    }
+    let mut model = toml::Table::new();
+    for (k, v) in &raw.model.extra {
+        if !rules.model_keys().contains(&k.as_str()) {
+            return Err(format!(
+                "[model]: unknown key `{k}` (family \"{family}\" takes `family`, `base` and `constants`{})",
+                rules
+                    .model_keys()
+                    .iter()
+                    .map(|m| format!(", `{m}`"))
+                    .collect::<String>()
+            ));
+        }
+        model.insert(k.clone(), v.clone());
+    }
+    if !model.is_empty() {
+        keys.insert("model".into(), toml::Value::Table(model));
+    }
+    Ok(keys)
 }
 
 /// Share targets for constant calibration (also used by scenario files).

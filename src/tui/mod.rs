@@ -42,16 +42,6 @@ use ratatui::Terminal;
 use crate::error::{Error, Result};
 use app::{update, App, Msg, Stage, Tone};
 
-#[derive(clap::Args, Debug)]
-pub struct ExploreArgs {
-    /// One or more specs; with several, the compare view sets them side by side.
-    #[arg(required = true, num_args = 1..)]
-    pub specs: Vec<PathBuf>,
-    /// Reuse a fit saved with `fit --save` when spec and data are unchanged.
-    #[arg(long, value_name = "FILE.json")]
-    pub load: Option<PathBuf>,
-}
-
 /// Whether the terminal is in the workbench's modes (raw, alternate screen).
 static ACTIVE: AtomicBool = AtomicBool::new(false);
 /// The real stderr while it is pointed at /dev/null (-1 when it is not).
@@ -164,13 +154,14 @@ impl Drop for Session {
 }
 
 /// Runs the workbench until the user quits.
-pub fn run(args: ExploreArgs) -> Result<ExitCode> {
+/// Runs the workbench on `specs`, restoring the fit saved at `load` where it matches.
+pub fn run(specs: Vec<PathBuf>, load: Option<PathBuf>) -> Result<ExitCode> {
     if !std::io::stdout().is_terminal() || !std::io::stdin().is_terminal() {
         return Err(Error::Usage(
             "explore is interactive and needs a terminal; `fit`, `simulate` and `sweep` print reports instead".into(),
         ));
     }
-    let (mut app, jobs) = App::new(args.specs, args.load, theme::Theme::detect());
+    let (mut app, jobs) = App::new(specs, load, theme::Theme::detect());
     let mut session = Session::start().map_err(|e| Error::io("the terminal", e))?;
     let outcome = event_loop(&mut session.terminal, &mut app, jobs);
     drop(session);

@@ -106,9 +106,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let mut lines = vec![
         Line::from(format!(
             "{} · base {} · K = {}",
-            spec.family.name(),
-            spec.alternatives[spec.base].name,
-            s.estimated_parameters
+            spec.family, spec.alternatives[spec.base].name, s.estimated_parameters
         )),
         row("log-likelihood", fixed(s.log_likelihood, 3)),
         row("  at equal shares", fixed(s.null_log_likelihood, 3)),
@@ -202,7 +200,7 @@ fn findings(app: &App) -> Vec<Line<'static>> {
         }
     }
     lines.push(Line::from(Span::styled(
-        crate::report::cautions(&l.model.spec),
+        crate::report::cautions(&l.model.spec, &*l.model.fit.family),
         t.dim(),
     )));
     lines

@@ -230,7 +230,7 @@ fn render_status(app: &App, area: Rect, buf: &mut Buffer) {
     let left_text = match app.loaded() {
         Some(l) => {
             let s = &l.model.spec;
-            let mut text = format!(" {} · {}", l.model.path.display(), s.family.name());
+            let mut text = format!(" {} · {}", l.model.path.display(), s.family);
             if app.models.len() > 1 {
                 text.push_str(&format!(
                     " · model {}/{}",

@@ -11,8 +11,8 @@ use std::sync::Arc;
 
 use super::app::Msg;
 use crate::data::{Dataset, Extra};
-use crate::error::{Error, Result};
-use crate::estimate::{self, Fit, Progress, Step};
+use crate::error::Result;
+use crate::estimate::{Fit, Progress, Step};
 use crate::scenario::{self, sweep, Scenario};
 use crate::spec::Spec;
 
@@ -104,31 +104,9 @@ fn guarded<T>(f: impl FnOnce() -> Result<T>) -> std::result::Result<T, String> {
 
 /// Loads a spec and its data and fits it, or restores a saved fit whose fingerprint matches.
 pub fn open_one(path: &Path, load: Option<&Path>, progress: Progress) -> Result<Model> {
-    let (spec, ds) = crate::cli::open(path, &Extra::default())?;
+    let (spec, ds) = crate::workspace::open(path, &Extra::default())?;
     let obs = Arc::new(ds.obs.clone());
-    let (fit, note) = match load {
-        None => (estimate::fit(&spec, obs, progress)?, None),
-        Some(file) => {
-            let text = std::fs::read_to_string(file).map_err(|e| Error::io(file, e))?;
-            let doc: serde_json::Value = serde_json::from_str(&text)
-                .map_err(|e| Error::io(file, format!("not a results document: {e}")))?;
-            let want = crate::report::json::fingerprint(&spec);
-            if doc["fingerprint"].as_str() == Some(want.as_str()) {
-                let fit = estimate::restore(&spec, obs, &doc)?;
-                (
-                    fit,
-                    Some(format!("estimates loaded from {}", file.display())),
-                )
-            } else {
-                let fit = estimate::fit(&spec, obs, progress)?;
-                let note = format!(
-                    "{} was saved from another spec or data (fingerprint differs), so the model was refitted",
-                    file.display()
-                );
-                (fit, Some(note))
-            }
-        }
-    };
+    let (fit, note) = crate::workspace::fit_or_restore(&spec, obs, load, progress)?;
     Ok(Model {
         path: path.to_path_buf(),
         spec: Arc::new(spec),

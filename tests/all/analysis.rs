@@ -5,7 +5,6 @@ use std::sync::Arc;
 
 use sharecast::analysis::{self, simulate, Options, TermMap};
 use sharecast::design::Design;
-use sharecast::estimate::likelihood;
 
 use crate::common::*;
 
@@ -21,7 +20,7 @@ fn numeric_attr_elasticity(
     let j = d.alternatives();
     let eps = 1e-5;
     let shift = |s: f64| {
-        simulate::shares_with(d, fit.kind, &fit.beta, move |i, v| {
+        simulate::shares_with(&*fit.family, d, &fit.beta, None, move |i, v| {
             if v[k].is_finite() {
                 v[k] += b * d.obs.attributes[a][i * j + k] * s;
             }
@@ -67,7 +66,7 @@ fn check_against_finite_differences(rel: &str) {
         let d = &fit.design;
         let eps = 1e-5;
         let shift = |s: f64| {
-            simulate::shares_with(d, fit.kind, &fit.beta, |i, v| {
+            simulate::shares_with(&*fit.family, d, &fit.beta, None, |i, v| {
                 for (vl, param) in v.iter_mut().zip(&map.characteristic[c]) {
                     if let (Some(p), true) = (param, vl.is_finite()) {
                         *vl += fit.beta[*p] * d.obs.characteristics[c][i] * s;
@@ -116,9 +115,9 @@ fn logit_identities_hold_for_one_situation() {
         let one = Arc::new(ds.obs.subset(&keep));
         let d = Design::build(&spec, one);
         let map = TermMap::new(&spec, &d);
-        let sens = analysis::sensitivity::sensitivities(&d, fit.kind, &map, &fit.beta);
+        let sens = analysis::sensitivity::sensitivities(&*fit.family, &d, &map, &fit.beta);
         let j = d.alternatives();
-        let p = likelihood::probabilities(&d, fit.kind, &fit.beta);
+        let p = sharecast::model::enumerate::probabilities(&*fit.family, &d, &fit.beta);
         let time = spec
             .attributes
             .iter()
@@ -140,7 +139,7 @@ fn logit_identities_hold_for_one_situation() {
             }
             // removal diversion of k: P_j / (1 - P_k)
             let names = spec.alternative_names();
-            let div = analysis::diversion::removal(&d, fit.kind, &fit.beta, &names);
+            let div = analysis::diversion::removal(&*fit.family, &d, &fit.beta, None, &names);
             for row in div.iter().filter(|r| r.removed == names[k]) {
                 let to = names.iter().position(|n| n == &row.to).unwrap();
                 let want = p[to] / (1.0 - p[k]);

@@ -18,7 +18,7 @@ pub fn path(rel: &str) -> PathBuf {
 }
 
 pub fn load(rel: &str) -> (Spec, data::Dataset) {
-    let spec = Spec::from_file(&path(rel)).unwrap();
+    let spec = sharecast::model::read_spec(&path(rel)).unwrap();
     let ds = data::load(&spec, &Extra::default()).unwrap();
     (spec, ds)
 }

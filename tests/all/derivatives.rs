@@ -5,7 +5,6 @@
 use std::sync::Arc;
 
 use sharecast::design::Design;
-use sharecast::estimate::likelihood::{evaluate, Kind};
 use sharecast::rng::Rng;
 
 use crate::common::*;
@@ -13,15 +12,13 @@ use crate::common::*;
 fn check(rel_spec: &str, scale: f64, seed: u64) {
     let (spec, ds) = load(rel_spec);
     let d = Design::build(&spec, Arc::new(ds.obs.clone()));
-    let kind = Kind {
-        family: spec.family,
-        base: spec.base,
-    };
+    let family = sharecast::model::for_spec(&spec).unwrap();
+    let evaluate = |beta: &[f64], g: bool, h: bool| family.evaluate(&d, beta, g, h);
     let k = d.params;
     let mut rng = Rng::new(seed);
     for _ in 0..3 {
         let beta: Vec<f64> = (0..k).map(|_| scale * rng.normal()).collect();
-        let e = evaluate(&d, kind, &beta, true, true);
+        let e = evaluate(&beta, true, true);
         let h = e.hess.unwrap();
         for a in 0..k {
             let step = 1e-4 * beta[a].abs().max(0.1);
@@ -29,8 +26,8 @@ fn check(rel_spec: &str, scale: f64, seed: u64) {
             up[a] += step;
             let mut dn = beta.clone();
             dn[a] -= step;
-            let eu = evaluate(&d, kind, &up, true, false);
-            let ed = evaluate(&d, kind, &dn, true, false);
+            let eu = evaluate(&up, true, false);
+            let ed = evaluate(&dn, true, false);
             let fd = (eu.ll - ed.ll) / (2.0 * step);
             let tol = 1e-5
                 * e.grad[a]

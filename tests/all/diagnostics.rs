@@ -8,12 +8,11 @@ use std::sync::Arc;
 use sharecast::data::{self, Extra};
 use sharecast::estimate::{self, Diagnostic, DiagnosticKind, Fit, Step};
 use sharecast::rng::Rng;
-use sharecast::spec::Spec;
 
 use crate::common::*;
 
 fn fit_at(spec_path: &Path) -> Fit {
-    let spec = Spec::from_file(spec_path).unwrap();
+    let spec = sharecast::model::read_spec(spec_path).unwrap();
     let ds = data::load(&spec, &Extra::default()).unwrap();
     let quiet = |_s: Step| {};
     estimate::fit(&spec, Arc::new(ds.obs), &quiet).unwrap()

@@ -3,14 +3,13 @@
 
 use sharecast::data::{self, Extra};
 use sharecast::estimate::DiagnosticKind;
-use sharecast::spec::Spec;
 
 use crate::common::*;
 
 fn fit_text(name: &str, csv: &str, spec_text: &str) -> sharecast::estimate::Fit {
     let dir = scratch(name);
     write(&dir, "d.csv", csv);
-    let spec = Spec::from_str(spec_text, &dir.join("s.toml")).unwrap();
+    let spec = sharecast::model::parse_spec(spec_text, &dir.join("s.toml")).unwrap();
     let ds = data::load(&spec, &Extra::default()).unwrap();
     fit_spec(&spec, &ds)
 }

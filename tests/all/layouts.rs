@@ -4,7 +4,6 @@ use std::sync::Arc;
 
 use sharecast::data::{self, Extra};
 use sharecast::design::Design;
-use sharecast::spec::Spec;
 
 use crate::common::*;
 
@@ -27,8 +26,8 @@ fn wide_and_long_layouts_give_identical_designs() {
         "[data]\nfile = \"l.csv\"\nlayout = \"long\"\nsituation = \"id\"\nalternative = \"alt\"\nchosen = \"chosen\"\nweight = \"wt\"\ngroup = \"person\"\n{}[[attribute]]\nname = \"cost\"\ncolumn = \"cost\"\n[[attribute]]\nname = \"time\"\ncoefficient = \"per-alternative\"\ncolumn = \"time\"\n[[characteristic]]\nname = \"income\"\ncolumn = \"inc\"\n",
         common_tail
     );
-    let ws = Spec::from_str(&wide, &dir.join("w.toml")).unwrap();
-    let ls = Spec::from_str(&long, &dir.join("l.toml")).unwrap();
+    let ws = sharecast::model::parse_spec(&wide, &dir.join("w.toml")).unwrap();
+    let ls = sharecast::model::parse_spec(&long, &dir.join("l.toml")).unwrap();
     let wd = data::load(&ws, &Extra::default()).unwrap();
     let ld = data::load(&ls, &Extra::default()).unwrap();
     let a = Design::build(&ws, Arc::new(wd.obs));

@@ -64,7 +64,7 @@ const TRUTH: &[(&str, f64)] = &[
 ];
 
 fn spec() -> Spec {
-    Spec::from_str(SPEC, Path::new("/nowhere/recovery.toml")).unwrap()
+    sharecast::model::parse_spec(SPEC, Path::new("/nowhere/recovery.toml")).unwrap()
 }
 
 /// Simulates `n` situations from `TRUTH`: each chooses the available

@@ -21,7 +21,7 @@ fn binary_logit_shares_follow_the_logistic_function() {
     let dir = scratch("binary_closed_form");
     write(&dir, "d.csv", "choice,p_stay,p_go\nstay,1,3\ngo,1,3\n");
     let spec_text = "[data]\nfile = \"d.csv\"\nlayout = \"wide\"\nchoice = \"choice\"\n[model]\nfamily = \"logit\"\nbase = \"stay\"\n[alternatives.stay]\n[alternatives.go]\n[[attribute]]\nname = \"price\"\ncolumns = { stay = \"p_stay\", go = \"p_go\" }\n[parameters]\nasc_go = { fixed = 0.5 }\nprice = { fixed = -0.2 }\n";
-    let spec = Spec::from_str(spec_text, &dir.join("s.toml")).unwrap();
+    let spec = sharecast::model::parse_spec(spec_text, &dir.join("s.toml")).unwrap();
     let ds = data::load(&spec, &Extra::default()).unwrap();
     let fit = fit_spec(&spec, &ds);
     let sc = scenario(
@@ -84,7 +84,7 @@ fn removal_redistributes_in_proportion_in_every_situation() {
     let prep = prepare::prepare(&spec, &fit.design, &ds.table, &sc).unwrap();
     let dir = scratch("removal_iia");
     let out = dir.join("p.csv");
-    export::per_situation(&out, false, &fit.design, fit.kind, &fit.beta, &prep).unwrap();
+    export::per_situation(&out, false, &*fit.family, &fit.design, &fit.beta, &prep).unwrap();
     let names: Vec<String> = ["car", "bus", "rail", "bike", "walk"]
         .iter()
         .flat_map(|a| [format!("base_{a}"), format!("scenario_{a}")])
@@ -111,14 +111,14 @@ fn calibration_reaches_the_targets_and_keeps_the_other_parameters() {
     let c = calibrate::calibrate(
         &spec,
         &fit.design,
-        fit.kind,
+        &*fit.family,
         &fit.beta,
         &targets,
         1e-8,
         1000,
     )
     .unwrap();
-    let s = sharecast::analysis::simulate::shares(&fit.design, fit.kind, &c.beta);
+    let s = sharecast::analysis::simulate::shares(&*fit.family, &fit.design, &c.beta);
     for (j, t) in &targets {
         assert!((s[*j] - t).abs() < 1e-8, "{j}: {} vs {t}", s[*j]);
     }
@@ -153,7 +153,7 @@ fn simulated(n: usize, seed: u64) -> (Spec, data::Dataset) {
     }
     write(&dir, "d.csv", &csv);
     let text = "[data]\nfile = \"d.csv\"\nlayout = \"wide\"\nchoice = \"choice\"\n[model]\nfamily = \"logit\"\nbase = \"a\"\n[alternatives.a]\n[alternatives.b]\n[alternatives.c]\n[[attribute]]\nname = \"cost\"\ncolumns = { a = \"ca\", b = \"cb\", c = \"cc\" }\n";
-    let spec = Spec::from_str(text, &dir.join("s.toml")).unwrap();
+    let spec = sharecast::model::parse_spec(text, &dir.join("s.toml")).unwrap();
     let ds = data::load(&spec, &Extra::default()).unwrap();
     (spec, ds)
 }

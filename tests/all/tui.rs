@@ -195,7 +195,7 @@ fn classical_errors_on_a_clustered_fit_match_the_library_without_groups() {
     // The grouped fit shown with classical errors must agree with the library's own
     // rows for the same model fitted without `[data].group` (classical inference).
     let text = std::fs::read_to_string(path("specs/commute.toml")).unwrap();
-    let spec = sharecast::spec::Spec::from_str(
+    let spec = sharecast::model::parse_spec(
         &text.replace("group = \"person_id\"\n", ""),
         &path("specs/commute_ungrouped.toml"),
     )

@@ -1,6 +1,8 @@
 //! Checks of the blocked logit pass against plain per-situation sums, and of the fast maths.
 
 use super::*;
+use crate::data::Observations;
+use crate::design::{on_pieces, pieces, Feature};
 use crate::rng::Rng;
 use std::sync::Arc;
 
@@ -141,16 +143,7 @@ fn every_code_path_agrees_with_the_textbook_sums() {
         let mut rng = Rng::new(7);
         let beta: Vec<f64> = (0..d.params).map(|_| 0.2 * rng.normal()).collect();
         let (ll, g, h) = reference(&d, &beta);
-        let e = evaluate(
-            &d,
-            Kind {
-                family: Family::Logit,
-                base: 0,
-            },
-            &beta,
-            true,
-            true,
-        );
+        let e = evaluate(&d, &beta, true, true);
         let hess = e.hess.unwrap_or_default();
         let close = |a: f64, b: f64, scale: f64| (a - b).abs() <= 1e-10 * scale.max(1.0);
         assert!(
@@ -190,15 +183,9 @@ fn every_code_path_agrees_with_the_textbook_sums() {
         }
         // Scores sum to the gradient.
         let mut total = vec![0.0; d.params];
-        for_each_score(
-            &d,
-            Kind {
-                family: Family::Logit,
-                base: 0,
-            },
-            &beta,
-            |_, s| total.iter_mut().zip(s).for_each(|(t, x)| *t += x),
-        );
+        for_each_score(&d, &beta, &mut |_, s| {
+            total.iter_mut().zip(s).for_each(|(t, x)| *t += x)
+        });
         for q in 0..d.params {
             assert!(close(total[q], g[q], gs), "n {n} j {j}: score sum {q}");
         }

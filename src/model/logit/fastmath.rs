@@ -6,14 +6,14 @@ use super::*;
 
 /// Neumaier's compensated sum: exact to rounding whatever the number of terms.
 #[derive(Clone, Copy, Debug, Default)]
-pub(super) struct Compensated {
-    pub(super) sum: f64,
-    pub(super) c: f64,
+pub(crate) struct Compensated {
+    pub(crate) sum: f64,
+    pub(crate) c: f64,
 }
 
 impl Compensated {
     #[inline(always)]
-    pub(super) fn add(&mut self, x: f64) {
+    pub(crate) fn add(&mut self, x: f64) {
         let t = self.sum + x;
         if self.sum.abs() >= x.abs() {
             self.c += (self.sum - t) + x;
@@ -22,7 +22,7 @@ impl Compensated {
         }
         self.sum = t;
     }
-    pub(super) fn value(self) -> f64 {
+    pub(crate) fn value(self) -> f64 {
         self.sum + self.c
     }
 }

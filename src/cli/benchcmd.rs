@@ -1,0 +1,69 @@
+//! `sharecast bench`: the command line's flags for the benchmark room (`crate::bench`).
+
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+use clap::{Args, ValueEnum};
+
+use crate::bench::{self, Options};
+use crate::error::Result;
+
+/// The simulated model.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum BenchModel {
+    /// 4 constants, 3 shared attributes (a column per alternative), 2
+    /// characteristics on the 4 non-base alternatives: 15 parameters.
+    Full,
+    /// 4 constants and the 2 characteristics only: 12 parameters.
+    Characteristics,
+}
+
+#[derive(Args, Debug)]
+pub struct BenchArgs {
+    /// Number of choice situations to simulate.
+    #[arg(long, default_value_t = 1_000_000)]
+    pub situations: usize,
+    /// Which model to simulate and fit.
+    #[arg(long, value_enum, default_value_t = BenchModel::Full)]
+    pub model: BenchModel,
+    /// Write the data and spec into this folder and keep them, replacing its
+    /// bench.csv and bench.toml (default: a temporary folder, removed after).
+    #[arg(long, value_name = "DIR")]
+    pub keep: Option<PathBuf>,
+    /// Only write the data and spec (needs --keep); time nothing.
+    #[arg(long, requires = "keep")]
+    pub write_only: bool,
+    /// Timed repetitions of the likelihood pass and of the streaming pass (the median is reported).
+    #[arg(long, default_value_t = 9)]
+    pub repeats: usize,
+    /// Skip the run of `sharecast fit` as a separate process.
+    #[arg(long)]
+    pub no_process: bool,
+    /// Print the figures as JSON.
+    #[arg(long)]
+    pub json: bool,
+    /// For profilers: only load the data and run this many likelihood+gradient
+    /// passes at the true parameters (with --hessian, full passes), then stop.
+    #[arg(long, value_name = "PASSES")]
+    pub profile: Option<usize>,
+    /// With --profile: passes with the Hessian.
+    #[arg(long, requires = "profile")]
+    pub hessian: bool,
+}
+
+pub fn run(args: BenchArgs) -> Result<ExitCode> {
+    bench::run(Options {
+        situations: args.situations,
+        model: match args.model {
+            BenchModel::Full => bench::Model::Full,
+            BenchModel::Characteristics => bench::Model::Characteristics,
+        },
+        keep: args.keep,
+        write_only: args.write_only,
+        repeats: args.repeats,
+        no_process: args.no_process,
+        json: args.json,
+        profile: args.profile,
+        hessian: args.hessian,
+    })
+}

@@ -1,0 +1,96 @@
+//! Model families: the room between the design and estimation. Each family is
+//! one module implementing `Family`: its log-likelihood with gradient and
+//! per-situation scores (the Hessian where it has an analytic one), the choice
+//! probabilities of one situation from its utilities and their derivatives,
+//! what it can do (`Abilities`) and its line for the report's cautions. Its
+//! spec keys are checked through `spec::FamilyRules`. `registry` maps the
+//! spec's `[model].family` name to the family; `enumerate` is the one place
+//! where utilities become probabilities for every situation (base and what-if).
+//!
+//! Code outside this room asks a family what it can do and never matches on
+//! which family it is.
+
+pub mod enumerate;
+pub mod hessian;
+pub mod logit;
+pub mod normal;
+pub mod probit;
+pub mod registry;
+
+use std::sync::Arc;
+
+use crate::design::Design;
+use crate::spec::Spec;
+
+pub use enumerate::{Baseline, Situation, WhatIf};
+pub use registry::{for_spec, parse_spec, read_spec, Registry};
+
+/// What a pass returns: log-likelihood, gradient (length K) and Hessian (K x K row-major, when asked).
+#[derive(Clone, Debug)]
+pub struct Eval {
+    pub ll: f64,
+    pub grad: Vec<f64>,
+    pub hess: Option<Vec<f64>>,
+}
+
+/// What a family can do; callers ask instead of matching on the family.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Abilities {
+    /// `evaluate` returns an analytic Hessian (otherwise it is differenced from the gradient).
+    pub analytic_hessian: bool,
+    /// Scenarios may add alternatives.
+    pub new_alternatives: bool,
+    /// Independence from irrelevant alternatives holds (the Hausman-McFadden test applies).
+    pub iia: bool,
+    /// Exactly two alternatives.
+    pub binary_only: bool,
+    /// Probabilities are simulated with draws fixed through a fit.
+    pub simulation_draws: bool,
+    /// Scores are per decision maker rather than per situation.
+    pub per_decision_maker: bool,
+    /// Coefficients read as log odds ratios (binary logit).
+    pub odds_ratios: bool,
+}
+
+/// A model family, built for one spec by `registry::for_spec`.
+pub trait Family: Send + Sync + std::fmt::Debug {
+    /// The name the spec uses in `[model].family`.
+    fn name(&self) -> &'static str;
+
+    fn abilities(&self) -> Abilities;
+
+    /// One pass: log-likelihood and, if asked, gradient and Hessian at `beta`
+    /// (all K parameters). A family without an analytic Hessian ignores `want_hess`.
+    fn evaluate(&self, d: &Design, beta: &[f64], want_grad: bool, want_hess: bool) -> Eval;
+
+    /// Each situation's weighted score (gradient of its log-likelihood term),
+    /// passed to `f(i, score)` in situation order.
+    fn for_each_score(&self, d: &Design, beta: &[f64], f: &mut dyn FnMut(usize, &[f64]));
+
+    /// Choice probabilities of one situation from its utilities (-inf = unavailable).
+    fn probabilities(&self, beta: &[f64], v: &[f64], p: &mut [f64]);
+
+    /// What-if probabilities `p1` at utilities `v1`, given the base utilities `v0`
+    /// and probabilities `p0` of the same situation (same alternatives). A family
+    /// may take a shortcut here; the default recomputes.
+    fn probabilities_after(
+        &self,
+        beta: &[f64],
+        v0: &[f64],
+        p0: &[f64],
+        v1: &[f64],
+        p1: &mut [f64],
+    ) {
+        let _ = (v0, p0);
+        self.probabilities(beta, v1, p1)
+    }
+
+    /// dP_j/dV_k of one situation into `dp` (J x J row-major, row = affected j).
+    fn dprob(&self, beta: &[f64], v: &[f64], p: &[f64], dp: &mut [f64]);
+
+    /// The family's sentence for the report's cautions, if it has one.
+    fn caution(&self, spec: &Spec) -> Option<String>;
+}
+
+/// A family shared by a fit, its analyses and the workbench.
+pub type FamilyRef = Arc<dyn Family>;

@@ -1,0 +1,79 @@
+//! The registry: one entry per model family, mapping the spec's
+//! `[model].family` name to its spec rules and its constructor. Adding a family
+//! is one line here.
+
+use std::path::Path;
+use std::sync::Arc;
+
+use super::{logit, probit, FamilyRef};
+use crate::error::{Error, Result};
+use crate::spec::{Catalog, FamilyRules, Spec};
+
+/// One registered family.
+pub struct Entry {
+    pub name: &'static str,
+    pub rules: &'static dyn FamilyRules,
+    pub build: fn(&Spec) -> Result<FamilyRef>,
+    /// For the shared family test suite: how many alternatives its example
+    /// model has, and spec lines it adds to the example (its own sections).
+    pub example_alternatives: usize,
+    pub example_spec: &'static str,
+}
+
+/// Every family, in the order the documentation lists them.
+pub static FAMILIES: &[Entry] = &[
+    Entry {
+        name: "logit",
+        rules: &logit::Rules,
+        build: |spec| {
+            Ok(Arc::new(logit::Logit {
+                binary: spec.alternatives.len() == 2,
+            }))
+        },
+        example_alternatives: 4,
+        example_spec: "",
+    },
+    Entry {
+        name: "probit",
+        rules: &probit::Rules,
+        build: |spec| Ok(Arc::new(probit::Probit { base: spec.base })),
+        example_alternatives: 2,
+        example_spec: "",
+    },
+];
+
+/// The registry as the spec room sees it.
+pub struct Registry;
+
+impl Catalog for Registry {
+    fn rules(&self, name: &str) -> Option<&dyn FamilyRules> {
+        FAMILIES.iter().find(|e| e.name == name).map(|e| e.rules)
+    }
+    fn names(&self) -> Vec<&'static str> {
+        FAMILIES.iter().map(|e| e.name).collect()
+    }
+}
+
+/// Reads and validates a spec file against the registered families.
+pub fn read_spec(path: &Path) -> Result<Spec> {
+    Spec::from_file(path, &Registry)
+}
+
+/// Validates spec text against the registered families.
+pub fn parse_spec(text: &str, path: &Path) -> Result<Spec> {
+    Spec::from_str(text, path, &Registry)
+}
+
+/// The family a validated spec names, built for it.
+pub fn for_spec(spec: &Spec) -> Result<FamilyRef> {
+    let entry = FAMILIES
+        .iter()
+        .find(|e| e.name == spec.family)
+        .ok_or_else(|| {
+            Error::spec(
+                &spec.path,
+                format!("[model].family: \"{}\" is not a family", spec.family),
+            )
+        })?;
+    (entry.build)(spec)
+}

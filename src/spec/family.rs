@@ -1,0 +1,56 @@
+//! What the spec room asks of a model family while it validates a spec: the
+//! family's own sections and `[model]` keys, its constraints, and the
+//! parameters it adds beyond the linear-in-parameters utility. The model room
+//! implements these traits; the spec room only calls them.
+
+use toml::Table;
+
+use super::{Alternative, Attribute, Characteristic, Layout, Parameter};
+
+/// A parameter a family adds (a nest scale, a spread, a cut-point, ...).
+#[derive(Clone, Debug)]
+pub struct FamilyParameter {
+    pub name: String,
+    /// What it is, for reports ("nest scale", "cut-point", ...).
+    pub label: String,
+    /// Where a search starts when `[parameters]` says nothing.
+    pub start: f64,
+}
+
+/// The validated spec as far as it is known when the family is asked.
+pub struct SpecView<'a> {
+    pub layout: &'a Layout,
+    pub alternatives: &'a [Alternative],
+    pub base: usize,
+    pub constants: bool,
+    pub attributes: &'a [Attribute],
+    pub characteristics: &'a [Characteristic],
+    /// The linear utility's parameters.
+    pub parameters: &'a [Parameter],
+    /// The family's own keys: its top-level sections by name, and the extra
+    /// `[model]` keys under `model`.
+    pub keys: &'a Table,
+}
+
+/// One family's rules for the spec.
+pub trait FamilyRules: Sync {
+    /// Top-level sections (`[[nest]]`, `[simulation]`, ...) this family reads.
+    fn sections(&self) -> &'static [&'static str] {
+        &[]
+    }
+    /// Keys of `[model]` beyond `family`, `base` and `constants` that this family reads.
+    fn model_keys(&self) -> &'static [&'static str] {
+        &[]
+    }
+    /// Checks the family's constraints and keys; returns the parameters it adds.
+    /// An error is a message naming the key at fault.
+    fn check(&self, spec: &SpecView) -> Result<Vec<FamilyParameter>, String>;
+}
+
+/// The families the spec may name.
+pub trait Catalog {
+    /// The rules of the family named `name`, if there is one.
+    fn rules(&self, name: &str) -> Option<&dyn FamilyRules>;
+    /// Every family name, for messages.
+    fn names(&self) -> Vec<&'static str>;
+}

@@ -6,7 +6,6 @@ use std::sync::OnceLock;
 
 use libfuzzer_sys::fuzz_target;
 use sharecast::data::{self, Extra};
-use sharecast::spec::Spec;
 
 fn dir() -> &'static PathBuf {
     static D: OnceLock<PathBuf> = OnceLock::new();
@@ -30,7 +29,7 @@ fuzz_target!(|data: &[u8]| {
         return;
     }
     for text in [WIDE, LONG] {
-        if let Ok(spec) = Spec::from_str(text, &d.join("s.toml")) {
+        if let Ok(spec) = sharecast::model::parse_spec(text, &d.join("s.toml")) {
             let _ = data::load(&spec, &Extra::default());
         }
     }

@@ -11,7 +11,7 @@ const SPEC: &str = "[data]\nfile = \"d.csv\"\nlayout = \"wide\"\nchoice = \"m\"\
 
 fn spec() -> &'static Spec {
     static S: OnceLock<Spec> = OnceLock::new();
-    S.get_or_init(|| match Spec::from_str(SPEC, Path::new("fuzz/spec.toml")) {
+    S.get_or_init(|| match sharecast::model::parse_spec(SPEC, Path::new("fuzz/spec.toml")) {
         Ok(s) => s,
         Err(e) => panic!("fixed spec invalid: {e}"),
     })

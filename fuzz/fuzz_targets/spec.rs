@@ -4,6 +4,6 @@ use libfuzzer_sys::fuzz_target;
 
 fuzz_target!(|data: &[u8]| {
     if let Ok(text) = std::str::from_utf8(data) {
-        let _ = sharecast::spec::Spec::from_str(text, std::path::Path::new("fuzz/spec.toml"));
+        let _ = sharecast::model::parse_spec(text, std::path::Path::new("fuzz/spec.toml"));
     }
 });

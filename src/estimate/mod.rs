@@ -181,27 +181,25 @@ pub fn null_log_likelihood(obs: &Observations) -> f64 {
         .sum()
 }
 
-/// Weighted observed and predicted shares of each alternative.
+/// Weighted observed and predicted shares of each alternative (one pass, nothing stored per situation).
 pub fn shares(spec: &Spec, d: &Design, family: &dyn model::Family, beta: &[f64]) -> Vec<ShareRow> {
     let j = d.alternatives();
-    let p = model::enumerate::probabilities(family, d, beta);
-    let mut obs = vec![0.0; j];
-    let mut pred = vec![0.0; j];
-    for i in 0..d.situations() {
-        let w = d.obs.weight[i];
-        obs[d.obs.chosen[i] as usize] += w;
-        for a in 0..j {
-            pred[a] += w * p[i * j + a];
+    let obs = &d.obs;
+    let sums = model::enumerate::Enumeration::new(family, d, beta).fold(2 * j, |acc, s| {
+        let w = obs.weight[s.i];
+        acc[obs.chosen[s.i] as usize] += w;
+        for (a, p) in acc[j..].iter_mut().zip(s.p0) {
+            *a += w * p;
         }
-    }
+    });
     let tw = d.total_weight();
     spec.alternatives
         .iter()
         .enumerate()
         .map(|(a, alt)| ShareRow {
             alternative: alt.name.clone(),
-            observed: obs[a] / tw,
-            predicted: pred[a] / tw,
+            observed: sums[a] / tw,
+            predicted: sums[j + a] / tw,
         })
         .collect()
 }

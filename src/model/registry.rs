@@ -18,6 +18,9 @@ pub struct Entry {
     /// model has, and spec lines it adds to the example (its own sections).
     pub example_alternatives: usize,
     pub example_spec: &'static str,
+    /// Generating values of the family's own parameters in the example (the
+    /// others default to their starting values).
+    pub example_truth: &'static [(&'static str, f64)],
 }
 
 /// Every family, in the order the documentation lists them.
@@ -32,6 +35,7 @@ pub static FAMILIES: &[Entry] = &[
         },
         example_alternatives: 4,
         example_spec: "",
+        example_truth: &[],
     },
     Entry {
         name: "probit",
@@ -39,6 +43,7 @@ pub static FAMILIES: &[Entry] = &[
         build: |spec| Ok(Arc::new(probit::Probit { base: spec.base })),
         example_alternatives: 2,
         example_spec: "",
+        example_truth: &[],
     },
 ];
 

@@ -238,3 +238,68 @@ fn one_situation_per_group_is_plain_robust() {
         }
     }
 }
+
+#[test]
+fn a_spec_without_family_fits_as_logit() {
+    // `[model].family` defaults to "logit" (the spec contract): the same fit as
+    // the spec that names it.
+    let named = fit_ok("family_named", &spec("d.csv", ""), CSV.as_bytes());
+    let unnamed = fit_ok(
+        "family_default",
+        &spec("d.csv", "").replace("family = \"logit\"\n", ""),
+        CSV.as_bytes(),
+    );
+    assert_eq!(unnamed["family"], "logit");
+    assert_eq!(
+        named["fit"]["log_likelihood"].as_f64(),
+        unnamed["fit"]["log_likelihood"].as_f64()
+    );
+}
+
+#[test]
+fn a_key_no_section_or_family_claims_is_refused() {
+    // Unknown top-level tables and `[model]` keys are named, not ignored.
+    let dir = scratch("unclaimed_keys");
+    std::fs::write(dir.join("d.csv"), CSV).unwrap();
+    for (name, extra, words) in [
+        (
+            "top",
+            spec("d.csv", "[[nests]]\nname = \"x\"\n"),
+            &["nests", "logit"][..],
+        ),
+        (
+            "model",
+            spec("d.csv", "").replace("base = \"a\"\n", "base = \"a\"\nrandom_things = 1\n"),
+            &["[model]", "random_things"][..],
+        ),
+    ] {
+        let sp = write(&dir, &format!("{name}.toml"), &extra);
+        let (code, _, err) = run(&["check", sp.to_str().unwrap()]);
+        assert_eq!(code, 1, "{name}: {err}");
+        assert!(!err.contains("panicked"), "{name}: {err}");
+        for w in words {
+            assert!(err.contains(w), "{name}: `{w}` not in: {err}");
+        }
+    }
+}
+
+#[test]
+fn bench_of_a_model_without_attributes_runs() {
+    // Regression: the timed what-if assumed an attribute exists and panicked
+    // (index out of bounds) for `--model characteristics`.
+    let (code, out, err) = run(&[
+        "bench",
+        "--model",
+        "characteristics",
+        "--situations",
+        "3000",
+        "--repeats",
+        "1",
+        "--no-process",
+        "--json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(!err.contains("panicked"), "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert!(v["whatif_seconds"].as_f64().unwrap() >= 0.0);
+}

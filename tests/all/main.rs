@@ -8,6 +8,7 @@ mod demo_specs;
 mod derivatives;
 mod diagnostics;
 mod edge_cases;
+mod families;
 mod fit_cli;
 mod layouts;
 mod recovery;

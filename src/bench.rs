@@ -544,8 +544,13 @@ fn measure(args: &Options, spec_path: &Path, generate_s: f64) -> Result<ExitCode
     let cd = Design::build(&cspec, d.obs.clone());
     let cfree: Vec<usize> = (0..cd.params).collect();
     let t = Instant::now();
-    let const_out =
-        crate::estimate::optimise::maximise(&cd, family, &vec![0.0; cd.params], &cfree, &quiet);
+    let const_out = crate::estimate::optimise::maximise(
+        &cd,
+        &*crate::model::for_spec(&cspec)?,
+        &vec![0.0; cd.params],
+        &cfree,
+        &quiet,
+    );
     let const_s = t.elapsed().as_secs_f64();
     let t = Instant::now();
     let mut score_sum = 0.0;

@@ -45,7 +45,8 @@ pub fn nests(restricted: &Fit, general: &Fit) -> bool {
     let (r, g) = (names(restricted), names(general));
     r.len() < g.len()
         && r.iter().all(|n| g.contains(n))
-        && restricted.family.name() == general.family.name()
+        && (restricted.family.name() == general.family.name()
+            || general.family.reduces_to() == Some(restricted.family.name()))
         && same_data(&restricted.design.obs, &general.design.obs)
 }
 

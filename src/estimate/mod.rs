@@ -44,6 +44,9 @@ pub struct ParameterRow {
     #[serde(deserialize_with = "document::nullable")]
     pub ci_high: f64,
     pub fixed: bool,
+    /// The value `t_stat` and `p_value` test against: 0, or 1 for a nest scale.
+    #[serde(default)]
+    pub null: f64,
 }
 
 /// t statistic, two-sided normal p-value and 95% interval of one parameter under chosen errors.
@@ -64,7 +67,7 @@ impl ParameterRow {
         } else {
             self.std_error
         };
-        let t = self.estimate / se;
+        let t = (self.estimate - self.null) / se;
         Inference {
             std_error: se,
             t_stat: t,
@@ -216,8 +219,20 @@ pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fi
     if design.situations() == 0 {
         return Err(Error::Estimate("no choice situations to fit".into()));
     }
-    let start: Vec<f64> = spec.parameters.iter().map(|p| p.start).collect();
-    let out = optimise::maximise(&design, &*family, &start, &free, progress);
+    let mut start: Vec<f64> = spec.parameters.iter().map(|p| p.start).collect();
+    // A family may start from a simpler model: its own parameters held first.
+    let held = family.held_in_first_search();
+    let first: Vec<usize> = free.iter().copied().filter(|p| !held.contains(p)).collect();
+    let mut first_passes = 0;
+    if first.len() < free.len() && !first.is_empty() {
+        let o = optimise::maximise(&design, &*family, &start, &first, progress);
+        if o.ll.is_finite() {
+            start = o.beta;
+        }
+        first_passes = o.passes;
+    }
+    let mut out = optimise::maximise(&design, &*family, &start, &free, progress);
+    out.passes += first_passes;
     finish(spec, obs, design, family, free, out, started, None)
 }
 
@@ -325,7 +340,7 @@ fn finish(
             };
             let use_se = if robust_inference { rse } else { se };
             let est = out.beta[p];
-            let t = est / use_se;
+            let t = (est - spec.parameters[p].null) / use_se;
             ParameterRow {
                 name: names[p].clone(),
                 term: spec.term_label(&spec.parameters[p].term),
@@ -337,6 +352,7 @@ fn finish(
                 ci_low: est - Z95 * use_se,
                 ci_high: est + Z95 * use_se,
                 fixed,
+                null: spec.parameters[p].null,
             }
         })
         .collect();
@@ -353,7 +369,9 @@ fn finish(
             .collect();
         let quiet = |_s: Step| {};
         let cstart: Vec<f64> = cspec.parameters.iter().map(|p| p.start).collect();
-        optimise::maximise(&cd, &*family, &cstart, &cfree, &quiet).ll
+        // Built for the reduced spec: its own parameters sit at other positions.
+        let cfamily = model::for_spec(&cspec)?;
+        optimise::maximise(&cd, &*cfamily, &cstart, &cfree, &quiet).ll
     } else if spec.constants {
         out.ll
     } else {

@@ -13,6 +13,7 @@
 pub mod enumerate;
 pub mod hessian;
 pub mod logit;
+pub mod nested;
 pub mod normal;
 pub mod probit;
 pub mod registry;
@@ -90,6 +91,25 @@ pub trait Family: Send + Sync + std::fmt::Debug {
 
     /// The family's sentence for the report's cautions, if it has one.
     fn caution(&self, spec: &Spec) -> Option<String>;
+
+    /// Parameters held at their starting values in a first search, then freed
+    /// (the nested logit starts from the logit: its scales held at 1).
+    fn held_in_first_search(&self) -> Vec<usize> {
+        Vec::new()
+    }
+
+    /// The family it reduces to when its own parameters are at their null
+    /// values (the nested logit is the logit with every scale at 1).
+    fn reduces_to(&self) -> Option<&'static str> {
+        None
+    }
+
+    /// Lines describing the model's structure for reports and the workbench
+    /// (the nests and their alternatives).
+    fn structure(&self, spec: &Spec) -> Vec<String> {
+        let _ = spec;
+        Vec::new()
+    }
 }
 
 /// A family shared by a fit, its analyses and the workbench.

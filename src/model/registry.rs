@@ -5,7 +5,7 @@
 use std::path::Path;
 use std::sync::Arc;
 
-use super::{logit, probit, FamilyRef};
+use super::{logit, nested, probit, FamilyRef};
 use crate::error::{Error, Result};
 use crate::spec::{Catalog, FamilyRules, Spec};
 
@@ -45,6 +45,14 @@ pub static FAMILIES: &[Entry] = &[
         example_spec: "",
         example_truth: &[],
     },
+    Entry {
+        name: "nested",
+        rules: &nested::Rules,
+        build: |spec| Ok(Arc::new(nested::Nested::new(spec)?)),
+        example_alternatives: 5,
+        example_spec: "[[nest]]\nname = \"near\"\nalternatives = [\"a1\", \"a2\"]\n[[nest]]\nname = \"far\"\nalternatives = [\"a3\", \"a4\"]\n",
+        example_truth: &[("lambda_near", 0.5), ("lambda_far", 0.7)],
+    },
 ];
 
 /// The registry as the spec room sees it.
@@ -56,6 +64,12 @@ impl Catalog for Registry {
     }
     fn names(&self) -> Vec<&'static str> {
         FAMILIES.iter().map(|e| e.name).collect()
+    }
+    fn owner_of(&self, section: &str) -> Option<&'static str> {
+        FAMILIES
+            .iter()
+            .find(|e| e.rules.sections().contains(&section))
+            .map(|e| e.name)
     }
 }
 

@@ -15,6 +15,8 @@ pub struct FamilyParameter {
     pub label: String,
     /// Where a search starts when `[parameters]` says nothing.
     pub start: f64,
+    /// The value its reported test is against (1 for a nest scale: the logit).
+    pub null: f64,
 }
 
 /// The validated spec as far as it is known when the family is asked.
@@ -53,4 +55,6 @@ pub trait Catalog {
     fn rules(&self, name: &str) -> Option<&dyn FamilyRules>;
     /// Every family name, for messages.
     fn names(&self) -> Vec<&'static str>;
+    /// The family whose section `section` is, if any (for messages).
+    fn owner_of(&self, section: &str) -> Option<&'static str>;
 }

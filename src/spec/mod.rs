@@ -93,6 +93,8 @@ pub struct Parameter {
     pub alternative: Option<usize>,
     pub start: f64,
     pub fixed: Option<f64>,
+    /// The value its test is against: 0, or a family's own (1 for a nest scale).
+    pub null: f64,
 }
 
 #[derive(Clone, Debug)]

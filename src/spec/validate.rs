@@ -69,7 +69,7 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
             known.join(", ")
         )));
     };
-    let family_keys = family_keys(&raw, rules, &family).map_err(fail)?;
+    let family_keys = family_keys(&raw, families, rules, &family).map_err(fail)?;
 
     // [alternatives.*]
     let mut alternatives = Vec::new();
@@ -259,6 +259,7 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
                 alternative,
                 start: 0.0,
                 fixed: None,
+                null: 0.0,
             })
         };
     if constants {
@@ -311,6 +312,7 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
             alternative: None,
             start: p.start,
             fixed: None,
+            null: p.null,
         });
     }
     for (i, p) in parameters.iter().enumerate() {
@@ -450,12 +452,19 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
 /// sections, and its extra `[model]` keys under `model`. Anything else is unknown.
 fn family_keys(
     raw: &RawSpec,
+    families: &dyn Catalog,
     rules: &dyn FamilyRules,
     family: &str,
 ) -> std::result::Result<toml::Table, String> {
     let mut keys = toml::Table::new();
     for (k, v) in &raw.extra {
-        if !rules.sections().contains(&k.as_str()) {
+        let mine = rules.sections().contains(&k.as_str());
+        if let (false, Some(owner)) = (mine, families.owner_of(k)) {
+            return Err(format!(
+                "`{k}` belongs to family \"{owner}\"; this spec's [model].family is \"{family}\""
+            ));
+        }
+        if !mine {
             return Err(format!(
                 "unknown key `{k}` (not a section of the spec for family \"{family}\"; see docs/spec-format.md)"
             ));

@@ -1,0 +1,267 @@
+//! Nested logit in the form consistent with random utility maximisation,
+//! normalised at the top (McFadden 1978; Train, Discrete Choice Methods with
+//! Simulation, 2nd ed., ch. 4): for alternative i in nest k,
+//! P_i = exp(V_i/l_k) S_k^(l_k - 1) / sum_m S_m^(l_m), S_k the sum of exp(V_j/l_k)
+//! over the nest's available alternatives; an alternative in no nest is a
+//! group of its own with scale 1, and every l = 1 is exactly the logit.
+//! `rules` checks `[[nest]]`, `pass` has the log-likelihood and its analytic
+//! gradient; the Hessian is differenced (`model::hessian`).
+
+mod pass;
+mod rules;
+
+use std::cell::RefCell;
+
+use super::{Abilities, Eval, Family};
+use crate::design::Design;
+use crate::spec::Spec;
+
+pub use rules::{nests_of, Rules};
+
+/// The nested logit built for one spec.
+#[derive(Clone, Debug)]
+pub struct Nested {
+    /// Group of each alternative: the nests first, then one group per alternative in no nest.
+    pub group_of: Vec<usize>,
+    /// Alternatives of each group.
+    pub members: Vec<Vec<usize>>,
+    /// The scale parameter of each group; `None` for a lone alternative (scale 1).
+    pub scale: Vec<Option<usize>>,
+    /// Nest names, for groups `0..nests.len()`.
+    pub nests: Vec<String>,
+}
+
+/// One situation's nest quantities at one parameter vector.
+#[derive(Clone, Debug, Default)]
+pub(crate) struct Work {
+    /// Per group: scale, largest utility, sum of exp((V - max)/l), l * inclusive value, inclusive value, nest probability, mean utility within.
+    lam: Vec<f64>,
+    max: Vec<f64>,
+    sum: Vec<f64>,
+    a: Vec<f64>,
+    iv: Vec<f64>,
+    q: Vec<f64>,
+    vbar: Vec<f64>,
+    /// Per alternative: probability within its group, and overall.
+    cond: Vec<f64>,
+    p: Vec<f64>,
+    log_denominator: f64,
+}
+
+thread_local! {
+    static SCRATCH: RefCell<Work> = RefCell::new(Work::default());
+}
+
+impl Nested {
+    /// Builds the family for a spec whose `[[nest]]` tables `Rules` accepted.
+    pub fn new(spec: &Spec) -> crate::error::Result<Nested> {
+        let nests = nests_of(&spec.family_keys, &spec.alternatives)
+            .map_err(|m| crate::error::Error::spec(&spec.path, m))?;
+        Ok(Nested::from_nests(spec, &nests))
+    }
+
+    /// The structure from (nest name, member indices), scales looked up by name.
+    pub fn from_nests(spec: &Spec, nests: &[(String, Vec<usize>)]) -> Nested {
+        let j = spec.alternatives.len();
+        let mut group_of = vec![usize::MAX; j];
+        let mut members = Vec::new();
+        let mut scale = Vec::new();
+        for (g, (name, alts)) in nests.iter().enumerate() {
+            for &a in alts {
+                group_of[a] = g;
+            }
+            members.push(alts.clone());
+            scale.push(spec.parameter_index(&format!("lambda_{name}")));
+        }
+        for (a, g) in group_of.iter_mut().enumerate() {
+            if *g == usize::MAX {
+                *g = members.len();
+                members.push(vec![a]);
+                scale.push(None);
+            }
+        }
+        Nested {
+            group_of,
+            members,
+            scale,
+            nests: nests.iter().map(|n| n.0.clone()).collect(),
+        }
+    }
+
+    pub(crate) fn work(&self) -> Work {
+        let g = self.members.len();
+        let j = self.group_of.len();
+        Work {
+            lam: vec![1.0; g],
+            max: vec![0.0; g],
+            sum: vec![0.0; g],
+            a: vec![0.0; g],
+            iv: vec![0.0; g],
+            q: vec![0.0; g],
+            vbar: vec![0.0; g],
+            cond: vec![0.0; j],
+            p: vec![0.0; j],
+            log_denominator: 0.0,
+        }
+    }
+
+    /// Whether every scale is positive (the likelihood is defined).
+    fn scales_valid(&self, beta: &[f64]) -> bool {
+        self.scale
+            .iter()
+            .flatten()
+            .all(|&k| beta[k] > 0.0 && beta[k].is_finite())
+    }
+
+    /// Fills `w` for utilities `v` (-inf = unavailable), with log-sum-exp throughout.
+    pub(crate) fn situation(&self, beta: &[f64], v: &[f64], w: &mut Work) {
+        let mut top = f64::NEG_INFINITY;
+        for (g, alts) in self.members.iter().enumerate() {
+            let lam = self.scale[g].map(|k| beta[k]).unwrap_or(1.0);
+            w.lam[g] = lam;
+            let m = alts.iter().map(|&a| v[a]).fold(f64::NEG_INFINITY, f64::max);
+            w.max[g] = m;
+            if !m.is_finite() {
+                w.a[g] = f64::NEG_INFINITY;
+                continue;
+            }
+            let mut s = 0.0;
+            for &a in alts {
+                let e = if v[a].is_finite() {
+                    ((v[a] - m) / lam).exp()
+                } else {
+                    0.0
+                };
+                w.cond[a] = e;
+                s += e;
+            }
+            let mut vbar = 0.0;
+            for &a in alts {
+                w.cond[a] /= s;
+                if w.cond[a] > 0.0 {
+                    vbar += w.cond[a] * v[a];
+                }
+            }
+            w.sum[g] = s;
+            w.vbar[g] = vbar;
+            w.iv[g] = m / lam + s.ln();
+            w.a[g] = m + lam * s.ln();
+            top = top.max(w.a[g]);
+        }
+        let mut d = 0.0;
+        for &a in &w.a {
+            if a.is_finite() {
+                d += (a - top).exp();
+            }
+        }
+        w.log_denominator = top + d.ln();
+        for (g, alts) in self.members.iter().enumerate() {
+            let q = if w.a[g].is_finite() {
+                (w.a[g] - w.log_denominator).exp()
+            } else {
+                0.0
+            };
+            w.q[g] = q;
+            for &a in alts {
+                w.p[a] = if v[a].is_finite() { q * w.cond[a] } else { 0.0 };
+            }
+        }
+    }
+}
+
+impl Family for Nested {
+    fn name(&self) -> &'static str {
+        "nested"
+    }
+
+    fn abilities(&self) -> Abilities {
+        Abilities {
+            new_alternatives: true,
+            ..Abilities::default()
+        }
+    }
+
+    fn evaluate(&self, d: &Design, beta: &[f64], want_grad: bool, _want_hess: bool) -> Eval {
+        pass::evaluate(self, d, beta, want_grad)
+    }
+
+    fn for_each_score(&self, d: &Design, beta: &[f64], f: &mut dyn FnMut(usize, &[f64])) {
+        pass::for_each_score(self, d, beta, f)
+    }
+
+    fn probabilities(&self, beta: &[f64], v: &[f64], p: &mut [f64]) {
+        SCRATCH.with(|cell| {
+            let mut w = cell.borrow_mut();
+            if w.p.len() != v.len() || w.lam.len() != self.members.len() {
+                *w = self.work();
+            }
+            self.situation(beta, v, &mut w);
+            p.copy_from_slice(&w.p);
+        })
+    }
+
+    /// dP_i/dV_j = P_i (1[i=j]/l_i + 1[same nest] (l_i - 1)/l_i P_{j|nest} - P_j).
+    fn dprob(&self, beta: &[f64], v: &[f64], _p: &[f64], dp: &mut [f64]) {
+        SCRATCH.with(|cell| {
+            let mut w = cell.borrow_mut();
+            if w.p.len() != v.len() || w.lam.len() != self.members.len() {
+                *w = self.work();
+            }
+            self.situation(beta, v, &mut w);
+            let n = v.len();
+            for i in 0..n {
+                let pi = w.p[i];
+                for j in 0..n {
+                    dp[i * n + j] = if pi == 0.0 || !v[j].is_finite() {
+                        0.0
+                    } else {
+                        let gi = self.group_of[i];
+                        let lam = w.lam[gi];
+                        let own = if i == j { 1.0 / lam } else { 0.0 };
+                        let within = if self.group_of[j] == gi {
+                            (lam - 1.0) / lam * w.cond[j]
+                        } else {
+                            0.0
+                        };
+                        pi * (own + within - w.p[j])
+                    };
+                }
+            }
+        })
+    }
+
+    fn held_in_first_search(&self) -> Vec<usize> {
+        self.scale.iter().flatten().copied().collect()
+    }
+
+    fn reduces_to(&self) -> Option<&'static str> {
+        Some("logit")
+    }
+
+    fn structure(&self, spec: &Spec) -> Vec<String> {
+        let mut out: Vec<String> = self
+            .nests
+            .iter()
+            .enumerate()
+            .map(|(g, name)| {
+                let alts: Vec<&str> = self.members[g]
+                    .iter()
+                    .map(|&a| spec.alternatives[a].name.as_str())
+                    .collect();
+                format!("nest {name}: {} (scale lambda_{name})", alts.join(", "))
+            })
+            .collect();
+        let alone: Vec<&str> = (0..self.group_of.len())
+            .filter(|&a| self.group_of[a] >= self.nests.len())
+            .map(|a| spec.alternatives[a].name.as_str())
+            .collect();
+        if !alone.is_empty() {
+            out.push(format!("in no nest (scale 1): {}", alone.join(", ")));
+        }
+        out
+    }
+
+    fn caution(&self, _spec: &Spec) -> Option<String> {
+        Some("Nested logit assumes independence from irrelevant alternatives within each nest and between nests; substitution is stronger within a nest the further its scale lies below 1.".to_string())
+    }
+}

@@ -1,0 +1,124 @@
+//! The nested family's spec keys: `[[nest]]` tables with a `name` and two or
+//! more `alternatives`; each nest adds a scale parameter `lambda_<name>`
+//! (start 1, tested against 1).
+
+use toml::{Table, Value};
+
+use crate::spec::{Alternative, FamilyParameter, FamilyRules, SpecView};
+
+/// The spec rules of the nested family.
+pub struct Rules;
+
+impl FamilyRules for Rules {
+    fn sections(&self) -> &'static [&'static str] {
+        &["nest"]
+    }
+
+    fn check(&self, spec: &SpecView) -> Result<Vec<FamilyParameter>, String> {
+        let nests = nests_of(spec.keys, spec.alternatives)?;
+        if nests.is_empty() {
+            return Err("[model].family \"nested\" needs at least one [[nest]] (with none, the model is the logit: use family \"logit\")".into());
+        }
+        let mut out = Vec::new();
+        for (name, _) in &nests {
+            let param = format!("lambda_{name}");
+            if spec
+                .parameters
+                .iter()
+                .any(|p| p.name == param || p.name == *name)
+            {
+                return Err(format!(
+                    "[[nest]] {name}: its scale parameter `{param}` would clash with a parameter of the same name; rename the nest"
+                ));
+            }
+            out.push(FamilyParameter {
+                name: param,
+                label: format!("nest scale {name}"),
+                start: 1.0,
+                null: 1.0,
+            });
+        }
+        Ok(out)
+    }
+}
+
+/// The nests as (name, alternative indices), checked: known alternatives, each
+/// in at most one nest, two or more per nest, names unique and plain.
+pub fn nests_of(
+    keys: &Table,
+    alternatives: &[Alternative],
+) -> Result<Vec<(String, Vec<usize>)>, String> {
+    let Some(value) = keys.get("nest") else {
+        return Ok(Vec::new());
+    };
+    let Value::Array(items) = value else {
+        return Err("[[nest]]: write each nest as its own [[nest]] table".into());
+    };
+    let mut nests: Vec<(String, Vec<usize>)> = Vec::new();
+    for (n, item) in items.iter().enumerate() {
+        let Value::Table(t) = item else {
+            return Err(format!("[[nest]] number {}: not a table", n + 1));
+        };
+        if let Some(k) = t.keys().find(|k| *k != "name" && *k != "alternatives") {
+            return Err(format!(
+                "[[nest]] number {}: unknown key `{k}` (a nest takes `name` and `alternatives`)",
+                n + 1
+            ));
+        }
+        let name = match t.get("name") {
+            Some(Value::String(s)) => s.clone(),
+            _ => {
+                return Err(format!(
+                    "[[nest]] number {}: `name` (a string) is missing",
+                    n + 1
+                ))
+            }
+        };
+        if name.is_empty() || !name.chars().all(|c| c.is_alphanumeric() || c == '_') {
+            return Err(format!(
+                "[[nest]] {name:?}: a nest name is letters, digits and underscores (it names the parameter lambda_<name>)"
+            ));
+        }
+        if nests.iter().any(|x| x.0 == name) {
+            return Err(format!("[[nest]] {name}: two nests have this name"));
+        }
+        let list = match t.get("alternatives") {
+            Some(Value::Array(a)) => a,
+            _ => {
+                return Err(format!(
+                    "[[nest]] {name}: `alternatives` (a list of names) is missing"
+                ))
+            }
+        };
+        let mut members = Vec::new();
+        for a in list {
+            let Value::String(alt) = a else {
+                return Err(format!("[[nest]] {name}: alternatives are given by name"));
+            };
+            let Some(idx) = alternatives.iter().position(|x| &x.name == alt) else {
+                let known: Vec<&str> = alternatives.iter().map(|x| x.name.as_str()).collect();
+                return Err(format!(
+                    "[[nest]] {name}: `{alt}` is not an alternative (the spec has: {})",
+                    known.join(", ")
+                ));
+            };
+            if let Some(other) = nests.iter().find(|x| x.1.contains(&idx)) {
+                return Err(format!(
+                    "[[nest]] {name}: `{alt}` is already in nest `{}`; an alternative belongs to at most one nest",
+                    other.0
+                ));
+            }
+            if members.contains(&idx) {
+                return Err(format!("[[nest]] {name}: `{alt}` is listed twice"));
+            }
+            members.push(idx);
+        }
+        if members.len() < 2 {
+            return Err(format!(
+                "[[nest]] {name}: a nest needs two or more alternatives; a nest of one is the logit (its scale cannot be estimated), so leave the alternative out of every nest"
+            ));
+        }
+        nests.push((name, members));
+    }
+    Ok(nests)
+}

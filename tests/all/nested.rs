@@ -1,0 +1,202 @@
+//! Nested logit against an independent numpy/scipy implementation
+//! (tests/reference/nested_reference.py, fixture tests/fixtures/nested_reference.json)
+//! on Greene's travel-mode data as shipped by statsmodels, and facts of the model.
+
+use std::path::Path;
+
+use serde_json::Value;
+use sharecast::analysis::sensitivity::{sensitivities, TermMap};
+use sharecast::spec::Spec;
+
+use crate::common::*;
+
+fn fixture() -> Value {
+    let text = std::fs::read_to_string(path("tests/fixtures/nested_reference.json")).unwrap();
+    serde_json::from_str(&text).unwrap()
+}
+
+/// The travel-mode conditional logit spec turned nested, with the fixture's nests.
+fn nested_spec(structure: &Value, extra: &str) -> Spec {
+    let text = std::fs::read_to_string(path("tests/specs/modechoice.toml")).unwrap();
+    let mut text = text.replace("family = \"logit\"", "family = \"nested\"");
+    for n in structure["nests"].as_array().unwrap() {
+        let alts: Vec<String> = n["alternatives"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|a| format!("\"{}\"", a.as_str().unwrap()))
+            .collect();
+        text.push_str(&format!(
+            "[[nest]]\nname = \"{}\"\nalternatives = [{}]\n",
+            n["name"].as_str().unwrap(),
+            alts.join(", ")
+        ));
+    }
+    text.push_str(extra);
+    sharecast::model::parse_spec(&text, &path("tests/specs/modechoice_nested.toml")).unwrap()
+}
+
+fn floats(v: &Value) -> Vec<f64> {
+    v.as_array()
+        .unwrap()
+        .iter()
+        .map(|x| x.as_f64().unwrap())
+        .collect()
+}
+
+#[test]
+fn estimates_match_the_independent_reference() {
+    let r = fixture();
+    for name in ["ground", "public", "two_nests"] {
+        let s = &r["structures"][name];
+        let spec = nested_spec(s, "");
+        let ds = sharecast::data::load(&spec, &Default::default()).unwrap();
+        let fit = fit_spec(&spec, &ds);
+        assert!(fit.stats.converged, "{name}: not converged");
+        let names: Vec<&str> = s["param_names"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|x| x.as_str().unwrap())
+            .collect();
+        assert_eq!(fit.names, names, "{name}: parameter order");
+        let (params, bse) = (floats(&s["params"]), floats(&s["bse"]));
+        for (k, row) in fit.parameters.iter().enumerate() {
+            // Tolerances of the issue: estimates 1e-4, standard errors 5e-3 relative.
+            assert_close(
+                &format!("{name} {}", row.name),
+                row.estimate,
+                params[k],
+                1e-4,
+            );
+            assert_close(
+                &format!("{name} {} s.e.", row.name),
+                row.std_error,
+                bse[k],
+                5e-3,
+            );
+        }
+        assert_close(
+            &format!("{name} log-likelihood"),
+            fit.stats.log_likelihood,
+            s["llf"].as_f64().unwrap(),
+            1e-4,
+        );
+    }
+}
+
+#[test]
+fn likelihood_gradient_and_probabilities_at_a_fixed_point() {
+    // The reference's values at a fixed parameter vector: no optimiser involved.
+    let r = fixture();
+    for name in ["ground", "public", "two_nests"] {
+        let s = &r["structures"][name];
+        let at = &s["at_point"];
+        let spec = nested_spec(s, "");
+        let ds = sharecast::data::load(&spec, &Default::default()).unwrap();
+        let d = sharecast::design::Design::build(&spec, std::sync::Arc::new(ds.obs.clone()));
+        let family = sharecast::model::for_spec(&spec).unwrap();
+        let beta = floats(&at["params"]);
+        let e = family.evaluate(&d, &beta, true, false);
+        assert_close(
+            &format!("{name} ll"),
+            e.ll,
+            at["llf"].as_f64().unwrap(),
+            1e-10,
+        );
+        for (k, g) in floats(&at["gradient"]).iter().enumerate() {
+            assert_close(&format!("{name} gradient {k}"), e.grad[k], *g, 1e-9);
+        }
+        let p = sharecast::model::enumerate::probabilities(&*family, &d, &beta);
+        for (i, row) in at["probabilities_first_3"]["values"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .enumerate()
+        {
+            for (j, want) in floats(row).iter().enumerate() {
+                assert_close(&format!("{name} P[{i}][{j}]"), p[i * 4 + j], *want, 1e-11);
+            }
+        }
+    }
+}
+
+#[test]
+fn aggregate_elasticities_match_the_reference() {
+    // Elasticity of each mode's aggregate demand to the generalised cost of
+    // train, by sample enumeration, against the reference's closed form.
+    let r = fixture();
+    let s = &r["structures"]["ground"];
+    let spec = nested_spec(s, "");
+    let ds = sharecast::data::load(&spec, &Default::default()).unwrap();
+    let fit = fit_spec(&spec, &ds);
+    let map = TermMap::new(&spec, &fit.design);
+    let sens = sensitivities(&*fit.family, &fit.design, &map, &fit.beta);
+    let (a, k, j) = (0, 1, 4); // attribute gc, changed alternative train, 4 modes
+    let want = floats(&s["aggregate_elasticity_gc_train"]["values"]);
+    for (jj, w) in want.iter().enumerate() {
+        let got = sens.attr_elast[(a * j + k) * j + jj];
+        // The estimates agree to about 1e-6; the elasticities follow them.
+        assert_close(&format!("elasticity of {jj}"), got, *w, 1e-4);
+    }
+    let shares = floats(&s["predicted_shares"]);
+    for (row, want) in fit.shares.iter().zip(&shares) {
+        assert_close(&row.alternative, row.predicted, *want, 1e-5);
+    }
+}
+
+#[test]
+fn every_scale_fixed_at_one_is_the_logit_exactly() {
+    // A fact of the model: with every l = 1 the nested logit is the logit.
+    let r = fixture();
+    let s = &r["structures"]["two_nests"];
+    let spec = nested_spec(
+        s,
+        "[parameters]\nlambda_public = { fixed = 1.0 }\nlambda_private = { fixed = 1.0 }\n",
+    );
+    let ds = sharecast::data::load(&spec, &Default::default()).unwrap();
+    let nested = fit_spec(&spec, &ds);
+    let (_, logit) = fit_file("tests/specs/modechoice.toml");
+    assert_close(
+        "log-likelihood",
+        nested.stats.log_likelihood,
+        logit.stats.log_likelihood,
+        1e-12,
+    );
+    for (a, b) in nested.parameters.iter().zip(&logit.parameters) {
+        assert_eq!(a.name, b.name);
+        assert_close(&a.name, a.estimate, b.estimate, 1e-8);
+        assert_close(&a.name, a.std_error, b.std_error, 1e-6);
+    }
+    // Greene's published log-likelihood of the conditional logit (fixture's logit_check).
+    assert_close(
+        "fixture logit check",
+        nested.stats.log_likelihood,
+        r["structures"]["logit_check"]["llf"].as_f64().unwrap(),
+        1e-9,
+    );
+}
+
+#[test]
+fn nest_errors_name_the_key() {
+    let base = std::fs::read_to_string(path("tests/specs/modechoice.toml")).unwrap();
+    let nested = base.replace("family = \"logit\"", "family = \"nested\"");
+    let cases: Vec<(&str, String, Vec<&str>)> = vec![
+        ("unknown alternative", format!("{nested}[[nest]]\nname = \"g\"\nalternatives = [\"bus\", \"tram\"]\n"), vec!["[[nest]] g", "`tram`", "not an alternative"]),
+        ("in two nests", format!("{nested}[[nest]]\nname = \"g\"\nalternatives = [\"bus\", \"train\"]\n[[nest]]\nname = \"h\"\nalternatives = [\"bus\", \"car\"]\n"), vec!["[[nest]] h", "`bus`", "already in nest `g`"]),
+        ("nest of one", format!("{nested}[[nest]]\nname = \"g\"\nalternatives = [\"bus\"]\n"), vec!["[[nest]] g", "two or more", "logit"]),
+        ("clash", format!("{nested}[[nest]]\nname = \"gc\"\nalternatives = [\"bus\", \"train\"]\n"), vec!["[[nest]] gc", "clash"]),
+        ("no nest", nested.clone(), vec!["at least one [[nest]]"]),
+        ("nest with logit", format!("{base}[[nest]]\nname = \"g\"\nalternatives = [\"bus\", \"train\"]\n"), vec!["`nest` belongs to family \"nested\"", "\"logit\""]),
+        ("unknown key in nest", format!("{nested}[[nest]]\nname = \"g\"\nalternatives = [\"bus\", \"train\"]\nscale = 2\n"), vec!["[[nest]] number 1", "`scale`"]),
+    ];
+    for (what, text, words) in cases {
+        let err = sharecast::model::parse_spec(&text, Path::new("tests/specs/x.toml"))
+            .err()
+            .unwrap_or_else(|| panic!("{what}: accepted"))
+            .to_string();
+        for w in words {
+            assert!(err.contains(w), "{what}: `{w}` not in: {err}");
+        }
+    }
+}

@@ -574,7 +574,7 @@ fn measure(args: &Options, spec_path: &Path, generate_s: f64) -> Result<ExitCode
     let mut whatif_t = Vec::new();
     for _ in 0..reps {
         let t = Instant::now();
-        let prep = crate::scenario::prepare::prepare(&spec, d, &empty, &whatif)?;
+        let prep = crate::scenario::prepare::prepare(&spec, &fit, &empty, &whatif)?;
         let pass = crate::scenario::simulate::run(
             family,
             d,

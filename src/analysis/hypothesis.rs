@@ -12,6 +12,40 @@ use crate::error::{Error, Result};
 use crate::estimate::{self, Fit, Step};
 use crate::spec::{Restriction, Spec};
 
+/// Wald test that every estimated parameter of the family's own (scales, ...)
+/// equals its null value, when the family then reduces to a simpler one; None
+/// when it does not or none of them is estimated.
+pub fn family_reduction(spec: &Spec, fit: &Fit) -> Result<Option<ChiTest>> {
+    let Some(simpler) = fit.family.reduces_to() else {
+        return Ok(None);
+    };
+    let restrictions: Vec<Restriction> = spec
+        .parameters
+        .iter()
+        .enumerate()
+        .filter(|(k, p)| matches!(p.term, crate::spec::Term::Family(_)) && fit.free.contains(k))
+        .map(|(k, p)| Restriction {
+            text: format!("{} = {}", p.name, p.null),
+            coefficients: vec![(k, 1.0)],
+            constant: p.null,
+        })
+        .collect();
+    if restrictions.is_empty() {
+        return Ok(None);
+    }
+    let mut t = wald(fit, &restrictions)?;
+    t.name = format!(
+        "{} against {simpler} (Wald: {})",
+        fit.family.name(),
+        restrictions
+            .iter()
+            .map(|r| r.text.clone())
+            .collect::<Vec<_>>()
+            .join(", ")
+    );
+    Ok(Some(t))
+}
+
 #[derive(Clone, Debug, Serialize)]
 pub struct ChiTest {
     pub name: String,
@@ -110,7 +144,7 @@ pub fn hausman_mcfadden(
     let j = obs.alternatives;
     if !full.family.abilities().iia {
         return Err(Error::Usage(format!(
-            "the IIA test does not apply to the {} family: its model does not assume independence from irrelevant alternatives",
+            "the IIA test (Hausman-McFadden) checks the logit's independence from irrelevant alternatives, which the {} family does not assume; compare it with the logit instead (`sharecast compare`, and the family test in the `fit` report)",
             full.family.name()
         )));
     }

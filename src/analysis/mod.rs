@@ -66,6 +66,9 @@ pub struct Analysis {
     pub segments: Vec<SegmentShareRow>,
     pub validation: Validation,
     pub wald: Option<ChiTest>,
+    /// Wald test that the family's own parameters equal their null values, where
+    /// the family then reduces to a simpler one (nested logit: every scale 1, the logit).
+    pub family_test: Option<ChiTest>,
     pub iia: Option<IiaTest>,
     pub warnings: Vec<String>,
 }
@@ -242,6 +245,7 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
     } else {
         Some(hypothesis::wald(fit, &restrictions)?)
     };
+    let family_test = hypothesis::family_reduction(spec, fit)?;
     let iia = match &opts.iia_drop {
         Some(name) => {
             let m = spec.alternative_index(name).ok_or_else(|| {
@@ -265,6 +269,7 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
             holdout,
         },
         wald,
+        family_test,
         iia,
         warnings,
     })

@@ -128,7 +128,7 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
     let f = scenario::forecast(&spec, &fit, &ds, &sc, &opts)?;
     if let Some(out) = &args.out {
         if args.per_situation {
-            let prep = prepare::prepare(&spec, &fit.design, &ds.table, &sc)?;
+            let prep = prepare::prepare(&spec, &fit, &ds.table, &sc)?;
             let (beta, _) = scenario::base_parameters(&spec, &fit, &sc)?;
             export::per_situation(out, args.force, &*fit.family, &fit.design, &beta, &prep)?;
         } else {

@@ -82,6 +82,7 @@ pub fn diagnose(
             )
         };
         diagnostics.push(Diagnostic {
+            code: None,
             kind: DiagnosticKind::NotIdentified,
             parameters: params,
             message,
@@ -92,6 +93,7 @@ pub fn diagnose(
             continue;
         }
         diagnostics.push(Diagnostic {
+            code: None,
             kind: DiagnosticKind::Separation,
             parameters: vec![names[p].clone()],
             message: format!(
@@ -105,6 +107,7 @@ pub fn diagnose(
     }
     if !out.converged {
         diagnostics.push(Diagnostic {
+            code: None,
             kind: DiagnosticKind::NotConverged,
             parameters: Vec::new(),
             message: format!(
@@ -131,6 +134,7 @@ pub fn diagnose(
             .collect();
         if avail == 0 {
             diagnostics.push(Diagnostic {
+                code: None,
                 kind: DiagnosticKind::NeverAvailable,
                 parameters: asc,
                 message: format!(
@@ -151,6 +155,7 @@ pub fn diagnose(
                 ""
             };
             diagnostics.push(Diagnostic {
+                code: None,
                 kind: DiagnosticKind::NeverChosen,
                 parameters: asc,
                 message: format!(

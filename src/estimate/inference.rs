@@ -17,12 +17,17 @@ pub enum DiagnosticKind {
     NeverChosen,
     NeverAvailable,
     RatioDenominator,
+    /// A warning of the model family (its `code` says which).
+    Family,
 }
 
 /// A finding about the fit that names the parameters and spec terms involved.
 #[derive(Clone, Debug, Serialize, serde::Deserialize)]
 pub struct Diagnostic {
     pub kind: DiagnosticKind,
+    /// For `family` warnings: which one (`scale_above_one`, `scale_near_zero`, ...).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub code: Option<String>,
     pub parameters: Vec<String>,
     pub message: String,
 }

@@ -304,7 +304,18 @@ fn finish(
     let final_eval = model::hessian::with_hessian(&*family, &design, &out.beta, &free);
     let a = optimise::negative_free_hessian(final_eval.hess.as_deref().unwrap_or(&[]), k, &free);
     let flats = inference::flat_directions(&a);
-    let diagnostics = diagnose::diagnose(spec, &design, &obs, &free, &names, &out, &flats);
+    let mut diagnostics = diagnose::diagnose(spec, &design, &obs, &free, &names, &out, &flats);
+    diagnostics.extend(
+        family
+            .warnings(spec, &design, &out.beta)
+            .into_iter()
+            .map(|w| Diagnostic {
+                kind: DiagnosticKind::Family,
+                code: Some(w.code.to_string()),
+                parameters: w.parameters,
+                message: w.message,
+            }),
+    );
     let m = free.len();
     let nan = || DMatrix::from_element(k, k, f64::NAN);
     let (covariance, robust_covariance) = match (flats.is_empty(), inference::invert(&a)) {

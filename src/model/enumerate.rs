@@ -18,6 +18,11 @@ pub trait WhatIf: Sync {
     /// Utilities `v1` (length `alternatives`) of situation `i` after the change,
     /// from its base utilities `v0`; -inf marks an unavailable alternative.
     fn utilities(&self, d: &Design, beta: &[f64], i: usize, v0: &[f64], v1: &mut [f64]);
+    /// The family over the alternatives after the change, when it differs from
+    /// the base one (added alternatives in a nested model).
+    fn family(&self) -> Option<&dyn Family> {
+        None
+    }
 }
 
 /// Any `Fn(i, v)` that edits a copy of the base utilities in place is a what-if
@@ -148,6 +153,7 @@ impl<'a> Enumeration<'a> {
     /// One range of situations with scratch buffers allocated once.
     fn run(&self, range: Range<usize>, visit: &mut dyn FnMut(&Situation)) {
         let (family, d, beta) = (self.family, self.d, self.beta);
+        let after = self.what_if.and_then(|w| w.family()).unwrap_or(family);
         let j = d.alternatives();
         let m = self.alternatives();
         let mut v0 = vec![0.0; j];
@@ -179,9 +185,9 @@ impl<'a> Enumeration<'a> {
             if v1.iter().all(|x| !x.is_finite()) {
                 p1.iter_mut().for_each(|x| *x = 0.0); // nothing left to choose
             } else if m == j {
-                family.probabilities_after(beta, &v0, &p0, &v1, &mut p1);
+                after.probabilities_after(beta, &v0, &p0, &v1, &mut p1);
             } else {
-                family.probabilities(beta, &v1, &mut p1);
+                after.probabilities(beta, &v1, &mut p1);
             }
             visit(&Situation {
                 i,

@@ -34,6 +34,27 @@ pub struct Eval {
     pub hess: Option<Vec<f64>>,
 }
 
+/// A warning a family raises about its fit (a scale outside the range where
+/// the model is consistent with utility maximisation, ...).
+#[derive(Clone, Debug, PartialEq)]
+pub struct FamilyWarning {
+    /// A short name for the kind of warning (`scale_above_one`, ...).
+    pub code: &'static str,
+    /// Parameters it concerns.
+    pub parameters: Vec<String>,
+    pub message: String,
+}
+
+/// An alternative a what-if adds: it behaves like spec alternative `like`
+/// (its place in the model's error structure), or joins the named group.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Added {
+    pub name: String,
+    pub like: usize,
+    /// A nest (or other group) named by the scenario, instead of `like`'s.
+    pub group: Option<String>,
+}
+
 /// What a family can do; callers ask instead of matching on the family.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 pub struct Abilities {
@@ -102,6 +123,27 @@ pub trait Family: Send + Sync + std::fmt::Debug {
     /// values (the nested logit is the logit with every scale at 1).
     fn reduces_to(&self) -> Option<&'static str> {
         None
+    }
+
+    /// The family over the spec's alternatives followed by `added` ones (a
+    /// scenario's new alternatives). `Ok(None)`: this same family handles any
+    /// number of alternatives. An error says why the addition is not possible.
+    fn with_added(&self, spec: &Spec, added: &[Added]) -> Result<Option<FamilyRef>, String> {
+        let _ = spec;
+        match added.iter().find(|a| a.group.is_some()) {
+            Some(a) => Err(format!(
+                "[[new_alternative]] {}: `nest` applies to the nested family, not to {}",
+                a.name,
+                self.name()
+            )),
+            None => Ok(None),
+        }
+    }
+
+    /// Warnings about the fit at `beta` (its own parameters' values, how the data use them).
+    fn warnings(&self, spec: &Spec, d: &Design, beta: &[f64]) -> Vec<FamilyWarning> {
+        let _ = (spec, d, beta);
+        Vec::new()
     }
 
     /// Lines describing the model's structure for reports and the workbench

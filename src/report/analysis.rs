@@ -238,7 +238,7 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
             );
         }
     }
-    for t in a.wald.iter() {
+    for t in a.family_test.iter().chain(a.wald.iter()) {
         let _ = writeln!(
             s,
             "\n{}: statistic {:.4}, {} df, p {}",

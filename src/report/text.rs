@@ -21,6 +21,9 @@ pub fn header(spec: &Spec, fit: &Fit, colour: bool) -> String {
         spec.alternatives[spec.base].name,
         st.estimated_parameters
     );
+    for line in fit.family.structure(spec) {
+        let _ = writeln!(s, "         {line}");
+    }
     let groups = if fit.design.obs.group.is_some() {
         format!(" · {} decision makers", st.groups)
     } else {
@@ -107,6 +110,19 @@ pub fn estimates(spec: &Spec, fit: &Fit) -> String {
             row.t_stat,
             pval(row.p_value),
             interval
+        );
+    }
+    let against: Vec<String> = fit
+        .parameters
+        .iter()
+        .filter(|r| r.null != 0.0 && !r.fixed)
+        .map(|r| format!("{} against {}", r.name, r.null))
+        .collect();
+    if !against.is_empty() {
+        let _ = writeln!(
+            s,
+            "  t and p test each value against 0, except {}",
+            against.join(", ")
         );
     }
     s

@@ -41,6 +41,7 @@ struct RawChange {
 struct RawNew {
     name: String,
     like: String,
+    nest: Option<String>,
     constant: Option<f64>,
     available: Option<String>,
     #[serde(default)]
@@ -100,6 +101,8 @@ pub enum NewValue {
 pub struct NewAlternative {
     pub name: String,
     pub like: usize,
+    /// The nest it joins (nested family), instead of `like`'s.
+    pub nest: Option<String>,
     pub constant: Option<f64>,
     /// A 0/1 availability column; default: wherever `like` is available.
     pub available: Option<String>,
@@ -267,6 +270,7 @@ impl Scenario {
             new_alternatives.push(NewAlternative {
                 name: n.name.clone(),
                 like,
+                nest: n.nest.clone(),
                 constant: n.constant,
                 available: n.available.clone(),
                 attributes,
@@ -407,6 +411,9 @@ impl Scenario {
                 q(&n.name),
                 q(&spec.alternatives[n.like].name)
             );
+            if let Some(g) = &n.nest {
+                let _ = writeln!(s, "nest = {}", q(g));
+            }
             if let Some(c) = n.constant {
                 let _ = writeln!(s, "constant = {}", toml::Value::Float(c));
             }

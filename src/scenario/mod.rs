@@ -170,7 +170,7 @@ pub fn forecast(
         )));
     }
     let d = &fit.design;
-    let prep = prepare::prepare(spec, d, &ds.table, scenario)?;
+    let prep = prepare::prepare(spec, fit, &ds.table, scenario)?;
     let (beta, calibration) = base_parameters(spec, fit, scenario)?;
     let seg = match &opts.by {
         Some(c) => Some(segment_index(ds, c)?),

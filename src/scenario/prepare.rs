@@ -9,7 +9,8 @@ use crate::analysis::TermMap;
 use crate::data::Table;
 use crate::design::Design;
 use crate::error::{Error, Result};
-use crate::model::WhatIf;
+use crate::estimate::Fit;
+use crate::model::{Added, Family, WhatIf};
 use crate::spec::{Expr, Spec, Term};
 
 /// A new alternative ready to simulate.
@@ -38,6 +39,8 @@ pub struct Prepared {
     pub map: TermMap,
     /// The constant's parameter of each spec alternative.
     pub constant_param: Vec<Option<usize>>,
+    /// The family over the scenario's alternatives, when new ones change it.
+    pub family: Option<crate::model::FamilyRef>,
 }
 
 fn eval(table: &Table, key: &str, text: &str, e: &Expr, spec: &Spec) -> Result<Vec<f64>> {
@@ -57,7 +60,8 @@ fn eval(table: &Table, key: &str, text: &str, e: &Expr, spec: &Spec) -> Result<V
     Ok(v)
 }
 
-pub fn prepare(spec: &Spec, d: &Design, table: &Table, s: &Scenario) -> Result<Prepared> {
+pub fn prepare(spec: &Spec, fit: &Fit, table: &Table, s: &Scenario) -> Result<Prepared> {
+    let d = &fit.design;
     let n = d.situations();
     let j = d.alternatives();
     let map = TermMap::new(spec, d);
@@ -193,6 +197,22 @@ pub fn prepare(spec: &Spec, d: &Design, table: &Table, s: &Scenario) -> Result<P
     }
     let mut names = spec.alternative_names();
     names.extend(new.iter().map(|x| x.name.clone()));
+    let added: Vec<Added> = s
+        .new_alternatives
+        .iter()
+        .map(|na| Added {
+            name: na.name.clone(),
+            like: na.like,
+            group: na.nest.clone(),
+        })
+        .collect();
+    let family = if added.is_empty() {
+        None
+    } else {
+        fit.family
+            .with_added(spec, &added)
+            .map_err(|m| Error::Usage(format!("scenario `{}`: {m}", s.name)))?
+    };
     Ok(Prepared {
         names,
         attribute_deltas,
@@ -201,6 +221,7 @@ pub fn prepare(spec: &Spec, d: &Design, table: &Table, s: &Scenario) -> Result<P
         new,
         map,
         constant_param,
+        family,
     })
 }
 
@@ -266,5 +287,8 @@ impl WhatIf for Prepared {
     }
     fn utilities(&self, d: &Design, beta: &[f64], i: usize, v0: &[f64], v1: &mut [f64]) {
         Prepared::utilities(self, d, beta, i, v0, v1)
+    }
+    fn family(&self) -> Option<&dyn Family> {
+        self.family.as_deref()
     }
 }

@@ -83,7 +83,7 @@ pub fn sweep(spec: &Spec, fit: &Fit, ds: &Dataset, req: &Request) -> Result<Swee
             }],
             ..Scenario::default()
         };
-        let prep = prepare::prepare(spec, &fit.design, &ds.table, &sc)?;
+        let prep = prepare::prepare(spec, fit, &ds.table, &sc)?;
         let (_, shares, _) = simulate::shares_only(&*fit.family, &fit.design, &beta, &prep, None);
         points.push(SweepPoint { multiplier, shares });
     }

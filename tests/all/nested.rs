@@ -200,3 +200,210 @@ fn nest_errors_name_the_key() {
         }
     }
 }
+
+/// The "ground" nested model (train, bus, car nested; air alone) fitted, with its data.
+fn ground() -> (Spec, sharecast::data::Dataset, sharecast::estimate::Fit) {
+    let r = fixture();
+    let spec = nested_spec(&r["structures"]["ground"], "");
+    let ds = sharecast::data::load(&spec, &Default::default()).unwrap();
+    let fit = fit_spec(&spec, &ds);
+    (spec, ds, fit)
+}
+
+fn forecast(
+    spec: &Spec,
+    ds: &sharecast::data::Dataset,
+    fit: &sharecast::estimate::Fit,
+    text: &str,
+) -> sharecast::scenario::Forecast {
+    let sc = sharecast::scenario::Scenario::from_str(text, Path::new("s.toml"), spec).unwrap();
+    let opts = sharecast::scenario::Options {
+        draws: 0,
+        seed: 1,
+        by: None,
+        market: None,
+    };
+    sharecast::scenario::forecast(spec, fit, ds, &sc, &opts).unwrap()
+}
+
+#[test]
+fn elasticities_match_finite_differences_of_simulated_shares() {
+    // Aggregate elasticity of each share to the gc of train: the analytic
+    // (dP/dV) figure against central differences of re-simulated shares.
+    let (spec, _, fit) = ground();
+    let d = &fit.design;
+    let map = TermMap::new(&spec, d);
+    let sens = sensitivities(&*fit.family, d, &map, &fit.beta);
+    let (a, k, j) = (0, 1, 4);
+    let b = fit.beta[map.attribute[a][k].unwrap()];
+    let h = 1e-5;
+    let at = |t: f64| {
+        sharecast::analysis::simulate::shares_with(&*fit.family, d, &fit.beta, None, |i, v| {
+            if v[k].is_finite() {
+                v[k] += b * d.obs.attributes[a][i * j + k] * t;
+            }
+        })
+    };
+    let (up, dn, base) = (at(h), at(-h), at(0.0));
+    for jj in 0..j {
+        let fd = (up[jj] - dn[jj]) / (2.0 * h) / base[jj];
+        let got = sens.attr_elast[(a * j + k) * j + jj];
+        assert!(
+            (fd - got).abs() < 1e-6,
+            "share {jj}: analytic {got} vs numeric {fd}"
+        );
+    }
+}
+
+#[test]
+fn withdrawing_an_alternative_sends_its_demand_first_to_its_nest() {
+    // Under the logit a withdrawn alternative's demand spreads in proportion to
+    // the other shares (IIA); with the scale of `ground` well below 1 bus and
+    // car (train's nest-mates) must gain more than that, air less.
+    let (spec, ds, fit) = ground();
+    let f = forecast(
+        &spec,
+        &ds,
+        &fit,
+        "name = \"no train\"\nremove = [\"train\"]\n",
+    );
+    let base: Vec<f64> = f.shares.iter().map(|r| r.base).collect();
+    let after: Vec<f64> = f.shares.iter().map(|r| r.scenario).collect();
+    let lost = base[1];
+    let rest: f64 = base[0] + base[2] + base[3];
+    for (idx, nest_mate) in [(0, false), (2, true), (3, true)] {
+        let proportional = lost * base[idx] / rest;
+        let gain = after[idx] - base[idx];
+        assert_eq!(
+            gain > proportional,
+            nest_mate,
+            "alternative {idx}: gain {gain} vs proportional {proportional}"
+        );
+    }
+    assert!((after.iter().sum::<f64>() - 1.0).abs() < 1e-12);
+    assert_eq!(after[1], 0.0);
+}
+
+#[test]
+fn a_new_alternative_joins_its_nest_or_the_named_one() {
+    let (spec, ds, fit) = ground();
+    // A second bus service like `bus`: it joins the ground nest and draws mostly on it.
+    let f = forecast(
+        &spec,
+        &ds,
+        &fit,
+        "name = \"coach\"\n[[new_alternative]]\nname = \"coach\"\nlike = \"bus\"\n",
+    );
+    let share = |f: &sharecast::scenario::Forecast, name: &str| {
+        f.shares
+            .iter()
+            .find(|r| r.alternative == name)
+            .unwrap()
+            .clone()
+    };
+    let coach = share(&f, "coach").scenario;
+    assert!(coach > 0.0);
+    let total: f64 = f.shares.iter().map(|r| r.scenario).sum();
+    assert!((total - 1.0).abs() < 1e-12);
+    let air = share(&f, "air");
+    let train = share(&f, "train");
+    let rel = |r: &sharecast::scenario::ShareRow| (r.base - r.scenario) / r.base;
+    assert!(
+        rel(&train) > rel(&air),
+        "nest-mate train loses relatively more than air"
+    );
+    // The same coach placed alone (like air) takes relatively more from air.
+    let g = forecast(
+        &spec,
+        &ds,
+        &fit,
+        "name = \"coach\"\n[[new_alternative]]\nname = \"coach\"\nlike = \"air\"\n",
+    );
+    assert!(rel(&share(&g, "air")) > rel(&share(&g, "train")));
+    // An unknown nest is named.
+    let sc = sharecast::scenario::Scenario::from_str(
+        "name = \"x\"\n[[new_alternative]]\nname = \"coach\"\nlike = \"bus\"\nnest = \"sky\"\n",
+        Path::new("s.toml"),
+        &spec,
+    )
+    .unwrap();
+    let opts = sharecast::scenario::Options {
+        draws: 0,
+        seed: 1,
+        by: None,
+        market: None,
+    };
+    let err = sharecast::scenario::forecast(&spec, &fit, &ds, &sc, &opts)
+        .err()
+        .unwrap()
+        .to_string();
+    assert!(err.contains("`sky`") && err.contains("ground"), "{err}");
+}
+
+#[test]
+fn nest_on_a_new_alternative_of_a_logit_is_refused() {
+    let (spec, fit) = fit_file("tests/specs/modechoice.toml");
+    let ds = sharecast::data::load(&spec, &Default::default()).unwrap();
+    let sc = sharecast::scenario::Scenario::from_str(
+        "name = \"x\"\n[[new_alternative]]\nname = \"coach\"\nlike = \"bus\"\nnest = \"ground\"\n",
+        Path::new("s.toml"),
+        &spec,
+    )
+    .unwrap();
+    let opts = sharecast::scenario::Options {
+        draws: 0,
+        seed: 1,
+        by: None,
+        market: None,
+    };
+    let err = sharecast::scenario::forecast(&spec, &fit, &ds, &sc, &opts)
+        .err()
+        .unwrap()
+        .to_string();
+    assert!(err.contains("`nest`") && err.contains("logit"), "{err}");
+}
+
+#[test]
+fn a_scale_above_one_is_named_and_the_logit_is_tested() {
+    // The reference's two-nest model has lambda_private = 2.37 (fixture):
+    // the warning names it and the share of situations still consistent.
+    let r = fixture();
+    let spec = nested_spec(&r["structures"]["two_nests"], "");
+    let ds = sharecast::data::load(&spec, &Default::default()).unwrap();
+    let fit = fit_spec(&spec, &ds);
+    let w: Vec<_> = fit
+        .diagnostics
+        .iter()
+        .filter(|d| d.code.as_deref() == Some("scale_above_one"))
+        .collect();
+    assert_eq!(w.len(), 1, "{:?}", fit.diagnostics);
+    assert_eq!(w[0].parameters, vec!["lambda_private".to_string()]);
+    assert!(w[0].message.contains("% of situations"), "{}", w[0].message);
+    // Both scales tested against 1 (Wald), and each row's t against 1.
+    let t = sharecast::analysis::hypothesis::family_reduction(&spec, &fit)
+        .unwrap()
+        .unwrap();
+    assert_eq!(t.df, 2);
+    let row = fit
+        .parameters
+        .iter()
+        .find(|p| p.name == "lambda_private")
+        .unwrap();
+    assert_eq!(row.null, 1.0);
+    assert_close(
+        "t against 1",
+        row.t_stat,
+        (row.estimate - 1.0) / row.std_error,
+        1e-12,
+    );
+    // The JSON document carries the warning's code.
+    let (code, out, err) = run(&["fit", "tests/specs/modechoice_nested.toml", "--json"]);
+    assert_eq!(code, 0, "{err}");
+    let v: Value = serde_json::from_str(&out).unwrap();
+    assert!(v["diagnostics"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .any(|d| d["code"] == "scale_above_one"));
+    assert!(v["family_test"]["statistic"].as_f64().unwrap() > 0.0);
+}

@@ -81,7 +81,7 @@ fn removal_redistributes_in_proportion_in_every_situation() {
     let (spec, ds) = load("specs/commute.toml");
     let fit = fit_spec(&spec, &ds);
     let sc = scenario("remove = [\"rail\"]\n", &spec);
-    let prep = prepare::prepare(&spec, &fit.design, &ds.table, &sc).unwrap();
+    let prep = prepare::prepare(&spec, &fit, &ds.table, &sc).unwrap();
     let dir = scratch("removal_iia");
     let out = dir.join("p.csv");
     export::per_situation(&out, false, &*fit.family, &fit.design, &fit.beta, &prep).unwrap();

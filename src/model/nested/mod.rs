@@ -9,6 +9,7 @@
 
 mod pass;
 mod rules;
+mod warnings;
 
 use std::cell::RefCell;
 
@@ -149,7 +150,7 @@ impl Nested {
             top = top.max(w.a[g]);
         }
         let mut d = 0.0;
-        for &a in &w.a {
+        for &a in &w.a[..self.members.len()] {
             if a.is_finite() {
                 d += (a - top).exp();
             }
@@ -192,11 +193,13 @@ impl Family for Nested {
     fn probabilities(&self, beta: &[f64], v: &[f64], p: &mut [f64]) {
         SCRATCH.with(|cell| {
             let mut w = cell.borrow_mut();
-            if w.p.len() != v.len() || w.lam.len() != self.members.len() {
+            // Grown, never shrunk: base and what-if families (with added
+            // alternatives) share it without reallocating.
+            if w.p.len() < v.len() || w.lam.len() < self.members.len() {
                 *w = self.work();
             }
             self.situation(beta, v, &mut w);
-            p.copy_from_slice(&w.p);
+            p.copy_from_slice(&w.p[..v.len()]);
         })
     }
 
@@ -204,7 +207,9 @@ impl Family for Nested {
     fn dprob(&self, beta: &[f64], v: &[f64], _p: &[f64], dp: &mut [f64]) {
         SCRATCH.with(|cell| {
             let mut w = cell.borrow_mut();
-            if w.p.len() != v.len() || w.lam.len() != self.members.len() {
+            // Grown, never shrunk: base and what-if families (with added
+            // alternatives) share it without reallocating.
+            if w.p.len() < v.len() || w.lam.len() < self.members.len() {
                 *w = self.work();
             }
             self.situation(beta, v, &mut w);
@@ -230,12 +235,46 @@ impl Family for Nested {
         })
     }
 
+    /// An added alternative joins `like`'s nest (or stands alone like it), or the named nest.
+    fn with_added(
+        &self,
+        _spec: &Spec,
+        added: &[super::Added],
+    ) -> Result<Option<super::FamilyRef>, String> {
+        let mut m = self.clone();
+        for a in added {
+            let index = m.group_of.len();
+            let group = match &a.group {
+                Some(name) => m.nests.iter().position(|n| n == name).ok_or_else(|| {
+                    format!(
+                        "[[new_alternative]] {}: nest `{name}` is not a nest of the model (it has: {})",
+                        a.name,
+                        m.nests.join(", ")
+                    )
+                })?,
+                None if self.group_of[a.like] < self.nests.len() => self.group_of[a.like],
+                None => {
+                    m.members.push(Vec::new());
+                    m.scale.push(None);
+                    m.members.len() - 1
+                }
+            };
+            m.group_of.push(group);
+            m.members[group].push(index);
+        }
+        Ok(Some(std::sync::Arc::new(m)))
+    }
+
     fn held_in_first_search(&self) -> Vec<usize> {
         self.scale.iter().flatten().copied().collect()
     }
 
     fn reduces_to(&self) -> Option<&'static str> {
         Some("logit")
+    }
+
+    fn warnings(&self, spec: &Spec, d: &Design, beta: &[f64]) -> Vec<super::FamilyWarning> {
+        warnings::all(self, spec, d, beta)
     }
 
     fn structure(&self, spec: &Spec) -> Vec<String> {

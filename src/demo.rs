@@ -25,6 +25,16 @@ pub const COMMUTE_TRUTH: &[(&str, f64)] = &[
     ("income_walk", -0.010),
     ("age_bike", -0.030),
     ("age_walk", -0.012),
+    ("lambda_transit", 0.5),
+    ("lambda_active", 0.6),
+];
+
+/// The commute demo's nests (alternative indices: car 0, bus 1, rail 2, bike 3,
+/// walk 4) and the names of their scales; car stands alone.
+const COMMUTE_NESTS: [(&[usize], &str); 3] = [
+    (&[0], ""),
+    (&[1, 2], "lambda_transit"),
+    (&[3, 4], "lambda_active"),
 ];
 
 /// True parameters of the grocery demo.
@@ -75,7 +85,43 @@ fn pick(rng: &mut Rng, v: &[f64], avail: &[bool]) -> usize {
     best
 }
 
-/// Velmora commute trips: 2,000 residents, 3 trips each, wide layout.
+/// A draw from the nested logit by its two stages, each a Gumbel argmax: the
+/// nest by l_k I_k (I_k the log of the sum of exp(V_j / l_k) over its available
+/// alternatives), then the alternative within it by V_j / l_k. This is the
+/// nested logit's sequential form (Train, Discrete Choice Methods with
+/// Simulation, 2nd ed., ch. 4.2.3), written apart from the estimator's code.
+fn pick_nested(rng: &mut Rng, v: &[f64], avail: &[bool], nests: &[(&[usize], f64)]) -> usize {
+    let mut best_nest = None;
+    let mut best_u = f64::NEG_INFINITY;
+    for (k, (alts, lam)) in nests.iter().enumerate() {
+        let open: Vec<usize> = alts.iter().copied().filter(|&a| avail[a]).collect();
+        if open.is_empty() {
+            continue;
+        }
+        let m = open.iter().map(|&a| v[a]).fold(f64::NEG_INFINITY, f64::max);
+        let iv = m / lam
+            + open
+                .iter()
+                .map(|&a| ((v[a] - m) / lam).exp())
+                .sum::<f64>()
+                .ln();
+        let u = lam * iv + rng.gumbel();
+        if u > best_u {
+            best_u = u;
+            best_nest = Some(k);
+        }
+    }
+    let Some(k) = best_nest else { return 0 };
+    let (alts, lam) = nests[k];
+    let scaled: Vec<f64> = v.iter().map(|x| x / lam).collect();
+    let mask: Vec<bool> = (0..v.len())
+        .map(|a| avail[a] && alts.contains(&a))
+        .collect();
+    pick(rng, &scaled, &mask)
+}
+
+/// Velmora commute trips: 2,000 residents, 3 trips each, wide layout; choices
+/// from a nested logit (transit: bus and rail; active: bike and walk).
 pub fn commute(path: &Path, force: bool) -> Result<()> {
     let t = |n: &str| truth(COMMUTE_TRUTH, n);
     let mut rng = Rng::new(20_261_201);
@@ -156,7 +202,11 @@ pub fn commute(path: &Path, force: bool) -> Result<()> {
                     + t("income_walk") * income
                     + t("age_walk") * age,
             ];
-            let c = pick(&mut rng, &v, &avail);
+            let nests: Vec<(&[usize], f64)> = COMMUTE_NESTS
+                .iter()
+                .map(|(alts, scale)| (*alts, if scale.is_empty() { 1.0 } else { t(scale) }))
+                .collect();
+            let c = pick_nested(&mut rng, &v, &avail, &nests);
             mode.push(names[c].to_string());
             let row = [
                 trip as f64,

@@ -225,7 +225,16 @@ pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fi
     let first: Vec<usize> = free.iter().copied().filter(|p| !held.contains(p)).collect();
     let mut first_passes = 0;
     if first.len() < free.len() && !first.is_empty() {
-        let o = optimise::maximise(&design, &*family, &start, &first, progress);
+        // With its own parameters at their null values a family may equal a
+        // simpler one, which then searches faster.
+        let at_null = held
+            .iter()
+            .all(|&p| spec.parameters[p].start == spec.parameters[p].null);
+        let searcher = match (at_null, family.simpler()) {
+            (true, Some(s)) => s,
+            _ => family.clone(),
+        };
+        let o = optimise::maximise(&design, &*searcher, &start, &first, progress);
         if o.ll.is_finite() {
             start = o.beta;
         }
@@ -381,7 +390,17 @@ fn finish(
         let quiet = |_s: Step| {};
         let cstart: Vec<f64> = cspec.parameters.iter().map(|p| p.start).collect();
         // Built for the reduced spec: its own parameters sit at other positions.
+        // They are held at their starting values; at their null values the
+        // simpler family (if any) gives the same likelihood, faster.
         let cfamily = model::for_spec(&cspec)?;
+        let held_at_null = cspec
+            .parameters
+            .iter()
+            .all(|p| !matches!(p.term, crate::spec::Term::Family(_)) || p.start == p.null);
+        let cfamily = match (held_at_null, cfamily.simpler()) {
+            (true, Some(s)) => s,
+            _ => cfamily,
+        };
         optimise::maximise(&cd, &*cfamily, &cstart, &cfree, &quiet).ll
     } else if spec.constants {
         out.ll

@@ -51,6 +51,9 @@ struct Objective<'a> {
     template: Vec<f64>,
     scale: f64,
     cache: Mutex<Option<(Vec<f64>, Eval)>>,
+    /// The best point evaluated so far (log-likelihood, free parameters), kept
+    /// so that a search that stops on an error leaves no progress behind.
+    best: Mutex<Option<(f64, Vec<f64>)>>,
     passes: &'a AtomicUsize,
     progress: Progress<'a>,
     iteration: AtomicUsize,
@@ -89,6 +92,11 @@ impl Objective<'_> {
         if let Ok(mut guard) = self.cache.lock() {
             *guard = Some((p.to_vec(), e.clone()));
         }
+        if let Ok(mut best) = self.best.lock() {
+            if e.ll.is_finite() && best.as_ref().is_none_or(|b| e.ll > b.0) {
+                *best = Some((e.ll, p.to_vec()));
+            }
+        }
         e
     }
 }
@@ -101,10 +109,12 @@ impl CostFunction for Negated<'_, '_> {
     type Output = f64;
     fn cost(&self, p: &Self::Param) -> Result<f64, argmin::core::Error> {
         let ll = self.0.eval(p).ll;
+        // Outside the model's domain (a nest scale below 0, overflow): a large
+        // but finite cost, so that the line search backs off instead of failing.
         Ok(if ll.is_finite() {
             -ll * self.0.scale
         } else {
-            f64::MAX
+            1e30
         })
     }
 }
@@ -126,38 +136,11 @@ pub fn negative_free_hessian(hess: &[f64], k: usize, free: &[usize]) -> DMatrix<
     DMatrix::from_fn(m, m, |a, b| -hess[free[a] * k + free[b]])
 }
 
-pub fn maximise(
-    d: &Design,
-    family: &dyn Family,
-    start: &[f64],
-    free: &[usize],
-    progress: Progress,
-) -> Outcome {
-    let k = d.params;
-    let passes = AtomicUsize::new(0);
-    let scale = 1.0 / d.total_weight().max(1e-300);
-    let m = free.len();
-    let mut beta = start.to_vec();
-    if m == 0 {
-        let e = family.evaluate(d, &beta, false, false);
-        return Outcome {
-            beta,
-            ll: e.ll,
-            bfgs_iterations: 0,
-            newton_steps: 0,
-            passes: 1,
-            criterion: 0.0,
-            gradient_norm: 0.0,
-            converged: true,
-            note: None,
-        };
-    }
-
-    // Initial inverse Hessian for BFGS: the inverse of the Hessian when positive definite.
-    let e0 = with_hessian(family, d, &beta, free);
-    passes.fetch_add(1, Ordering::Relaxed);
-    let h0 = negative_free_hessian(e0.hess.as_deref().unwrap_or(&[]), k, free) * scale;
-    let inv0: Vec<Vec<f64>> = match h0.clone().cholesky() {
+/// The starting inverse Hessian for BFGS (of -log L / total weight): the
+/// inverse of the Hessian when it is positive definite, else its inverse diagonal.
+fn initial_inverse(h0: &DMatrix<f64>) -> Vec<Vec<f64>> {
+    let m = h0.nrows();
+    match h0.clone().cholesky() {
         Some(ch) => {
             let inv = ch.inverse();
             (0..m)
@@ -177,7 +160,83 @@ pub fn maximise(
                     .collect()
             })
             .collect(),
+    }
+}
+
+/// The quasi-Newton phase from `beta`; returns the best point, the iterations
+/// and a note when it stopped early.
+fn quasi_newton(
+    objective: &Objective,
+    beta: Vec<f64>,
+    inv0: Vec<Vec<f64>>,
+) -> (Vec<f64>, usize, Option<String>) {
+    let x0: Vec<f64> = objective.free.iter().map(|&i| beta[i]).collect();
+    let solver = BFGS::new(MoreThuenteLineSearch::new())
+        .with_tolerance_grad(1e-7)
+        .and_then(|s| s.with_tolerance_cost(1e-13));
+    let solver = match solver {
+        Ok(s) => s,
+        Err(e) => return (beta, 0, Some(format!("quasi-Newton setup failed: {e}"))),
     };
+    let run = Executor::new(Negated(objective), solver)
+        .configure(|state| state.param(x0).inv_hessian(inv0).max_iters(300))
+        .run();
+    match run {
+        Ok(mut res) => {
+            let iterations = res.state().get_iter() as usize;
+            match res.state.take_best_param() {
+                Some(best) if best.iter().all(|v| v.is_finite()) => {
+                    (objective.full(&best), iterations, None)
+                }
+                _ => (beta, iterations, None),
+            }
+        }
+        Err(e) => {
+            // Carry on from the best point seen (a line search that stepped
+            // outside the model's domain, e.g. a nest scale below 0, ends here).
+            let best = objective.best.lock().ok().and_then(|b| b.clone());
+            let iterations = objective.iteration.load(Ordering::Relaxed);
+            let beta = best.map(|b| objective.full(&b.1)).unwrap_or(beta);
+            (
+                beta,
+                iterations,
+                Some(format!(
+                    "the quasi-Newton phase stopped early ({e}); Newton steps continued"
+                )),
+            )
+        }
+    }
+}
+
+pub fn maximise(
+    d: &Design,
+    family: &dyn Family,
+    start: &[f64],
+    free: &[usize],
+    progress: Progress,
+) -> Outcome {
+    let k = d.params;
+    let passes = AtomicUsize::new(0);
+    let scale = 1.0 / d.total_weight().max(1e-300);
+    let m = free.len();
+    let beta = start.to_vec();
+    if m == 0 {
+        let e = family.evaluate(d, &beta, false, false);
+        return Outcome {
+            beta,
+            ll: e.ll,
+            bfgs_iterations: 0,
+            newton_steps: 0,
+            passes: 1,
+            criterion: 0.0,
+            gradient_norm: 0.0,
+            converged: true,
+            note: None,
+        };
+    }
+    let e0 = with_hessian(family, d, &beta, free);
+    passes.fetch_add(1, Ordering::Relaxed);
+    let h0 = negative_free_hessian(e0.hess.as_deref().unwrap_or(&[]), k, free);
     let objective = Objective {
         d,
         family,
@@ -185,52 +244,72 @@ pub fn maximise(
         template: beta.clone(),
         scale,
         cache: Mutex::new(None),
+        best: Mutex::new(None),
         passes: &passes,
         progress,
         iteration: AtomicUsize::new(0),
     };
-    let x0: Vec<f64> = free.iter().map(|&i| beta[i]).collect();
-    let mut bfgs_iterations = 0;
-    let mut note = None;
-    let linesearch = MoreThuenteLineSearch::new();
-    let solver = BFGS::new(linesearch)
-        .with_tolerance_grad(1e-7)
-        .and_then(|s| s.with_tolerance_cost(1e-13));
-    match solver {
-        Ok(solver) => {
-            let run = Executor::new(Negated(&objective), solver)
-                .configure(|state| state.param(x0.clone()).inv_hessian(inv0).max_iters(300))
-                .run();
-            match run {
-                Ok(mut res) => {
-                    bfgs_iterations = res.state().get_iter() as usize;
-                    if let Some(best) = res.state.take_best_param() {
-                        if best.iter().all(|v| v.is_finite()) {
-                            beta = objective.full(&best);
-                        }
-                    }
-                }
-                Err(e) => {
-                    note = Some(format!(
-                        "the quasi-Newton phase stopped early ({e}); Newton steps continued"
-                    ))
-                }
-            }
-        }
-        Err(e) => note = Some(format!("quasi-Newton setup failed: {e}")),
+    let (beta, bfgs_iterations, note) =
+        quasi_newton(&objective, beta, initial_inverse(&(&h0 * scale)));
+    // A family without an analytic Hessian reuses the one differenced at the
+    // start (each costs two gradient passes per parameter) until a step fails.
+    let reuse = (!family.abilities().analytic_hessian).then_some(h0);
+    let mut out = newton(d, family, beta, free, progress, &passes, reuse);
+    out.bfgs_iterations = bfgs_iterations;
+    if out.note.is_none() {
+        out.note = note;
     }
+    out
+}
 
-    // Newton phase.
+/// Newton steps with step halving until the Newton decrement g' (-H)^-1 g is
+/// below the tolerance. `reuse`: a Hessian (free block, negated) to use instead
+/// of evaluating one at every step; it is refreshed when a full step fails.
+fn newton(
+    d: &Design,
+    family: &dyn Family,
+    mut beta: Vec<f64>,
+    free: &[usize],
+    progress: Progress,
+    passes: &AtomicUsize,
+    mut reuse: Option<DMatrix<f64>>,
+) -> Outcome {
+    let k = d.params;
+    let m = free.len();
+    let reusing = reuse.is_some();
+    let eval = |b: &[f64]| -> Eval {
+        passes.fetch_add(1, Ordering::Relaxed);
+        if reusing {
+            family.evaluate(d, b, true, false)
+        } else {
+            with_hessian(family, d, b, free)
+        }
+    };
+    let mut note = None;
     let mut newton_steps = 0;
     let mut converged = false;
     let mut criterion = f64::INFINITY;
     let mut stalls = 0;
-    let mut e = with_hessian(family, d, &beta, free);
-    passes.fetch_add(1, Ordering::Relaxed);
+    let mut e = eval(&beta);
+    // Whether the reused Hessian was differenced at the current point.
+    let mut fresh = false;
+    let refresh = |b: &[f64]| -> DMatrix<f64> {
+        passes.fetch_add(2 * m, Ordering::Relaxed);
+        let h = with_hessian(family, d, b, free);
+        negative_free_hessian(h.hess.as_deref().unwrap_or(&[]), k, free)
+    };
     for _ in 0..100 {
         let g = DVector::from_iterator(m, free.iter().map(|&i| e.grad[i]));
-        let a = negative_free_hessian(e.hess.as_deref().unwrap_or(&[]), k, free);
+        let a = match &reuse {
+            Some(h) => h.clone(),
+            None => negative_free_hessian(e.hess.as_deref().unwrap_or(&[]), k, free),
+        };
         let Some(ch) = a.cholesky() else {
+            if let (Some(h), false) = (reuse.as_mut(), fresh) {
+                *h = refresh(&beta);
+                fresh = true;
+                continue;
+            }
             note.get_or_insert_with(|| {
                 "the Hessian is not negative definite at the end of the search".to_string()
             });
@@ -240,20 +319,25 @@ pub fn maximise(
         criterion = g.dot(&step);
         progress(Step {
             phase: "Newton",
-            iteration: bfgs_iterations + newton_steps,
+            iteration: newton_steps,
             log_likelihood: e.ll,
             gradient_norm: g.norm(),
         });
         if criterion < NEWTON_TOLERANCE {
+            if let (Some(h), false) = (reuse.as_mut(), fresh) {
+                // Confirm with a Hessian of this point before stopping.
+                *h = refresh(&beta);
+                fresh = true;
+                continue;
+            }
             // Take the last (tiny) step as well: Newton's quadratic convergence then
             // leaves the estimates exact to rounding rather than to the tolerance.
             let mut last = beta.clone();
             for (s, &i) in free.iter().enumerate() {
                 last[i] += step[s];
             }
-            // Only its log-likelihood and gradient are used from here on.
-            let el = family.evaluate(d, &last, true, false);
             passes.fetch_add(1, Ordering::Relaxed);
+            let el = family.evaluate(d, &last, true, false);
             if el.ll.is_finite() && el.ll >= e.ll - 1e-9 * e.ll.abs().max(1.0) {
                 beta = last;
                 e = el;
@@ -269,8 +353,7 @@ pub fn maximise(
             for (s, &i) in free.iter().enumerate() {
                 trial[i] += t * step[s];
             }
-            let et = with_hessian(family, d, &trial, free);
-            passes.fetch_add(1, Ordering::Relaxed);
+            let et = eval(&trial);
             if et.ll.is_finite() && et.ll >= e.ll - 1e-12 * e.ll.abs().max(1.0) {
                 improved = et.ll > e.ll;
                 beta = trial;
@@ -281,6 +364,12 @@ pub fn maximise(
             t *= 0.5;
         }
         newton_steps += 1;
+        fresh = false;
+        if let (Some(h), true) = (reuse.as_mut(), t < 1.0 || !improved) {
+            // The reused Hessian no longer predicts well: difference it here.
+            *h = refresh(&beta);
+            fresh = true;
+        }
         if !accepted {
             // No improving step: at the optimum up to rounding.
             converged = criterion < 1e-6;
@@ -302,7 +391,7 @@ pub fn maximise(
     Outcome {
         beta,
         ll: e.ll,
-        bfgs_iterations,
+        bfgs_iterations: 0,
         newton_steps,
         passes: passes.load(Ordering::Relaxed),
         criterion,

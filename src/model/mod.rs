@@ -122,6 +122,13 @@ pub trait Family: Send + Sync + std::fmt::Debug {
     /// The family it reduces to when its own parameters are at their null
     /// values (the nested logit is the logit with every scale at 1).
     fn reduces_to(&self) -> Option<&'static str> {
+        self.simpler().map(|f| f.name())
+    }
+
+    /// That simpler family, built to evaluate this one's design exactly when
+    /// its own parameters sit at their null values (faster passes, an analytic
+    /// Hessian): used for the first search and the constants-only model.
+    fn simpler(&self) -> Option<FamilyRef> {
         None
     }
 

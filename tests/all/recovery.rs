@@ -168,18 +168,20 @@ fn simulated_logit_recovers_its_parameters() {
 
 #[test]
 fn commute_demo_recovers_the_parameters_it_was_simulated_from() {
-    // The demo data are simulated in src/demo.rs from COMMUTE_TRUTH; robust
-    // errors because each resident makes three trips (common practice).
-    let (spec, fit) = fit_file("specs/commute.toml");
+    // The demo data are simulated in src/demo.rs from COMMUTE_TRUTH (a nested
+    // logit, drawn in its two stages); robust errors because each resident
+    // makes three trips (common practice).
+    let (spec, fit) = fit_file("specs/commute_nested.toml");
     assert!(fit.stats.converged);
     assert_eq!(fit.stats.inference, "robust");
     assert_eq!(spec.parameters.len(), COMMUTE_TRUTH.len());
     for (name, truth) in COMMUTE_TRUTH {
         let k = spec
             .parameter_index(name)
-            .unwrap_or_else(|| panic!("{name} is not a parameter of specs/commute.toml"));
+            .unwrap_or_else(|| panic!("{name} is not a parameter of specs/commute_nested.toml"));
         let row = &fit.parameters[k];
         let z = (row.estimate - truth) / row.robust_std_error;
+        assert!(row.robust_std_error.is_finite(), "{name}: no robust s.e.");
         assert!(
             z.abs() < 3.0,
             "{name}: estimate {} vs truth {truth}, robust s.e. {} (z = {z:.2})",

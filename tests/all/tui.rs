@@ -124,7 +124,7 @@ fn overview_shows_the_data_the_fit_and_the_cautions() {
     has(
         &s,
         &[
-            "0.2631",
+            "0.2665",
             &format!("{:.3}", fit.stats.log_likelihood),
             "converged ✓",
         ],
@@ -161,29 +161,31 @@ fn estimates_are_grouped_by_term_with_errors_sort_and_ratios() {
             "▸ attribute cost",
             "▸ characteristic age",
             "asc_bus",
-            "-0.58466",
+            "-0.82712",
         ],
     );
     has(
         &s,
         &[
-            "0.13993",
+            "0.16183",
             "<.0001",
             "robust s.e. clustered",
             "├",
             "●",
             "┤",
             "value_of_time",
-            "7.1844",
+            "6.8838",
         ],
     );
     keys(&mut app, "e");
-    has(&screen(&app, 100, 40), &["classical s.e.", "0.13661"]);
+    has(&screen(&app, 100, 40), &["classical s.e.", "0.15317"]);
     keys(&mut app, "es");
     let s = screen(&app, 100, 40);
     let at = |n: &str| s.find(n).unwrap();
     assert!(
-        at("asc_walk") < at("asc_bus") && at("asc_bus") < at("asc_rail"),
+        at("asc_bike") < at("asc_bus")
+            && at("asc_bus") < at("asc_walk")
+            && at("asc_walk") < at("asc_rail"),
         "{s}"
     );
     keys(&mut app, "t");
@@ -313,7 +315,7 @@ fn stepping_a_fare_gives_the_scenario_and_shares_of_the_library() {
             &s,
             &[
                 "×1.10 (+10%)",
-                "0.2270 → 0.2133",
+                "0.2329 → 0.2202",
                 "band: 95% of 500 parameter draws",
             ],
         );
@@ -425,7 +427,7 @@ fn saving_and_exporting_never_overwrite_without_y() {
         "0",
     ]);
     assert_eq!(code, 0);
-    assert!(out.contains("0.2133"), "{out}");
+    assert!(out.contains("0.2202"), "{out}");
 
     keys(&mut app, "jw");
     type_path(&mut app, 's', &file);
@@ -492,7 +494,7 @@ fn the_demand_curve_is_the_library_sweep() {
             "share of rail · cost of rail scaled",
             "×0.50",
             "×1.50",
-            "at ×1.00: rail 0.2270",
+            "at ×1.00: rail 0.2329",
         ],
     );
     keys(&mut app, "lll");
@@ -712,11 +714,11 @@ fn the_real_binary_runs_in_tmux() {
     ]);
     t.wait("converged", 60);
     t.cmd(&["send-keys", "-t", "w", "2"]);
-    t.wait("-0.58466", 10);
+    t.wait("-0.82712", 10);
     t.cmd(&["send-keys", "-t", "w", "5"]);
-    t.wait("0.2270 → 0.2270", 10);
+    t.wait("0.2329 → 0.2329", 10);
     t.cmd(&["send-keys", "-t", "w", "j", "j", "j", "j", "j", "j", "L"]);
-    t.wait("0.2270 → 0.2133", 10);
+    t.wait("0.2329 → 0.2202", 10);
     t.wait("band: 95% of 500", 30);
     t.cmd(&["send-keys", "-t", "w", "q"]);
     let start = Instant::now();

@@ -269,8 +269,10 @@ impl Family for Nested {
         self.scale.iter().flatten().copied().collect()
     }
 
-    fn reduces_to(&self) -> Option<&'static str> {
-        Some("logit")
+    fn simpler(&self) -> Option<super::FamilyRef> {
+        Some(std::sync::Arc::new(super::logit::Logit {
+            binary: self.group_of.len() == 2,
+        }))
     }
 
     fn warnings(&self, spec: &Spec, d: &Design, beta: &[f64]) -> Vec<super::FamilyWarning> {

@@ -63,6 +63,8 @@ pub struct Shown {
     pub low: f64,
     pub high: f64,
     pub fixed: bool,
+    /// The value t and p test against (1 for a nest scale).
+    pub null: f64,
 }
 
 /// Whether the fit's own t, p and intervals use robust errors.
@@ -89,6 +91,7 @@ pub fn shown(r: &ParameterRow, robust: bool, fit_is_robust: bool) -> Shown {
         low,
         high,
         fixed: r.fixed,
+        null: r.null,
     }
 }
 
@@ -239,7 +242,15 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let mut cursor_line = 0;
     for (i, (head, r)) in rows.iter().enumerate() {
         if let Some(h) = head {
-            lines.push(Line::from(Span::styled(format!("▸ {h}"), t.accent())));
+            let against = if r.null != 0.0 {
+                format!("  (t and p against {})", r.null)
+            } else {
+                String::new()
+            };
+            lines.push(Line::from(Span::styled(
+                format!("▸ {h}{against}"),
+                t.accent(),
+            )));
         }
         if i == st.cursor {
             cursor_line = lines.len();

@@ -175,6 +175,12 @@ fn findings(app: &App) -> Vec<Line<'static>> {
     if let Some(n) = &l.model.note {
         lines.push(Line::from(Span::styled(format!("ℹ {n}"), t.bold())));
     }
+    for line in fit.family.structure(&l.model.spec) {
+        lines.push(Line::from(vec![
+            Span::styled("◇ ", t.bold()),
+            Span::raw(line),
+        ]));
+    }
     if fit.diagnostics.is_empty() {
         lines.push(Line::from(vec![
             Span::styled("diagnostics: none", t.good()),
@@ -182,10 +188,16 @@ fn findings(app: &App) -> Vec<Line<'static>> {
         ]));
     }
     for d in &fit.diagnostics {
-        let kind = serde_json::to_value(d.kind)
-            .ok()
-            .and_then(|v| v.as_str().map(|s| s.replace('_', " ")))
-            .unwrap_or_default();
+        let kind = d
+            .code
+            .clone()
+            .or_else(|| {
+                serde_json::to_value(d.kind)
+                    .ok()
+                    .and_then(|v| v.as_str().map(String::from))
+            })
+            .unwrap_or_default()
+            .replace('_', " ");
         lines.push(Line::from(vec![
             Span::styled(format!("⚠ {kind}: "), t.warn()),
             Span::raw(d.message.clone()),

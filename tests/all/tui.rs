@@ -731,3 +731,44 @@ fn the_real_binary_runs_in_tmux() {
     }
     assert_eq!(std::fs::read_to_string(&status).unwrap().trim(), "EXIT=0");
 }
+
+#[test]
+fn a_nested_model_shows_its_nests_and_the_pull_within_them() {
+    // Overview lists the nests; the diversion view shows withdrawn rail's riders
+    // going mostly to bus, its nest-mate (the library's removal figures).
+    let mut app = demo(&["specs/commute_nested.toml"]);
+    let s = screen(&app, 120, 40);
+    has(
+        &s,
+        &[
+            "nested",
+            "nest transit: bus, rail",
+            "nest active: bike, walk",
+            "in no nest (scale 1): car",
+        ],
+    );
+    keys(&mut app, "2");
+    has(
+        &screen(&app, 120, 60),
+        &["nest scale transit  (t and p against 1)", "lambda_transit"],
+    );
+    keys(&mut app, "4");
+    let s = screen(&app, 120, 40);
+    let m = model("specs/commute_nested.toml");
+    let names = m.spec.alternative_names();
+    let d = sharecast::analysis::diversion::removal(
+        &*m.fit.family,
+        &m.fit.design,
+        &m.fit.beta,
+        None,
+        &names,
+    );
+    let to = |n: &str| {
+        d.iter()
+            .find(|r| r.removed == "rail" && r.to == n)
+            .unwrap()
+            .share
+    };
+    assert!(to("bus") > to("car") && to("bus") > to("bike") && to("bus") > to("walk"));
+    has(&s, &[&format!("{:.3}", to("bus"))]);
+}

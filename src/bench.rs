@@ -32,18 +32,26 @@ pub enum Model {
     Full,
     /// 4 constants and the 2 characteristics only: 12 parameters.
     Characteristics,
+    /// The full model as a nested logit: a2 and a3 in one nest, a4 and a5 in
+    /// another, a1 alone; choices drawn from the nested process: 17 parameters.
+    Nested,
 }
+
+/// The nested model's nests: (alternative indices, scale name, true scale).
+const NESTS: [(&[usize], &str, f64); 2] =
+    [(&[1, 2], "lambda_near", 0.6), (&[3, 4], "lambda_far", 0.75)];
 
 impl Model {
     pub fn label(self) -> &'static str {
         match self {
             Model::Full => "full",
             Model::Characteristics => "characteristics",
+            Model::Nested => "nested",
         }
     }
     fn attributes(self) -> &'static [Attr] {
         match self {
-            Model::Full => &ATTRS,
+            Model::Full | Model::Nested => &ATTRS,
             Model::Characteristics => &[],
         }
     }
@@ -132,6 +140,11 @@ pub fn truth(model: Model) -> Vec<(String, f64)> {
     for (j, b) in AGE.iter().enumerate() {
         out.push((format!("age_{}", ALTS[j + 1]), *b));
     }
+    if model == Model::Nested {
+        for (_, name, scale) in NESTS {
+            out.push((name.to_string(), scale));
+        }
+    }
     out
 }
 
@@ -143,9 +156,25 @@ pub fn spec_text(model: Model, data_file: &str) -> String {
         "# Simulated by `sharecast bench` (invented data, seed {SEED}).\n\
          title = \"sharecast bench: {} model\"\n\n\
          [data]\nfile = \"{data_file}\"\nlayout = \"wide\"\nchoice = \"choice\"\n\n\
-         [model]\nfamily = \"logit\"\nbase = \"a1\"\n",
-        model.label()
+         [model]\nfamily = \"{}\"\nbase = \"a1\"\n",
+        model.label(),
+        if model == Model::Nested {
+            "nested"
+        } else {
+            "logit"
+        }
     );
+    if model == Model::Nested {
+        for (alts, name, _) in NESTS {
+            let members: Vec<String> = alts.iter().map(|&a| format!("\"{}\"", ALTS[a])).collect();
+            let nest = name.trim_start_matches("lambda_");
+            let _ = writeln!(
+                s,
+                "[[nest]]\nname = \"{nest}\"\nalternatives = [{}]\n",
+                members.join(", ")
+            );
+        }
+    }
     for (j, a) in ALTS.iter().enumerate() {
         let _ = writeln!(s, "[alternatives.{a}]\ncode = {}\n", j + 1);
     }
@@ -187,6 +216,43 @@ fn draw(rng: &mut Rng, low: f64, high: f64, decimals: u32) -> (f64, i64) {
     (scaled as f64 / p, scaled)
 }
 
+/// The alternative of `range` with the largest V/scale plus a Gumbel draw.
+fn pick(rng: &mut Rng, v: &[f64], scale: f64, range: impl Iterator<Item = usize>) -> usize {
+    let mut best = 0;
+    let mut best_u = f64::NEG_INFINITY;
+    for j in range {
+        let u = v[j] / scale + rng.gumbel();
+        if u > best_u {
+            best_u = u;
+            best = j;
+        }
+    }
+    best
+}
+
+/// A draw from the nested model in its two stages: the group (a1 alone, then
+/// the nests) by l I + Gumbel, I the log of the sum of exp(V/l) over the group,
+/// then the alternative within it by V/l + Gumbel.
+fn pick_nested(rng: &mut Rng, v: &[f64]) -> usize {
+    let groups: [(&[usize], f64); 3] = [
+        (&[0], 1.0),
+        (NESTS[0].0, NESTS[0].2),
+        (NESTS[1].0, NESTS[1].2),
+    ];
+    let mut best = 0;
+    let mut best_u = f64::NEG_INFINITY;
+    for (g, (alts, l)) in groups.iter().enumerate() {
+        let iv = alts.iter().map(|&a| (v[a] / l).exp()).sum::<f64>().ln();
+        let u = l * iv + rng.gumbel();
+        if u > best_u {
+            best_u = u;
+            best = g;
+        }
+    }
+    let (alts, l) = groups[best];
+    pick(rng, v, l, alts.iter().copied())
+}
+
 /// Writes `n` simulated situations as a wide CSV, one row at a time (nothing of size n is held).
 pub fn write_data(path: &Path, model: Model, n: usize) -> Result<()> {
     let file = std::fs::File::create(path).map_err(|e| Error::io(path, e))?;
@@ -216,22 +282,20 @@ pub fn write_data(path: &Path, model: Model, n: usize) -> Result<()> {
                 xs[a * ALTS.len() + j] = s;
             }
         }
-        let mut best = 0;
-        let mut best_u = f64::NEG_INFINITY;
-        for j in 0..ALTS.len() {
-            let mut v = 0.0;
+        let mut v = [0.0; ALTS.len()];
+        for (j, vj) in v.iter_mut().enumerate() {
             if j > 0 {
-                v += ASC[j - 1] + INCOME[j - 1] * income + AGE[j - 1] * age;
+                *vj += ASC[j - 1] + INCOME[j - 1] * income + AGE[j - 1] * age;
             }
             for (a, at) in attrs.iter().enumerate() {
-                v += at.beta * x[a * ALTS.len() + j];
-            }
-            let u = v + rng.gumbel();
-            if u > best_u {
-                best_u = u;
-                best = j;
+                *vj += at.beta * x[a * ALTS.len() + j];
             }
         }
+        let best = if model == Model::Nested {
+            pick_nested(&mut rng, &v)
+        } else {
+            pick(&mut rng, &v, 1.0, 0..ALTS.len())
+        };
         line.clear();
         let _ = write!(line, "{},{},", i + 1, best + 1);
         push_fixed(&mut line, income_s, 1);
@@ -527,6 +591,18 @@ fn measure(args: &Options, spec_path: &Path, generate_s: f64) -> Result<ExitCode
         hess_t.push(t.elapsed().as_secs_f64());
         std::hint::black_box(e.ll);
     }
+    // The same pass of the simpler family the model reduces to (the logit for
+    // a nested model), on the same data and parameters.
+    let simpler = family.simpler();
+    let simpler_s = simpler.as_ref().map(|f| {
+        let mut t = Vec::new();
+        for _ in 0..reps {
+            let start = Instant::now();
+            std::hint::black_box(f.evaluate(d, beta, true, false).ll);
+            t.push(start.elapsed().as_secs_f64());
+        }
+        median(t)
+    });
     let mut stream_t = Vec::new();
     for _ in 0..reps {
         let t = Instant::now();
@@ -668,6 +744,10 @@ fn measure(args: &Options, spec_path: &Path, generate_s: f64) -> Result<ExitCode
         "max_abs_z_vs_truth": max_z,
         "estimates": fit_rows,
     });
+    let mut doc = doc;
+    doc["simpler_family"] = json!(simpler.as_ref().map(|f| f.name()));
+    doc["simpler_pass_seconds"] = json!(simpler_s);
+    doc["pass_over_simpler"] = json!(simpler_s.map(|x| pass_s / x));
     if args.json {
         println!("{}", serde_json::to_string_pretty(&doc).unwrap_or_default());
         return Ok(ExitCode::SUCCESS);
@@ -715,7 +795,14 @@ fn measure(args: &Options, spec_path: &Path, generate_s: f64) -> Result<ExitCode
             "likelihood + gradient pass",
             format!("{}  (median of {reps})", ms(pass_s)),
         ),
-        ("likelihood + gradient + Hessian", ms(hess_s)),
+        (
+            if family.abilities().analytic_hessian {
+                "likelihood + gradient + Hessian"
+            } else {
+                "likelihood + gradient (no analytic Hessian)"
+            },
+            ms(hess_s),
+        ),
         (
             "stream the pass's bytes once",
             format!(
@@ -744,6 +831,20 @@ fn measure(args: &Options, spec_path: &Path, generate_s: f64) -> Result<ExitCode
         ),
     ];
     let mut rows = rows;
+    if let (Some(f), Some(x)) = (&simpler, simpler_s) {
+        rows.insert(
+            rows.len() - 2,
+            (
+                "pass of the simpler family",
+                format!(
+                    "{}  ({}, same data; this family's pass is {:.2}x it)",
+                    ms(x),
+                    f.name(),
+                    pass_s / x
+                ),
+            ),
+        );
+    }
     for (label, p) in [
         ("`sharecast fit --no-analysis`", process),
         ("`sharecast fit` (with analysis)", process_analysis),

@@ -16,6 +16,8 @@ pub enum BenchModel {
     Full,
     /// 4 constants and the 2 characteristics only: 12 parameters.
     Characteristics,
+    /// The full model as a nested logit (two nests of two): 17 parameters.
+    Nested,
 }
 
 #[derive(Args, Debug)]
@@ -57,6 +59,7 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
         model: match args.model {
             BenchModel::Full => bench::Model::Full,
             BenchModel::Characteristics => bench::Model::Characteristics,
+            BenchModel::Nested => bench::Model::Nested,
         },
         keep: args.keep,
         write_only: args.write_only,

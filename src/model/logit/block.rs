@@ -6,37 +6,37 @@
 use super::*;
 
 /// Situations per block of the logit pass.
-pub(super) const BLOCK: usize = 128;
+pub(crate) const BLOCK: usize = 128;
 
 /// The design at one `beta`, laid out for the logit pass. Values are indexed
 /// by a coordinate `d`: 0 is the constant 1, then the attributes the features
 /// read, then the characteristics.
-pub(super) struct Plan<'a> {
-    pub(super) obs: &'a Observations,
-    pub(super) j: usize,
-    pub(super) k: usize,
-    pub(super) attrs: Vec<&'a [f64]>,
-    pub(super) chars: Vec<&'a [f64]>,
+pub(crate) struct Plan<'a> {
+    pub(crate) obs: &'a Observations,
+    pub(crate) j: usize,
+    pub(crate) k: usize,
+    pub(crate) attrs: Vec<&'a [f64]>,
+    pub(crate) chars: Vec<&'a [f64]>,
     /// Coefficient of coordinate `d` in alternative `a`'s utility, repeated over a
     /// block: `tiles[d][t] = theta(d, t % J)` for `t < BLOCK * J`.
-    pub(super) tiles: Vec<Vec<f64>>,
+    pub(crate) tiles: Vec<Vec<f64>>,
     /// Every feature as (parameter, alternative, coordinate).
-    pub(super) feats: Vec<(usize, usize, usize)>,
+    pub(crate) feats: Vec<(usize, usize, usize)>,
     /// The sums of w p_a u_d u_d' the Hessian needs, one per (alternative a,
     /// coordinates d <= d'), each with the cells of the K x K Hessian (upper
     /// triangle) it enters.
-    pub(super) hess_terms: Vec<HessTerm>,
+    pub(crate) hess_terms: Vec<HessTerm>,
 }
 
-pub(super) struct HessTerm {
-    pub(super) alt: usize,
-    pub(super) d1: usize,
-    pub(super) d2: usize,
-    pub(super) cells: Vec<usize>,
+pub(crate) struct HessTerm {
+    pub(crate) alt: usize,
+    pub(crate) d1: usize,
+    pub(crate) d2: usize,
+    pub(crate) cells: Vec<usize>,
 }
 
 impl<'a> Plan<'a> {
-    pub(super) fn new(d: &'a Design, beta: &[f64]) -> Plan<'a> {
+    pub(crate) fn new(d: &'a Design, beta: &[f64]) -> Plan<'a> {
         let obs = &*d.obs;
         let j = obs.alternatives;
         let mut attr_ids: Vec<usize> = Vec::new();
@@ -112,16 +112,16 @@ impl<'a> Plan<'a> {
         }
     }
 
-    pub(super) fn dims(&self) -> usize {
+    pub(crate) fn dims(&self) -> usize {
         self.tiles.len()
     }
 }
 
 /// Copies interleaved `src[b * J + a]` into rows `dst[a][b]` (b < nb).
 #[inline(always)]
-pub(super) fn to_rows(src: &[f64], dst: &mut [[f64; BLOCK]], j: usize, nb: usize) {
+pub(crate) fn to_rows(src: &[f64], dst: &mut [[f64; BLOCK]], j: usize, nb: usize) {
     #[inline(always)]
-    pub(super) fn fixed<const J: usize>(src: &[f64], dst: &mut [[f64; BLOCK]], nb: usize) {
+    pub(crate) fn fixed<const J: usize>(src: &[f64], dst: &mut [[f64; BLOCK]], nb: usize) {
         let dst = &mut dst[..J];
         for (b, c) in src[..nb * J].chunks_exact(J).take(BLOCK).enumerate() {
             for a in 0..J {
@@ -149,9 +149,9 @@ pub(super) fn to_rows(src: &[f64], dst: &mut [[f64; BLOCK]], j: usize, nb: usize
 
 /// Copies rows `src[a][b]` into interleaved `dst[b * J + a]` (b < nb).
 #[inline(always)]
-pub(super) fn from_rows(src: &[[f64; BLOCK]], dst: &mut [f64], j: usize, nb: usize) {
+pub(crate) fn from_rows(src: &[[f64; BLOCK]], dst: &mut [f64], j: usize, nb: usize) {
     #[inline(always)]
-    pub(super) fn fixed<const J: usize>(src: &[[f64; BLOCK]], dst: &mut [f64], nb: usize) {
+    pub(crate) fn fixed<const J: usize>(src: &[[f64; BLOCK]], dst: &mut [f64], nb: usize) {
         let src = &src[..J];
         for (b, c) in dst[..nb * J].chunks_exact_mut(J).take(BLOCK).enumerate() {
             for a in 0..J {
@@ -181,23 +181,23 @@ pub(super) fn from_rows(src: &[[f64; BLOCK]], dst: &mut [f64], j: usize, nb: usi
 /// `[b * J + j]` like the data; the per-situation steps (constants and
 /// characteristics, largest utility, exponentials, denominators, residuals)
 /// work on rows `[j][b]`, so that they too run over contiguous situations.
-pub(super) struct Block {
+pub(crate) struct Block {
     /// Attribute part of the utilities (-inf where unavailable), and weighted
     /// residuals: interleaved.
-    pub(super) v: Vec<f64>,
-    pub(super) r: Vec<f64>,
+    pub(crate) v: Vec<f64>,
+    pub(crate) r: Vec<f64>,
     /// Utilities, then probabilities, then weighted residuals, as rows.
-    pub(super) rows: Vec<[f64; BLOCK]>,
+    pub(crate) rows: Vec<[f64; BLOCK]>,
     /// Per situation: largest available utility, chosen utility, log of the
     /// denominator, and the denominator (then its inverse).
-    pub(super) m: [f64; BLOCK],
-    pub(super) vc: [f64; BLOCK],
-    pub(super) lse: [f64; BLOCK],
-    pub(super) sum: [f64; BLOCK],
+    pub(crate) m: [f64; BLOCK],
+    pub(crate) vc: [f64; BLOCK],
+    pub(crate) lse: [f64; BLOCK],
+    pub(crate) sum: [f64; BLOCK],
 }
 
 impl Block {
-    pub(super) fn new(plan: &Plan) -> Block {
+    pub(crate) fn new(plan: &Plan) -> Block {
         let l = BLOCK * plan.j;
         Block {
             v: vec![0.0; l],
@@ -210,9 +210,10 @@ impl Block {
         }
     }
 
-    /// Utilities, probabilities (as rows) and log-denominators of situations `i0..i0 + nb`.
+    /// Utilities of situations `i0..i0 + nb` as rows (-inf where unavailable),
+    /// and each one's chosen utility in `vc`.
     #[inline(always)]
-    pub(super) fn fill<const F: bool>(&mut self, plan: &Plan, i0: usize, nb: usize) {
+    pub(crate) fn utilities<const F: bool>(&mut self, plan: &Plan, i0: usize, nb: usize) {
         let j = plan.j;
         let l = nb * j;
         let base = i0 * j;
@@ -247,6 +248,12 @@ impl Block {
         for (b, c) in ch.iter().enumerate() {
             self.vc[b] = self.rows[*c as usize][b];
         }
+    }
+
+    /// Utilities, probabilities (as rows) and log-denominators of situations `i0..i0 + nb`.
+    #[inline(always)]
+    pub(crate) fn fill<const F: bool>(&mut self, plan: &Plan, i0: usize, nb: usize) {
+        self.utilities::<F>(plan, i0, nb);
         let m = &mut self.m[..nb];
         m.iter_mut().for_each(|x| *x = f64::NEG_INFINITY);
         for row in self.rows.iter() {
@@ -280,7 +287,7 @@ impl Block {
     /// Weighted residuals w (1[j chosen] - p_j) of the block, as rows in place of
     /// the probabilities, and interleaved into `r` if `interleaved`.
     #[inline(always)]
-    pub(super) fn residuals(&mut self, plan: &Plan, i0: usize, nb: usize, interleaved: bool) {
+    pub(crate) fn residuals(&mut self, plan: &Plan, i0: usize, nb: usize, interleaved: bool) {
         let w = &plan.obs.weight[i0..i0 + nb];
         let ch = &plan.obs.chosen[i0..i0 + nb];
         for (a, row) in self.rows.iter_mut().enumerate() {
@@ -297,7 +304,7 @@ impl Block {
 
 /// Dot product with two vectors of four running sums (so that it vectorises).
 #[inline(always)]
-pub(super) fn dot<const F: bool>(a: &[f64], b: &[f64]) -> f64 {
+pub(crate) fn dot<const F: bool>(a: &[f64], b: &[f64]) -> f64 {
     let mut s0 = [0.0f64; 4];
     let mut s1 = [0.0f64; 4];
     let ca = a.chunks_exact(8);
@@ -317,22 +324,22 @@ pub(super) fn dot<const F: bool>(a: &[f64], b: &[f64]) -> f64 {
 }
 
 /// Buffers for the Hessian part of the logit pass, all as rows `[a][b]`.
-pub(super) struct HessBlock {
+pub(crate) struct HessBlock {
     /// Probabilities.
-    pub(super) p: Vec<[f64; BLOCK]>,
+    pub(crate) p: Vec<[f64; BLOCK]>,
     /// Each attribute's values, `[attr][a]`.
-    pub(super) x: Vec<Vec<[f64; BLOCK]>>,
+    pub(crate) x: Vec<Vec<[f64; BLOCK]>>,
     /// p times each coordinate's value, `[d][a]`.
-    pub(super) pu: Vec<Vec<[f64; BLOCK]>>,
+    pub(crate) pu: Vec<Vec<[f64; BLOCK]>>,
     /// Per parameter, the probability-weighted mean of its variable in each situation.
-    pub(super) xbar: Vec<[f64; BLOCK]>,
+    pub(crate) xbar: Vec<[f64; BLOCK]>,
     /// The same times the situation's weight.
-    pub(super) wxbar: Vec<[f64; BLOCK]>,
-    pub(super) ones: [f64; BLOCK],
+    pub(crate) wxbar: Vec<[f64; BLOCK]>,
+    pub(crate) ones: [f64; BLOCK],
 }
 
 impl HessBlock {
-    pub(super) fn new(plan: &Plan) -> HessBlock {
+    pub(crate) fn new(plan: &Plan) -> HessBlock {
         let rows = || vec![[0.0; BLOCK]; plan.j];
         HessBlock {
             p: rows(),
@@ -346,7 +353,7 @@ impl HessBlock {
 
     /// Values of coordinate `d` in alternative `a` over the block's situations.
     #[inline(always)]
-    pub(super) fn u<'s>(
+    pub(crate) fn u<'s>(
         &'s self,
         plan: &'s Plan,
         i0: usize,
@@ -366,7 +373,7 @@ impl HessBlock {
 
     /// Adds the block's Hessian sums (probabilities already in `p`).
     #[inline(always)]
-    pub(super) fn add<const F: bool>(
+    pub(crate) fn add<const F: bool>(
         &mut self,
         plan: &Plan,
         i0: usize,
@@ -422,20 +429,20 @@ impl HessBlock {
 }
 
 /// One thread's sums over its situations.
-pub(super) struct LogitAcc {
-    pub(super) ll: Compensated,
+pub(crate) struct LogitAcc {
+    pub(crate) ll: Compensated,
     /// Gradient per coordinate over block positions, `[d][t]`: attributes
     /// interleaved (`t = b * J + a`), the constant and characteristics as rows
     /// (`t = a * BLOCK + b`).
-    pub(super) g: Vec<Vec<f64>>,
+    pub(crate) g: Vec<Vec<f64>>,
     /// The Hessian's sums of w p u u' per term over the block's situations.
-    pub(super) s: Vec<[f64; BLOCK]>,
+    pub(crate) s: Vec<[f64; BLOCK]>,
     /// The x-bar outer products, K x K upper triangle.
-    pub(super) outer: Vec<f64>,
+    pub(crate) outer: Vec<f64>,
 }
 
 #[inline(always)]
-pub(super) fn logit_chunk_body<const F: bool>(
+pub(crate) fn logit_chunk_body<const F: bool>(
     plan: &Plan,
     range: std::ops::Range<usize>,
     want_grad: bool,
@@ -520,7 +527,7 @@ pub(super) fn logit_chunk_body<const F: bool>(
 
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2,fma")]
-pub(super) fn logit_chunk_avx2(
+pub(crate) fn logit_chunk_avx2(
     plan: &Plan,
     range: std::ops::Range<usize>,
     want_grad: bool,
@@ -531,7 +538,7 @@ pub(super) fn logit_chunk_avx2(
 
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx512f,avx2,fma")]
-pub(super) fn logit_chunk_avx512(
+pub(crate) fn logit_chunk_avx512(
     plan: &Plan,
     range: std::ops::Range<usize>,
     want_grad: bool,
@@ -541,7 +548,7 @@ pub(super) fn logit_chunk_avx512(
 }
 
 /// Whether the processor has AVX2 and FMA (the logit pass then uses them).
-pub(super) fn fast_path() -> bool {
+pub(crate) fn fast_path() -> bool {
     #[cfg(target_arch = "x86_64")]
     {
         std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma")
@@ -553,7 +560,7 @@ pub(super) fn fast_path() -> bool {
 }
 
 /// Whether the processor also has AVX-512.
-pub(super) fn wide_path() -> bool {
+pub(crate) fn wide_path() -> bool {
     #[cfg(target_arch = "x86_64")]
     {
         fast_path() && std::arch::is_x86_feature_detected!("avx512f")
@@ -566,7 +573,7 @@ pub(super) fn wide_path() -> bool {
 
 /// The logit sums over `range`, with AVX2 vectors and fused multiply-adds
 /// where the processor has them.
-pub(super) fn logit_chunk(
+pub(crate) fn logit_chunk(
     plan: &Plan,
     range: std::ops::Range<usize>,
     want_grad: bool,

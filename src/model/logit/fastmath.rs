@@ -29,7 +29,7 @@ impl Compensated {
 
 /// a * b + c, fused into one rounding when `F` (the processor has FMA).
 #[inline(always)]
-pub(super) fn madd<const F: bool>(a: f64, b: f64, c: f64) -> f64 {
+pub(crate) fn madd<const F: bool>(a: f64, b: f64, c: f64) -> f64 {
     if F {
         a.mul_add(b, c)
     } else {
@@ -42,7 +42,7 @@ pub(super) fn madd<const F: bool>(a: f64, b: f64, c: f64) -> f64 {
 /// Taylor polynomial of degree 13 (truncation below 1e-17), 2^n from the
 /// exponent bits. Within two ulps of the correctly rounded value.
 #[inline(always)]
-pub(super) fn exp_nonpositive<const F: bool>(x: f64) -> f64 {
+pub(crate) fn exp_nonpositive<const F: bool>(x: f64) -> f64 {
     const LOG2E: f64 = std::f64::consts::LOG2_E;
     // ln 2 split so that n * LN2_HI is exact for |n| < 2^20.
     const LN2_HI: f64 = 0.693_147_180_369_123_8;
@@ -88,7 +88,7 @@ pub(super) fn exp_nonpositive<const F: bool>(x: f64) -> f64 {
 /// z = (m - 1) / (m + 1), |z| <= 0.172, by its series to z^21 (truncation
 /// below 3e-17). Within two ulps of the correctly rounded value.
 #[inline(always)]
-pub(super) fn ln_positive<const F: bool>(s: f64) -> f64 {
+pub(crate) fn ln_positive<const F: bool>(s: f64) -> f64 {
     const LN2_HI: f64 = 0.693_147_180_369_123_8;
     const LN2_LO: f64 = 1.908_214_929_270_587_7e-10;
     const MANTISSA: u64 = (1u64 << 52) - 1;

@@ -27,8 +27,8 @@ use crate::spec::{FamilyParameter, FamilyRules, Spec, SpecView};
 
 use super::{Abilities, Eval, Family};
 
-mod block;
-mod fastmath;
+pub(crate) mod block;
+pub(crate) mod fastmath;
 
 use block::*;
 pub(crate) use fastmath::Compensated;

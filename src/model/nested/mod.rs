@@ -7,7 +7,8 @@
 //! `rules` checks `[[nest]]`, `pass` has the log-likelihood and its analytic
 //! gradient; the Hessian is differenced (`model::hessian`).
 
-mod pass;
+mod block;
+pub(crate) mod pass;
 mod rules;
 mod warnings;
 
@@ -304,5 +305,112 @@ impl Family for Nested {
 
     fn caution(&self, _spec: &Spec) -> Option<String> {
         Some("Nested logit assumes independence from irrelevant alternatives within each nest and between nests; substitution is stronger within a nest the further its scale lies below 1.".to_string())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::data::Observations;
+    use crate::design::{Feature, Value};
+    use crate::rng::Rng;
+    use std::sync::Arc;
+
+    /// A random design of `j` alternatives: constants, a shared attribute, a characteristic.
+    fn design(n: usize, j: usize, seed: u64) -> Design {
+        let mut rng = Rng::new(seed);
+        let mut available = vec![true; n * j];
+        let mut chosen = Vec::new();
+        for i in 0..n {
+            for a in 1..j {
+                available[i * j + a] = rng.uniform() > 0.25;
+            }
+            let open: Vec<usize> = (0..j).filter(|&a| available[i * j + a]).collect();
+            chosen.push(open[rng.below(open.len())] as u32);
+        }
+        let x: Vec<f64> = (0..n * j).map(|_| 3.0 * rng.normal()).collect();
+        let z: Vec<f64> = (0..n).map(|_| 20.0 + 5.0 * rng.normal()).collect();
+        let weight: Vec<f64> = (0..n).map(|_| 0.5 + rng.uniform()).collect();
+        let mut features = vec![Vec::new(); j];
+        let mut k = 0;
+        for f in features.iter_mut().skip(1) {
+            f.push(Feature {
+                param: k,
+                value: Value::One,
+            });
+            f.push(Feature {
+                param: k + 1,
+                value: Value::Characteristic(0),
+            });
+            k += 2;
+        }
+        for f in features.iter_mut() {
+            f.push(Feature {
+                param: k,
+                value: Value::Attribute(0),
+            });
+        }
+        k += 1;
+        let obs = Observations {
+            situations: n,
+            alternatives: j,
+            chosen,
+            available,
+            weight_total: weight.iter().sum(),
+            weight,
+            group: None,
+            groups: 0,
+            attributes: vec![x],
+            characteristics: vec![z],
+            first_row: (1..=n).collect(),
+        };
+        // Two scale parameters after the linear ones.
+        Design {
+            obs: Arc::new(obs),
+            params: k + 2,
+            features,
+        }
+    }
+
+    #[test]
+    fn the_blocked_pass_equals_the_per_situation_one() {
+        for (n, j) in [(1, 3), (300, 5), (517, 4), (260, 9)] {
+            let d = design(n, j, 70 + n as u64);
+            let k = d.params;
+            let mid = j / 2;
+            let m = Nested {
+                group_of: (0..j)
+                    .map(|a| {
+                        if a == 0 {
+                            2
+                        } else if a <= mid {
+                            0
+                        } else {
+                            1
+                        }
+                    })
+                    .collect(),
+                members: vec![(1..=mid).collect(), (mid + 1..j).collect(), vec![0]],
+                scale: vec![Some(k - 2), Some(k - 1), None],
+                nests: vec!["p".into(), "q".into()],
+            };
+            let mut rng = Rng::new(3);
+            let mut beta: Vec<f64> = (0..k).map(|_| 0.1 * rng.normal()).collect();
+            beta[k - 2] = 0.45;
+            beta[k - 1] = 0.8;
+            let fast = pass::evaluate(&m, &d, &beta, true);
+            let slow = pass::evaluate_reference(&m, &d, &beta, true);
+            let close = |a: f64, b: f64, s: f64| (a - b).abs() <= 1e-10 * s.max(1.0);
+            assert!(
+                close(fast.ll, slow.ll, slow.ll.abs()),
+                "n {n} j {j}: {} vs {}",
+                fast.ll,
+                slow.ll
+            );
+            let gs = slow.grad.iter().fold(0.0f64, |a, x| a.max(x.abs()));
+            for (q, (a, b)) in fast.grad.iter().zip(&slow.grad).enumerate() {
+                assert!(close(*a, *b, gs), "n {n} j {j}: gradient {q}: {a} vs {b}");
+            }
+        }
     }
 }

@@ -10,7 +10,7 @@
 //! c's group, I_g - V_c/l^2 - (l - 1) Vbar_g/l^2.
 
 use super::{Nested, Work};
-use crate::design::{on_pieces, Design};
+use crate::design::Design;
 use crate::model::logit::Compensated;
 use crate::model::Eval;
 
@@ -84,7 +84,8 @@ fn situation(
 }
 
 /// One pass: log-likelihood and, if asked, its gradient at `beta`. A scale at
-/// or below zero gives a log-likelihood of -inf (outside the model).
+/// or below zero gives a log-likelihood of -inf (outside the model). The
+/// blocked pass does the work; this per-situation one is its reference.
 pub fn evaluate(m: &Nested, d: &Design, beta: &[f64], want_grad: bool) -> Eval {
     let k = d.params;
     if !m.scales_valid(beta) {
@@ -94,7 +95,14 @@ pub fn evaluate(m: &Nested, d: &Design, beta: &[f64], want_grad: bool) -> Eval {
             hess: None,
         };
     }
-    let parts = on_pieces(d.situations(), |r| {
+    super::block::evaluate(m, d, beta, want_grad)
+}
+
+/// The same pass situation by situation (the blocked pass's reference in tests).
+#[cfg(test)]
+pub fn evaluate_reference(m: &Nested, d: &Design, beta: &[f64], want_grad: bool) -> Eval {
+    let k = d.params;
+    let parts = crate::design::on_pieces(d.situations(), |r| {
         let mut s = Scratch::new(m, d);
         let mut g = vec![0.0; if want_grad { k } else { 0 }];
         for i in r {

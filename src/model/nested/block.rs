@@ -1,0 +1,312 @@
+//! The nested logit's blocked pass: the logit pass's utilities over blocks of
+//! situations (rows per alternative, vectorised), the nest quantities row by
+//! row with the fast `exp` and `ln`, then the logit's gradient accumulation
+//! on the nested residuals w d ln P_c / dV_j, and the scales' gradients.
+//! The per-situation code in `pass` stays as the reference it is tested against.
+
+use super::Nested;
+use crate::design::{on_pieces, Design};
+use crate::model::logit::block::{from_rows, Block, Plan, BLOCK};
+use crate::model::logit::fastmath::{exp_nonpositive, ln_positive, madd, Compensated};
+use crate::model::Eval;
+
+/// One piece's sums.
+struct Acc {
+    ll: Compensated,
+    /// As the logit's: per coordinate over block positions.
+    g: Vec<Vec<f64>>,
+    /// Per group: the gradient of its scale.
+    lam: Vec<f64>,
+}
+
+/// Row buffers per group and per alternative.
+struct Rows {
+    max: Vec<[f64; BLOCK]>,
+    lns: Vec<[f64; BLOCK]>,
+    a: Vec<[f64; BLOCK]>,
+    q: Vec<[f64; BLOCK]>,
+    vbar: Vec<[f64; BLOCK]>,
+    cond: Vec<[f64; BLOCK]>,
+    v: Vec<[f64; BLOCK]>,
+    logd: [f64; BLOCK],
+}
+
+impl Rows {
+    fn new(groups: usize, j: usize) -> Rows {
+        Rows {
+            max: vec![[0.0; BLOCK]; groups],
+            lns: vec![[0.0; BLOCK]; groups],
+            a: vec![[0.0; BLOCK]; groups],
+            q: vec![[0.0; BLOCK]; groups],
+            vbar: vec![[0.0; BLOCK]; groups],
+            cond: vec![[0.0; BLOCK]; j],
+            v: vec![[0.0; BLOCK]; j],
+            logd: [0.0; BLOCK],
+        }
+    }
+}
+
+/// The nest quantities of a block from its utility rows `blk.rows`.
+#[inline(always)]
+fn nests<const F: bool>(m: &Nested, lam: &[f64], blk: &Block, r: &mut Rows, nb: usize) {
+    for (a, row) in blk.rows.iter().enumerate() {
+        r.v[a][..nb].copy_from_slice(&row[..nb]);
+    }
+    let mut top = [f64::NEG_INFINITY; BLOCK];
+    for (g, alts) in m.members.iter().enumerate() {
+        let inv = 1.0 / lam[g];
+        let mx = &mut r.max[g];
+        mx[..nb].iter_mut().for_each(|x| *x = f64::NEG_INFINITY);
+        for &a in alts {
+            for (x, v) in mx[..nb].iter_mut().zip(&r.v[a][..nb]) {
+                *x = if *v > *x { *v } else { *x };
+            }
+        }
+        let mut sum = [0.0; BLOCK];
+        for &a in alts {
+            let c = &mut r.cond[a];
+            for ((e, v), mxb) in c[..nb].iter_mut().zip(&r.v[a][..nb]).zip(&mx[..nb]) {
+                // An empty group (max -inf) gives 0, not NaN.
+                let d = if *v > f64::NEG_INFINITY {
+                    (v - mxb) * inv
+                } else {
+                    f64::NEG_INFINITY
+                };
+                *e = exp_nonpositive::<F>(d);
+            }
+            for (s, e) in sum[..nb].iter_mut().zip(&c[..nb]) {
+                *s += e;
+            }
+        }
+        let vbar = &mut r.vbar[g];
+        vbar[..nb].iter_mut().for_each(|x| *x = 0.0);
+        for &a in alts {
+            let c = &mut r.cond[a];
+            for (((e, s), vb), v) in c[..nb]
+                .iter_mut()
+                .zip(&sum[..nb])
+                .zip(vbar[..nb].iter_mut())
+                .zip(&r.v[a][..nb])
+            {
+                *e = if *s > 0.0 { *e / s } else { 0.0 };
+                *vb += if *e > 0.0 { *e * v } else { 0.0 };
+            }
+        }
+        for b in 0..nb {
+            let empty = sum[b] <= 0.0;
+            let lns = if empty { 0.0 } else { ln_positive::<F>(sum[b]) };
+            r.lns[g][b] = lns;
+            r.a[g][b] = if empty {
+                f64::NEG_INFINITY
+            } else {
+                madd::<F>(lam[g], lns, mx[b])
+            };
+            top[b] = if r.a[g][b] > top[b] {
+                r.a[g][b]
+            } else {
+                top[b]
+            };
+        }
+    }
+    let mut d = [0.0; BLOCK];
+    for ag in r.a.iter().take(m.members.len()) {
+        for ((db, a), t) in d[..nb].iter_mut().zip(&ag[..nb]).zip(&top[..nb]) {
+            *db += exp_nonpositive::<F>(a - t);
+        }
+    }
+    for b in 0..nb {
+        r.logd[b] = top[b] + ln_positive::<F>(d[b]);
+    }
+    for g in 0..m.members.len() {
+        for b in 0..nb {
+            r.q[g][b] = exp_nonpositive::<F>(r.a[g][b] - r.logd[b]);
+        }
+    }
+}
+
+/// Residual rows w d ln P_c / dV_a of a block, in place of its utilities, and
+/// the scales' gradients added to `glam`.
+#[inline(always)]
+fn residuals(
+    m: &Nested,
+    lam: &[f64],
+    blk: &mut Block,
+    r: &Rows,
+    w: &[f64],
+    ch: &[u32],
+    glam: &mut [f64],
+) {
+    let nb = w.len();
+    for (g, alts) in m.members.iter().enumerate() {
+        for &a in alts {
+            let row = &mut blk.rows[a];
+            for b in 0..nb {
+                row[b] = -w[b] * r.q[g][b] * r.cond[a][b];
+            }
+        }
+    }
+    for b in 0..nb {
+        let c = ch[b] as usize;
+        let gc = m.group_of[c];
+        let l = lam[gc];
+        blk.rows[c][b] += w[b] / l;
+        if l != 1.0 {
+            for &a in &m.members[gc] {
+                blk.rows[a][b] += w[b] * (l - 1.0) / l * r.cond[a][b];
+            }
+        }
+        for (g, (scale, &lg)) in m.scale.iter().zip(lam).enumerate() {
+            if scale.is_none() || r.q[g][b] <= 0.0 {
+                continue;
+            }
+            let iv = r.max[g][b] / lg + r.lns[g][b];
+            let mut d = -r.q[g][b] * (iv - r.vbar[g][b] / lg);
+            if g == gc {
+                d += iv - r.v[c][b] / (lg * lg) - (lg - 1.0) * r.vbar[g][b] / (lg * lg);
+            }
+            glam[g] += w[b] * d;
+        }
+    }
+}
+
+#[inline(always)]
+fn chunk_body<const F: bool>(
+    m: &Nested,
+    plan: &Plan,
+    lam: &[f64],
+    range: std::ops::Range<usize>,
+    want_grad: bool,
+) -> Acc {
+    let j = plan.j;
+    let groups = m.members.len();
+    let obs = plan.obs;
+    let mut acc = Acc {
+        ll: Compensated::default(),
+        g: if want_grad {
+            vec![vec![0.0; BLOCK * j]; plan.dims()]
+        } else {
+            Vec::new()
+        },
+        lam: vec![0.0; groups],
+    };
+    let mut blk = Block::new(plan);
+    let mut r = Rows::new(groups, j);
+    let na = plan.attrs.len();
+    let mut i0 = range.start;
+    while i0 < range.end {
+        let nb = BLOCK.min(range.end - i0);
+        blk.utilities::<F>(plan, i0, nb);
+        nests::<F>(m, lam, &blk, &mut r, nb);
+        let w = &obs.weight[i0..i0 + nb];
+        let ch = &obs.chosen[i0..i0 + nb];
+        let mut ll = 0.0;
+        for b in 0..nb {
+            let c = ch[b] as usize;
+            let g = m.group_of[c];
+            let within = (r.v[c][b] - r.max[g][b]) / lam[g] - r.lns[g][b];
+            ll += w[b] * (r.a[g][b] - r.logd[b] + within);
+        }
+        acc.ll.add(ll);
+        if want_grad {
+            residuals(m, lam, &mut blk, &r, w, ch, &mut acc.lam);
+            for (a, row) in blk.rows.iter().enumerate() {
+                let row = &row[..nb];
+                let g = &mut acc.g[0][a * BLOCK..a * BLOCK + nb];
+                for (g, ri) in g.iter_mut().zip(row) {
+                    *g += ri;
+                }
+                for (c, z) in plan.chars.iter().enumerate() {
+                    let g = &mut acc.g[1 + na + c][a * BLOCK..a * BLOCK + nb];
+                    for ((g, ri), zi) in g.iter_mut().zip(row).zip(&z[i0..i0 + nb]) {
+                        *g = madd::<F>(*ri, *zi, *g);
+                    }
+                }
+            }
+            if na > 0 {
+                from_rows(&blk.rows, &mut blk.r, j, nb);
+                let lb = nb * j;
+                for (a, x) in plan.attrs.iter().enumerate() {
+                    let x = &x[i0 * j..i0 * j + lb];
+                    for ((g, ri), xi) in acc.g[1 + a][..lb].iter_mut().zip(&blk.r[..lb]).zip(x) {
+                        *g = madd::<F>(*ri, *xi, *g);
+                    }
+                }
+            }
+        }
+        i0 += nb;
+    }
+    acc
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+fn chunk_avx2(
+    m: &Nested,
+    plan: &Plan,
+    lam: &[f64],
+    range: std::ops::Range<usize>,
+    want_grad: bool,
+) -> Acc {
+    chunk_body::<true>(m, plan, lam, range, want_grad)
+}
+
+fn chunk(
+    m: &Nested,
+    plan: &Plan,
+    lam: &[f64],
+    range: std::ops::Range<usize>,
+    want_grad: bool,
+) -> Acc {
+    #[cfg(target_arch = "x86_64")]
+    {
+        if crate::model::logit::block::fast_path() {
+            // SAFETY: the processor supports AVX2 and FMA, checked just above.
+            return unsafe { chunk_avx2(m, plan, lam, range, want_grad) };
+        }
+    }
+    chunk_body::<false>(m, plan, lam, range, want_grad)
+}
+
+/// One blocked pass: log-likelihood and, if asked, its gradient (scales valid).
+pub fn evaluate(m: &Nested, d: &Design, beta: &[f64], want_grad: bool) -> Eval {
+    let k = d.params;
+    let j = d.alternatives();
+    let lam: Vec<f64> = m
+        .scale
+        .iter()
+        .map(|s| s.map(|p| beta[p]).unwrap_or(1.0))
+        .collect();
+    let plan = Plan::new(d, beta);
+    let parts = on_pieces(d.situations(), |r| chunk(m, &plan, &lam, r, want_grad));
+    let mut ll = Compensated::default();
+    let mut gtheta = vec![0.0; plan.dims() * j];
+    let mut glam = vec![0.0; lam.len()];
+    let na = plan.attrs.len();
+    for p in parts {
+        ll.add(p.ll.value());
+        for (c, g) in p.g.iter().enumerate() {
+            let interleaved = (1..=na).contains(&c);
+            for (t, x) in g.iter().enumerate() {
+                let a = if interleaved { t % j } else { t / BLOCK };
+                gtheta[c * j + a] += x;
+            }
+        }
+        glam.iter_mut().zip(&p.lam).for_each(|(a, b)| *a += b);
+    }
+    let mut grad = vec![0.0; if want_grad { k } else { 0 }];
+    if want_grad {
+        for &(param, a, c) in &plan.feats {
+            grad[param] += gtheta[c * j + a];
+        }
+        for (g, s) in m.scale.iter().enumerate() {
+            if let Some(p) = s {
+                grad[*p] += glam[g];
+            }
+        }
+    }
+    Eval {
+        ll: ll.value(),
+        grad,
+        hess: None,
+    }
+}

@@ -291,3 +291,47 @@ fn the_differenced_hessian_matches_the_analytic_one_of_logit() {
         );
     }
 }
+
+#[test]
+fn what_if_shortcuts_equal_the_full_computation() {
+    // A family may compute what-if probabilities from the base ones
+    // (`probabilities_after`); they must equal the probabilities computed afresh.
+    for e in FAMILIES {
+        let (_, family, beta, d) = setup(e, 200, 16);
+        let j = d.alternatives();
+        let mut rng = Rng::new(8);
+        let (mut v0, mut p0, mut p1, mut want) =
+            (vec![0.0; j], vec![0.0; j], vec![0.0; j], vec![0.0; j]);
+        for i in 0..d.situations() {
+            d.utilities(&beta, i, &mut v0);
+            family.probabilities(&beta, &v0, &mut p0);
+            let mut v1 = v0.clone();
+            // Change one alternative, sometimes two, sometimes withdraw one.
+            let a = rng.below(j);
+            if v1[a].is_finite() {
+                v1[a] += rng.normal();
+            }
+            if i % 3 == 0 {
+                let b = rng.below(j);
+                if v1[b].is_finite() {
+                    v1[b] -= 0.5 * rng.uniform();
+                }
+            }
+            if i % 5 == 0 && j > 2 {
+                v1[j - 1] = f64::NEG_INFINITY;
+            }
+            if v1.iter().all(|x| !x.is_finite()) {
+                continue;
+            }
+            family.probabilities_after(&beta, &v0, &p0, &v1, &mut p1);
+            family.probabilities(&beta, &v1, &mut want);
+            for (x, y) in p1.iter().zip(&want) {
+                assert!(
+                    (x - y).abs() < 1e-12,
+                    "{}: situation {i}: {p1:?} vs {want:?}",
+                    e.name
+                );
+            }
+        }
+    }
+}

@@ -27,7 +27,6 @@ struct Rows {
     q: Vec<[f64; BLOCK]>,
     vbar: Vec<[f64; BLOCK]>,
     cond: Vec<[f64; BLOCK]>,
-    v: Vec<[f64; BLOCK]>,
     logd: [f64; BLOCK],
 }
 
@@ -40,7 +39,6 @@ impl Rows {
             q: vec![[0.0; BLOCK]; groups],
             vbar: vec![[0.0; BLOCK]; groups],
             cond: vec![[0.0; BLOCK]; j],
-            v: vec![[0.0; BLOCK]; j],
             logd: [0.0; BLOCK],
         }
     }
@@ -49,23 +47,21 @@ impl Rows {
 /// The nest quantities of a block from its utility rows `blk.rows`.
 #[inline(always)]
 fn nests<const F: bool>(m: &Nested, lam: &[f64], blk: &Block, r: &mut Rows, nb: usize) {
-    for (a, row) in blk.rows.iter().enumerate() {
-        r.v[a][..nb].copy_from_slice(&row[..nb]);
-    }
+    let v = &blk.rows;
     let mut top = [f64::NEG_INFINITY; BLOCK];
     for (g, alts) in m.members.iter().enumerate() {
         let inv = 1.0 / lam[g];
         let mx = &mut r.max[g];
         mx[..nb].iter_mut().for_each(|x| *x = f64::NEG_INFINITY);
         for &a in alts {
-            for (x, v) in mx[..nb].iter_mut().zip(&r.v[a][..nb]) {
+            for (x, v) in mx[..nb].iter_mut().zip(&v[a][..nb]) {
                 *x = if *v > *x { *v } else { *x };
             }
         }
         let mut sum = [0.0; BLOCK];
         for &a in alts {
             let c = &mut r.cond[a];
-            for ((e, v), mxb) in c[..nb].iter_mut().zip(&r.v[a][..nb]).zip(&mx[..nb]) {
+            for ((e, v), mxb) in c[..nb].iter_mut().zip(&v[a][..nb]).zip(&mx[..nb]) {
                 // An empty group (max -inf) gives 0, not NaN.
                 let d = if *v > f64::NEG_INFINITY {
                     (v - mxb) * inv
@@ -86,7 +82,7 @@ fn nests<const F: bool>(m: &Nested, lam: &[f64], blk: &Block, r: &mut Rows, nb: 
                 .iter_mut()
                 .zip(&sum[..nb])
                 .zip(vbar[..nb].iter_mut())
-                .zip(&r.v[a][..nb])
+                .zip(&v[a][..nb])
             {
                 *e = if *s > 0.0 { *e / s } else { 0.0 };
                 *vb += if *e > 0.0 { *e * v } else { 0.0 };
@@ -125,7 +121,7 @@ fn nests<const F: bool>(m: &Nested, lam: &[f64], blk: &Block, r: &mut Rows, nb: 
 }
 
 /// Residual rows w d ln P_c / dV_a of a block, in place of its utilities, and
-/// the scales' gradients added to `glam`.
+/// the scales' gradients added to `glam`; row by row, so that it vectorises.
 #[inline(always)]
 fn residuals(
     m: &Nested,
@@ -137,35 +133,35 @@ fn residuals(
     glam: &mut [f64],
 ) {
     let nb = w.len();
+    let mut gc = [0usize; BLOCK];
+    for (g, c) in gc[..nb].iter_mut().zip(ch) {
+        *g = m.group_of[*c as usize];
+    }
     for (g, alts) in m.members.iter().enumerate() {
+        let l = lam[g];
+        let f = (l - 1.0) / l;
         for &a in alts {
-            let row = &mut blk.rows[a];
+            let (row, cond, q) = (&mut blk.rows[a], &r.cond[a], &r.q[g]);
             for b in 0..nb {
-                row[b] = -w[b] * r.q[g][b] * r.cond[a][b];
+                let within = if gc[b] == g { f * cond[b] } else { 0.0 };
+                row[b] = w[b] * (within - q[b] * cond[b]);
             }
         }
+        if m.scale[g].is_none() {
+            continue;
+        }
+        let (mx, lns, q, vbar) = (&r.max[g], &r.lns[g], &r.q[g], &r.vbar[g]);
+        let mut sum = 0.0;
+        for b in 0..nb {
+            let iv = mx[b] / l + lns[b];
+            let own = iv - blk.vc[b] / (l * l) - (l - 1.0) * vbar[b] / (l * l);
+            let d = -q[b] * (iv - vbar[b] / l) + if gc[b] == g { own } else { 0.0 };
+            sum += if q[b] > 0.0 { w[b] * d } else { 0.0 };
+        }
+        glam[g] += sum;
     }
     for b in 0..nb {
-        let c = ch[b] as usize;
-        let gc = m.group_of[c];
-        let l = lam[gc];
-        blk.rows[c][b] += w[b] / l;
-        if l != 1.0 {
-            for &a in &m.members[gc] {
-                blk.rows[a][b] += w[b] * (l - 1.0) / l * r.cond[a][b];
-            }
-        }
-        for (g, (scale, &lg)) in m.scale.iter().zip(lam).enumerate() {
-            if scale.is_none() || r.q[g][b] <= 0.0 {
-                continue;
-            }
-            let iv = r.max[g][b] / lg + r.lns[g][b];
-            let mut d = -r.q[g][b] * (iv - r.vbar[g][b] / lg);
-            if g == gc {
-                d += iv - r.v[c][b] / (lg * lg) - (lg - 1.0) * r.vbar[g][b] / (lg * lg);
-            }
-            glam[g] += w[b] * d;
-        }
+        blk.rows[ch[b] as usize][b] += w[b] / lam[gc[b]];
     }
 }
 
@@ -203,7 +199,7 @@ fn chunk_body<const F: bool>(
         for b in 0..nb {
             let c = ch[b] as usize;
             let g = m.group_of[c];
-            let within = (r.v[c][b] - r.max[g][b]) / lam[g] - r.lns[g][b];
+            let within = (blk.vc[b] - r.max[g][b]) / lam[g] - r.lns[g][b];
             ll += w[b] * (r.a[g][b] - r.logd[b] + within);
         }
         acc.ll.add(ll);

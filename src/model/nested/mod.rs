@@ -107,6 +107,73 @@ impl Nested {
         }
     }
 
+    /// What-if probabilities from the base ones, touching only what changed:
+    /// with r_a = exp((V'_a - V_a)/l_g), a group's within-sum scales by
+    /// rho_g = sum_a P_{a|g} r_a and its weight by T_g = rho_g^l_g, so that
+    /// P'_a = P_a r_a T_g / (rho_g sum_m Q_m T_m), Q_m the base nest shares.
+    /// False (the caller recomputes) where the shortcut does not apply: an
+    /// alternative becoming available, a large rise, more than 64 groups.
+    fn rescale(&self, beta: &[f64], v0: &[f64], p0: &[f64], v1: &[f64], p1: &mut [f64]) -> bool {
+        let groups = self.members.len();
+        if groups > 64 || v0.len() != self.group_of.len() {
+            return false;
+        }
+        let mut q = [0.0f64; 64];
+        let mut rho = [0.0f64; 64];
+        let mut changed = [false; 64];
+        for (a, g) in self.group_of.iter().enumerate() {
+            let (b, n) = (v0[a], v1[a]);
+            let lam = self.scale[*g].map(|k| beta[k]).unwrap_or(1.0);
+            let r = if b == n || (!b.is_finite() && !n.is_finite()) {
+                1.0
+            } else if !b.is_finite() || (n - b) / lam > 50.0 {
+                return false;
+            } else {
+                changed[*g] = true;
+                if n.is_finite() {
+                    ((n - b) / lam).exp()
+                } else {
+                    0.0
+                }
+            };
+            p1[a] = p0[a] * r; // P_a r_a, rescaled below
+            q[*g] += p0[a];
+            rho[*g] += p1[a];
+        }
+        if !changed[..groups].iter().any(|c| *c) {
+            p1.copy_from_slice(p0);
+            return true;
+        }
+        let mut t = [1.0f64; 64];
+        let mut denominator = 0.0;
+        for g in 0..groups {
+            if changed[g] {
+                if q[g] <= 0.0 {
+                    return false;
+                }
+                rho[g] /= q[g];
+                let lam = self.scale[g].map(|k| beta[k]).unwrap_or(1.0);
+                t[g] = if rho[g] > 0.0 { rho[g].powf(lam) } else { 0.0 };
+            }
+            denominator += q[g] * t[g];
+        }
+        if denominator.is_nan() || denominator <= 0.0 || !denominator.is_finite() {
+            return false;
+        }
+        for (a, g) in self.group_of.iter().enumerate() {
+            if changed[*g] {
+                p1[a] = if rho[*g] > 0.0 {
+                    p1[a] * t[*g] / (rho[*g] * denominator)
+                } else {
+                    0.0
+                };
+            } else {
+                p1[a] = p0[a] / denominator;
+            }
+        }
+        true
+    }
+
     /// Whether every scale is positive (the likelihood is defined).
     fn scales_valid(&self, beta: &[f64]) -> bool {
         self.scale
@@ -202,6 +269,19 @@ impl Family for Nested {
             self.situation(beta, v, &mut w);
             p.copy_from_slice(&w.p[..v.len()]);
         })
+    }
+
+    fn probabilities_after(
+        &self,
+        beta: &[f64],
+        v0: &[f64],
+        p0: &[f64],
+        v1: &[f64],
+        p1: &mut [f64],
+    ) {
+        if !self.rescale(beta, v0, p0, v1, p1) {
+            self.probabilities(beta, v1, p1);
+        }
     }
 
     /// dP_i/dV_j = P_i (1[i=j]/l_i + 1[same nest] (l_i - 1)/l_i P_{j|nest} - P_j).

@@ -407,3 +407,50 @@ fn a_scale_above_one_is_named_and_the_logit_is_tested() {
         .any(|d| d["code"] == "scale_above_one"));
     assert!(v["family_test"]["statistic"].as_f64().unwrap() > 0.0);
 }
+
+#[test]
+fn a_scale_near_zero_and_a_nest_rarely_available_are_named() {
+    // A scale held at 0.02 is "near zero"; a nest whose second alternative is
+    // available in 3 of 300 situations rests on little information.
+    let dir = scratch("nested_warnings");
+    let mut csv = String::from("choice,xa,xb,xc,c_ok\n");
+    let mut rng = sharecast::rng::Rng::new(4);
+    for i in 0..300 {
+        let c_ok = (i % 100 == 0) as u8;
+        let pick = if c_ok == 1 {
+            "c"
+        } else if rng.uniform() < 0.5 {
+            "a"
+        } else {
+            "b"
+        };
+        csv.push_str(&format!(
+            "{pick},{:.3},{:.3},{:.3},{c_ok}\n",
+            rng.uniform(),
+            rng.uniform(),
+            rng.uniform()
+        ));
+    }
+    std::fs::write(dir.join("d.csv"), csv).unwrap();
+    let spec_text = "[data]\nfile = \"d.csv\"\nlayout = \"wide\"\nchoice = \"choice\"\n[model]\nfamily = \"nested\"\nbase = \"a\"\n[alternatives.a]\n[alternatives.b]\n[alternatives.c]\navailable = \"c_ok\"\n[[attribute]]\nname = \"x\"\ncolumns = { a = \"xa\", b = \"xb\", c = \"xc\" }\n[[nest]]\nname = \"bc\"\nalternatives = [\"b\", \"c\"]\n[parameters]\nlambda_bc = { fixed = 0.02 }\n";
+    let spec = sharecast::model::parse_spec(spec_text, &dir.join("s.toml")).unwrap();
+    let ds = sharecast::data::load(&spec, &Default::default()).unwrap();
+    let fit = fit_spec(&spec, &ds);
+    let codes: Vec<&str> = fit
+        .diagnostics
+        .iter()
+        .filter_map(|d| d.code.as_deref())
+        .collect();
+    assert!(codes.contains(&"scale_near_zero"), "{:?}", fit.diagnostics);
+    assert!(
+        codes.contains(&"nest_rarely_available"),
+        "{:?}",
+        fit.diagnostics
+    );
+    let rare = fit
+        .diagnostics
+        .iter()
+        .find(|d| d.code.as_deref() == Some("nest_rarely_available"))
+        .unwrap();
+    assert!(rare.message.contains("1.0%"), "{}", rare.message);
+}

@@ -88,7 +88,13 @@ impl Design {
                     }
                 }
                 Term::Characteristic(c) => {
-                    if let Some(j) = p.alternative {
+                    // One coefficient for every alternative it enters (a single
+                    // index), or one per alternative.
+                    let alts: Vec<usize> = match p.alternative {
+                        Some(j) => vec![j],
+                        None => spec.characteristics[*c].alternatives.clone(),
+                    };
+                    for j in alts {
                         features[j].push(Feature {
                             param: k,
                             value: Value::Characteristic(*c),

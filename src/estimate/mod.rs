@@ -381,7 +381,9 @@ fn finish(
     let null_ll = null_log_likelihood(&obs);
     let constants_ll = if let Some(c) = saved_constants_ll {
         c
-    } else if spec.constants && spec.attributes.len() + spec.characteristics.len() > 0 {
+    } else if (spec.constants || spec.parameters.iter().any(|p| p.in_reference))
+        && spec.attributes.len() + spec.characteristics.len() > 0
+    {
         let cspec = spec.constants_only();
         let cd = Design::build(&cspec, obs.clone());
         let cfree: Vec<usize> = (0..cd.params)

@@ -15,6 +15,7 @@ pub mod hessian;
 pub mod logit;
 pub mod nested;
 pub mod normal;
+pub mod ordered;
 pub mod probit;
 pub mod registry;
 
@@ -72,6 +73,9 @@ pub struct Abilities {
     pub per_decision_maker: bool,
     /// Coefficients read as log odds ratios (binary logit).
     pub odds_ratios: bool,
+    /// Ordered categories on one latent index: no base, and categories are
+    /// neither withdrawn nor added (no diversion between them).
+    pub ordered: bool,
 }
 
 /// A model family, built for one spec by `registry::for_spec`.

@@ -5,7 +5,7 @@
 use std::path::Path;
 use std::sync::Arc;
 
-use super::{logit, nested, probit, FamilyRef};
+use super::{logit, nested, ordered, probit, FamilyRef};
 use crate::error::{Error, Result};
 use crate::spec::{Catalog, FamilyRules, Spec};
 
@@ -52,6 +52,22 @@ pub static FAMILIES: &[Entry] = &[
         example_alternatives: 5,
         example_spec: "[[nest]]\nname = \"near\"\nalternatives = [\"a1\", \"a2\"]\n[[nest]]\nname = \"far\"\nalternatives = [\"a3\", \"a4\"]\n",
         example_truth: &[("lambda_near", 0.5), ("lambda_far", 0.7)],
+    },
+    Entry {
+        name: "ordered-logit",
+        rules: &ordered::Rules { probit: false },
+        build: |spec| Ok(Arc::new(ordered::Ordered::new(spec, false))),
+        example_alternatives: 4,
+        example_spec: "",
+        example_truth: &[("cut_a0", -1.0), ("cut_a1", 0.0), ("cut_a2", 1.2)],
+    },
+    Entry {
+        name: "ordered-probit",
+        rules: &ordered::Rules { probit: true },
+        build: |spec| Ok(Arc::new(ordered::Ordered::new(spec, true))),
+        example_alternatives: 4,
+        example_spec: "",
+        example_truth: &[("cut_a0", -0.7), ("cut_a1", 0.0), ("cut_a2", 0.8)],
     },
 ];
 

@@ -17,6 +17,9 @@ pub struct FamilyParameter {
     pub start: f64,
     /// The value its reported test is against (1 for a nest scale: the logit).
     pub null: f64,
+    /// Whether it stays free in the reference model of rho-squared (cut-points
+    /// do, like constants; a nest scale is held at its start).
+    pub in_reference: bool,
 }
 
 /// The validated spec as far as it is known when the family is asked.
@@ -43,6 +46,12 @@ pub trait FamilyRules: Sync {
     /// Keys of `[model]` beyond `family`, `base` and `constants` that this family reads.
     fn model_keys(&self) -> &'static [&'static str] {
         &[]
+    }
+    /// Whether the model has one latent index for all alternatives (ordered
+    /// categories): no base and no constants, one coefficient per
+    /// characteristic entering every alternative, named after it.
+    fn single_index(&self) -> bool {
+        false
     }
     /// Checks the family's constraints and keys; returns the parameters it adds.
     /// An error is a message naming the key at fault.

@@ -95,6 +95,8 @@ pub struct Parameter {
     pub fixed: Option<f64>,
     /// The value its test is against: 0, or a family's own (1 for a nest scale).
     pub null: f64,
+    /// A family parameter that stays free in the constants-only reference model.
+    pub in_reference: bool,
 }
 
 #[derive(Clone, Debug)]
@@ -199,7 +201,8 @@ impl Spec {
     }
 
     /// A copy restricted to constants only (the reference model for rho-squared);
-    /// a family's own parameters stay, held at their starting values.
+    /// a family's own parameters stay, held at their starting values unless
+    /// they belong to the reference model (cut-points).
     pub fn constants_only(&self) -> Spec {
         let mut s = self.clone();
         s.attributes.clear();
@@ -210,7 +213,7 @@ impl Spec {
             if p.term == Term::Constant {
                 p.fixed = None;
                 p.start = 0.0;
-            } else {
+            } else if !p.in_reference {
                 p.fixed = Some(p.start);
             }
         }

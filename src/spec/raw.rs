@@ -48,7 +48,8 @@ pub struct RawData {
 pub struct RawModel {
     /// Defaults to "logit".
     pub family: Option<String>,
-    pub base: String,
+    /// Required except for single-index families (ordered categories).
+    pub base: Option<String>,
     pub constants: Option<bool>,
     /// Keys the family may claim.
     #[serde(flatten)]

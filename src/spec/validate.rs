@@ -104,18 +104,36 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         )));
     }
     let index_of = |name: &str| alternatives.iter().position(|a| a.name == name);
-    let base = index_of(&raw.model.base).ok_or_else(|| {
-        fail(format!(
-            "[model].base: `{}` is not one of the alternatives ({})",
-            raw.model.base,
-            alternatives
-                .iter()
-                .map(|a| a.name.as_str())
-                .collect::<Vec<_>>()
-                .join(", ")
-        ))
-    })?;
-    let constants = raw.model.constants.unwrap_or(true);
+    let single = rules.single_index();
+    let base = match (&raw.model.base, single) {
+        (Some(_), true) => {
+            return Err(fail(format!(
+                "[model].base: family \"{family}\" has no base alternative (one latent index for all categories); remove `base`"
+            )))
+        }
+        (None, true) => 0,
+        (None, false) => {
+            return Err(fail(
+                "[model].base: missing: name the reference alternative (it gets no constant)".into(),
+            ))
+        }
+        (Some(b), false) => index_of(b).ok_or_else(|| {
+            fail(format!(
+                "[model].base: `{b}` is not one of the alternatives ({})",
+                alternatives
+                    .iter()
+                    .map(|a| a.name.as_str())
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            ))
+        })?,
+    };
+    if single && raw.model.constants == Some(true) {
+        return Err(fail(format!(
+            "[model].constants: family \"{family}\" has no constants (its cut-points take their place)"
+        )));
+    }
+    let constants = raw.model.constants.unwrap_or(!single);
 
     // [[attribute]]
     let mut term_names: Vec<String> = Vec::new();
@@ -207,6 +225,12 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         }
         term_names.push(c.name.clone());
         let alts = match &c.alternatives {
+            Some(_) if single => {
+                return Err(at(format!(
+                    "alternatives: family \"{family}\" has one coefficient per characteristic (it moves the one latent index); remove `alternatives`"
+                )))
+            }
+            None if single => (0..alternatives.len()).collect(),
             None => (0..alternatives.len()).filter(|&j| j != base).collect(),
             Some(list) => {
                 let mut v = Vec::new();
@@ -260,6 +284,7 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
                 start: 0.0,
                 fixed: None,
                 null: 0.0,
+                in_reference: false,
             })
         };
     if constants {
@@ -288,6 +313,15 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         }
     }
     for (k, c) in characteristics.iter().enumerate() {
+        if single {
+            push(
+                &mut parameters,
+                c.name.clone(),
+                Term::Characteristic(k),
+                None,
+            );
+            continue;
+        }
         for &j in &c.alternatives {
             let name = format!("{}_{}", c.name, alternatives[j].name);
             push(&mut parameters, name, Term::Characteristic(k), Some(j));
@@ -313,6 +347,7 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
             start: p.start,
             fixed: None,
             null: p.null,
+            in_reference: p.in_reference,
         });
     }
     for (i, p) in parameters.iter().enumerate() {

@@ -27,21 +27,27 @@ use sharecast::spec::{Spec, Term};
 fn example_spec(e: &Entry) -> Spec {
     let j = e.example_alternatives;
     let names: Vec<String> = (0..j).map(|a| format!("a{a}")).collect();
+    // A single-index family (ordered categories) has no base and no attributes.
+    let single = e.rules.single_index();
     let mut text = format!(
-        "[data]\nfile = \"never-read.csv\"\nlayout = \"wide\"\nchoice = \"alt\"\n[model]\nfamily = \"{}\"\nbase = \"a0\"\n",
-        e.name
+        "[data]\nfile = \"never-read.csv\"\nlayout = \"wide\"\nchoice = \"alt\"\n[model]\nfamily = \"{}\"\n{}",
+        e.name,
+        if single { "" } else { "base = \"a0\"\n" }
     );
     for (a, n) in names.iter().enumerate() {
         text.push_str(&format!("[alternatives.{n}]\n"));
-        if a == j - 1 && j > 2 {
+        if a == j - 1 && j > 2 && !single {
             text.push_str("available = \"open\"\n");
         }
     }
     let cols: Vec<String> = names.iter().map(|n| format!("{n} = \"x_{n}\"")).collect();
-    text.push_str(&format!(
-        "[[attribute]]\nname = \"x\"\ncolumns = {{ {} }}\n[[characteristic]]\nname = \"z\"\ncolumn = \"z\"\n",
-        cols.join(", ")
-    ));
+    if !single {
+        text.push_str(&format!(
+            "[[attribute]]\nname = \"x\"\ncolumns = {{ {} }}\n",
+            cols.join(", ")
+        ));
+    }
+    text.push_str("[[characteristic]]\nname = \"z\"\ncolumn = \"z\"\n");
     text.push_str(e.example_spec);
     sharecast::model::parse_spec(&text, Path::new("/nowhere/family-suite.toml"))
         .unwrap_or_else(|err| panic!("{}: example spec: {err}", e.name))
@@ -73,7 +79,7 @@ fn simulate(family: &dyn Family, spec: &Spec, beta: &[f64], n: usize, seed: u64)
     let j = spec.alternatives.len();
     let mut rng = Rng::new(seed);
     let mut available = vec![true; n * j];
-    if j > 2 {
+    if j > 2 && spec.alternatives[j - 1].available.is_some() {
         for i in 0..n {
             available[i * j + j - 1] = rng.uniform() > 0.25;
         }

@@ -36,6 +36,7 @@ impl FamilyRules for Rules {
                 label: format!("nest scale {name}"),
                 start: 1.0,
                 null: 1.0,
+                in_reference: false,
             });
         }
         Ok(out)

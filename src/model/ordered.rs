@@ -1,0 +1,272 @@
+//! Ordered logit and ordered probit for ratings and scales (McCullagh 1980;
+//! Greene, Econometric Analysis, 7th ed., ch. 18.3): one latent index x'b of
+//! the characteristics (no constants, no base) and cut-points c_1 < ... < c_{J-1}
+//! between the J ordered categories, P(y <= k) = F(c_k - x'b) with F the
+//! logistic or standard normal distribution. The cut-points are parameters
+//! `cut_<category>` for every category but the last; the search never leaves
+//! the ordered region (an unordered vector has log-likelihood -inf), so they
+//! are estimated and reported as thresholds, their errors from the Hessian in
+//! that form (the delta method of any other parameterisation gives the same).
+//! Every alternative's utility is the index, so dP/dV is carried on the first.
+
+use super::normal;
+use super::{Abilities, Eval, Family};
+use crate::design::{on_pieces, Design};
+use crate::model::logit::Compensated;
+use crate::spec::{FamilyParameter, FamilyRules, Layout, Spec, SpecView};
+
+/// Ordered logit (`probit = false`) or ordered probit.
+#[derive(Clone, Debug)]
+pub struct Ordered {
+    pub probit: bool,
+    /// Parameter index of each cut-point, lowest first (J - 1 of them).
+    pub cuts: Vec<usize>,
+}
+
+/// The spec rules of both ordered families.
+pub struct Rules {
+    pub probit: bool,
+}
+
+impl FamilyRules for Rules {
+    fn single_index(&self) -> bool {
+        true
+    }
+
+    fn check(&self, spec: &SpecView) -> Result<Vec<FamilyParameter>, String> {
+        let family = if self.probit {
+            "ordered-probit"
+        } else {
+            "ordered-logit"
+        };
+        if !matches!(spec.layout, Layout::Wide { .. }) {
+            return Err(format!(
+                "[data].layout: family \"{family}\" reads one rating per row: use layout \"wide\""
+            ));
+        }
+        if let Some(a) = spec.attributes.first() {
+            return Err(format!(
+                "[[attribute]] {}: family \"{family}\" has no attributes (one latent index of the rater's characteristics); use [[characteristic]]",
+                a.name
+            ));
+        }
+        let j = spec.alternatives.len();
+        if j < 3 {
+            return Err(format!(
+                "[alternatives]: family \"{family}\" needs three or more ordered categories, found {j}; with two it is a binary model (family \"logit\" or \"probit\")"
+            ));
+        }
+        let mut out = Vec::new();
+        for (k, alt) in spec.alternatives[..j - 1].iter().enumerate() {
+            let name = format!("cut_{}", alt.name);
+            if spec.parameters.iter().any(|p| p.name == name) {
+                return Err(format!("[[characteristic]] {name}: the name is taken by the cut-point above category `{}`", alt.name));
+            }
+            out.push(FamilyParameter {
+                name,
+                label: "cut-points".into(),
+                // Evenly spaced around 0: ordered, as the search needs.
+                start: k as f64 - (j as f64 - 2.0) / 2.0,
+                null: 0.0,
+                in_reference: true,
+            });
+        }
+        Ok(out)
+    }
+}
+
+impl Ordered {
+    pub fn new(spec: &Spec, probit: bool) -> Ordered {
+        let j = spec.alternatives.len();
+        let cuts = spec.alternatives[..j.saturating_sub(1)]
+            .iter()
+            .filter_map(|a| spec.parameter_index(&format!("cut_{}", a.name)))
+            .collect();
+        Ordered { probit, cuts }
+    }
+
+    fn cdf(&self, t: f64) -> f64 {
+        if t.is_infinite() {
+            return if t > 0.0 { 1.0 } else { 0.0 };
+        }
+        if self.probit {
+            normal::cdf(t)
+        } else if t >= 0.0 {
+            1.0 / (1.0 + (-t).exp())
+        } else {
+            let e = t.exp();
+            e / (1.0 + e)
+        }
+    }
+
+    fn pdf(&self, t: f64) -> f64 {
+        if self.probit {
+            normal::pdf(t)
+        } else {
+            let e = (-t.abs()).exp();
+            e / ((1.0 + e) * (1.0 + e))
+        }
+    }
+
+    /// F(hi) - F(lo) for lo < hi (either may be infinite), accurate in both tails.
+    fn between(&self, lo: f64, hi: f64) -> f64 {
+        if lo > 0.0 {
+            self.cdf(-lo) - self.cdf(-hi)
+        } else {
+            self.cdf(hi) - self.cdf(lo)
+        }
+    }
+
+    /// The thresholds around category `k`: (c_{k-1}, c_k), infinite at the ends.
+    fn bounds(&self, beta: &[f64], k: usize) -> (f64, f64) {
+        let lo = if k == 0 {
+            f64::NEG_INFINITY
+        } else {
+            beta[self.cuts[k - 1]]
+        };
+        let hi = self.cuts.get(k).map(|&p| beta[p]).unwrap_or(f64::INFINITY);
+        (lo, hi)
+    }
+
+    fn ordered(&self, beta: &[f64]) -> bool {
+        self.cuts.windows(2).all(|w| beta[w[0]] < beta[w[1]])
+            && self.cuts.iter().all(|&p| beta[p].is_finite())
+    }
+
+    /// Adds situation `i`'s weighted term to `ll` and its score to `grad`.
+    fn situation(
+        &self,
+        d: &Design,
+        beta: &[f64],
+        i: usize,
+        v: &mut [f64],
+        ll: &mut Compensated,
+        grad: Option<&mut [f64]>,
+    ) {
+        let w = d.obs.weight[i];
+        let c = d.obs.chosen[i] as usize;
+        d.utilities(beta, i, v);
+        let xb = v[c];
+        let (lo, hi) = self.bounds(beta, c);
+        let p = self.between(lo - xb, hi - xb);
+        ll.add(w * p.ln());
+        let Some(g) = grad else { return };
+        let f_hi = if hi.is_finite() {
+            self.pdf(hi - xb)
+        } else {
+            0.0
+        };
+        let f_lo = if lo.is_finite() {
+            self.pdf(lo - xb)
+        } else {
+            0.0
+        };
+        let dxb = -(f_hi - f_lo) / p;
+        for f in &d.features[c] {
+            g[f.param] += w * dxb * d.value(i, c, f.value);
+        }
+        if c < self.cuts.len() {
+            g[self.cuts[c]] += w * f_hi / p;
+        }
+        if c > 0 {
+            g[self.cuts[c - 1]] -= w * f_lo / p;
+        }
+    }
+}
+
+impl Family for Ordered {
+    fn name(&self) -> &'static str {
+        if self.probit {
+            "ordered-probit"
+        } else {
+            "ordered-logit"
+        }
+    }
+
+    fn abilities(&self) -> Abilities {
+        Abilities {
+            ordered: true,
+            ..Abilities::default()
+        }
+    }
+
+    fn evaluate(&self, d: &Design, beta: &[f64], want_grad: bool, _want_hess: bool) -> Eval {
+        let k = d.params;
+        if !self.ordered(beta) {
+            return Eval {
+                ll: f64::NEG_INFINITY,
+                grad: if want_grad { vec![0.0; k] } else { Vec::new() },
+                hess: None,
+            };
+        }
+        let parts = on_pieces(d.situations(), |r| {
+            let mut v = vec![0.0; d.alternatives()];
+            let mut ll = Compensated::default();
+            let mut g = vec![0.0; if want_grad { k } else { 0 }];
+            for i in r {
+                let grad = want_grad.then_some(g.as_mut_slice());
+                self.situation(d, beta, i, &mut v, &mut ll, grad);
+            }
+            (ll, g)
+        });
+        let mut ll = Compensated::default();
+        let mut grad = vec![0.0; if want_grad { k } else { 0 }];
+        for (l, g) in parts {
+            ll.add(l.value());
+            grad.iter_mut().zip(&g).for_each(|(a, b)| *a += b);
+        }
+        Eval {
+            ll: ll.value(),
+            grad,
+            hess: None,
+        }
+    }
+
+    fn for_each_score(&self, d: &Design, beta: &[f64], f: &mut dyn FnMut(usize, &[f64])) {
+        let mut v = vec![0.0; d.alternatives()];
+        let mut g = vec![0.0; d.params];
+        let mut ll = Compensated::default();
+        for i in 0..d.situations() {
+            g.iter_mut().for_each(|x| *x = 0.0);
+            self.situation(d, beta, i, &mut v, &mut ll, Some(&mut g));
+            f(i, &g);
+        }
+    }
+
+    /// Category probabilities; the index is read from the first utility.
+    fn probabilities(&self, beta: &[f64], v: &[f64], p: &mut [f64]) {
+        let xb = v[0];
+        for (k, pk) in p.iter_mut().enumerate() {
+            let (lo, hi) = self.bounds(beta, k);
+            *pk = self.between(lo - xb, hi - xb);
+        }
+    }
+
+    /// dP_k/dV_0 = f(c_{k-1} - xb) - f(c_k - xb); the other columns are 0.
+    fn dprob(&self, beta: &[f64], v: &[f64], _p: &[f64], dp: &mut [f64]) {
+        let n = v.len();
+        let xb = v[0];
+        dp.iter_mut().for_each(|x| *x = 0.0);
+        for k in 0..n {
+            let (lo, hi) = self.bounds(beta, k);
+            let f_hi = if hi.is_finite() {
+                self.pdf(hi - xb)
+            } else {
+                0.0
+            };
+            let f_lo = if lo.is_finite() {
+                self.pdf(lo - xb)
+            } else {
+                0.0
+            };
+            dp[k * n] = f_lo - f_hi;
+        }
+    }
+
+    fn caution(&self, _spec: &Spec) -> Option<String> {
+        Some(format!(
+            "The {} model assumes one latent index moves every category in the same direction (a single index with parallel cut-points); the categories' distances are not known, so compare probabilities, not average ratings.",
+            self.name()
+        ))
+    }
+}

@@ -70,7 +70,47 @@ pub struct Analysis {
     /// the family then reduces to a simpler one (nested logit: every scale 1, the logit).
     pub family_test: Option<ChiTest>,
     pub iia: Option<IiaTest>,
+    /// Ordered families: the effect of a one-unit change of each
+    /// characteristic on the expected category (categories numbered 1..J).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub expected_category: Vec<ExpectedCategoryRow>,
     pub warnings: Vec<String>,
+}
+
+/// d E[category] / dz for a characteristic z, E[category] = sum_k k P_k.
+#[derive(Clone, Debug, Serialize)]
+pub struct ExpectedCategoryRow {
+    pub variable: String,
+    pub value: f64,
+    pub std_error: f64,
+}
+
+/// For ordered families: each characteristic's average effect on the expected
+/// category, with delta-method errors; empty for other families.
+pub fn expected_category(spec: &Spec, fit: &Fit) -> Vec<ExpectedCategoryRow> {
+    if !fit.family.abilities().ordered {
+        return Vec::new();
+    }
+    let d = &fit.design;
+    let map = TermMap::new(spec, d);
+    let j = d.alternatives();
+    let f = |b: &[f64]| -> Vec<f64> {
+        let s = sensitivity::sensitivities(&*fit.family, d, &map, b);
+        (0..spec.characteristics.len())
+            .map(|c| (0..j).map(|k| (k + 1) as f64 * s.char_me[c * j + k]).sum())
+            .collect()
+    };
+    let value = f(&fit.beta);
+    let se = delta::delta_se(fit, &f);
+    spec.characteristics
+        .iter()
+        .enumerate()
+        .map(|(c, ch)| ExpectedCategoryRow {
+            variable: ch.name.clone(),
+            value: value[c],
+            std_error: se[c],
+        })
+        .collect()
 }
 
 /// The alternatives where attribute `a` enters.
@@ -211,7 +251,12 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
             .filter_map(|r| r.warning.as_ref().map(|w| format!("{}: {w}", r.name))),
     );
 
-    let diversion = diversion::removal(&*fit.family, d, &fit.beta, Some(fit.baseline()), &names);
+    // Ordered categories are not withdrawn: no diversion between them.
+    let diversion = if fit.family.abilities().ordered {
+        Vec::new()
+    } else {
+        diversion::removal(&*fit.family, d, &fit.beta, Some(fit.baseline()), &names)
+    };
     let price_diversion = match diversion_attribute(spec, opts.diversion_attribute.as_deref())? {
         Some(a) => diversion::price(
             &sens,
@@ -270,6 +315,7 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
         },
         wald,
         family_test,
+        expected_category: expected_category(spec, fit),
         iia,
         warnings,
     })

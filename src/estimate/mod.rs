@@ -212,6 +212,9 @@ pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fi
     let started = Instant::now();
     let design = Design::build(spec, obs.clone());
     let family = model::for_spec(spec)?;
+    family
+        .check_data(spec, &design)
+        .map_err(|m| Error::spec(&spec.path, m))?;
     let k = design.params;
     let free: Vec<usize> = (0..k)
         .filter(|&p| spec.parameters[p].fixed.is_none())

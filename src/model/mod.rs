@@ -151,6 +151,13 @@ pub trait Family: Send + Sync + std::fmt::Debug {
         }
     }
 
+    /// Checks the data the family is fitted to (an ordered model needs every
+    /// category observed); the message names what is wrong.
+    fn check_data(&self, spec: &Spec, d: &Design) -> Result<(), String> {
+        let _ = (spec, d);
+        Ok(())
+    }
+
     /// Warnings about the fit at `beta` (its own parameters' values, how the data use them).
     fn warnings(&self, spec: &Spec, d: &Design, beta: &[f64]) -> Vec<FamilyWarning> {
         let _ = (spec, d, beta);

@@ -263,6 +263,20 @@ impl Family for Ordered {
         }
     }
 
+    fn check_data(&self, spec: &Spec, d: &Design) -> Result<(), String> {
+        let mut seen = vec![false; d.alternatives()];
+        for &c in &d.obs.chosen {
+            seen[c as usize] = true;
+        }
+        match seen.iter().position(|s| !s) {
+            Some(k) => Err(format!(
+                "[alternatives.{0}]: category `{0}` is never observed in {1}, so the cut-points around it are not identified; merge it with a neighbouring category or leave it out",
+                spec.alternatives[k].name, spec.data.file_written
+            )),
+            None => Ok(()),
+        }
+    }
+
     fn caution(&self, _spec: &Spec) -> Option<String> {
         Some(format!(
             "The {} model assumes one latent index moves every category in the same direction (a single index with parallel cut-points); the categories' distances are not known, so compare probabilities, not average ratings.",

@@ -129,6 +129,16 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
                 .map(|e| cell(e.value, e.std_error))
                 .unwrap_or_default()
         });
+        if !a.expected_category.is_empty() {
+            let _ = writeln!(
+                s,
+                "  effect on the expected category (categories numbered 1 to {}), per unit:",
+                names.len()
+            );
+            for e in &a.expected_category {
+                let _ = writeln!(s, "    {:<18}{}", e.variable, cell(e.value, e.std_error));
+            }
+        }
     }
     let own: Vec<&crate::analysis::ElasticityRow> = a
         .elasticities

@@ -13,13 +13,19 @@ pub fn header(spec: &Spec, fit: &Fit, colour: bool) -> String {
     let st = &fit.stats;
     let title = spec.title.as_deref().unwrap_or("(untitled model)");
     let _ = writeln!(s, "━━ sharecast ━━ {title}");
+    let shape = if fit.family.abilities().ordered {
+        format!("{} ordered categories", spec.alternatives.len())
+    } else {
+        format!(
+            "{} alternatives · base `{}`",
+            spec.alternatives.len(),
+            spec.alternatives[spec.base].name
+        )
+    };
     let _ = writeln!(
         s,
-        "model    {} · {} alternatives · base `{}` · {} parameters estimated",
-        spec.family,
-        spec.alternatives.len(),
-        spec.alternatives[spec.base].name,
-        st.estimated_parameters
+        "model    {} · {shape} · {} parameters estimated",
+        spec.family, st.estimated_parameters
     );
     for line in fit.family.structure(spec) {
         let _ = writeln!(s, "         {line}");

@@ -158,6 +158,15 @@ pub fn forecast(
     scenario: &Scenario,
     opts: &Options,
 ) -> Result<Forecast> {
+    if fit.family.abilities().ordered
+        && (!scenario.new_alternatives.is_empty() || !scenario.remove.is_empty())
+    {
+        return Err(Error::Usage(format!(
+            "scenario `{}`: the {} family's categories are ordered ratings on one scale: they can be neither withdrawn nor added; change the characteristics instead",
+            scenario.name,
+            fit.family.name()
+        )));
+    }
     if !fit.family.abilities().new_alternatives && !scenario.new_alternatives.is_empty() {
         return Err(Error::Usage(format!(
             "new alternatives are not available for the {} family: {}",

@@ -351,8 +351,75 @@ pub fn grocery(path: &Path, force: bool) -> Result<()> {
     table(path, force, &out)
 }
 
-/// Writes both demo sets into `dir`.
+/// True parameters of the delivery-ratings demo: the latent satisfaction's
+/// coefficients and the cut-points above each rating but the top one.
+pub const RATINGS_TRUTH: &[(&str, f64)] = &[
+    ("wait_minutes", -0.045),
+    ("order_items", 0.09),
+    ("first_time", -0.55),
+    ("weekday", 0.30),
+    ("cut_very_poor", -3.6),
+    ("cut_poor", -2.3),
+    ("cut_fair", -0.9),
+    ("cut_good", 0.7),
+];
+
+/// Ratings 1-5 of home deliveries by the invented Hollyhock Bakehouse: 2,500
+/// orders, an ordered logit (the latent satisfaction plus a logistic draw,
+/// cut at the true cut-points).
+pub fn ratings(path: &Path, force: bool) -> Result<()> {
+    let t = |n: &str| truth(RATINGS_TRUTH, n);
+    let cuts = [
+        t("cut_very_poor"),
+        t("cut_poor"),
+        t("cut_fair"),
+        t("cut_good"),
+    ];
+    let mut rng = Rng::new(20_261_202);
+    let (mut id, mut rating, mut wait, mut items, mut first, mut weekday, mut branch) = (
+        Vec::new(),
+        Vec::new(),
+        Vec::new(),
+        Vec::new(),
+        Vec::new(),
+        Vec::new(),
+        Vec::new(),
+    );
+    for order in 1..=2500 {
+        let w = round(12.0 + 55.0 * rng.uniform() + 8.0 * rng.normal().abs(), 0);
+        let n = 1 + rng.below(12) as i64;
+        let f = (rng.uniform() < 0.3) as i64;
+        let wd = (rng.below(7) < 5) as i64;
+        let index = t("wait_minutes") * w
+            + t("order_items") * n as f64
+            + t("first_time") * f as f64
+            + t("weekday") * wd as f64;
+        let u = rng.uniform().clamp(1e-12, 1.0 - 1e-12);
+        let latent = index + (u / (1.0 - u)).ln();
+        let r = 1 + cuts.iter().filter(|c| latent > **c).count() as i64;
+        id.push(order);
+        rating.push(r);
+        wait.push(w);
+        items.push(n);
+        first.push(f);
+        weekday.push(wd);
+        branch.push(["north", "river", "market"][rng.below(3)].to_string());
+    }
+    let out = vec![
+        ("order_id".to_string(), Values::Int(id)),
+        ("branch".to_string(), Values::Text(branch)),
+        ("rating".to_string(), Values::Int(rating)),
+        ("wait_minutes".to_string(), Values::Num(wait)),
+        ("order_items".to_string(), Values::Int(items)),
+        ("first_time".to_string(), Values::Int(first)),
+        ("weekday".to_string(), Values::Int(weekday)),
+    ];
+    table(path, force, &out)
+}
+
+/// Writes the three demo sets into `dir`.
 pub fn write_all(dir: &Path, force: bool) -> Result<()> {
     commute(&dir.join("commute.csv"), force)?;
-    grocery(&dir.join("grocery.parquet"), force)
+    grocery(&dir.join("grocery.parquet"), force)?;
+    ratings(&dir.join("ratings.csv"), force)
 }

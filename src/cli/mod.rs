@@ -100,9 +100,10 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
         Command::DemoData { dir, force } => {
             crate::demo::write_all(&dir, force)?;
             println!(
-                "wrote {} and {}",
+                "wrote {}, {} and {}",
                 dir.join("commute.csv").display(),
-                dir.join("grocery.parquet").display()
+                dir.join("grocery.parquet").display(),
+                dir.join("ratings.csv").display()
             );
             Ok(ExitCode::SUCCESS)
         }

@@ -65,6 +65,17 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
             return;
         }
     };
+    if l.model.fit.family.abilities().ordered {
+        let msg = format!(
+            "diversion does not apply to the {} family: its categories are ratings on one ordered scale, never withdrawn or added. The what-if and elasticities views show how the characteristics move the ratings.",
+            l.model.fit.family.name()
+        );
+        Paragraph::new(msg)
+            .wrap(ratatui::widgets::Wrap { trim: true })
+            .block(panel("diversion", t))
+            .render(area, buf);
+        return;
+    }
     let alts = l.model.spec.alternative_names();
     let mut removed: Vec<String> = Vec::new();
     for r in &a.diversion {

@@ -233,3 +233,21 @@ fn monte_carlo_coverage_of_95_percent_intervals() {
         per.join(", ")
     );
 }
+
+#[test]
+fn ratings_demo_recovers_the_parameters_it_was_simulated_from() {
+    // The delivery ratings are simulated in src/demo.rs from RATINGS_TRUTH (an
+    // ordered logit with logistic draws).
+    let (spec, fit) = fit_file("specs/delivery_ratings.toml");
+    assert!(fit.stats.converged);
+    assert_eq!(spec.parameters.len(), sharecast::demo::RATINGS_TRUTH.len());
+    for (name, truth) in sharecast::demo::RATINGS_TRUTH {
+        let row = &fit.parameters[spec.parameter_index(name).unwrap()];
+        let z = (row.estimate - truth) / row.std_error;
+        assert!(
+            z.abs() < 3.0,
+            "{name}: {} vs truth {truth} (z = {z:.2})",
+            row.estimate
+        );
+    }
+}

@@ -772,3 +772,22 @@ fn a_nested_model_shows_its_nests_and_the_pull_within_them() {
     assert!(to("bus") > to("car") && to("bus") > to("bike") && to("bus") > to("walk"));
     has(&s, &[&format!("{:.3}", to("bus"))]);
 }
+
+#[test]
+fn an_ordered_model_says_which_views_do_not_apply() {
+    let mut app = demo(&["specs/delivery_ratings.toml"]);
+    has(
+        &screen(&app, 120, 40),
+        &["ordered-logit", "very_poor", "excellent"],
+    );
+    keys(&mut app, "4");
+    has(
+        &screen(&app, 120, 40),
+        &["diversion does not apply to the ordered-logit family"],
+    );
+    keys(&mut app, "2");
+    has(
+        &screen(&app, 120, 60),
+        &["cut-points", "cut_very_poor", "wait_minutes"],
+    );
+}

@@ -7,6 +7,7 @@
 //! the ordered region (an unordered vector has log-likelihood -inf), so they
 //! are estimated and reported as thresholds, their errors from the Hessian in
 //! that form (the delta method of any other parameterisation gives the same).
+//! Gradient and Hessian are analytic.
 //! Every alternative's utility is the index, so dP/dV is carried on the first.
 
 use super::normal;
@@ -99,6 +100,20 @@ impl Ordered {
         }
     }
 
+    /// The density's derivative f'(t).
+    fn dpdf(&self, t: f64) -> f64 {
+        if !t.is_finite() {
+            0.0
+        } else if self.probit {
+            -t * normal::pdf(t)
+        } else {
+            let e = (-t.abs()).exp();
+            let f = e / ((1.0 + e) * (1.0 + e));
+            // f' = f (1 - 2F), F(t) = 1/(1+e^-t); with e = e^-|t|, 1 - 2F = -sign(t)(1-e)/(1+e).
+            -t.signum() * f * (1.0 - e) / (1.0 + e)
+        }
+    }
+
     fn pdf(&self, t: f64) -> f64 {
         if self.probit {
             normal::pdf(t)
@@ -133,43 +148,79 @@ impl Ordered {
             && self.cuts.iter().all(|&p| beta[p].is_finite())
     }
 
-    /// Adds situation `i`'s weighted term to `ll` and its score to `grad`.
+    /// Adds situation `i`'s weighted term to `ll`, its score to `grad` and, when
+    /// given, its Hessian (K x K, row-major) to `hess`; `x` is scratch of length K.
+    #[allow(clippy::too_many_arguments)]
     fn situation(
         &self,
         d: &Design,
         beta: &[f64],
         i: usize,
         v: &mut [f64],
+        x: &mut [f64],
         ll: &mut Compensated,
         grad: Option<&mut [f64]>,
+        hess: Option<&mut [f64]>,
     ) {
         let w = d.obs.weight[i];
         let c = d.obs.chosen[i] as usize;
         d.utilities(beta, i, v);
         let xb = v[c];
         let (lo, hi) = self.bounds(beta, c);
-        let p = self.between(lo - xb, hi - xb);
+        let (a, b) = (hi - xb, lo - xb);
+        let p = self.between(b, a);
         ll.add(w * p.ln());
         let Some(g) = grad else { return };
-        let f_hi = if hi.is_finite() {
-            self.pdf(hi - xb)
-        } else {
-            0.0
-        };
-        let f_lo = if lo.is_finite() {
-            self.pdf(lo - xb)
-        } else {
-            0.0
-        };
-        let dxb = -(f_hi - f_lo) / p;
+        let fa = if a.is_finite() { self.pdf(a) } else { 0.0 };
+        let fb = if b.is_finite() { self.pdf(b) } else { 0.0 };
+        // The index's values: x (dense over the K parameters).
+        x.iter_mut().for_each(|e| *e = 0.0);
         for f in &d.features[c] {
-            g[f.param] += w * dxb * d.value(i, c, f.value);
+            x[f.param] += d.value(i, c, f.value);
         }
-        if c < self.cuts.len() {
-            g[self.cuts[c]] += w * f_hi / p;
+        let (ga, gb) = (fa / p, -fb / p);
+        for (gk, xk) in g.iter_mut().zip(x.iter()) {
+            *gk -= w * (ga + gb) * xk;
         }
-        if c > 0 {
-            g[self.cuts[c - 1]] -= w * f_lo / p;
+        let upper = self.cuts.get(c).copied();
+        let lower = c.checked_sub(1).map(|k| self.cuts[k]);
+        if let Some(u) = upper {
+            g[u] += w * ga;
+        }
+        if let Some(l) = lower {
+            g[l] += w * gb;
+        }
+        let Some(h) = hess else { return };
+        let k = x.len();
+        let haa = self.dpdf(a) / p - ga * ga;
+        let hbb = -self.dpdf(b) / p - gb * gb;
+        let hab = -ga * gb;
+        // d/d beta = -(d/da + d/db) x; cut-points enter a (upper) and b (lower).
+        let hxx = haa + 2.0 * hab + hbb;
+        for r in 0..k {
+            if x[r] == 0.0 {
+                continue;
+            }
+            for s in 0..k {
+                h[r * k + s] += w * hxx * x[r] * x[s];
+            }
+        }
+        let mut cross = |cut: usize, hc: f64, hself: f64| {
+            for r in 0..k {
+                h[r * k + cut] -= w * hc * x[r];
+                h[cut * k + r] -= w * hc * x[r];
+            }
+            h[cut * k + cut] += w * hself;
+        };
+        if let Some(u) = upper {
+            cross(u, haa + hab, haa);
+        }
+        if let Some(l) = lower {
+            cross(l, hab + hbb, hbb);
+        }
+        if let (Some(u), Some(l)) = (upper, lower) {
+            h[u * k + l] += w * hab;
+            h[l * k + u] += w * hab;
         }
     }
 }
@@ -185,50 +236,58 @@ impl Family for Ordered {
 
     fn abilities(&self) -> Abilities {
         Abilities {
+            analytic_hessian: true,
             ordered: true,
             ..Abilities::default()
         }
     }
 
-    fn evaluate(&self, d: &Design, beta: &[f64], want_grad: bool, _want_hess: bool) -> Eval {
+    fn evaluate(&self, d: &Design, beta: &[f64], want_grad: bool, want_hess: bool) -> Eval {
         let k = d.params;
+        let want_grad = want_grad || want_hess;
         if !self.ordered(beta) {
             return Eval {
                 ll: f64::NEG_INFINITY,
                 grad: if want_grad { vec![0.0; k] } else { Vec::new() },
-                hess: None,
+                hess: want_hess.then(|| vec![0.0; k * k]),
             };
         }
         let parts = on_pieces(d.situations(), |r| {
             let mut v = vec![0.0; d.alternatives()];
+            let mut x = vec![0.0; k];
             let mut ll = Compensated::default();
             let mut g = vec![0.0; if want_grad { k } else { 0 }];
+            let mut h = vec![0.0; if want_hess { k * k } else { 0 }];
             for i in r {
                 let grad = want_grad.then_some(g.as_mut_slice());
-                self.situation(d, beta, i, &mut v, &mut ll, grad);
+                let hess = want_hess.then_some(h.as_mut_slice());
+                self.situation(d, beta, i, &mut v, &mut x, &mut ll, grad, hess);
             }
-            (ll, g)
+            (ll, g, h)
         });
         let mut ll = Compensated::default();
         let mut grad = vec![0.0; if want_grad { k } else { 0 }];
-        for (l, g) in parts {
+        let mut hess = vec![0.0; if want_hess { k * k } else { 0 }];
+        for (l, g, h) in parts {
             ll.add(l.value());
             grad.iter_mut().zip(&g).for_each(|(a, b)| *a += b);
+            hess.iter_mut().zip(&h).for_each(|(a, b)| *a += b);
         }
         Eval {
             ll: ll.value(),
             grad,
-            hess: None,
+            hess: want_hess.then_some(hess),
         }
     }
 
     fn for_each_score(&self, d: &Design, beta: &[f64], f: &mut dyn FnMut(usize, &[f64])) {
         let mut v = vec![0.0; d.alternatives()];
+        let mut x = vec![0.0; d.params];
         let mut g = vec![0.0; d.params];
         let mut ll = Compensated::default();
         for i in 0..d.situations() {
-            g.iter_mut().for_each(|x| *x = 0.0);
-            self.situation(d, beta, i, &mut v, &mut ll, Some(&mut g));
+            g.iter_mut().for_each(|e| *e = 0.0);
+            self.situation(d, beta, i, &mut v, &mut x, &mut ll, Some(&mut g), None);
             f(i, &g);
         }
     }

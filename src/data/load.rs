@@ -121,7 +121,14 @@ pub fn read(path: &Path, numeric: &[String], text: &[String]) -> Result<Table> {
         }
         Format::Parquet => {
             let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
-            ParquetReader::new(file)
+            let mut reader = ParquetReader::new(file);
+            let schema = reader.schema().map_err(|e| polars_err(path, e))?;
+            for c in &wanted {
+                if let Some(field) = schema.get(c.as_str()) {
+                    parquet_type_usable(path, c, field.dtype(), is_text(c))?;
+                }
+            }
+            reader
                 .with_columns(Some(wanted.clone()))
                 .finish()
                 .map_err(|e| polars_err(path, e))?
@@ -171,6 +178,53 @@ pub fn read(path: &Path, numeric: &[String], text: &[String]) -> Result<Table> {
         table.insert(name, converted);
     }
     Ok(table)
+}
+
+/// Whether a Parquet column's type can be read: every integer, float and
+/// decimal type is cast to f64, booleans to 0/1, and text is read as text. Any
+/// other type (dates, times, lists, structs, ...) is refused naming the column.
+fn parquet_type_usable(path: &Path, name: &str, dt: &ArrowDataType, text: bool) -> Result<()> {
+    use ArrowDataType as A;
+    let ok = matches!(
+        dt,
+        A::Int8
+            | A::Int16
+            | A::Int32
+            | A::Int64
+            | A::UInt8
+            | A::UInt16
+            | A::UInt32
+            | A::UInt64
+            | A::Float32
+            | A::Float64
+            | A::Boolean
+            | A::Null
+            | A::Decimal(_, _)
+            | A::Utf8
+            | A::LargeUtf8
+            | A::Utf8View
+    );
+    if ok {
+        return Ok(());
+    }
+    let wanted = if text { "text or numbers" } else { "numbers" };
+    let kind = match dt {
+        A::Date32 | A::Date64 => "date".to_string(),
+        A::Timestamp(_, _) => "timestamp".to_string(),
+        A::Time32(_) | A::Time64(_) => "time of day".to_string(),
+        A::Duration(_) | A::Interval(_) => "duration".to_string(),
+        A::List(_) | A::LargeList(_) | A::FixedSizeList(_, _) => "list".to_string(),
+        A::Struct(_) => "struct".to_string(),
+        A::Binary | A::LargeBinary | A::BinaryView | A::FixedSizeBinary(_) => "binary".to_string(),
+        A::Dictionary(_, _, _) => "dictionary (categorical)".to_string(),
+        other => format!("{other:?}"),
+    };
+    Err(Error::data(
+        path,
+        format!(
+            "column `{name}` has the Parquet type {kind}, which cannot be used here (wanted: {wanted}); convert it to a number or text column"
+        ),
+    ))
 }
 
 fn numeric_values(s: &Series) -> PolarsResult<Vec<f64>> {

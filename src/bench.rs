@@ -490,7 +490,7 @@ pub fn run(args: Options) -> Result<ExitCode> {
     let spec_path = write_set(&dir, args.model, args.situations)?;
     let generate_s = t.elapsed().as_secs_f64();
     if args.write_only {
-        println!(
+        crate::outln!(
             "wrote {} and {} ({} situations, {} model, {:.1} s)",
             dir.join("bench.csv").display(),
             spec_path.display(),
@@ -535,7 +535,7 @@ fn profile(args: &Options, spec_path: &Path, passes: usize) -> Result<ExitCode> 
         ll += family.evaluate(&d, &beta, true, args.hessian).ll;
     }
     let s = t.elapsed().as_secs_f64() / passes.max(1) as f64;
-    println!(
+    crate::outln!(
         "{passes} passes{}: {} each, {:.1} ns per situation (log-likelihood {:.6})",
         if args.hessian {
             " with the Hessian"
@@ -749,11 +749,11 @@ fn measure(args: &Options, spec_path: &Path, generate_s: f64) -> Result<ExitCode
     doc["simpler_pass_seconds"] = json!(simpler_s);
     doc["pass_over_simpler"] = json!(simpler_s.map(|x| pass_s / x));
     if args.json {
-        println!("{}", serde_json::to_string_pretty(&doc).unwrap_or_default());
+        crate::outln!("{}", serde_json::to_string_pretty(&doc).unwrap_or_default());
         return Ok(ExitCode::SUCCESS);
     }
     let n = d.situations();
-    println!(
+    crate::outln!(
         "sharecast bench: {} situations x {} alternatives, {} parameters ({} model), {} threads",
         n,
         d.alternatives(),
@@ -761,7 +761,7 @@ fn measure(args: &Options, spec_path: &Path, generate_s: f64) -> Result<ExitCode
         args.model.label(),
         threads
     );
-    println!();
+    crate::outln!();
     let rows: Vec<(&str, String)> = vec![
         (
             "simulate and write the CSV",
@@ -872,7 +872,7 @@ fn measure(args: &Options, spec_path: &Path, generate_s: f64) -> Result<ExitCode
     rows.push(("largest |estimate - truth| / s.e.", format!("{max_z:.2}")));
     let width = rows.iter().map(|r| r.0.len()).max().unwrap_or(0);
     for (k, v) in rows {
-        println!("  {k:<width$}  {v}");
+        crate::outln!("  {k:<width$}  {v}");
     }
     Ok(ExitCode::SUCCESS)
 }

@@ -55,6 +55,21 @@ impl Default for Options {
     }
 }
 
+impl Options {
+    /// Refuses options that would give no figure or could not be held in
+    /// memory: an arc change that is zero, not a number or -100% or below, and
+    /// more than `delta::MAX_DRAWS` draws. `params` is the number of parameters.
+    pub fn check(&self, params: usize) -> Result<()> {
+        let pct = self.arc_change * 100.0;
+        if !self.arc_change.is_finite() || self.arc_change == 0.0 || self.arc_change <= -1.0 {
+            return Err(Error::Usage(format!(
+                "--arc {pct}: the arc change must be a finite percentage other than 0 and above -100 (e.g. 10 or -5)"
+            )));
+        }
+        delta::check_draws(self.draws, params, 0)
+    }
+}
+
 #[derive(Clone, Debug, Serialize)]
 pub struct Analysis {
     pub arc_change: f64,
@@ -71,6 +86,15 @@ pub struct Analysis {
     pub family_test: Option<ChiTest>,
     pub iia: Option<IiaTest>,
     pub warnings: Vec<String>,
+}
+
+/// A text the user wrote, cut to 60 characters for echoing in a message.
+fn clip(text: &str) -> String {
+    if text.chars().count() > 60 {
+        text.chars().take(57).chain("…".chars()).collect()
+    } else {
+        text.to_string()
+    }
 }
 
 /// The alternatives where attribute `a` enters.
@@ -189,17 +213,23 @@ pub fn diversion_attribute(spec: &Spec, requested: Option<&str>) -> Result<Optio
 }
 
 pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<Analysis> {
+    opts.check(fit.beta.len())?;
     let d = &fit.design;
     let names = spec.alternative_names();
     let mut warnings = Vec::new();
     let (elasticities, marginal_effects, sens) = sensitivity_rows(spec, fit, opts.arc_change);
 
-    let draws = if spec.ratios.is_empty() {
+    let draws = if spec.ratios.is_empty() || opts.draws == 0 {
         None
     } else {
         delta::draws(fit, opts.draws, opts.seed)
     };
-    if !spec.ratios.is_empty() && draws.is_none() {
+    if !spec.ratios.is_empty() && opts.draws == 0 {
+        warnings.push(
+            "--draws 0: no Krinsky-Robb intervals were drawn for the value ratios (shown as —)"
+                .into(),
+        );
+    } else if !spec.ratios.is_empty() && draws.is_none() {
         warnings.push(
             "the covariance is not positive definite, so no Krinsky-Robb draws were made".into(),
         );
@@ -237,7 +267,7 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
     for text in &opts.restrictions {
         restrictions.push(
             crate::spec::parse_restriction(text, &spec.parameters)
-                .map_err(|m| Error::Usage(format!("--restrict `{text}`: {m}")))?,
+                .map_err(|m| Error::Usage(format!("--restrict `{}`: {m}", clip(text))))?,
         );
     }
     let wald = if restrictions.is_empty() {

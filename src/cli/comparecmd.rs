@@ -45,9 +45,9 @@ pub fn run(args: CompareArgs) -> Result<ExitCode> {
             .map(|(f, p)| json!({ "spec": p.display().to_string(), "parameters": f.parameters, "fit": f.stats }))
             .collect();
         let doc = json!({ "models": models, "comparison": c });
-        println!("{}", serde_json::to_string_pretty(&doc).unwrap_or_default());
+        crate::outln!("{}", serde_json::to_string_pretty(&doc).unwrap_or_default());
     } else {
-        print!("{}", crate::report::compare::text(&labels, &refs, &c));
+        crate::out!("{}", crate::report::compare::text(&labels, &refs, &c));
     }
     Ok(ExitCode::SUCCESS)
 }

@@ -155,10 +155,18 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
             "\nvalue ratios            value      s.e.   delta 95%               Krinsky-Robb 95%"
         );
         for r in &a.ratios {
+            let kr = if r.draws == 0 {
+                format!("{:>9} … {:<9} (no draws)", "—", "—")
+            } else {
+                format!(
+                    "{:>9.4} … {:<9.4} ({} draws, seed {})",
+                    r.kr_low, r.kr_high, r.draws, r.seed
+                )
+            };
             let _ = writeln!(
                 s,
-                "  {:<18}{:>10.4}{:>10.4}   {:>9.4} … {:<9.4}   {:>9.4} … {:<9.4} ({} draws, seed {})",
-                r.name, r.value, r.std_error, r.ci_low, r.ci_high, r.kr_low, r.kr_high, r.draws, r.seed
+                "  {:<18}{:>10.4}{:>10.4}   {:>9.4} … {:<9.4}   {kr}",
+                r.name, r.value, r.std_error, r.ci_low, r.ci_high
             );
         }
     }

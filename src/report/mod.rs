@@ -53,6 +53,30 @@ pub fn pval(p: f64) -> String {
     }
 }
 
+/// Writes text to standard output, checked: a failed write (a full disk,
+/// `> /dev/full`) is an error value for a message and a non-zero exit; a closed
+/// pipe (`| head`) is not an error, the rest of the output is simply dropped.
+pub fn say(text: &str) -> crate::error::Result<()> {
+    use std::io::Write;
+    let mut out = std::io::stdout().lock();
+    match out.write_all(text.as_bytes()).and_then(|()| out.flush()) {
+        Ok(()) => Ok(()),
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+        Err(e) => Err(crate::error::Error::io(
+            "standard output",
+            format!("could not write the output: {e}"),
+        )),
+    }
+}
+
+/// Writes text to standard error without ever failing: progress lines and
+/// notes are not worth an abort if stderr is gone.
+pub fn note(text: &str) {
+    use std::io::Write;
+    let mut err = std::io::stderr().lock();
+    let _ = err.write_all(text.as_bytes()).and_then(|()| err.flush());
+}
+
 /// Whether stdout is a colour terminal.
 pub fn colour() -> bool {
     use std::io::IsTerminal;
@@ -65,4 +89,23 @@ pub fn red(s: &str, on: bool) -> String {
     } else {
         s.to_string()
     }
+}
+
+/// `print!` through the checked writer: returns early with the error on a failed write.
+#[macro_export]
+macro_rules! out {
+    ($($t:tt)*) => { $crate::report::say(&format!($($t)*))? };
+}
+
+/// `println!` through the checked writer: returns early with the error on a failed write.
+#[macro_export]
+macro_rules! outln {
+    () => { $crate::report::say("\n")? };
+    ($($t:tt)*) => { $crate::report::say(&format!("{}\n", format_args!($($t)*)))? };
+}
+
+/// `eprintln!` that never panics (see `note`).
+#[macro_export]
+macro_rules! errln {
+    ($($t:tt)*) => { $crate::report::note(&format!("{}\n", format_args!($($t)*))) };
 }

@@ -11,6 +11,7 @@ mod edge_cases;
 mod families;
 mod fit_cli;
 mod layouts;
+mod limits;
 mod nested;
 mod recovery;
 mod references;

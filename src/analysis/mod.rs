@@ -281,6 +281,11 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
             let m = spec.alternative_index(name).ok_or_else(|| {
                 Error::Usage(format!("--iia-drop: `{name}` is not an alternative"))
             })?;
+            if m == spec.base {
+                return Err(Error::Usage(format!(
+                    "--iia-drop: `{name}` is the base alternative, the one every constant and characteristic coefficient is measured from, so the test cannot drop it; drop another alternative, or make another one the base ([model].base) to test this one"
+                )));
+            }
             Some(hypothesis::hausman_mcfadden(spec, &ds.obs, fit, m)?)
         }
         None => None,

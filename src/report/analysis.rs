@@ -259,12 +259,18 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
     if let Some(t) = &a.iia {
         let _ = writeln!(
             s,
-            "\nIIA (Hausman-McFadden, `{}` dropped): statistic {:.4}, {} df, p {}  — compared {}",
+            "\nIIA (Hausman-McFadden, `{}` dropped): statistic {:.4}, {} df, p {}",
             t.dropped,
             t.statistic,
             t.df,
             super::pval(t.p_value),
-            t.compared.join(", ")
+        );
+        let _ = writeln!(
+            s,
+            "  the coefficients {} are estimated again without `{}`; if IIA holds they should barely move. The {} degrees of freedom count the independent ways they can move that the test measures.",
+            t.compared.join(", "),
+            t.dropped,
+            t.df
         );
         if let Some(n) = &t.note {
             let _ = writeln!(s, "  note: {n}");

@@ -476,3 +476,17 @@ fn arc_and_draws_out_of_range_are_refused_or_dashed() {
     );
     assert!(r.1.contains("--draws 0"), "{}", r.1);
 }
+
+#[test]
+fn the_iia_test_cannot_drop_the_base_and_says_why() {
+    let d = setup("iia_base", CSV, &spec("d.csv", ""));
+    let r = run_in(
+        &d,
+        &["fit", "spec.toml", "--iia-drop", "a", "--allow-unconverged"],
+        60,
+    );
+    fails_with(
+        &r,
+        &["--iia-drop", "`a` is the base alternative", "[model].base"],
+    );
+}

@@ -42,7 +42,8 @@ pub fn run(args: CompareArgs) -> Result<ExitCode> {
         let models: Vec<_> = fits
             .iter()
             .zip(&args.specs)
-            .map(|(f, p)| json!({ "spec": p.display().to_string(), "parameters": f.parameters, "fit": f.stats }))
+            .enumerate()
+            .map(|(i, (f, p))| json!({ "id": compare::model_id(i), "spec": p.display().to_string(), "errors": crate::report::errors_label(f), "parameters": f.parameters, "fit": f.stats }))
             .collect();
         let doc = json!({ "models": models, "comparison": c });
         crate::outln!("{}", serde_json::to_string_pretty(&doc).unwrap_or_default());

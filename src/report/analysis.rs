@@ -222,7 +222,7 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
     if let Some(h) = &v.holdout {
         let _ = writeln!(
             s,
-            "  hold-out: {} situations scored by a fit on the other {}; log-likelihood {:.4} (equal shares {:.4})",
+            "  hold-out: {} situations scored by a fit on the other {}; log-likelihood {:.4} (zero model {:.4})",
             h.situations, h.estimation_situations, h.log_likelihood, h.null_log_likelihood
         );
         for r in &h.shares {

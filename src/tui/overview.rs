@@ -109,10 +109,10 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
             spec.family, spec.alternatives[spec.base].name, s.estimated_parameters
         )),
         row("log-likelihood", fixed(s.log_likelihood, 3)),
-        row("  at equal shares", fixed(s.null_log_likelihood, 3)),
+        row("  zero model", fixed(s.null_log_likelihood, 3)),
         row("  constants only", fixed(s.constants_log_likelihood, 3)),
         Line::from(vec![
-            Span::raw("rho² "),
+            Span::raw("rho² vs zero "),
             Span::styled(fixed(s.rho_squared, 4), t.bold()),
             Span::raw(" · vs constants "),
             Span::styled(fixed(s.rho_squared_constants, 4), t.bold()),

@@ -18,3 +18,4 @@ mod references;
 mod scenarios;
 mod spec_errors;
 mod tui;
+mod wording;

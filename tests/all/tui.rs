@@ -167,9 +167,11 @@ fn estimates_are_grouped_by_term_with_errors_sort_and_ratios() {
     has(
         &s,
         &[
-            "0.16183",
-            "<.0001",
-            "robust s.e. clustered",
+            "-0.58466 ± 0.13993",
+            "2.9e-5",
+            "< 1e-12",
+            "value ± s.e. clustered by decision maker",
+            "own scale per row",
             "├",
             "●",
             "┤",
@@ -178,7 +180,10 @@ fn estimates_are_grouped_by_term_with_errors_sort_and_ratios() {
         ],
     );
     keys(&mut app, "e");
-    has(&screen(&app, 100, 40), &["classical s.e.", "0.15317"]);
+    has(
+        &screen(&app, 100, 40),
+        &["value ± s.e. from the Hessian", "-0.58466 ± 0.13661"],
+    );
     keys(&mut app, "es");
     let s = screen(&app, 100, 40);
     let at = |n: &str| s.find(n).unwrap();
@@ -525,15 +530,19 @@ fn compare_sets_two_specs_side_by_side() {
     has(
         &s,
         &[
-            "[1] specs/commute.toml",
-            "[2] specs/commute_generic.toml",
+            "M1 specs/commute.toml",
+            "M2 specs/commute_generic.toml",
+            "s.e. clustered by decision maker",
             "asc_bus",
+            "-0.58466 ± 0.13993",
             "AIC (rank)",
-            "[2] nests in [1]",
+            "rho² vs zero",
+            "M2 nests in M1",
             "LR χ²",
         ],
     );
-    has(&s, &["model 1/2"]);
+    assert!(!s.contains("<.0001") && !s.contains("[1]"), "{s}");
+    has(&s, &["M1 of 2 models"]);
     keys(&mut app, &"j".repeat(200));
     let most = sharecast::tui::compare::height(&app) as u16;
     assert!(
@@ -544,7 +553,7 @@ fn compare_sets_two_specs_side_by_side() {
     keys(&mut app, "gm");
     has(
         &screen(&app, 100, 40),
-        &["model 2/2", "specs/commute_generic.toml · logit"],
+        &["M2 of 2 models", "specs/commute_generic.toml · logit"],
     );
 }
 

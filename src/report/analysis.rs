@@ -152,21 +152,34 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
     if !a.ratios.is_empty() {
         let _ = writeln!(
             s,
-            "\nvalue ratios            value      s.e.   delta 95%               Krinsky-Robb 95%"
+            "\nvalue ratios: willingness to pay, positive when the change named is desirable (value ± delta-method s.e.)"
         );
         for r in &a.ratios {
             let kr = if r.draws == 0 {
-                format!("{:>9} … {:<9} (no draws)", "—", "—")
+                "— … — (no draws)".to_string()
             } else {
                 format!(
-                    "{:>9.4} … {:<9.4} ({} draws, seed {})",
+                    "{:.4} … {:.4} ({} draws, seed {})",
                     r.kr_low, r.kr_high, r.draws, r.seed
                 )
             };
             let _ = writeln!(
                 s,
-                "  {:<18}{:>10.4}{:>10.4}   {:>9.4} … {:<9.4}   {kr}",
-                r.name, r.value, r.std_error, r.ci_low, r.ci_high
+                "  {:<18}{:>10.4} ± {:<9.4} {}",
+                r.name,
+                r.value,
+                r.std_error,
+                r.unit.as_deref().unwrap_or("")
+            );
+            let _ = writeln!(
+                s,
+                "  {:<18}for one {} of `{}` against `{}` · 95% delta {:.4} … {:.4} · Krinsky-Robb {kr}",
+                "",
+                r.per,
+                r.numerator,
+                r.denominator,
+                r.ci_low,
+                r.ci_high
             );
         }
     }

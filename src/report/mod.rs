@@ -17,8 +17,13 @@ pub fn cautions(spec: &Spec, family: &dyn Family) -> String {
         .caution(spec)
         .map(|c| format!(" {c}"))
         .unwrap_or_default();
+    let field = spec
+        .field
+        .caution()
+        .map(|c| format!(" {c}"))
+        .unwrap_or_default();
     format!(
-        "Cautions: forecasts rest on the model's assumptions and on how well the sample represents the population it is applied to.{iia} Transport appraisal should follow the local official guidance on values and methods."
+        "Cautions: forecasts rest on the model's assumptions and on how well the sample represents the population it is applied to.{iia}{field}"
     )
 }
 

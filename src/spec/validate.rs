@@ -374,11 +374,30 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
                 ))
             })
         };
+        let per_less = match r.per.as_deref() {
+            None | Some("unit more") => false,
+            Some("unit less") => true,
+            Some(other) => {
+                return Err(fail(format!(
+                    "[[ratio]] {}: per = `{other}` is not one of \"unit more\" (the default: willingness to pay for one more unit of the numerator's variable) or \"unit less\" (for one unit less, a saving)",
+                    r.name
+                )))
+            }
+        };
+        let scale = r.scale.unwrap_or(1.0);
+        if !scale.is_finite() || scale == 0.0 {
+            return Err(fail(format!(
+                "[[ratio]] {}: scale must be a finite number other than 0",
+                r.name
+            )));
+        }
         ratios.push(Ratio {
             name: r.name.clone(),
             numerator: find("numerator", &r.numerator)?,
             denominator: find("denominator", &r.denominator)?,
-            scale: r.scale.unwrap_or(1.0),
+            scale,
+            unit: r.unit.clone(),
+            per_less,
         });
     }
 
@@ -428,9 +447,20 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         );
     }
 
+    let field = match raw.field.as_deref() {
+        None => Field::General,
+        Some(name) => Field::parse(name).ok_or_else(|| {
+            fail(format!(
+                "field: `{name}` is not one of {}",
+                Field::NAMES.join(", ")
+            ))
+        })?,
+    };
+
     Ok(Spec {
         path: path.to_path_buf(),
         title: raw.title,
+        field,
         data,
         family,
         family_keys,

@@ -305,8 +305,8 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     block.render(bottom, buf);
     let mut lines = vec![Line::from(Span::styled(
         format!(
-            "{}{}{}{}{}",
-            left("ratio", 20),
+            "{}{}{}{}{}  unit",
+            left("ratio (WTP)", 20),
             right("value", 10),
             right("s.e.", 9),
             right("delta 95%", 18),
@@ -317,14 +317,17 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     match ratios {
         Some(rs) => {
             for r in rs {
-                lines.push(Line::from(format!(
-                    "{}{}{}{}{}",
-                    left(&r.name, 20),
-                    right(&fixed(r.value, 4), 10),
-                    right(&fixed(r.std_error, 4), 9),
-                    right(&format!("{}…{}", short(r.ci_low), short(r.ci_high)), 18),
-                    right(&format!("{}…{}", short(r.kr_low), short(r.kr_high)), 19),
-                )));
+                lines.push(Line::from(vec![
+                    Span::raw(format!(
+                        "{}{}{}{}{}",
+                        left(&r.name, 20),
+                        right(&fixed(r.value, 4), 10),
+                        right(&fixed(r.std_error, 4), 9),
+                        right(&format!("{}…{}", short(r.ci_low), short(r.ci_high)), 18),
+                        right(&format!("{}…{}", short(r.kr_low), short(r.kr_high)), 19),
+                    )),
+                    Span::styled(format!("  {}", r.unit.as_deref().unwrap_or("")), t.dim()),
+                ]));
             }
         }
         None => {

@@ -467,7 +467,7 @@ fn arc_and_draws_out_of_range_are_refused_or_dashed() {
     assert_eq!(r.0, 0, "{}", r.2);
     let line =
         r.1.lines()
-            .find(|l| l.starts_with("  r "))
+            .find(|l| l.contains("Krinsky-Robb —"))
             .unwrap_or_default();
     assert!(
         line.contains("(no draws)") && !line.to_lowercase().contains("nan"),

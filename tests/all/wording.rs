@@ -166,3 +166,81 @@ fn a_dangling_symbolic_link_is_not_replaced_without_force() {
     assert_eq!(r.0, 1, "{}", r.2);
     assert!(r.2.contains("symbolic link"), "{}", r.2);
 }
+
+#[test]
+fn value_ratios_are_willingness_to_pay_with_their_unit() {
+    // Sign convention (docs/methods.md): -scale·b_num/b_den for one unit more,
+    // +scale·b_num/b_den for one unit less. Fixed coefficients make it exact.
+    let extra = "[parameters]\ncost = { fixed = -0.5 }\nincome_b = { fixed = 0.25 }\n[[ratio]]\nname = \"more\"\nnumerator = \"income_b\"\ndenominator = \"cost\"\nunit = \"£ per thousand\"\n[[ratio]]\nname = \"less\"\nnumerator = \"income_b\"\ndenominator = \"cost\"\nscale = 2\nper = \"unit less\"\n";
+    let d = setup("ratio_sign", CSV, &spec("d.csv", extra));
+    let r = run_in(
+        &d,
+        &["fit", "spec.toml", "--json", "--allow-unconverged"],
+        60,
+    );
+    assert_eq!(r.0, 0, "{}", r.2);
+    let v: serde_json::Value = serde_json::from_str(&r.1).unwrap();
+    let rows = v["ratios"].as_array().unwrap();
+    // -1 · 0.25 / -0.5 = 0.5 for a unit more of a liked variable; 2 · 0.25 / -0.5 = -1 for a unit less
+    assert_eq!(rows[0]["value"].as_f64(), Some(0.5));
+    assert_eq!(rows[0]["unit"], "£ per thousand");
+    assert_eq!(rows[0]["per"], "unit more");
+    assert_eq!(rows[1]["value"].as_f64(), Some(-1.0));
+    assert_eq!(rows[1]["per"], "unit less");
+    let r = run_in(&d, &["fit", "spec.toml", "--allow-unconverged"], 60);
+    assert!(r.1.contains("0.5000 ± 0.0000    £ per thousand"), "{}", r.1);
+    assert!(r.1.contains("for one unit less of `income_b`"), "{}", r.1);
+    let bad = setup("ratio_per", CSV, &spec("d.csv", "[[ratio]]\nname = \"x\"\nnumerator = \"income_b\"\ndenominator = \"cost\"\nper = \"hour\"\n"));
+    let r = run_in(&bad, &["check", "spec.toml"], 60);
+    assert_eq!(r.0, 1, "{}", r.2);
+    assert!(
+        r.2.contains("[[ratio]] x") && r.2.contains("unit less"),
+        "{}",
+        r.2
+    );
+}
+
+#[test]
+fn check_says_which_shares_are_weighted() {
+    let (code, out, err) = run(&["check", "specs/commute.toml"]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("unweighted share  weighted share"), "{out}");
+    // car: 1570 of 6000 situations chosen (counted in demo-data/commute.csv)
+    assert!(
+        out.contains("1570           0.2617          0.2631"),
+        "{out}"
+    );
+    assert!(out.contains("as `fit` reports its shares"), "{out}");
+}
+
+#[test]
+fn the_field_picks_its_own_cautions() {
+    // The transport caution only where the spec says `field = "transport"`.
+    let (_, commute, _) = run(&["fit", "specs/commute.toml", "--no-analysis"]);
+    assert!(commute.contains("Transport appraisal"), "{commute}");
+    let (_, grocery, _) = run(&["fit", "specs/grocery.toml", "--no-analysis"]);
+    assert!(!grocery.contains("Transport"), "{grocery}");
+    let d = setup("field_default", CSV, &spec("d.csv", ""));
+    let r = run_in(
+        &d,
+        &["fit", "spec.toml", "--no-analysis", "--allow-unconverged"],
+        60,
+    );
+    assert!(
+        r.1.contains("Cautions:") && !r.1.contains("Transport"),
+        "{}",
+        r.1
+    );
+    write(
+        &d,
+        "bad.toml",
+        &format!("field = \"trains\"\n{}", spec("d.csv", "")),
+    );
+    let r = run_in(&d, &["check", "bad.toml"], 60);
+    assert_eq!(r.0, 1, "{}", r.2);
+    assert!(
+        r.2.contains("field: `trains`") && r.2.contains("transport"),
+        "{}",
+        r.2
+    );
+}

@@ -5,6 +5,7 @@
 pub mod compare;
 pub mod delta;
 pub mod diversion;
+pub mod flags;
 pub mod hypothesis;
 pub mod ratios;
 pub mod sensitivity;
@@ -19,6 +20,7 @@ use crate::estimate::Fit;
 use crate::spec::{Coefficient, Restriction, Spec};
 
 pub use diversion::{DiversionRow, PriceDiversionRow};
+pub use flags::FlagRow;
 pub use hypothesis::{ChiTest, IiaTest};
 pub use ratios::RatioRow;
 pub use sensitivity::{ElasticityRow, MarginalRow, Sens, TermMap};
@@ -75,6 +77,9 @@ pub struct Analysis {
     pub arc_change: f64,
     pub elasticities: Vec<ElasticityRow>,
     pub marginal_effects: Vec<MarginalRow>,
+    /// 0/1 variables: the change in shares when the flag switches from 0 to 1
+    /// (they have no elasticities or marginal effects).
+    pub flag_effects: Vec<FlagRow>,
     pub ratios: Vec<RatioRow>,
     pub diversion: Vec<DiversionRow>,
     pub price_diversion: Vec<PriceDiversionRow>,
@@ -125,6 +130,8 @@ pub fn sensitivity_rows(
     let names = spec.alternative_names();
     let baseline = Some(fit.baseline());
     let base_shares = simulate::shares(family, d, &fit.beta);
+    let flag_attr = flags::flag_attributes(d, &map);
+    let flag_char = flags::flag_characteristics(d);
     let mut el = Vec::new();
     let mut me = Vec::new();
     let off_me = na * j * j;
@@ -143,14 +150,17 @@ pub fn sensitivity_rows(
             });
             for jj in 0..j {
                 let idx = (a * j + k) * j + jj;
-                el.push(ElasticityRow {
-                    variable: attr.name.clone(),
-                    changed: Some(names[k].clone()),
-                    affected: names[jj].clone(),
-                    value: flat[idx],
-                    std_error: se[idx],
-                    arc: (arc[jj] / base_shares[jj] - 1.0) / arc_change,
-                });
+                // A 0/1 flag has no elasticity (see `flags`); its derivative is kept.
+                if !flag_attr[a] {
+                    el.push(ElasticityRow {
+                        variable: attr.name.clone(),
+                        changed: Some(names[k].clone()),
+                        affected: names[jj].clone(),
+                        value: flat[idx],
+                        std_error: se[idx],
+                        arc: (arc[jj] / base_shares[jj] - 1.0) / arc_change,
+                    });
+                }
                 me.push(MarginalRow {
                     variable: attr.name.clone(),
                     changed: Some(names[k].clone()),
@@ -172,14 +182,16 @@ pub fn sensitivity_rows(
         });
         for jj in 0..j {
             let idx = c * j + jj;
-            el.push(ElasticityRow {
-                variable: ch.name.clone(),
-                changed: None,
-                affected: names[jj].clone(),
-                value: flat[off_ce + idx],
-                std_error: se[off_ce + idx],
-                arc: (arc[jj] / base_shares[jj] - 1.0) / arc_change,
-            });
+            if !flag_char[c] {
+                el.push(ElasticityRow {
+                    variable: ch.name.clone(),
+                    changed: None,
+                    affected: names[jj].clone(),
+                    value: flat[off_ce + idx],
+                    std_error: se[off_ce + idx],
+                    arc: (arc[jj] / base_shares[jj] - 1.0) / arc_change,
+                });
+            }
             me.push(MarginalRow {
                 variable: ch.name.clone(),
                 changed: None,
@@ -218,6 +230,7 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
     let names = spec.alternative_names();
     let mut warnings = Vec::new();
     let (elasticities, marginal_effects, sens) = sensitivity_rows(spec, fit, opts.arc_change);
+    let flag_effects = flags::flag_rows(spec, fit, &TermMap::new(spec, d));
 
     let draws = if spec.ratios.is_empty() || opts.draws == 0 {
         None
@@ -294,6 +307,7 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
         arc_change: opts.arc_change,
         elasticities,
         marginal_effects,
+        flag_effects,
         ratios,
         diversion,
         price_diversion,

@@ -79,6 +79,9 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
             .iter()
             .filter(|e| e.variable == attr.name)
             .collect();
+        if rows.is_empty() {
+            continue; // a 0/1 flag: see the flag section
+        }
         let changed: Vec<String> = names
             .iter()
             .filter(|n| {
@@ -101,12 +104,13 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
                 .unwrap_or_default()
         });
     }
-    if !spec.characteristics.is_empty() {
-        let vars: Vec<String> = spec
-            .characteristics
-            .iter()
-            .map(|c| c.name.clone())
-            .collect();
+    let vars: Vec<String> = spec
+        .characteristics
+        .iter()
+        .map(|c| c.name.clone())
+        .filter(|n| a.elasticities.iter().any(|e| &e.variable == n))
+        .collect();
+    if !vars.is_empty() {
         let _ = writeln!(
             s,
             "  characteristics (the decision maker's value changes) → share"
@@ -120,7 +124,7 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
         });
         let _ = writeln!(
             s,
-            "\naverage marginal effects dP/dz of characteristics (± s.e.)"
+            "\naverage marginal effects of characteristics: change in each share per one unit more of the variable (± s.e.)"
         );
         matrix(&mut s, "variable \\ share", &vars, &names, &|r, c| {
             a.marginal_effects
@@ -130,6 +134,7 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
                 .unwrap_or_default()
         });
     }
+    flag_section(&mut s, &names, a);
     let own: Vec<&crate::analysis::ElasticityRow> = a
         .elasticities
         .iter()
@@ -293,4 +298,36 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
         let _ = writeln!(s, "  ! {w}");
     }
     s
+}
+
+/// 0/1 variables: the change in shares when the flag switches from 0 to 1.
+fn flag_section(s: &mut String, names: &[String], a: &Analysis) {
+    let mut seen: Vec<(String, Option<String>)> = Vec::new();
+    for f in &a.flag_effects {
+        let key = (f.variable.clone(), f.changed.clone());
+        if !seen.contains(&key) {
+            seen.push(key);
+        }
+    }
+    if seen.is_empty() {
+        return;
+    }
+    let _ = writeln!(
+        s,
+        "\n0/1 variables (no elasticity: a 1% change means nothing for a flag): change in each share when the flag switches from 0 to 1 in every situation (± delta-method s.e.)"
+    );
+    let rows: Vec<String> = seen
+        .iter()
+        .map(|(v, c)| match c {
+            Some(k) => format!("{v} of {k}"),
+            None => v.clone(),
+        })
+        .collect();
+    matrix(s, "flag \\ share", &rows, names, &|r, c| {
+        a.flag_effects
+            .iter()
+            .find(|f| f.variable == seen[r].0 && f.changed == seen[r].1 && f.affected == names[c])
+            .map(|f| cell(f.change, f.std_error))
+            .unwrap_or_default()
+    });
 }

@@ -245,7 +245,14 @@ fn elasticities_and_diversion_show_the_analysis_figures() {
             &format!("{:+.3}", own("cost", "rail").value),
         ],
     );
-    has(&s, &["▓", "warm: share falls", "marginal effects dP/dcost"]);
+    has(
+        &s,
+        &[
+            "▓",
+            "warm: share falls",
+            "change in share per unit more of cost",
+        ],
+    );
     keys(&mut app, "la");
     has(
         &screen(&app, 80, 24),
@@ -780,4 +787,20 @@ fn a_nested_model_shows_its_nests_and_the_pull_within_them() {
     };
     assert!(to("bus") > to("car") && to("bus") > to("bike") && to("bus") > to("walk"));
     has(&s, &[&format!("{:.3}", to("bus"))]);
+}
+
+#[test]
+fn a_message_goes_when_the_view_changes() {
+    // Regression: a message said on one view stayed on screen on the next.
+    let mut app = demo(&["specs/commute.toml"]);
+    keys(&mut app, "2m");
+    let text = app.status.as_ref().unwrap().text.clone();
+    assert!(text.contains("one model is open"), "{text}");
+    assert!(screen(&app, 100, 30).contains("one model is open"));
+    keys(&mut app, "3");
+    assert!(app.status.is_none());
+    assert!(!screen(&app, 100, 30).contains("one model is open"));
+    // the same view again keeps it
+    keys(&mut app, "m3");
+    assert!(app.status.is_some());
 }

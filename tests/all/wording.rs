@@ -244,3 +244,47 @@ fn the_field_picks_its_own_cautions() {
         r.2
     );
 }
+
+#[test]
+fn flags_report_the_switch_from_0_to_1_not_an_elasticity() {
+    // grocery: promo and eye_level are 0/1 attributes (demo-data/README.md).
+    let (code, out, err) = run(&["fit", "specs/grocery.toml", "--json", "--draws", "100"]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let el = v["elasticities"].as_array().unwrap();
+    assert!(el
+        .iter()
+        .all(|e| e["variable"] != "promo" && e["variable"] != "eye_level"));
+    assert!(el.iter().any(|e| e["variable"] == "price"));
+    let flags = v["flag_effects"].as_array().unwrap();
+    assert_eq!(
+        flags.len(),
+        2 * 5 * 5,
+        "two flags, five brands, five shares"
+    );
+    for f in flags {
+        let (s0, s1, ch) = (
+            f["share_at_0"].as_f64().unwrap(),
+            f["share_at_1"].as_f64().unwrap(),
+            f["change"].as_f64().unwrap(),
+        );
+        assert!((s1 - s0 - ch).abs() < 1e-15);
+        // facts of the logit with a positive flag coefficient: the own share rises, the others fall
+        if f["changed"] == f["affected"] {
+            assert!(ch > 0.0 && f["std_error"].as_f64().unwrap() > 0.0, "{f}");
+        } else {
+            assert!(ch < 0.0, "{f}");
+        }
+    }
+    // Shares add up to one at 0 and at 1, so the changes of one switch add up to zero.
+    for chunk in flags.chunks(5) {
+        let sum: f64 = chunk.iter().map(|f| f["change"].as_f64().unwrap()).sum();
+        assert!(sum.abs() < 1e-12, "{sum}");
+    }
+    let (_, text, _) = run(&["fit", "specs/grocery.toml", "--draws", "100"]);
+    assert!(
+        text.contains("0/1 variables (no elasticity") && text.contains("promo of own_label"),
+        "{text}"
+    );
+    assert!(!text.contains("  promo of the row's"), "{text}");
+}

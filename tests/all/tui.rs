@@ -167,8 +167,8 @@ fn estimates_are_grouped_by_term_with_errors_sort_and_ratios() {
     has(
         &s,
         &[
-            "-0.58466 ± 0.13993",
-            "2.9e-5",
+            "-0.82712 ± 0.16183",
+            "3.2e-7",
             "< 1e-12",
             "value ± s.e. clustered by decision maker",
             "own scale per row",
@@ -182,7 +182,7 @@ fn estimates_are_grouped_by_term_with_errors_sort_and_ratios() {
     keys(&mut app, "e");
     has(
         &screen(&app, 100, 40),
-        &["value ± s.e. from the Hessian", "-0.58466 ± 0.13661"],
+        &["value ± s.e. from the Hessian", "-0.82712 ± 0.15317"],
     );
     keys(&mut app, "es");
     let s = screen(&app, 100, 40);
@@ -541,7 +541,7 @@ fn compare_sets_two_specs_side_by_side() {
             "M2 specs/commute_generic.toml",
             "s.e. clustered by decision maker",
             "asc_bus",
-            "-0.58466 ± 0.13993",
+            "-0.82712 ± 0.16183",
             "AIC (rank)",
             "rho² vs zero",
             "M2 nests in M1",

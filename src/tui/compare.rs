@@ -126,7 +126,7 @@ fn content(app: &App, c: &Comparison, inner_w: usize) -> Vec<Line<'static>> {
     }
     lines.push(Line::from(""));
     lines.push(Line::from(Span::styled(
-        "zero model: every coefficient 0 (each situation's available alternatives equally likely)",
+        "zero model: all coefficients 0, available alternatives equally likely",
         t.dim(),
     )));
     if let Some(n) = &c.note {

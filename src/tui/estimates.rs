@@ -216,7 +216,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         .map(|r| r.name.chars().count())
         .max()
         .unwrap_or(0);
-    let (nw, ew, tw, pw, iw) = ((longest + 3).clamp(15, 26), 21, 8, 9, 17);
+    let (nw, ew, tw, pw, iw) = ((longest + 3).clamp(15, 26), 19, 7, 8, 16);
     let strip_w = w.saturating_sub(nw + ew + tw + pw + iw + 2).max(5);
     let mut lines = vec![Line::from(Span::styled(
         format!(

@@ -477,9 +477,21 @@ fn ms(s: f64) -> String {
     }
 }
 
+/// The largest synthetic data set the benchmark writes.
+pub const MAX_SITUATIONS: usize = 50_000_000;
+/// The most timed repetitions and profiling passes.
+pub const MAX_REPEATS: usize = 10_000;
+pub const MAX_PROFILE_PASSES: usize = 1_000_000;
+
 pub fn run(args: Options) -> Result<ExitCode> {
     if args.situations == 0 {
         return Err(Error::Usage("--situations must be at least 1".into()));
+    }
+    // About 1 kB per situation: the CSV, the loaded columns and the design.
+    crate::error::check_count("--situations", args.situations, MAX_SITUATIONS, 1000)?;
+    crate::error::check_count("--repeats", args.repeats, MAX_REPEATS, 0)?;
+    if let Some(p) = args.profile {
+        crate::error::check_count("--profile", p, MAX_PROFILE_PASSES, 0)?;
     }
     let temp = args.keep.is_none();
     let dir = match &args.keep {

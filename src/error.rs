@@ -53,9 +53,13 @@ pub fn check_count(option: &str, n: usize, limit: usize, bytes_each: usize) -> R
         return Ok(());
     }
     let bytes = n as f64 * bytes_each as f64;
+    let cost = if bytes_each == 0 {
+        String::new()
+    } else {
+        format!(": it would take about {} of memory", human_bytes(bytes))
+    };
     Err(Error::Usage(format!(
-        "{option} {n} is more than the {limit} allowed: it would take about {} of memory",
-        human_bytes(bytes)
+        "{option} {n} is more than the {limit} allowed{cost}"
     )))
 }
 

@@ -1,6 +1,8 @@
 //! The catalogue of bad inputs: spec, data and scenario files a user might
 //! bring, each giving a non-zero exit, a message naming the problem, and no
-//! panic; and awkward but valid files that must work.
+//! panic; and awkward but valid files that must work. Its other parts:
+//! `limits.rs` (crashes, overflows, hangs and silent nonsense found by pushing
+//! limits) and `wording.rs` (the reports' own wording and layout).
 
 use crate::common::*;
 

@@ -490,3 +490,44 @@ fn the_iia_test_cannot_drop_the_base_and_says_why() {
         &["--iia-drop", "`a` is the base alternative", "[model].base"],
     );
 }
+
+#[test]
+fn absurd_bench_counts_are_refused_before_any_work() {
+    // Regression: these wrote (or passed over) data for ever.
+    let d = scratch("bench_counts");
+    let max = usize::MAX.to_string();
+    let keep = d.join("b");
+    let keep = keep.to_str().unwrap();
+    for (args, opt) in [
+        (
+            vec![
+                "bench",
+                "--situations",
+                &max,
+                "--write-only",
+                "--keep",
+                keep,
+            ],
+            "--situations",
+        ),
+        (
+            vec![
+                "bench",
+                "--situations",
+                "100",
+                "--repeats",
+                &max,
+                "--no-process",
+            ],
+            "--repeats",
+        ),
+        (
+            vec!["bench", "--situations", "100", "--profile", &max],
+            "--profile",
+        ),
+    ] {
+        let r = run_in(&d, &args, 30);
+        fails_with(&r, &[opt, "allowed"]);
+    }
+    assert!(!d.join("b").join("bench.csv").exists());
+}

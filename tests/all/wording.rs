@@ -288,3 +288,30 @@ fn flags_report_the_switch_from_0_to_1_not_an_elasticity() {
     );
     assert!(!text.contains("  promo of the row's"), "{text}");
 }
+
+#[test]
+fn the_iia_test_says_what_its_degrees_of_freedom_count() {
+    let (code, out, err) = run(&[
+        "fit",
+        "specs/commute.toml",
+        "--iia-drop",
+        "bike",
+        "--draws",
+        "100",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let line = out
+        .lines()
+        .find(|l| l.starts_with("IIA"))
+        .unwrap_or_default();
+    assert!(
+        line.contains("`bike` dropped") && !line.contains("<.0001"),
+        "{out}"
+    );
+    assert!(
+        out.contains("are estimated again without `bike`; if IIA holds they should barely move")
+            && out.contains("degrees of freedom count the independent ways"),
+        "{out}"
+    );
+    assert!(!out.contains("V_restricted"), "{out}");
+}

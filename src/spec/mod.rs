@@ -3,6 +3,7 @@
 
 pub mod expr;
 pub mod family;
+mod ratio;
 pub mod raw;
 mod restriction;
 mod validate;

@@ -363,43 +363,7 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
     }
 
     // [[ratio]]
-    let mut ratios = Vec::new();
-    for r in &raw.ratio {
-        let find = |key: &str, name: &str| {
-            parameters.iter().position(|p| p.name == name).ok_or_else(|| {
-                fail(format!(
-                    "[[ratio]] {}: {key} `{name}` is not a parameter of this model (the model has: {})",
-                    r.name,
-                    known(&parameters)
-                ))
-            })
-        };
-        let per_less = match r.per.as_deref() {
-            None | Some("unit more") => false,
-            Some("unit less") => true,
-            Some(other) => {
-                return Err(fail(format!(
-                    "[[ratio]] {}: per = `{other}` is not one of \"unit more\" (the default: willingness to pay for one more unit of the numerator's variable) or \"unit less\" (for one unit less, a saving)",
-                    r.name
-                )))
-            }
-        };
-        let scale = r.scale.unwrap_or(1.0);
-        if !scale.is_finite() || scale == 0.0 {
-            return Err(fail(format!(
-                "[[ratio]] {}: scale must be a finite number other than 0",
-                r.name
-            )));
-        }
-        ratios.push(Ratio {
-            name: r.name.clone(),
-            numerator: find("numerator", &r.numerator)?,
-            denominator: find("denominator", &r.denominator)?,
-            scale,
-            unit: r.unit.clone(),
-            per_less,
-        });
-    }
+    let ratios = super::ratio::ratios(&raw.ratio, &parameters).map_err(fail)?;
 
     // [validation]
     let holdout = match &raw.validation {

@@ -477,9 +477,21 @@ fn ms(s: f64) -> String {
     }
 }
 
+/// The largest synthetic data set the benchmark writes.
+pub const MAX_SITUATIONS: usize = 50_000_000;
+/// The most timed repetitions and profiling passes.
+pub const MAX_REPEATS: usize = 10_000;
+pub const MAX_PROFILE_PASSES: usize = 1_000_000;
+
 pub fn run(args: Options) -> Result<ExitCode> {
     if args.situations == 0 {
         return Err(Error::Usage("--situations must be at least 1".into()));
+    }
+    // About 1 kB per situation: the CSV, the loaded columns and the design.
+    crate::error::check_count("--situations", args.situations, MAX_SITUATIONS, 1000)?;
+    crate::error::check_count("--repeats", args.repeats, MAX_REPEATS, 0)?;
+    if let Some(p) = args.profile {
+        crate::error::check_count("--profile", p, MAX_PROFILE_PASSES, 0)?;
     }
     let temp = args.keep.is_none();
     let dir = match &args.keep {
@@ -490,7 +502,7 @@ pub fn run(args: Options) -> Result<ExitCode> {
     let spec_path = write_set(&dir, args.model, args.situations)?;
     let generate_s = t.elapsed().as_secs_f64();
     if args.write_only {
-        println!(
+        crate::outln!(
             "wrote {} and {} ({} situations, {} model, {:.1} s)",
             dir.join("bench.csv").display(),
             spec_path.display(),
@@ -535,7 +547,7 @@ fn profile(args: &Options, spec_path: &Path, passes: usize) -> Result<ExitCode> 
         ll += family.evaluate(&d, &beta, true, args.hessian).ll;
     }
     let s = t.elapsed().as_secs_f64() / passes.max(1) as f64;
-    println!(
+    crate::outln!(
         "{passes} passes{}: {} each, {:.1} ns per situation (log-likelihood {:.6})",
         if args.hessian {
             " with the Hessian"
@@ -749,11 +761,11 @@ fn measure(args: &Options, spec_path: &Path, generate_s: f64) -> Result<ExitCode
     doc["simpler_pass_seconds"] = json!(simpler_s);
     doc["pass_over_simpler"] = json!(simpler_s.map(|x| pass_s / x));
     if args.json {
-        println!("{}", serde_json::to_string_pretty(&doc).unwrap_or_default());
+        crate::outln!("{}", serde_json::to_string_pretty(&doc).unwrap_or_default());
         return Ok(ExitCode::SUCCESS);
     }
     let n = d.situations();
-    println!(
+    crate::outln!(
         "sharecast bench: {} situations x {} alternatives, {} parameters ({} model), {} threads",
         n,
         d.alternatives(),
@@ -761,7 +773,7 @@ fn measure(args: &Options, spec_path: &Path, generate_s: f64) -> Result<ExitCode
         args.model.label(),
         threads
     );
-    println!();
+    crate::outln!();
     let rows: Vec<(&str, String)> = vec![
         (
             "simulate and write the CSV",
@@ -872,7 +884,7 @@ fn measure(args: &Options, spec_path: &Path, generate_s: f64) -> Result<ExitCode
     rows.push(("largest |estimate - truth| / s.e.", format!("{max_z:.2}")));
     let width = rows.iter().map(|r| r.0.len()).max().unwrap_or(0);
     for (k, v) in rows {
-        println!("  {k:<width$}  {v}");
+        crate::outln!("  {k:<width$}  {v}");
     }
     Ok(ExitCode::SUCCESS)
 }

@@ -45,3 +45,32 @@ impl Error {
 }
 
 pub type Result<T> = std::result::Result<T, Error>;
+
+/// Refuses a count asked for on the command line (or in the workbench) that is
+/// past `limit`, saying the limit and the memory the request would take.
+pub fn check_count(option: &str, n: usize, limit: usize, bytes_each: usize) -> Result<()> {
+    if n <= limit {
+        return Ok(());
+    }
+    let bytes = n as f64 * bytes_each as f64;
+    let cost = if bytes_each == 0 {
+        String::new()
+    } else {
+        format!(": it would take about {} of memory", human_bytes(bytes))
+    };
+    Err(Error::Usage(format!(
+        "{option} {n} is more than the {limit} allowed{cost}"
+    )))
+}
+
+/// A byte count for people: `3.2 GB`, `1.8e11 GB`.
+pub fn human_bytes(bytes: f64) -> String {
+    let gb = bytes / 1e9;
+    if gb >= 1e6 {
+        format!("{gb:.1e} GB")
+    } else if gb >= 1.0 {
+        format!("{gb:.1} GB")
+    } else {
+        format!("{:.1} MB", bytes / 1e6)
+    }
+}

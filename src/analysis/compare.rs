@@ -1,6 +1,8 @@
 //! Several fitted specs side by side: estimates by parameter name, fit
 //! statistics, likelihood-ratio tests where one model nests another on the
-//! same data, and the ranking by AIC and BIC.
+//! same data, and the ranking by AIC and BIC when all were fitted on the same
+//! data (otherwise their likelihoods are not comparable and nothing is ranked).
+//! Models are named M1, M2, ... in the order given, in text, JSON and workbench.
 
 use serde::Serialize;
 
@@ -20,9 +22,22 @@ pub struct Comparison {
     /// Every parameter name in order of first appearance.
     pub parameters: Vec<String>,
     pub nested: Vec<Nesting>,
-    /// Model indices from best to worst.
+    /// Model indices from best to worst; empty when the models are not comparable.
     pub aic_rank: Vec<usize>,
     pub bic_rank: Vec<usize>,
+    /// The models' names: M1, M2, ... in the order given.
+    pub ids: Vec<String>,
+    /// Whether every model was fitted on the same situations, choices,
+    /// weights and availability (only then are AIC and BIC ranked).
+    pub comparable: bool,
+    /// Why the models are not ranked, when they are not.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub note: Option<String>,
+}
+
+/// The name of model `i` (from 0): M1, M2, ...
+pub fn model_id(i: usize) -> String {
+    format!("M{}", i + 1)
 }
 
 /// Same situations, same choices, same weights: the likelihoods are comparable.
@@ -76,10 +91,34 @@ pub fn compare(fits: &[&Fit]) -> Comparison {
         idx.sort_by(|&a, &b| key(fits[a]).total_cmp(&key(fits[b])));
         idx
     };
+    let ids: Vec<String> = (0..fits.len()).map(model_id).collect();
+    let different: Vec<String> = (1..fits.len())
+        .filter(|&i| !same_data(&fits[0].design.obs, &fits[i].design.obs))
+        .map(model_id)
+        .collect();
+    let comparable = different.is_empty();
+    let note = (!comparable).then(|| {
+        format!(
+            "not ranked: {} {} fitted on other data than M1 (other situations, choices, weights or availability), so the log-likelihoods, AIC and BIC are not comparable",
+            different.join(", "),
+            if different.len() == 1 { "is" } else { "are" }
+        )
+    });
     Comparison {
         parameters,
         nested,
-        aic_rank: rank(&|f| f.stats.aic),
-        bic_rank: rank(&|f| f.stats.bic),
+        aic_rank: if comparable {
+            rank(&|f| f.stats.aic)
+        } else {
+            Vec::new()
+        },
+        bic_rank: if comparable {
+            rank(&|f| f.stats.bic)
+        } else {
+            Vec::new()
+        },
+        ids,
+        comparable,
+        note,
     }
 }

@@ -7,6 +7,15 @@ use nalgebra::DMatrix;
 use crate::estimate::Fit;
 use crate::rng::Rng;
 
+/// The most parameter draws asked for at once (Krinsky-Robb intervals, forecast bands).
+pub const MAX_DRAWS: usize = 1_000_000;
+
+/// Refuses more than `MAX_DRAWS` draws of `params` parameters, each also
+/// keeping `extra` numbers, with the memory the request would take.
+pub fn check_draws(n: usize, params: usize, extra: usize) -> crate::error::Result<()> {
+    crate::error::check_count("--draws", n, MAX_DRAWS, 8 * (params + extra) + 24)
+}
+
 /// Standard errors of the figures `f(beta)` by the delta method, using the fit's
 /// inference covariance. `f` returns a vector of fixed length.
 pub fn delta_se(fit: &Fit, f: &dyn Fn(&[f64]) -> Vec<f64>) -> Vec<f64> {

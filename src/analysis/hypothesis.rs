@@ -209,7 +209,7 @@ pub fn hausman_mcfadden(
         compared: common.iter().map(|&p| full.names[p].clone()).collect(),
         situations_used: restricted.stats.situations,
         note: negative.then(|| {
-            "V_restricted - V_full is not positive semi-definite; the statistic uses its positive part (a generalised inverse)".to_string()
+            "in some directions the coefficients without the dropped alternative are estimated no less precisely than with it, which the test does not expect under IIA; those directions are left out of the statistic and of its degrees of freedom".to_string()
         }),
     })
 }

@@ -5,6 +5,7 @@
 pub mod compare;
 pub mod delta;
 pub mod diversion;
+pub mod flags;
 pub mod hypothesis;
 pub mod ratios;
 pub mod sensitivity;
@@ -19,6 +20,7 @@ use crate::estimate::Fit;
 use crate::spec::{Coefficient, Restriction, Spec};
 
 pub use diversion::{DiversionRow, PriceDiversionRow};
+pub use flags::FlagRow;
 pub use hypothesis::{ChiTest, IiaTest};
 pub use ratios::RatioRow;
 pub use sensitivity::{ElasticityRow, MarginalRow, Sens, TermMap};
@@ -55,11 +57,29 @@ impl Default for Options {
     }
 }
 
+impl Options {
+    /// Refuses options that would give no figure or could not be held in
+    /// memory: an arc change that is zero, not a number or -100% or below, and
+    /// more than `delta::MAX_DRAWS` draws. `params` is the number of parameters.
+    pub fn check(&self, params: usize) -> Result<()> {
+        let pct = self.arc_change * 100.0;
+        if !self.arc_change.is_finite() || self.arc_change == 0.0 || self.arc_change <= -1.0 {
+            return Err(Error::Usage(format!(
+                "--arc {pct}: the arc change must be a finite percentage other than 0 and above -100 (e.g. 10 or -5)"
+            )));
+        }
+        delta::check_draws(self.draws, params, 0)
+    }
+}
+
 #[derive(Clone, Debug, Serialize)]
 pub struct Analysis {
     pub arc_change: f64,
     pub elasticities: Vec<ElasticityRow>,
     pub marginal_effects: Vec<MarginalRow>,
+    /// 0/1 variables: the change in shares when the flag switches from 0 to 1
+    /// (they have no elasticities or marginal effects).
+    pub flag_effects: Vec<FlagRow>,
     pub ratios: Vec<RatioRow>,
     pub diversion: Vec<DiversionRow>,
     pub price_diversion: Vec<PriceDiversionRow>,
@@ -113,6 +133,15 @@ pub fn expected_category(spec: &Spec, fit: &Fit) -> Vec<ExpectedCategoryRow> {
         .collect()
 }
 
+/// A text the user wrote, cut to 60 characters for echoing in a message.
+fn clip(text: &str) -> String {
+    if text.chars().count() > 60 {
+        text.chars().take(57).chain("…".chars()).collect()
+    } else {
+        text.to_string()
+    }
+}
+
 /// The alternatives where attribute `a` enters.
 pub fn attribute_present(spec: &Spec, a: usize) -> Vec<bool> {
     spec.attributes[a]
@@ -141,6 +170,8 @@ pub fn sensitivity_rows(
     let names = spec.alternative_names();
     let baseline = Some(fit.baseline());
     let base_shares = simulate::shares(family, d, &fit.beta);
+    let flag_attr = flags::flag_attributes(d, &map);
+    let flag_char = flags::flag_characteristics(d);
     let mut el = Vec::new();
     let mut me = Vec::new();
     let off_me = na * j * j;
@@ -159,14 +190,17 @@ pub fn sensitivity_rows(
             });
             for jj in 0..j {
                 let idx = (a * j + k) * j + jj;
-                el.push(ElasticityRow {
-                    variable: attr.name.clone(),
-                    changed: Some(names[k].clone()),
-                    affected: names[jj].clone(),
-                    value: flat[idx],
-                    std_error: se[idx],
-                    arc: (arc[jj] / base_shares[jj] - 1.0) / arc_change,
-                });
+                // A 0/1 flag has no elasticity (see `flags`); its derivative is kept.
+                if !flag_attr[a] {
+                    el.push(ElasticityRow {
+                        variable: attr.name.clone(),
+                        changed: Some(names[k].clone()),
+                        affected: names[jj].clone(),
+                        value: flat[idx],
+                        std_error: se[idx],
+                        arc: (arc[jj] / base_shares[jj] - 1.0) / arc_change,
+                    });
+                }
                 me.push(MarginalRow {
                     variable: attr.name.clone(),
                     changed: Some(names[k].clone()),
@@ -188,14 +222,16 @@ pub fn sensitivity_rows(
         });
         for jj in 0..j {
             let idx = c * j + jj;
-            el.push(ElasticityRow {
-                variable: ch.name.clone(),
-                changed: None,
-                affected: names[jj].clone(),
-                value: flat[off_ce + idx],
-                std_error: se[off_ce + idx],
-                arc: (arc[jj] / base_shares[jj] - 1.0) / arc_change,
-            });
+            if !flag_char[c] {
+                el.push(ElasticityRow {
+                    variable: ch.name.clone(),
+                    changed: None,
+                    affected: names[jj].clone(),
+                    value: flat[off_ce + idx],
+                    std_error: se[off_ce + idx],
+                    arc: (arc[jj] / base_shares[jj] - 1.0) / arc_change,
+                });
+            }
             me.push(MarginalRow {
                 variable: ch.name.clone(),
                 changed: None,
@@ -229,17 +265,24 @@ pub fn diversion_attribute(spec: &Spec, requested: Option<&str>) -> Result<Optio
 }
 
 pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<Analysis> {
+    opts.check(fit.beta.len())?;
     let d = &fit.design;
     let names = spec.alternative_names();
     let mut warnings = Vec::new();
     let (elasticities, marginal_effects, sens) = sensitivity_rows(spec, fit, opts.arc_change);
+    let flag_effects = flags::flag_rows(spec, fit, &TermMap::new(spec, d));
 
-    let draws = if spec.ratios.is_empty() {
+    let draws = if spec.ratios.is_empty() || opts.draws == 0 {
         None
     } else {
         delta::draws(fit, opts.draws, opts.seed)
     };
-    if !spec.ratios.is_empty() && draws.is_none() {
+    if !spec.ratios.is_empty() && opts.draws == 0 {
+        warnings.push(
+            "--draws 0: no Krinsky-Robb intervals were drawn for the value ratios (shown as —)"
+                .into(),
+        );
+    } else if !spec.ratios.is_empty() && draws.is_none() {
         warnings.push(
             "the covariance is not positive definite, so no Krinsky-Robb draws were made".into(),
         );
@@ -282,7 +325,7 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
     for text in &opts.restrictions {
         restrictions.push(
             crate::spec::parse_restriction(text, &spec.parameters)
-                .map_err(|m| Error::Usage(format!("--restrict `{text}`: {m}")))?,
+                .map_err(|m| Error::Usage(format!("--restrict `{}`: {m}", clip(text))))?,
         );
     }
     let wald = if restrictions.is_empty() {
@@ -296,6 +339,11 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
             let m = spec.alternative_index(name).ok_or_else(|| {
                 Error::Usage(format!("--iia-drop: `{name}` is not an alternative"))
             })?;
+            if m == spec.base {
+                return Err(Error::Usage(format!(
+                    "--iia-drop: `{name}` is the base alternative, the one every constant and characteristic coefficient is measured from, so the test cannot drop it; drop another alternative, or make another one the base ([model].base) to test this one"
+                )));
+            }
             Some(hypothesis::hausman_mcfadden(spec, &ds.obs, fit, m)?)
         }
         None => None,
@@ -304,6 +352,7 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
         arc_change: opts.arc_change,
         elasticities,
         marginal_effects,
+        flag_effects,
         ratios,
         diversion,
         price_diversion,

@@ -1,5 +1,9 @@
-//! Value ratios (willingness to pay, value of time): scale * b_num / b_den
-//! with a delta-method interval and a Krinsky-Robb percentile interval.
+//! Value ratios (willingness to pay, value of time) with a delta-method
+//! interval and a Krinsky-Robb percentile interval. Sign convention: the value
+//! is a willingness to pay, -scale * b_num / b_den for one unit more of the
+//! numerator's variable (positive when that variable is desirable and the
+//! denominator is a price), or +scale * b_num / b_den for one unit less
+//! (`per = "unit less"`: a saving, e.g. of travel time).
 
 use serde::Serialize;
 
@@ -13,6 +17,11 @@ pub struct RatioRow {
     pub numerator: String,
     pub denominator: String,
     pub scale: f64,
+    /// The unit of `value` as the spec gives it (`[[ratio]].unit`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub unit: Option<String>,
+    /// "unit more" or "unit less": what the willingness to pay is for.
+    pub per: String,
     pub value: f64,
     pub std_error: f64,
     pub ci_low: f64,
@@ -38,15 +47,17 @@ pub fn ratios(
         .map(|r| {
             let (n, d) = (r.numerator, r.denominator);
             let (bn, bd) = (fit.beta[n], fit.beta[d]);
-            let value = r.scale * bn / bd;
-            // gradient of scale * bn / bd
-            let gn = r.scale / bd;
-            let gd = -r.scale * bn / (bd * bd);
+            // The willingness to pay: c * bn / bd with c = -scale for a unit more.
+            let c = if r.per_less { r.scale } else { -r.scale };
+            let value = c * bn / bd;
+            // gradient of c * bn / bd
+            let gn = c / bd;
+            let gd = -c * bn / (bd * bd);
             let var = gn * gn * cov[(n, n)] + 2.0 * gn * gd * cov[(n, d)] + gd * gd * cov[(d, d)];
             let se = var.max(0.0).sqrt();
             let (mut kr_low, mut kr_high, mut used) = (f64::NAN, f64::NAN, 0);
             if let Some(draws) = draws {
-                let mut vals: Vec<f64> = draws.iter().map(|b| r.scale * b[n] / b[d]).filter(|v| v.is_finite()).collect();
+                let mut vals: Vec<f64> = draws.iter().map(|b| c * b[n] / b[d]).filter(|v| v.is_finite()).collect();
                 vals.sort_by(|a, b| a.total_cmp(b));
                 kr_low = quantile(&vals, 0.025);
                 kr_high = quantile(&vals, 0.975);
@@ -66,6 +77,8 @@ pub fn ratios(
                 numerator: fit.names[n].clone(),
                 denominator: fit.names[d].clone(),
                 scale: r.scale,
+                unit: r.unit.clone(),
+                per: if r.per_less { "unit less" } else { "unit more" }.into(),
                 value,
                 std_error: se,
                 ci_low: value - Z95 * se,

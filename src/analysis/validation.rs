@@ -60,44 +60,34 @@ pub fn by_segment(
     table: &Table,
     column: &str,
 ) -> Result<Vec<SegmentShareRow>> {
-    let labels = table.keys(column, "--by segment column")?;
+    let (index, order) = table.segments(column, "--by segment column")?;
     let d = &fit.design;
     let j = d.alternatives();
     let p = &fit.baseline().probabilities;
-    let mut order: Vec<String> = Vec::new();
-    for l in &labels {
-        if !order.contains(l) {
-            order.push(l.clone());
+    let s_count = order.len();
+    let mut w = vec![0.0; s_count];
+    let mut n = vec![0usize; s_count];
+    let mut obs = vec![0.0; s_count * j];
+    let mut pred = vec![0.0; s_count * j];
+    for (i, &s) in index.iter().enumerate().take(d.situations()) {
+        let s = s as usize;
+        let wi = d.obs.weight[i];
+        w[s] += wi;
+        n[s] += 1;
+        obs[s * j + d.obs.chosen[i] as usize] += wi;
+        for a in 0..j {
+            pred[s * j + a] += wi * p[i * j + a];
         }
     }
-    order.sort_by(|a, b| match (a.parse::<f64>(), b.parse::<f64>()) {
-        (Ok(x), Ok(y)) => x.total_cmp(&y),
-        _ => a.cmp(b),
-    });
     let mut out = Vec::new();
-    for seg in &order {
-        let (mut w, mut n) = (0.0, 0);
-        let mut obs = vec![0.0; j];
-        let mut pred = vec![0.0; j];
-        for i in 0..d.situations() {
-            if &labels[i] != seg {
-                continue;
-            }
-            let wi = d.obs.weight[i];
-            w += wi;
-            n += 1;
-            obs[d.obs.chosen[i] as usize] += wi;
-            for a in 0..j {
-                pred[a] += wi * p[i * j + a];
-            }
-        }
+    for (s, seg) in order.iter().enumerate() {
         for (a, alt) in spec.alternatives.iter().enumerate() {
             out.push(SegmentShareRow {
                 segment: seg.clone(),
                 alternative: alt.name.clone(),
-                situations: n,
-                observed: obs[a] / w,
-                predicted: pred[a] / w,
+                situations: n[s],
+                observed: obs[s * j + a] / w[s],
+                predicted: pred[s * j + a] / w[s],
             });
         }
     }

@@ -42,12 +42,13 @@ pub fn run(args: CompareArgs) -> Result<ExitCode> {
         let models: Vec<_> = fits
             .iter()
             .zip(&args.specs)
-            .map(|(f, p)| json!({ "spec": p.display().to_string(), "parameters": f.parameters, "fit": f.stats }))
+            .enumerate()
+            .map(|(i, (f, p))| json!({ "id": compare::model_id(i), "spec": p.display().to_string(), "errors": crate::report::errors_label(f), "parameters": f.parameters, "fit": f.stats }))
             .collect();
         let doc = json!({ "models": models, "comparison": c });
-        println!("{}", serde_json::to_string_pretty(&doc).unwrap_or_default());
+        crate::outln!("{}", serde_json::to_string_pretty(&doc).unwrap_or_default());
     } else {
-        print!("{}", crate::report::compare::text(&labels, &refs, &c));
+        crate::out!("{}", crate::report::compare::text(&labels, &refs, &c));
     }
     Ok(ExitCode::SUCCESS)
 }

@@ -91,6 +91,10 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
         text: args.analysis.by.iter().cloned().collect(),
     };
     let (spec, ds) = super::open(&args.spec, &extra)?;
+    if !args.analysis.no_analysis {
+        // Refused before the fit rather than after it.
+        args.analysis.options().check(spec.parameters.len())?;
+    }
     let fit = super::fit_quietly(&spec, &ds)?;
     let analysis = if args.analysis.no_analysis {
         None
@@ -112,19 +116,19 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
         crate::data::write::text(path, args.force, &body)?;
     }
     if args.json {
-        println!("{body}");
+        crate::outln!("{body}");
     } else {
         let colour = report::colour();
-        print!("{}", report::text::fit_report(&spec, &fit, colour));
+        crate::out!("{}", report::text::fit_report(&spec, &fit, colour));
         if let Some(a) = &analysis {
-            println!();
-            print!("{}", report::analysis::sections(&spec, a));
+            crate::outln!();
+            crate::out!("{}", report::analysis::sections(&spec, a));
         }
-        println!();
-        print!("{}", report::text::closing(&spec, &fit));
+        crate::outln!();
+        crate::out!("{}", report::text::closing(&spec, &fit));
     }
     if !fit.stats.converged && !args.allow_unconverged {
-        eprintln!("error: the fit did not converge (pass --allow-unconverged to accept it)");
+        crate::errln!("error: the fit did not converge (pass --allow-unconverged to accept it)");
         return Ok(ExitCode::from(2));
     }
     Ok(ExitCode::SUCCESS)

@@ -77,10 +77,10 @@ pub fn stderr_progress() -> impl Fn(Step) + Sync {
     let tty = std::io::stderr().is_terminal();
     move |s: Step| {
         if tty && start.elapsed().as_secs_f64() > 1.0 {
-            eprint!(
+            crate::report::note(&format!(
                 "\r  {} iteration {:>4}  log-likelihood {:>16.6}  gradient {:>10.3e}   ",
                 s.phase, s.iteration, s.log_likelihood, s.gradient_norm
-            );
+            ));
         }
     }
 }
@@ -89,8 +89,8 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
     match cli.command {
         Command::Check { spec } => {
             let (spec, ds) = open(&spec, &Extra::default())?;
-            print!("{}", crate::report::check::summary(&spec, &ds.obs));
-            println!("\nthe spec and its data are valid");
+            crate::out!("{}", crate::report::check::summary(&spec, &ds.obs));
+            crate::outln!("\nthe spec and its data are valid");
             Ok(ExitCode::SUCCESS)
         }
         Command::Fit(args) => fitcmd::run(args),
@@ -99,7 +99,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
         Command::Sweep(args) => simcmd::sweep(args),
         Command::DemoData { dir, force } => {
             crate::demo::write_all(&dir, force)?;
-            println!(
+            crate::outln!(
                 "wrote {}, {} and {}",
                 dir.join("commute.csv").display(),
                 dir.join("grocery.parquet").display(),
@@ -171,7 +171,7 @@ pub fn fit_quietly(spec: &Spec, ds: impl IntoObservations) -> Result<crate::esti
 /// Clears the progress line, if one was printed.
 fn clear_progress() {
     if std::io::stderr().is_terminal() {
-        eprint!("\r{:100}\r", "");
+        crate::report::note(&format!("\r{:100}\r", ""));
     }
 }
 
@@ -180,7 +180,7 @@ pub fn main() -> ExitCode {
     match run(cli) {
         Ok(code) => code,
         Err(e) => {
-            eprintln!("error: {e}");
+            crate::errln!("error: {e}");
             ExitCode::from(1)
         }
     }

@@ -90,6 +90,11 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
     let spec = crate::model::read_spec(&args.spec)?;
     let sc = Scenario::from_file(&args.scenario, &spec)?;
     let market = market(&args.market)?;
+    crate::analysis::delta::check_draws(
+        args.draws,
+        spec.parameters.len(),
+        2 * spec.alternatives.len() + sc.new_alternatives.len(),
+    )?;
     if let Some(out) = &args.out {
         crate::data::write::check_overwrite(out, args.force)?;
     }
@@ -101,7 +106,7 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
     let est = data::load(&spec, &extra)?;
     let (fit, note) = super::fit_or_restore(&spec, &est, args.load.as_deref())?;
     if let Some(n) = note {
-        eprintln!("{n}");
+        crate::errln!("{n}");
     }
     let (fit, ds) = match &args.data {
         None => (fit, est),
@@ -136,13 +141,13 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
         }
     }
     if args.json {
-        println!("{}", serde_json::to_string_pretty(&f).unwrap_or_default());
+        crate::outln!("{}", serde_json::to_string_pretty(&f).unwrap_or_default());
     } else {
-        print!("{}", report::forecast::text(&f));
-        println!();
-        print!("{}", report::text::closing(&spec, &fit));
+        crate::out!("{}", report::forecast::text(&f));
+        crate::outln!();
+        crate::out!("{}", report::text::closing(&spec, &fit));
         if let Some(out) = &args.out {
-            println!("wrote {}", out.display());
+            crate::outln!("wrote {}", out.display());
         }
     }
     Ok(ExitCode::SUCCESS)
@@ -150,9 +155,15 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
 
 pub fn sweep(args: SweepArgs) -> Result<ExitCode> {
     let (spec, ds) = super::open(&args.spec, &Extra::default())?;
+    crate::error::check_count(
+        "--steps",
+        args.steps,
+        scenario::sweep::MAX_STEPS,
+        8 * spec.alternatives.len() + 48,
+    )?;
     let (fit, note) = super::fit_or_restore(&spec, &ds, args.load.as_deref())?;
     if let Some(n) = note {
-        eprintln!("{n}");
+        crate::errln!("{n}");
     }
     let req = scenario::sweep::Request {
         attribute: args.attribute.clone(),
@@ -163,11 +174,11 @@ pub fn sweep(args: SweepArgs) -> Result<ExitCode> {
     };
     let sw = scenario::sweep::sweep(&spec, &fit, &ds, &req)?;
     if args.json {
-        println!("{}", serde_json::to_string_pretty(&sw).unwrap_or_default());
+        crate::outln!("{}", serde_json::to_string_pretty(&sw).unwrap_or_default());
     } else {
-        print!("{}", report::forecast::sweep(&sw));
-        println!();
-        print!("{}", report::text::closing(&spec, &fit));
+        crate::out!("{}", report::forecast::sweep(&sw));
+        crate::outln!();
+        crate::out!("{}", report::text::closing(&spec, &fit));
     }
     Ok(ExitCode::SUCCESS)
 }

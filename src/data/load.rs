@@ -29,6 +29,11 @@ fn format_of(path: &Path) -> Result<Format> {
 
 fn polars_err(path: &Path, e: PolarsError) -> Error {
     let msg = e.to_string();
+    if msg.contains("ragged") || msg.contains("more fields") {
+        if let Some(err) = super::csvcheck::ragged_error(path) {
+            return err;
+        }
+    }
     if msg.to_lowercase().contains("empty") {
         Error::data(path, "the file is empty (no header row)")
     } else {
@@ -53,6 +58,7 @@ pub fn column_names(path: &Path) -> Result<Vec<String>> {
     check_file(path)?;
     match format_of(path)? {
         Format::Csv => {
+            super::csvcheck::line_ends(path)?;
             let df = CsvReadOptions::default()
                 .with_has_header(true)
                 .with_n_rows(Some(1))
@@ -60,11 +66,13 @@ pub fn column_names(path: &Path) -> Result<Vec<String>> {
                 .try_into_reader_with_file_path(Some(path.to_path_buf()))
                 .and_then(|r| r.finish())
                 .map_err(|e| polars_err(path, e))?;
-            Ok(df
+            let names: Vec<String> = df
                 .get_column_names()
                 .iter()
                 .map(|s| s.to_string())
-                .collect())
+                .collect();
+            super::csvcheck::duplicate_names(path, &names)?;
+            Ok(names)
         }
         Format::Parquet => {
             let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
@@ -94,34 +102,17 @@ pub fn read(path: &Path, numeric: &[String], text: &[String]) -> Result<Table> {
     }
     let is_text = |c: &str| text.iter().any(|t| t == c);
     let df = match format_of(path)? {
-        Format::Csv => {
-            let schema: Schema = wanted
-                .iter()
-                .map(|c| {
-                    let dt = if is_text(c) {
-                        DataType::String
-                    } else {
-                        DataType::Float64
-                    };
-                    Field::new(c.as_str().into(), dt)
-                })
-                .collect();
-            let cols: Arc<[PlSmallStr]> = wanted
-                .iter()
-                .map(|c| PlSmallStr::from(c.as_str()))
-                .collect();
-            CsvReadOptions::default()
-                .with_has_header(true)
-                .with_columns(Some(cols))
-                .with_schema_overwrite(Some(Arc::new(schema)))
-                .with_ignore_errors(true)
-                .try_into_reader_with_file_path(Some(path.to_path_buf()))
-                .and_then(|r| r.finish())
-                .map_err(|e| polars_err(path, e))?
-        }
+        Format::Csv => read_csv(path, &wanted, &is_text)?,
         Format::Parquet => {
             let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
-            ParquetReader::new(file)
+            let mut reader = ParquetReader::new(file);
+            let schema = reader.schema().map_err(|e| polars_err(path, e))?;
+            for c in &wanted {
+                if let Some(field) = schema.get(c.as_str()) {
+                    parquet_type_usable(path, c, field.dtype(), is_text(c))?;
+                }
+            }
+            reader
                 .with_columns(Some(wanted.clone()))
                 .finish()
                 .map_err(|e| polars_err(path, e))?
@@ -171,6 +162,96 @@ pub fn read(path: &Path, numeric: &[String], text: &[String]) -> Result<Table> {
         table.insert(name, converted);
     }
     Ok(table)
+}
+
+/// Reads the wanted columns of a CSV file: text ones as text, the rest as
+/// numbers. Numeric columns with unreadable cells (` 1.5 ` padded with spaces,
+/// which polars does not parse) are read again as text and parsed trimmed;
+/// this second read happens only for such columns.
+fn read_csv(path: &Path, wanted: &[String], is_text: &dyn Fn(&str) -> bool) -> Result<DataFrame> {
+    let read = |cols: &[String], as_text: &dyn Fn(&str) -> bool| {
+        let schema: Schema = cols
+            .iter()
+            .map(|c| {
+                let dt = if as_text(c) {
+                    DataType::String
+                } else {
+                    DataType::Float64
+                };
+                Field::new(c.as_str().into(), dt)
+            })
+            .collect();
+        let names: Arc<[PlSmallStr]> = cols.iter().map(|c| PlSmallStr::from(c.as_str())).collect();
+        CsvReadOptions::default()
+            .with_has_header(true)
+            .with_columns(Some(names))
+            .with_schema_overwrite(Some(Arc::new(schema)))
+            .with_ignore_errors(true)
+            .try_into_reader_with_file_path(Some(path.to_path_buf()))
+            .and_then(|r| r.finish())
+            .map_err(|e| polars_err(path, e))
+    };
+    let mut df = read(wanted, is_text)?;
+    let gaps: Vec<String> = wanted
+        .iter()
+        .filter(|c| !is_text(c))
+        .filter(|c| df.column(c).map(|s| s.null_count() > 0).unwrap_or(false))
+        .cloned()
+        .collect();
+    if !gaps.is_empty() {
+        let again = read(&gaps, &|_| true)?;
+        for c in again.into_columns() {
+            df.with_column(c).map_err(|e| polars_err(path, e))?;
+        }
+    }
+    Ok(df)
+}
+
+/// Whether a Parquet column's type can be read: every integer, float and
+/// decimal type is cast to f64, booleans to 0/1, and text is read as text. Any
+/// other type (dates, times, lists, structs, ...) is refused naming the column.
+fn parquet_type_usable(path: &Path, name: &str, dt: &ArrowDataType, text: bool) -> Result<()> {
+    use ArrowDataType as A;
+    let ok = matches!(
+        dt,
+        A::Int8
+            | A::Int16
+            | A::Int32
+            | A::Int64
+            | A::UInt8
+            | A::UInt16
+            | A::UInt32
+            | A::UInt64
+            | A::Float32
+            | A::Float64
+            | A::Boolean
+            | A::Null
+            | A::Decimal(_, _)
+            | A::Utf8
+            | A::LargeUtf8
+            | A::Utf8View
+    );
+    if ok {
+        return Ok(());
+    }
+    let wanted = if text { "text or numbers" } else { "numbers" };
+    let kind = match dt {
+        A::Date32 | A::Date64 => "date".to_string(),
+        A::Timestamp(_, _) => "timestamp".to_string(),
+        A::Time32(_) | A::Time64(_) => "time of day".to_string(),
+        A::Duration(_) | A::Interval(_) => "duration".to_string(),
+        A::List(_) | A::LargeList(_) | A::FixedSizeList(_, _) => "list".to_string(),
+        A::Struct(_) => "struct".to_string(),
+        A::Binary | A::LargeBinary | A::BinaryView | A::FixedSizeBinary(_) => "binary".to_string(),
+        A::Dictionary(_, _, _) => "dictionary (categorical)".to_string(),
+        other => format!("{other:?}"),
+    };
+    Err(Error::data(
+        path,
+        format!(
+            "column `{name}` has the Parquet type {kind}, which cannot be used here (wanted: {wanted}); convert it to a number or text column"
+        ),
+    ))
 }
 
 fn numeric_values(s: &Series) -> PolarsResult<Vec<f64>> {

@@ -2,6 +2,7 @@
 //! values, and reshapes wide or long layouts into one situation-level form,
 //! `Observations`, that the design room turns into model arrays.
 
+mod csvcheck;
 pub mod load;
 mod reshape;
 pub mod table;
@@ -143,6 +144,28 @@ pub fn needed_columns(spec: &Spec, extra: &Extra) -> (Vec<String>, Vec<String>) 
 fn add_derived(spec: &Spec, table: &mut Table) -> Result<()> {
     for (name, e) in &spec.derived {
         let n = table.nrows;
+        for c in e.columns() {
+            if let Some(Column::Text(v)) = table.column(&c) {
+                let (row, example) = v
+                    .iter()
+                    .enumerate()
+                    .find_map(|(i, x)| {
+                        let x = x.as_deref()?;
+                        x.trim()
+                            .parse::<f64>()
+                            .is_err()
+                            .then(|| (i + 1, x.to_string()))
+                    })
+                    .unwrap_or((1, String::new()));
+                return Err(Error::spec(
+                    &spec.path,
+                    format!(
+                        "[derived].{name} reads column `{c}`, which holds text (`{example}` at row {row} of {}), not numbers",
+                        table.file.display()
+                    ),
+                ));
+            }
+        }
         let values = {
             let lookup = |c: &str| table.raw_numbers(c);
             e.eval(&lookup, n)

@@ -102,6 +102,49 @@ impl Table {
         Ok(out.into_iter().map(|v| v.unwrap_or_default()).collect())
     }
 
+    /// Segments of a situation-level column: the segment of every row and the
+    /// labels (numbers in numeric order, then text), in one pass with a hash map.
+    /// More than `MAX_SEGMENTS` distinct values is refused: a report by an
+    /// identifier column would be as long as the data and say nothing.
+    pub fn segments(&self, name: &str, role: &str) -> Result<(Vec<u32>, Vec<String>)> {
+        let keys = self.keys(name, role)?;
+        let mut first: HashMap<&str, u32> = HashMap::new();
+        let mut labels: Vec<&str> = Vec::new();
+        for k in &keys {
+            if !first.contains_key(k.as_str()) {
+                first.insert(k, labels.len() as u32);
+                labels.push(k);
+                if labels.len() > MAX_SEGMENTS {
+                    return Err(Error::data(
+                        &self.file,
+                        format!(
+                            "column `{name}` ({role}) has more than {MAX_SEGMENTS} distinct values; segments are reported for at most {MAX_SEGMENTS} (is it an identifier? group its values into a coarser column with [derived])"
+                        ),
+                    ));
+                }
+            }
+        }
+        let mut order: Vec<usize> = (0..labels.len()).collect();
+        order.sort_by(
+            |&a, &b| match (labels[a].parse::<f64>(), labels[b].parse::<f64>()) {
+                (Ok(x), Ok(y)) => x.total_cmp(&y),
+                (Ok(_), Err(_)) => std::cmp::Ordering::Less,
+                (Err(_), Ok(_)) => std::cmp::Ordering::Greater,
+                _ => labels[a].cmp(labels[b]),
+            },
+        );
+        let mut rank = vec![0u32; labels.len()];
+        for (r, &o) in order.iter().enumerate() {
+            rank[o] = r as u32;
+        }
+        let index = keys
+            .iter()
+            .map(|k| rank[first[k.as_str()] as usize])
+            .collect();
+        let sorted = order.iter().map(|&o| labels[o].to_string()).collect();
+        Ok((index, sorted))
+    }
+
     pub fn unknown(&self, name: &str, role: &str) -> Error {
         let mut shown: Vec<&str> = self.names.iter().map(|s| s.as_str()).take(30).collect();
         if self.names.len() > 30 {
@@ -116,6 +159,9 @@ impl Table {
         )
     }
 }
+
+/// The most segments a `--by` column may have.
+pub const MAX_SEGMENTS: usize = 1000;
 
 /// Integers print without a decimal point so that `1.0` and `1` are the same key.
 pub fn number_key(x: f64) -> String {

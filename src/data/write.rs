@@ -35,15 +35,26 @@ fn temp_path(path: &Path) -> PathBuf {
     path.with_file_name(format!(".{name}.{}.tmp", std::process::id()))
 }
 
-/// Refuses to replace an existing file unless `force`.
+/// Whether something is at `path`: a file, a directory, or a symbolic link,
+/// even one whose target does not exist (writing would replace the link).
+pub fn occupied(path: &Path) -> bool {
+    std::fs::symlink_metadata(path).is_ok()
+}
+
+/// Refuses to replace an existing file (or a dangling symbolic link) unless `force`.
 pub fn check_overwrite(path: &Path, force: bool) -> Result<()> {
     if path.is_dir() {
         return Err(Error::io(path, "is a directory"));
     }
-    if path.exists() && !force {
+    if !force && occupied(path) {
+        let what = if path.exists() {
+            "exists already"
+        } else {
+            "is a symbolic link (to a file that does not exist) and would be replaced"
+        };
         return Err(Error::io(
             path,
-            "exists already; pass --force to replace it",
+            format!("{what}; pass --force to replace it"),
         ));
     }
     Ok(())

@@ -97,10 +97,10 @@ pub fn diagnose(
             kind: DiagnosticKind::Separation,
             parameters: vec![names[p].clone()],
             message: format!(
-                "`{}` = {:.4} runs off (one standard deviation of its variable moves utility by {:.1}): the variable (from {}) separates the choices almost perfectly, so the estimate and its error are not meaningful",
+                "`{}` = {} runs off (one standard deviation of its variable moves utility by {}): the variable (from {}) separates the choices almost perfectly, so the estimate and its error are not meaningful",
                 names[p],
-                out.beta[p],
-                spread,
+                short(out.beta[p]),
+                short(spread),
                 spec.term_label(&spec.parameters[p].term)
             ),
         });
@@ -166,4 +166,13 @@ pub fn diagnose(
         }
     }
     diagnostics
+}
+
+/// A number for a sentence: four decimals for ordinary sizes, e-notation for huge or tiny ones.
+fn short(x: f64) -> String {
+    if x != 0.0 && !(1e-3..1e6).contains(&x.abs()) {
+        format!("{x:.3e}")
+    } else {
+        format!("{x:.4}")
+    }
 }

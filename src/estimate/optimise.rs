@@ -19,6 +19,12 @@ use crate::model::{Eval, Family};
 /// Tolerance on the Newton decrement g' (-H)^-1 g (log-likelihood units).
 pub const NEWTON_TOLERANCE: f64 = 1e-10;
 
+/// The most passes over the data the quasi-Newton phase (with its line
+/// searches) may take: past it the phase stops with a named failure rather than
+/// searching for ever (huge start values can leave a line search without a
+/// finite point to stop at).
+pub const MAX_SEARCH_PASSES: usize = 5000;
+
 /// A progress report during a fit.
 #[derive(Clone, Copy, Debug)]
 pub struct Step {
@@ -67,6 +73,21 @@ impl Objective<'_> {
         }
         b
     }
+    /// A named failure once the search has used `MAX_SEARCH_PASSES` passes,
+    /// or is asked for a point that is not finite.
+    fn within_budget(&self, p: &[f64]) -> Result<(), argmin::core::Error> {
+        if self.passes.load(Ordering::Relaxed) >= MAX_SEARCH_PASSES {
+            return Err(argmin::core::Error::msg(format!(
+                "the search used {MAX_SEARCH_PASSES} passes over the data without settling"
+            )));
+        }
+        if p.iter().any(|v| !v.is_finite()) {
+            return Err(argmin::core::Error::msg(
+                "the line search stepped to parameter values that are not finite",
+            ));
+        }
+        Ok(())
+    }
     fn eval(&self, p: &[f64]) -> Eval {
         if let Ok(guard) = self.cache.lock() {
             if let Some((q, e)) = guard.as_ref() {
@@ -108,6 +129,7 @@ impl CostFunction for Negated<'_, '_> {
     type Param = Vec<f64>;
     type Output = f64;
     fn cost(&self, p: &Self::Param) -> Result<f64, argmin::core::Error> {
+        self.0.within_budget(p)?;
         let ll = self.0.eval(p).ll;
         // Outside the model's domain (a nest scale below 0, overflow): a large
         // but finite cost, so that the line search backs off instead of failing.
@@ -124,9 +146,16 @@ impl Gradient for Negated<'_, '_> {
     type Gradient = Vec<f64>;
     fn gradient(&self, p: &Self::Param) -> Result<Vec<f64>, argmin::core::Error> {
         let o = self.0;
+        o.within_budget(p)?;
         o.iteration.fetch_add(1, Ordering::Relaxed);
         let e = o.eval(p);
-        Ok(o.free.iter().map(|&i| -e.grad[i] * o.scale).collect())
+        let g: Vec<f64> = o.free.iter().map(|&i| -e.grad[i] * o.scale).collect();
+        if g.iter().any(|v| !v.is_finite()) {
+            return Err(argmin::core::Error::msg(
+                "the gradient is not finite at the point tried (are the start or fixed values of a usable size?)",
+            ));
+        }
+        Ok(g)
     }
 }
 

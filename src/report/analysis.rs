@@ -79,6 +79,9 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
             .iter()
             .filter(|e| e.variable == attr.name)
             .collect();
+        if rows.is_empty() {
+            continue; // a 0/1 flag: see the flag section
+        }
         let changed: Vec<String> = names
             .iter()
             .filter(|n| {
@@ -101,12 +104,13 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
                 .unwrap_or_default()
         });
     }
-    if !spec.characteristics.is_empty() {
-        let vars: Vec<String> = spec
-            .characteristics
-            .iter()
-            .map(|c| c.name.clone())
-            .collect();
+    let vars: Vec<String> = spec
+        .characteristics
+        .iter()
+        .map(|c| c.name.clone())
+        .filter(|n| a.elasticities.iter().any(|e| &e.variable == n))
+        .collect();
+    if !vars.is_empty() {
         let _ = writeln!(
             s,
             "  characteristics (the decision maker's value changes) → share"
@@ -120,7 +124,7 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
         });
         let _ = writeln!(
             s,
-            "\naverage marginal effects dP/dz of characteristics (± s.e.)"
+            "\naverage marginal effects of characteristics: change in each share per one unit more of the variable (± s.e.)"
         );
         matrix(&mut s, "variable \\ share", &vars, &names, &|r, c| {
             a.marginal_effects
@@ -140,6 +144,7 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
             }
         }
     }
+    flag_section(&mut s, &names, a);
     let own: Vec<&crate::analysis::ElasticityRow> = a
         .elasticities
         .iter()
@@ -162,13 +167,34 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
     if !a.ratios.is_empty() {
         let _ = writeln!(
             s,
-            "\nvalue ratios            value      s.e.   delta 95%               Krinsky-Robb 95%"
+            "\nvalue ratios: willingness to pay, positive when the change named is desirable (value ± delta-method s.e.)"
         );
         for r in &a.ratios {
+            let kr = if r.draws == 0 {
+                "— … — (no draws)".to_string()
+            } else {
+                format!(
+                    "{:.4} … {:.4} ({} draws, seed {})",
+                    r.kr_low, r.kr_high, r.draws, r.seed
+                )
+            };
             let _ = writeln!(
                 s,
-                "  {:<18}{:>10.4}{:>10.4}   {:>9.4} … {:<9.4}   {:>9.4} … {:<9.4} ({} draws, seed {})",
-                r.name, r.value, r.std_error, r.ci_low, r.ci_high, r.kr_low, r.kr_high, r.draws, r.seed
+                "  {:<18}{:>10.4} ± {:<9.4} {}",
+                r.name,
+                r.value,
+                r.std_error,
+                r.unit.as_deref().unwrap_or("")
+            );
+            let _ = writeln!(
+                s,
+                "  {:<18}for one {} of `{}` against `{}` · 95% delta {:.4} … {:.4} · Krinsky-Robb {kr}",
+                "",
+                r.per,
+                r.numerator,
+                r.denominator,
+                r.ci_low,
+                r.ci_high
             );
         }
     }
@@ -224,7 +250,7 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
     if let Some(h) = &v.holdout {
         let _ = writeln!(
             s,
-            "  hold-out: {} situations scored by a fit on the other {}; log-likelihood {:.4} (equal shares {:.4})",
+            "  hold-out: {} situations scored by a fit on the other {}; log-likelihood {:.4} (zero model {:.4})",
             h.situations, h.estimation_situations, h.log_likelihood, h.null_log_likelihood
         );
         for r in &h.shares {
@@ -261,12 +287,18 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
     if let Some(t) = &a.iia {
         let _ = writeln!(
             s,
-            "\nIIA (Hausman-McFadden, `{}` dropped): statistic {:.4}, {} df, p {}  — compared {}",
+            "\nIIA (Hausman-McFadden, `{}` dropped): statistic {:.4}, {} df, p {}",
             t.dropped,
             t.statistic,
             t.df,
             super::pval(t.p_value),
-            t.compared.join(", ")
+        );
+        let _ = writeln!(
+            s,
+            "  the coefficients {} are estimated again without `{}`; if IIA holds they should barely move. The {} degrees of freedom count the independent ways they can move that the test measures.",
+            t.compared.join(", "),
+            t.dropped,
+            t.df
         );
         if let Some(n) = &t.note {
             let _ = writeln!(s, "  note: {n}");
@@ -276,4 +308,36 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
         let _ = writeln!(s, "  ! {w}");
     }
     s
+}
+
+/// 0/1 variables: the change in shares when the flag switches from 0 to 1.
+fn flag_section(s: &mut String, names: &[String], a: &Analysis) {
+    let mut seen: Vec<(String, Option<String>)> = Vec::new();
+    for f in &a.flag_effects {
+        let key = (f.variable.clone(), f.changed.clone());
+        if !seen.contains(&key) {
+            seen.push(key);
+        }
+    }
+    if seen.is_empty() {
+        return;
+    }
+    let _ = writeln!(
+        s,
+        "\n0/1 variables (no elasticity: a 1% change means nothing for a flag): change in each share when the flag switches from 0 to 1 in every situation (± delta-method s.e.)"
+    );
+    let rows: Vec<String> = seen
+        .iter()
+        .map(|(v, c)| match c {
+            Some(k) => format!("{v} of {k}"),
+            None => v.clone(),
+        })
+        .collect();
+    matrix(s, "flag \\ share", &rows, names, &|r, c| {
+        a.flag_effects
+            .iter()
+            .find(|f| f.variable == seen[r].0 && f.changed == seen[r].1 && f.affected == names[c])
+            .map(|f| cell(f.change, f.std_error))
+            .unwrap_or_default()
+    });
 }

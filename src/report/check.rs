@@ -50,18 +50,31 @@ pub fn summary(spec: &Spec, obs: &Observations) -> String {
         );
     }
     let _ = writeln!(s);
-    let _ = writeln!(s, "  alternative        chosen    share   available");
+    let weighted = spec.data.weight.is_some();
+    let _ = writeln!(
+        s,
+        "  alternative        chosen  unweighted share{}   available",
+        if weighted { "  weighted share" } else { "" }
+    );
     let mut counts = vec![0usize; j];
-    for c in &obs.chosen {
+    let mut weights = vec![0.0; j];
+    for (i, c) in obs.chosen.iter().enumerate() {
         counts[*c as usize] += 1;
+        weights[*c as usize] += obs.weight[i];
     }
+    let total_w: f64 = obs.weight.iter().sum::<f64>().max(1e-300);
     for (a, alt) in spec.alternatives.iter().enumerate() {
         let avail = (0..obs.situations)
             .filter(|&i| obs.available[i * j + a])
             .count();
+        let w = if weighted {
+            format!("{:>16.4}", weights[a] / total_w)
+        } else {
+            String::new()
+        };
         let _ = writeln!(
             s,
-            "  {:<16} {:>8} {:>8.4} {:>8} ({:.1}%)",
+            "  {:<16} {:>8} {:>16.4}{w} {:>11} ({:.1}%)",
             alt.name,
             counts[a],
             counts[a] as f64 / obs.situations as f64,
@@ -69,6 +82,15 @@ pub fn summary(spec: &Spec, obs: &Observations) -> String {
             100.0 * avail as f64 / obs.situations as f64
         );
     }
+    let _ = writeln!(
+        s,
+        "  (unweighted: each situation counts once{})",
+        if weighted {
+            "; weighted: by the weight column, as `fit` reports its shares"
+        } else {
+            ", as in `fit`, which has no weights to apply here"
+        }
+    );
     let _ = writeln!(s);
     let _ = writeln!(
         s,

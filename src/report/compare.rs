@@ -1,4 +1,7 @@
-//! The side-by-side report of `sharecast compare`.
+//! The side-by-side report of `sharecast compare`: the models named M1, M2,
+//! ...; each parameter as a block with one line per model (value ± error, the
+//! errors named per model); the fit statistics one model per line; the AIC and
+//! BIC ranking only when the models share their data; likelihood-ratio tests.
 
 use std::fmt::Write;
 
@@ -7,86 +10,96 @@ use crate::estimate::Fit;
 
 pub fn text(labels: &[String], fits: &[&Fit], c: &Comparison) -> String {
     let mut s = String::new();
-    let w = labels
-        .iter()
-        .map(|l| l.chars().count())
-        .max()
-        .unwrap_or(10)
-        .clamp(14, 28)
-        + 2;
     let _ = writeln!(s, "━━ sharecast compare ━━ {} models", fits.len());
-    for (i, l) in labels.iter().enumerate() {
-        let _ = writeln!(s, "  [{}] {l}", i + 1);
+    for ((id, l), f) in c.ids.iter().zip(labels).zip(fits) {
+        let _ = writeln!(s, "  {id:<4}{l}");
+        let _ = writeln!(
+            s,
+            "      {} · {} situations · errors {}",
+            f.family.name(),
+            f.stats.situations,
+            super::errors_label(f)
+        );
     }
-    let _ = writeln!(s, "\nestimates (s.e. below; blank = not in that model)");
-    let _ = write!(s, "  {:<24}", "parameter");
-    for i in 0..fits.len() {
-        let _ = write!(s, "{:>w$}", format!("[{}]", i + 1));
-    }
-    let _ = writeln!(s);
+    let _ = writeln!(
+        s,
+        "\nestimates: value ± standard error (each model's own errors, named above); a model without the parameter is left out"
+    );
+    let nw = c
+        .parameters
+        .iter()
+        .map(|p| p.chars().count())
+        .max()
+        .unwrap_or(9)
+        .clamp(9, 28);
     for name in &c.parameters {
-        let _ = write!(s, "  {name:<24}");
-        let mut ses = String::new();
-        for f in fits {
-            match f.names.iter().position(|n| n == name) {
-                Some(k) => {
-                    let p = &f.parameters[k];
-                    let _ = write!(s, "{}", super::num(p.estimate, w));
-                    let se = if p.fixed {
-                        "(fixed)".to_string()
-                    } else {
-                        format!("({})", super::num(p.std_error, 0).trim())
-                    };
-                    let _ = write!(ses, "{se:>w$}");
-                }
-                None => {
-                    let _ = write!(s, "{:>w$}", "");
-                    let _ = write!(ses, "{:>w$}", "");
-                }
-            }
+        let mut first = true;
+        for (id, f) in c.ids.iter().zip(fits) {
+            let Some(k) = f.names.iter().position(|n| n == name) else {
+                continue;
+            };
+            let p = &f.parameters[k];
+            let label = if first { name.as_str() } else { "" };
+            first = false;
+            let cell = if p.fixed {
+                format!("{} (fixed)", super::num(p.estimate, 0).trim())
+            } else {
+                format!(
+                    "{} ± {}",
+                    super::num(p.estimate, 10),
+                    super::num(super::shown_error(f, p), 0).trim()
+                )
+            };
+            let _ = writeln!(s, "  {label:<nw$}  {id:<4}{cell}");
         }
-        let _ = writeln!(s);
-        let _ = writeln!(s, "  {:<24}{ses}", "");
     }
-    let _ = writeln!(s, "\nfit");
-    type Row<'a> = (&'a str, &'a dyn Fn(&Fit) -> String);
-    let rows: [Row; 8] = [
-        ("situations", &|f| f.stats.situations.to_string()),
-        ("estimated parameters", &|f| {
-            f.stats.estimated_parameters.to_string()
-        }),
-        ("log-likelihood", &|f| {
-            format!("{:.4}", f.stats.log_likelihood)
-        }),
-        ("rho² vs equal shares", &|f| {
-            format!("{:.4}", f.stats.rho_squared)
-        }),
-        ("adjusted rho²", &|f| {
-            format!("{:.4}", f.stats.adjusted_rho_squared)
-        }),
-        ("AIC", &|f| format!("{:.4}", f.stats.aic)),
-        ("BIC", &|f| format!("{:.4}", f.stats.bic)),
-        ("converged", &|f| f.stats.converged.to_string()),
-    ];
-    for (label, f) in rows {
-        let _ = write!(s, "  {label:<24}");
-        for fit in fits {
-            let _ = write!(s, "{:>w$}", f(fit));
-        }
-        let _ = writeln!(s);
+    let _ = writeln!(s, "\nfit (zero model: every coefficient 0, so each situation's available alternatives are equally likely)");
+    let _ = writeln!(
+        s,
+        "  {:<6}{:>11}{:>11}{:>16}{:>15}{:>15}{:>13}{:>13}  converged",
+        "model",
+        "situations",
+        "estimated",
+        "log-likelihood",
+        "rho² vs zero",
+        "adjusted rho²",
+        "AIC",
+        "BIC"
+    );
+    for (id, f) in c.ids.iter().zip(fits) {
+        let st = &f.stats;
+        let _ = writeln!(
+            s,
+            "  {id:<6}{:>11}{:>11}{:>16.4}{:>15.4}{:>15.4}{:>13.4}{:>13.4}  {}",
+            st.situations,
+            st.estimated_parameters,
+            st.log_likelihood,
+            st.rho_squared,
+            st.adjusted_rho_squared,
+            st.aic,
+            st.bic,
+            if st.converged { "yes" } else { "NO" }
+        );
     }
     let order = |r: &[usize]| {
         r.iter()
-            .map(|i| format!("[{}]", i + 1))
+            .map(|&i| c.ids[i].clone())
             .collect::<Vec<_>>()
-            .join(" < ")
+            .join(", ")
     };
-    let _ = writeln!(
-        s,
-        "\nranking, best first:  AIC {}   BIC {}",
-        order(&c.aic_rank),
-        order(&c.bic_rank)
-    );
+    match &c.note {
+        Some(n) => {
+            let _ = writeln!(s, "\n{n}");
+        }
+        None => {
+            let _ = writeln!(
+                s,
+                "\nbest first (lower is better) · by AIC: {} · by BIC: {}",
+                order(&c.aic_rank),
+                order(&c.bic_rank)
+            );
+        }
+    }
     if c.nested.is_empty() {
         let _ = writeln!(
             s,
@@ -96,9 +109,9 @@ pub fn text(labels: &[String], fits: &[&Fit], c: &Comparison) -> String {
     for n in &c.nested {
         let _ = writeln!(
             s,
-            "likelihood ratio [{}] within [{}]: statistic {:.4}, {} df, p {}",
-            n.restricted + 1,
-            n.general + 1,
+            "likelihood ratio, {} within {}: statistic {:.4}, {} df, p {}",
+            c.ids[n.restricted],
+            c.ids[n.general],
             n.test.statistic,
             n.test.df,
             super::pval(n.test.p_value)

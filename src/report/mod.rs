@@ -17,8 +17,13 @@ pub fn cautions(spec: &Spec, family: &dyn Family) -> String {
         .caution(spec)
         .map(|c| format!(" {c}"))
         .unwrap_or_default();
+    let field = spec
+        .field
+        .caution()
+        .map(|c| format!(" {c}"))
+        .unwrap_or_default();
     format!(
-        "Cautions: forecasts rest on the model's assumptions and on how well the sample represents the population it is applied to.{iia} Transport appraisal should follow the local official guidance on values and methods."
+        "Cautions: forecasts rest on the model's assumptions and on how well the sample represents the population it is applied to.{iia}{field}"
     )
 }
 
@@ -42,15 +47,73 @@ pub fn num(x: f64, width: usize) -> String {
     format!("{s:>width$}")
 }
 
-/// p-values: small ones as an upper bound.
+/// The smallest p-value written as a number; below it, `< 1e-12`.
+pub const P_FLOOR: f64 = 1e-12;
+
+/// p-values to two significant digits: plain decimals down to 0.001
+/// (`0.46`, `0.046`, `0.0046`), e-notation below (`3.2e-5`), and `< 1e-12`
+/// under the floor, where the normal tail is no longer worth reading.
 pub fn pval(p: f64) -> String {
     if p.is_nan() {
         "—".to_string()
-    } else if p < 0.0001 {
-        "<.0001".to_string()
+    } else if p < P_FLOOR {
+        "< 1e-12".to_string()
+    } else if p < 0.001 {
+        format!("{p:.1e}")
+    } else if p >= 0.995 {
+        "1.0".to_string()
     } else {
-        format!("{p:.4}")
+        // two significant digits: the number of decimals follows the magnitude
+        let decimals = (1 - p.log10().floor() as i32).max(2) as usize;
+        format!("{p:.decimals$}")
     }
+}
+
+/// Which errors a fit's t, p and intervals use, for headings.
+pub fn errors_label(fit: &crate::estimate::Fit) -> &'static str {
+    if fit.stats.inference == "robust" {
+        "clustered by decision maker"
+    } else {
+        "from the Hessian"
+    }
+}
+
+/// The standard error a row's inference uses (clustered or Hessian).
+pub fn shown_error(fit: &crate::estimate::Fit, row: &crate::estimate::ParameterRow) -> f64 {
+    if fit.stats.inference == "robust" {
+        row.robust_std_error
+    } else {
+        row.std_error
+    }
+}
+
+/// `value ± error` on one line, each as `num` writes it (a dash when missing).
+pub fn plus_minus(value: f64, error: f64) -> String {
+    format!("{} ± {}", num(value, 0).trim(), num(error, 0).trim())
+}
+
+/// Writes text to standard output, checked: a failed write (a full disk,
+/// `> /dev/full`) is an error value for a message and a non-zero exit; a closed
+/// pipe (`| head`) is not an error, the rest of the output is simply dropped.
+pub fn say(text: &str) -> crate::error::Result<()> {
+    use std::io::Write;
+    let mut out = std::io::stdout().lock();
+    match out.write_all(text.as_bytes()).and_then(|()| out.flush()) {
+        Ok(()) => Ok(()),
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+        Err(e) => Err(crate::error::Error::io(
+            "standard output",
+            format!("could not write the output: {e}"),
+        )),
+    }
+}
+
+/// Writes text to standard error without ever failing: progress lines and
+/// notes are not worth an abort if stderr is gone.
+pub fn note(text: &str) {
+    use std::io::Write;
+    let mut err = std::io::stderr().lock();
+    let _ = err.write_all(text.as_bytes()).and_then(|()| err.flush());
 }
 
 /// Whether stdout is a colour terminal.
@@ -65,4 +128,23 @@ pub fn red(s: &str, on: bool) -> String {
     } else {
         s.to_string()
     }
+}
+
+/// `print!` through the checked writer: returns early with the error on a failed write.
+#[macro_export]
+macro_rules! out {
+    ($($t:tt)*) => { $crate::report::say(&format!($($t)*))? };
+}
+
+/// `println!` through the checked writer: returns early with the error on a failed write.
+#[macro_export]
+macro_rules! outln {
+    () => { $crate::report::say("\n")? };
+    ($($t:tt)*) => { $crate::report::say(&format!("{}\n", format_args!($($t)*)))? };
+}
+
+/// `eprintln!` that never panics (see `note`).
+#[macro_export]
+macro_rules! errln {
+    ($($t:tt)*) => { $crate::report::note(&format!("{}\n", format_args!($($t)*))) };
 }

@@ -54,12 +54,12 @@ pub fn header(spec: &Spec, fit: &Fit, colour: bool) -> String {
     let _ = writeln!(s, "how well it fits");
     let _ = writeln!(
         s,
-        "  log-likelihood {:>14.4}   at equal shares {:>14.4}   constants only {:>14.4}",
+        "  log-likelihood {:>14.4}   zero model {:>19.4}   constants only {:>14.4}",
         st.log_likelihood, st.null_log_likelihood, st.constants_log_likelihood
     );
     let _ = writeln!(
         s,
-        "  rho² vs equal  {:>14.4}   rho² vs constants {:>12.4}   adjusted rho² {:>15.4}",
+        "  rho² vs zero   {:>14.4}   rho² vs constants {:>12.4}   adjusted rho² {:>15.4}",
         st.rho_squared, st.rho_squared_constants, st.adjusted_rho_squared
     );
     let _ = writeln!(
@@ -67,28 +67,36 @@ pub fn header(spec: &Spec, fit: &Fit, colour: bool) -> String {
         "  AIC            {:>14.4}   BIC             {:>14.4}",
         st.aic, st.bic
     );
+    let _ = writeln!(
+        s,
+        "  (zero model: every coefficient 0, so each situation's available alternatives are equally likely)"
+    );
     s
 }
 
 pub fn estimates(spec: &Spec, fit: &Fit) -> String {
     let mut s = String::new();
-    let which = if fit.stats.inference == "robust" {
-        "robust errors clustered by decision maker"
-    } else {
-        "classical errors"
-    };
+    let robust = fit.stats.inference == "robust";
     let odds = fit.family.abilities().odds_ratios;
-    let _ = writeln!(s, "estimates  (t, p and the 95% interval use {which})");
     let _ = writeln!(
         s,
-        "  {:<26}{:>12}{:>11}{:>11}{:>9}{:>8}   {:<25}{}",
+        "estimates · value ± standard error {}; t, p and the 95% interval use these errors{}",
+        super::errors_label(fit),
+        if robust {
+            " (the Hessian's errors beside)"
+        } else {
+            ""
+        }
+    );
+    let _ = writeln!(
+        s,
+        "  {:<26}{:>24}{:>9}{:>10}   {:<25}{}{}",
         "parameter",
-        "value",
-        "s.e.",
-        "robust",
+        "value ± s.e.",
         "t",
         "p",
         "95% interval",
+        if robust { "   Hessian s.e." } else { "" },
         if odds { "  odds ×" } else { "" }
     );
     let mut last_term: Option<String> = None;
@@ -102,18 +110,25 @@ pub fn estimates(spec: &Spec, fit: &Fit) -> String {
             continue;
         }
         let interval = format!("{} … {}", num(row.ci_low, 0), num(row.ci_high, 0));
+        let hessian = if robust {
+            format!("  {}", num(row.std_error, 13))
+        } else {
+            String::new()
+        };
         let odds_col = match (&spec.parameters[k].term, odds) {
             (Term::Characteristic(_), true) => format!("  {}", num(row.estimate.exp(), 8)),
             _ => String::new(),
         };
+        let value = format!(
+            "{} ± {:<9}",
+            num(row.estimate, 12),
+            num(super::shown_error(fit, row), 0).trim()
+        );
         let _ = writeln!(
             s,
-            "  │ {:<24}{}{}{}{:>9.2}{:>8}   {:<25}{odds_col}",
+            "  │ {:<24}{value}{}{:>10}   {:<25}{hessian}{odds_col}",
             row.name,
-            num(row.estimate, 12),
-            num(row.std_error, 11),
-            num(row.robust_std_error, 11),
-            row.t_stat,
+            tstat(row.t_stat),
             pval(row.p_value),
             interval
         );
@@ -132,6 +147,15 @@ pub fn estimates(spec: &Spec, fit: &Fit) -> String {
         );
     }
     s
+}
+
+/// A t statistic in its column, a dash when there is none.
+fn tstat(t: f64) -> String {
+    if t.is_finite() {
+        format!("{t:>9.2}")
+    } else {
+        format!("{:>9}", "—")
+    }
 }
 
 pub fn shares(fit: &Fit) -> String {

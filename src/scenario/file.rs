@@ -122,6 +122,21 @@ pub struct Scenario {
     pub price: Option<usize>,
 }
 
+/// A number a scenario sets, adds or multiplies by: finite and of a usable
+/// magnitude, as the spec requires of its own numbers.
+fn finite_value(key: &str, v: f64) -> std::result::Result<(), String> {
+    if v.is_nan() {
+        Err(format!("{key}: `nan` is not a number a scenario can use"))
+    } else if !crate::data::table::usable(v) {
+        Err(format!(
+            "{key}: {v} is infinite or too large (at most {:e} in magnitude)",
+            crate::data::table::MAX_MAGNITUDE
+        ))
+    } else {
+        Ok(())
+    }
+}
+
 impl Scenario {
     pub fn from_file(path: &Path, spec: &Spec) -> Result<Scenario> {
         if path.is_dir() {
@@ -165,6 +180,12 @@ impl Scenario {
                 )));
             }
             let op = given[0];
+            let (word, v) = match op {
+                Op::Multiply(v) => ("multiply", v),
+                Op::Add(v) => ("add", v),
+                Op::Set(v) => ("set", v),
+            };
+            finite_value(&format!("{key}.{word}"), v).map_err(&fail)?;
             let target = if let Some(a) = spec.attributes.iter().position(|x| x.name == c.attribute)
             {
                 let name = c.alternative.as_deref().ok_or_else(|| {
@@ -266,6 +287,15 @@ impl Scenario {
                     }
                 };
                 attributes.push((a, value));
+            }
+            if let Some(c) = n.constant {
+                finite_value(&format!("{key}.constant"), c).map_err(&fail)?;
+            }
+            for (a, v) in &attributes {
+                if let NewValue::Number(x) = v {
+                    let name = &spec.attributes[*a].name;
+                    finite_value(&format!("{key}.attributes.{name}"), *x).map_err(&fail)?;
+                }
             }
             new_alternatives.push(NewAlternative {
                 name: n.name.clone(),

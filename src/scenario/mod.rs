@@ -103,27 +103,28 @@ pub struct Forecast {
     pub market: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub calibration: Option<calibrate::Calibrated>,
+    /// Situations the scenario leaves with no available alternative.
+    pub stranded_situations: usize,
+    /// Their share of the weight: demand that leaves the market, so the
+    /// scenario shares add up to 1 minus this.
+    pub lost_share: f64,
     pub warnings: Vec<String>,
+}
+
+/// The warning for situations a withdrawal leaves with nothing to choose.
+fn stranded_warning(count: usize, lost: f64, total: usize) -> Option<String> {
+    (count > 0).then(|| {
+        format!(
+            "{count} of {total} situations have no available alternative left in this scenario; their demand ({:.2}% of the weight) is counted as lost, so the scenario shares add up to {:.4} rather than 1",
+            100.0 * lost,
+            1.0 - lost
+        )
+    })
 }
 
 /// Segment index of every situation and the labels, for a situation-level column.
 pub fn segment_index(ds: &Dataset, column: &str) -> Result<(Vec<u32>, Vec<String>)> {
-    let keys = ds.table.keys(column, "--by segment column")?;
-    let mut labels: Vec<String> = Vec::new();
-    for k in &keys {
-        if !labels.contains(k) {
-            labels.push(k.clone());
-        }
-    }
-    labels.sort_by(|a, b| match (a.parse::<f64>(), b.parse::<f64>()) {
-        (Ok(x), Ok(y)) => x.total_cmp(&y),
-        _ => a.cmp(b),
-    });
-    let idx = keys
-        .iter()
-        .map(|k| labels.iter().position(|l| l == k).unwrap_or(0) as u32)
-        .collect();
-    Ok((idx, labels))
+    ds.table.segments(column, "--by segment column")
 }
 
 /// The parameter vector scenarios use: calibrated when targets are given (scenario first, then spec).
@@ -167,6 +168,11 @@ pub fn forecast(
             fit.family.name()
         )));
     }
+    crate::analysis::delta::check_draws(
+        opts.draws,
+        fit.beta.len(),
+        2 * spec.alternatives.len() + scenario.new_alternatives.len(),
+    )?;
     if !fit.family.abilities().new_alternatives && !scenario.new_alternatives.is_empty() {
         return Err(Error::Usage(format!(
             "new alternatives are not available for the {} family: {}",
@@ -199,6 +205,13 @@ pub fn forecast(
     );
     let m = prep.alternatives();
     let mut warnings = Vec::new();
+    let (stranded_situations, stranded_weight) = prep.stranded(d);
+    let lost_share = stranded_weight / d.total_weight().max(1e-300);
+    warnings.extend(stranded_warning(
+        stranded_situations,
+        lost_share,
+        d.situations(),
+    ));
 
     // Bands from draws of the parameters; a calibration shift is carried to every draw.
     let shift: Vec<f64> = beta.iter().zip(&fit.beta).map(|(a, b)| a - b).collect();
@@ -314,6 +327,8 @@ pub fn forecast(
         segment_column: opts.by.clone(),
         market,
         calibration,
+        stranded_situations,
+        lost_share,
         warnings,
     })
 }

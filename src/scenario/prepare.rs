@@ -230,6 +230,22 @@ impl Prepared {
         self.names.len()
     }
 
+    /// Situations the scenario leaves with no available alternative (every one
+    /// they had is withdrawn and no new one is open to them): their count and weight.
+    pub fn stranded(&self, d: &Design) -> (usize, f64) {
+        let j = d.alternatives();
+        let (mut count, mut weight) = (0, 0.0);
+        for i in 0..d.situations() {
+            let open = (0..j).any(|k| d.obs.available[i * j + k] && !self.removed[k])
+                || self.new.iter().any(|na| na.available[i]);
+            if !open {
+                count += 1;
+                weight += d.obs.weight[i];
+            }
+        }
+        (count, weight)
+    }
+
     /// Scenario utilities of situation `i` at `beta` into `out` (length of `names`),
     /// given its base utilities `base` (length J, -inf = unavailable).
     #[inline]

@@ -25,6 +25,9 @@ pub struct Sweep {
     pub points: Vec<SweepPoint>,
 }
 
+/// The most points on one demand curve.
+pub const MAX_STEPS: usize = 10_000;
+
 /// What to sweep: attribute of alternative, multiplied from `from` to `to` in `steps` steps.
 #[derive(Clone, Debug)]
 pub struct Request {
@@ -67,6 +70,12 @@ pub fn sweep(spec: &Spec, fit: &Fit, ds: &Dataset, req: &Request) -> Result<Swee
             "--steps must be at least 2 and --from/--to finite".into(),
         ));
     }
+    crate::error::check_count(
+        "--steps",
+        steps,
+        MAX_STEPS,
+        8 * spec.alternatives.len() + 48,
+    )?;
     let (beta, _) = base_parameters(spec, fit, &Scenario::default())?;
     let mut points = Vec::with_capacity(steps);
     for s in 0..steps {

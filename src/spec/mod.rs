@@ -3,6 +3,7 @@
 
 pub mod expr;
 pub mod family;
+mod ratio;
 pub mod raw;
 mod restriction;
 mod validate;
@@ -99,12 +100,51 @@ pub struct Parameter {
     pub in_reference: bool,
 }
 
+/// The field of application a spec declares (top-level `field`).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub enum Field {
+    #[default]
+    General,
+    Transport,
+    Retail,
+    Health,
+    Energy,
+}
+
+impl Field {
+    pub const NAMES: [&'static str; 5] = ["general", "transport", "retail", "health", "energy"];
+
+    pub fn parse(name: &str) -> Option<Field> {
+        Some(match name {
+            "general" => Field::General,
+            "transport" => Field::Transport,
+            "retail" => Field::Retail,
+            "health" => Field::Health,
+            "energy" => Field::Energy,
+            _ => return None,
+        })
+    }
+
+    /// The field's own sentence for the cautions line, if it has one.
+    pub fn caution(self) -> Option<&'static str> {
+        match self {
+            Field::Transport => Some("Transport appraisal should follow the local official guidance on values and methods."),
+            Field::General | Field::Retail | Field::Health | Field::Energy => None,
+        }
+    }
+}
+
 #[derive(Clone, Debug)]
 pub struct Ratio {
     pub name: String,
     pub numerator: usize,
     pub denominator: usize,
     pub scale: f64,
+    /// Printed after the value (`"£ per hour"`), when given.
+    pub unit: Option<String>,
+    /// True for `per = "unit less"`: the willingness to pay for one unit less of
+    /// the numerator's variable (a saving); else for one unit more.
+    pub per_less: bool,
 }
 
 #[derive(Clone, Debug)]
@@ -133,6 +173,9 @@ pub struct Restriction {
 pub struct Spec {
     pub path: PathBuf,
     pub title: Option<String>,
+    /// The field the model is applied in (`field = "transport"`): only picks
+    /// the field's own caution for the reports; `general` by default.
+    pub field: Field,
     pub data: DataSpec,
     /// The model family's name (`[model].family`, default "logit").
     pub family: String,

@@ -8,6 +8,8 @@ use serde::Deserialize;
 #[derive(Debug, Deserialize)]
 pub struct RawSpec {
     pub title: Option<String>,
+    /// The field of application, for the report's cautions.
+    pub field: Option<String>,
     pub data: RawData,
     pub model: RawModel,
     /// Kept as a table so that the written order of alternatives survives.
@@ -98,6 +100,8 @@ pub struct RawRatio {
     pub numerator: String,
     pub denominator: String,
     pub scale: Option<f64>,
+    pub unit: Option<String>,
+    pub per: Option<String>,
 }
 
 #[derive(Debug, Deserialize)]

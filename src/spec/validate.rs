@@ -398,24 +398,7 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
     }
 
     // [[ratio]]
-    let mut ratios = Vec::new();
-    for r in &raw.ratio {
-        let find = |key: &str, name: &str| {
-            parameters.iter().position(|p| p.name == name).ok_or_else(|| {
-                fail(format!(
-                    "[[ratio]] {}: {key} `{name}` is not a parameter of this model (the model has: {})",
-                    r.name,
-                    known(&parameters)
-                ))
-            })
-        };
-        ratios.push(Ratio {
-            name: r.name.clone(),
-            numerator: find("numerator", &r.numerator)?,
-            denominator: find("denominator", &r.denominator)?,
-            scale: r.scale.unwrap_or(1.0),
-        });
-    }
+    let ratios = super::ratio::ratios(&raw.ratio, &parameters).map_err(fail)?;
 
     // [validation]
     let holdout = match &raw.validation {
@@ -463,9 +446,20 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         );
     }
 
+    let field = match raw.field.as_deref() {
+        None => Field::General,
+        Some(name) => Field::parse(name).ok_or_else(|| {
+            fail(format!(
+                "field: `{name}` is not one of {}",
+                Field::NAMES.join(", ")
+            ))
+        })?,
+    };
+
     Ok(Spec {
         path: path.to_path_buf(),
         title: raw.title,
+        field,
         data,
         family,
         family_keys,

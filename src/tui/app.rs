@@ -341,6 +341,7 @@ fn act(app: &mut App, a: Action) -> Vec<Job> {
         return Vec::new();
     }
     let n = View::ALL.len();
+    let before = app.view;
     match a {
         Action::NextView => app.view = View::ALL[(app.view.index() + 1) % n],
         Action::PrevView => app.view = View::ALL[(app.view.index() + n - 1) % n],
@@ -349,8 +350,8 @@ fn act(app: &mut App, a: Action) -> Vec<Job> {
             if app.models.len() > 1 {
                 app.current = (app.current + 1) % app.models.len();
                 let text = format!(
-                    "model {} of {}: {}",
-                    app.current + 1,
+                    "{} of {} models: {}",
+                    crate::analysis::compare::model_id(app.current),
                     app.models.len(),
                     app.paths[app.current].display()
                 );
@@ -363,6 +364,10 @@ fn act(app: &mut App, a: Action) -> Vec<Job> {
             }
         }
         _ => return on_view(app, a),
+    }
+    // A message belongs to the view it was said on: it goes when the view changes.
+    if app.view != before {
+        app.status = None;
     }
     Vec::new()
 }

@@ -11,7 +11,7 @@ use ratatui::widgets::{Paragraph, Widget};
 use super::app::App;
 use super::widgets::{fixed, left, panel, right};
 use crate::analysis::compare::Comparison;
-use crate::report::{num, pval};
+use crate::report::{errors_label, num, plus_minus, pval, shown_error};
 
 pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let t = &app.theme;
@@ -56,23 +56,28 @@ fn content(app: &App, c: &Comparison, inner_w: usize) -> Vec<Line<'static>> {
     let nw = 18;
     let cw = (inner_w.saturating_sub(nw) / fits.len().max(1)).clamp(12, 24);
     let mut lines = Vec::new();
-    for (i, l) in app.models.iter().enumerate() {
+    for ((id, l), f) in c.ids.iter().zip(&app.models).zip(&fits) {
         let title = l.model.spec.title.as_deref().unwrap_or("untitled");
         lines.push(Line::from(vec![
-            Span::styled(format!("[{}] ", i + 1), t.accent()),
+            Span::styled(format!("{id} "), t.accent()),
             Span::raw(format!("{} — {title}", l.model.path.display())),
         ]));
+        lines.push(Line::from(Span::styled(
+            format!("   s.e. {}", errors_label(f)),
+            t.dim(),
+        )));
     }
-    let mut head = left("parameter", nw);
-    for i in 0..fits.len() {
-        head.push_str(&right(&format!("[{}] estimate (t)", i + 1), cw));
+    let mut head = left("value ± s.e.", nw);
+    for id in &c.ids {
+        head.push_str(&right(id, cw));
     }
     lines.push(Line::from(Span::styled(head, t.header())));
     for p in &c.parameters {
         let mut s = left(p, nw);
         for f in &fits {
             let cell = match f.parameters.iter().find(|r| &r.name == p) {
-                Some(r) => format!("{} ({})", num(r.estimate, 0).trim(), fixed(r.t_stat, 1)),
+                Some(r) if r.fixed => format!("{} fixed", num(r.estimate, 0).trim()),
+                Some(r) => plus_minus(r.estimate, shown_error(f, r)),
                 None => "·".into(),
             };
             s.push_str(&right(&cell, cw));
@@ -80,17 +85,22 @@ fn content(app: &App, c: &Comparison, inner_w: usize) -> Vec<Line<'static>> {
         lines.push(Line::from(s));
     }
     let mut head = left("fit", nw);
-    for i in 0..fits.len() {
-        head.push_str(&right(&format!("[{}]", i + 1), cw));
+    for id in &c.ids {
+        head.push_str(&right(id, cw));
     }
     lines.push(Line::from(""));
     lines.push(Line::from(Span::styled(head, t.header())));
-    let rank = |r: &[usize], i: usize| r.iter().position(|&x| x == i).map(|p| p + 1).unwrap_or(0);
+    let rank = |r: &[usize], i: usize| {
+        r.iter()
+            .position(|&x| x == i)
+            .map(|p| format!(" ({})", p + 1))
+            .unwrap_or_default()
+    };
     let labels = [
         "situations",
         "K estimated",
         "log-likelihood",
-        "rho² vs equal",
+        "rho² vs zero",
         "adjusted rho²",
         "AIC (rank)",
         "BIC (rank)",
@@ -106,8 +116,8 @@ fn content(app: &App, c: &Comparison, inner_w: usize) -> Vec<Line<'static>> {
                 2 => fixed(st.log_likelihood, 3),
                 3 => fixed(st.rho_squared, 4),
                 4 => fixed(st.adjusted_rho_squared, 4),
-                5 => format!("{} ({})", fixed(st.aic, 2), rank(&c.aic_rank, i)),
-                6 => format!("{} ({})", fixed(st.bic, 2), rank(&c.bic_rank, i)),
+                5 => format!("{}{}", fixed(st.aic, 2), rank(&c.aic_rank, i)),
+                6 => format!("{}{}", fixed(st.bic, 2), rank(&c.bic_rank, i)),
                 _ => if st.converged { "yes" } else { "NO" }.to_string(),
             };
             s.push_str(&right(&cell, cw));
@@ -115,6 +125,13 @@ fn content(app: &App, c: &Comparison, inner_w: usize) -> Vec<Line<'static>> {
         lines.push(Line::from(s));
     }
     lines.push(Line::from(""));
+    lines.push(Line::from(Span::styled(
+        "zero model: all coefficients 0, available alternatives equally likely",
+        t.dim(),
+    )));
+    if let Some(n) = &c.note {
+        lines.push(Line::from(Span::styled(n.clone(), t.bold())));
+    }
     if c.nested.is_empty() {
         lines.push(Line::from(Span::styled(
             "no model nests another on the same data: no likelihood-ratio test",
@@ -124,7 +141,7 @@ fn content(app: &App, c: &Comparison, inner_w: usize) -> Vec<Line<'static>> {
     for n in &c.nested {
         lines.push(Line::from(vec![
             Span::styled(
-                format!("[{}] nests in [{}]: ", n.restricted + 1, n.general + 1),
+                format!("{} nests in {}: ", c.ids[n.restricted], c.ids[n.general]),
                 t.bold(),
             ),
             Span::raw(format!(

@@ -120,6 +120,12 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         let row = r.changed.clone().unwrap_or_else(|| var.clone());
         el.put(&row, &r.affected, if app.arc { r.arc } else { r.value });
     }
+    // A 0/1 variable has no elasticity: its rows are the change in shares from 0 to 1.
+    let flag = a.flag_effects.iter().any(|r| &r.variable == var);
+    for r in a.flag_effects.iter().filter(|r| &r.variable == var) {
+        let row = r.changed.clone().unwrap_or_else(|| var.clone());
+        el.put(&row, &r.affected, r.change);
+    }
     let mut me = Grid::new(alts);
     for r in a.marginal_effects.iter().filter(|r| &r.variable == var) {
         let row = r.changed.clone().unwrap_or_else(|| var.clone());
@@ -130,7 +136,9 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         Layout::vertical([Constraint::Length(el_h), Constraint::Min(3)]).areas(area);
 
     let pos = vars.iter().position(|v| v == var).unwrap_or(0) + 1;
-    let kind = if app.arc {
+    let kind = if flag {
+        "0/1 flag".to_string()
+    } else if app.arc {
         format!("arc (+{:.0}%)", a.arc_change * 100.0)
     } else {
         "point".into()
@@ -142,7 +150,11 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let block = panel(title, t);
     let inner = block.inner(top);
     block.render(top, buf);
-    let what = if is_attr {
+    let what = if flag && is_attr {
+        format!("{var} of the row's alternative switched from 0 to 1: change in the column's share")
+    } else if flag {
+        format!("{var} switched from 0 to 1 for every decision maker: change in each share")
+    } else if is_attr {
         format!("1% more {var} of the row's alternative: % change in the column's share")
     } else {
         format!("1% more {var} of every decision maker: % change in each share")
@@ -166,9 +178,19 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     lines.push(Line::from(legend));
     Paragraph::new(lines).render(inner, buf);
 
-    let block = panel(format!("average marginal effects dP/d{var}"), t);
+    let block = panel(
+        format!("average marginal effects · change in share per unit more of {var}"),
+        t,
+    );
     let inner = block.inner(bottom);
     block.render(bottom, buf);
-    let lines = grid_lines(&me, corner, inner.width as usize, false, t);
+    let lines = if flag {
+        vec![Line::from(Span::styled(
+            format!("{var} is a 0/1 flag: its effect is the switch from 0 to 1 above, not a marginal effect"),
+            t.dim(),
+        ))]
+    } else {
+        grid_lines(&me, corner, inner.width as usize, false, t)
+    };
     Paragraph::new(lines).render(inner, buf);
 }

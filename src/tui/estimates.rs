@@ -198,12 +198,12 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         Layout::vertical([Constraint::Min(6), Constraint::Length(ratio_h)]).areas(area);
     let errors = if robust {
         if fit.design.obs.group.is_some() {
-            "robust s.e. clustered by decision maker"
+            "value ± s.e. clustered by decision maker"
         } else {
-            "robust s.e. by situation"
+            "value ± robust s.e. by situation"
         }
     } else {
-        "classical s.e."
+        "value ± s.e. from the Hessian"
     };
     let title = format!("estimates · {errors} · {}", st.sort.label());
     let block = panel(title, t);
@@ -216,22 +216,23 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         .map(|r| r.name.chars().count())
         .max()
         .unwrap_or(0);
-    let (nw, ew, sw, tw, pw, iw) = ((longest + 3).clamp(15, 26), 10, 9, 7, 7, 17);
-    let strip_w = w.saturating_sub(nw + ew + sw + tw + pw + iw + 2).max(5);
+    let (nw, ew, tw, pw, iw) = ((longest + 3).clamp(15, 26), 19, 7, 8, 16);
+    let strip_w = w.saturating_sub(nw + ew + tw + pw + iw + 2).max(5);
     let mut lines = vec![Line::from(Span::styled(
         format!(
-            "{}{}{}{}{}{}  {}",
+            "{}{}{}{}{}  {}",
             left("parameter", nw),
-            right("estimate", ew),
-            right("s.e.", sw),
+            right("value ± s.e.", ew),
             right("t", tw),
             right("p", pw),
             right("95% interval", iw),
             left(
-                if strip_w >= 12 {
-                    "0 ┆ interval"
+                if strip_w >= 34 {
+                    "0 ┆ 95% interval, each row to its own scale"
+                } else if strip_w >= 16 {
+                    "own scale per row"
                 } else {
-                    "vs 0 ┆"
+                    "own scale"
                 },
                 strip_w
             )
@@ -255,20 +256,23 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         if i == st.cursor {
             cursor_line = lines.len();
         }
-        let se = if r.fixed {
-            "fixed".to_string()
+        let value = if r.fixed {
+            format!("{} fixed", num(r.estimate, 0).trim())
         } else {
-            num(r.std_error, 0)
+            format!(
+                "{} ± {}",
+                num(r.estimate, 0).trim(),
+                num(r.std_error, 0).trim()
+            )
         };
         let interval = format!("{}…{}", short(r.low), short(r.high));
         let text = format!(
-            "{}{}{}{}{}{}",
+            "{}{}{}{}{}",
             left(
                 &format!("{} {}", if i == st.cursor { '›' } else { ' ' }, r.name),
                 nw
             ),
-            right(num(r.estimate, 0).trim(), ew),
-            right(se.trim(), sw),
+            right(&value, ew),
             right(&fixed(r.t, 2), tw),
             right(&pval(r.p), pw),
             right(&interval, iw),
@@ -301,8 +305,8 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     block.render(bottom, buf);
     let mut lines = vec![Line::from(Span::styled(
         format!(
-            "{}{}{}{}{}",
-            left("ratio", 20),
+            "{}{}{}{}{}  unit",
+            left("ratio (WTP)", 20),
             right("value", 10),
             right("s.e.", 9),
             right("delta 95%", 18),
@@ -313,14 +317,17 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     match ratios {
         Some(rs) => {
             for r in rs {
-                lines.push(Line::from(format!(
-                    "{}{}{}{}{}",
-                    left(&r.name, 20),
-                    right(&fixed(r.value, 4), 10),
-                    right(&fixed(r.std_error, 4), 9),
-                    right(&format!("{}…{}", short(r.ci_low), short(r.ci_high)), 18),
-                    right(&format!("{}…{}", short(r.kr_low), short(r.kr_high)), 19),
-                )));
+                lines.push(Line::from(vec![
+                    Span::raw(format!(
+                        "{}{}{}{}{}",
+                        left(&r.name, 20),
+                        right(&fixed(r.value, 4), 10),
+                        right(&fixed(r.std_error, 4), 9),
+                        right(&format!("{}…{}", short(r.ci_low), short(r.ci_high)), 18),
+                        right(&format!("{}…{}", short(r.kr_low), short(r.kr_high)), 19),
+                    )),
+                    Span::styled(format!("  {}", r.unit.as_deref().unwrap_or("")), t.dim()),
+                ]));
             }
         }
         None => {

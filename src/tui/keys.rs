@@ -175,7 +175,7 @@ pub const HELP: &[(&str, &[(&str, &str)])] = &[
     (
         "estimates",
         &[
-            ("e", "classical/robust s.e."),
+            ("e", "Hessian/clustered s.e."),
             ("s", "sort: spec, |t|, name"),
             ("t", "group by spec term"),
         ],

@@ -109,15 +109,15 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
             spec.family, spec.alternatives[spec.base].name, s.estimated_parameters
         )),
         row("log-likelihood", fixed(s.log_likelihood, 3)),
-        row("  at equal shares", fixed(s.null_log_likelihood, 3)),
+        row("  zero model", fixed(s.null_log_likelihood, 3)),
         row("  constants only", fixed(s.constants_log_likelihood, 3)),
         Line::from(vec![
-            Span::raw("rho² "),
+            Span::raw("rho² vs zero "),
             Span::styled(fixed(s.rho_squared, 4), t.bold()),
-            Span::raw(" · vs constants "),
-            Span::styled(fixed(s.rho_squared_constants, 4), t.bold()),
+            Span::raw(" · adj. "),
+            Span::styled(fixed(s.adjusted_rho_squared, 4), t.bold()),
         ]),
-        row("adjusted rho²", fixed(s.adjusted_rho_squared, 4)),
+        row("rho² vs constants", fixed(s.rho_squared_constants, 4)),
         Line::from(vec![
             Span::raw("AIC "),
             Span::styled(fixed(s.aic, 2), t.bold()),
@@ -143,7 +143,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
             )));
             if let Some(h) = &v.holdout {
                 lines.push(Line::from(format!(
-                    "hold-out LL {}, equal {}",
+                    "hold-out LL {}, zero {}",
                     fixed(h.log_likelihood, 1),
                     fixed(h.null_log_likelihood, 1)
                 )));

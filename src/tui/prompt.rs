@@ -102,7 +102,7 @@ fn accept(app: &mut App, ask: Ask, text: &str) -> Vec<Job> {
         );
         return Vec::new();
     }
-    if path.exists() {
+    if crate::data::write::occupied(&path) {
         app.prompt = Some(Prompt::Overwrite { ask, path });
         return Vec::new();
     }

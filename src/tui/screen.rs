@@ -233,8 +233,8 @@ fn render_status(app: &App, area: Rect, buf: &mut Buffer) {
             let mut text = format!(" {} · {}", l.model.path.display(), s.family);
             if app.models.len() > 1 {
                 text.push_str(&format!(
-                    " · model {}/{}",
-                    app.current + 1,
+                    " · {} of {} models",
+                    crate::analysis::compare::model_id(app.current),
                     app.models.len()
                 ));
             }

@@ -1,6 +1,8 @@
 //! The catalogue of bad inputs: spec, data and scenario files a user might
 //! bring, each giving a non-zero exit, a message naming the problem, and no
-//! panic; and awkward but valid files that must work.
+//! panic; and awkward but valid files that must work. Its other parts:
+//! `limits.rs` (crashes, overflows, hangs and silent nonsense found by pushing
+//! limits) and `wording.rs` (the reports' own wording and layout).
 
 use crate::common::*;
 
@@ -78,6 +80,10 @@ fn cases() -> Vec<Case> {
         case("targets over one", spec("d.csv", "[calibration]\ntargets = { b = 0.7, c = 0.6 }\n"), CSV, &["[calibration].targets", "more than 1"]),
         case("non-linear restriction", format!("restrictions = [\"cost * income_b = 1\"]\n{}", spec("d.csv", "")), CSV, &["restrictions", "not linear"]),
         case("duplicate code", ok.replace("[alternatives.b]\n", "[alternatives.b]\ncode = 1\n").replace("[alternatives.a]\n", "[alternatives.a]\ncode = 1\n"), CSV, &["code 1", "already used"]),
+        case("row with more fields than the header", ok.clone(), &CSV.replace(",30\n", ",30,99\n"), &["d.csv", "row 3", "9 fields", "8 columns"]),
+        case("line ends of a carriage return alone", ok.clone(), &CSV.replace('\n', "\r"), &["d.csv", "carriage return"]),
+        case("header names a column twice", ok.clone(), &CSV.replace("cc,inc\n", "cc,ca,inc\n").replace(",10\n", ",0,10\n").replace(",20\n", ",0,20\n").replace(",30\n", ",0,30\n").replace(",40\n", ",0,40\n").replace(",50\n", ",0,50\n").replace(",60\n", ",0,60\n"), &["d.csv", "`ca` twice", "positions 5 and 8"]),
+        case("derived reads a text column", spec("d.csv", "[derived]\nk = \"mode * 2\"\n").replace("a = \"ca\"", "a = \"k\""), CSV, &["[derived].k", "`mode`", "holds text", "row 1"]),
         scen("scenario: unknown attribute", "[[change]]\nattribute = \"speed\"\nalternative = \"b\"\nadd = 1\n", &["s.toml", "`speed`"]),
         scen("scenario: two operations", "[[change]]\nattribute = \"cost\"\nalternative = \"b\"\nadd = 1\nset = 2\n", &["s.toml", "exactly one"]),
         scen("scenario: bad where", "[[change]]\nattribute = \"cost\"\nalternative = \"b\"\nadd = 1\nwhere = \"inc >> 3\"\n", &["s.toml", "where", "at character"]),
@@ -153,7 +159,12 @@ fn awkward_but_valid_files_work() {
         .replace("id,who", "\"id\",\"who\"")
         .replace("1,1,a,", "1,\"1\",\"a\",")
         .replace(",10\n", ",\"10\"\n");
+    // numbers padded with spaces, as some exports write them
+    let padded = CSV
+        .replace(",1.5,2.5,", ", 1.5 ,  2.5,")
+        .replace(",20\n", ", 20 \n");
     let variants: Vec<(&str, Vec<u8>)> = vec![
+        ("valid_padded", padded.into_bytes()),
         ("valid_bom", bom),
         ("valid_crlf", crlf.into_bytes()),
         ("valid_quoted", quoted.into_bytes()),

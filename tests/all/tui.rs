@@ -167,9 +167,11 @@ fn estimates_are_grouped_by_term_with_errors_sort_and_ratios() {
     has(
         &s,
         &[
-            "0.16183",
-            "<.0001",
-            "robust s.e. clustered",
+            "-0.82712 ± 0.16183",
+            "3.2e-7",
+            "< 1e-12",
+            "value ± s.e. clustered by decision maker",
+            "own scale per row",
             "├",
             "●",
             "┤",
@@ -178,7 +180,10 @@ fn estimates_are_grouped_by_term_with_errors_sort_and_ratios() {
         ],
     );
     keys(&mut app, "e");
-    has(&screen(&app, 100, 40), &["classical s.e.", "0.15317"]);
+    has(
+        &screen(&app, 100, 40),
+        &["value ± s.e. from the Hessian", "-0.82712 ± 0.15317"],
+    );
     keys(&mut app, "es");
     let s = screen(&app, 100, 40);
     let at = |n: &str| s.find(n).unwrap();
@@ -240,7 +245,14 @@ fn elasticities_and_diversion_show_the_analysis_figures() {
             &format!("{:+.3}", own("cost", "rail").value),
         ],
     );
-    has(&s, &["▓", "warm: share falls", "marginal effects dP/dcost"]);
+    has(
+        &s,
+        &[
+            "▓",
+            "warm: share falls",
+            "change in share per unit more of cost",
+        ],
+    );
     keys(&mut app, "la");
     has(
         &screen(&app, 80, 24),
@@ -525,15 +537,19 @@ fn compare_sets_two_specs_side_by_side() {
     has(
         &s,
         &[
-            "[1] specs/commute.toml",
-            "[2] specs/commute_generic.toml",
+            "M1 specs/commute.toml",
+            "M2 specs/commute_generic.toml",
+            "s.e. clustered by decision maker",
             "asc_bus",
+            "-0.82712 ± 0.16183",
             "AIC (rank)",
-            "[2] nests in [1]",
+            "rho² vs zero",
+            "M2 nests in M1",
             "LR χ²",
         ],
     );
-    has(&s, &["model 1/2"]);
+    assert!(!s.contains("<.0001") && !s.contains("[1]"), "{s}");
+    has(&s, &["M1 of 2 models"]);
     keys(&mut app, &"j".repeat(200));
     let most = sharecast::tui::compare::height(&app) as u16;
     assert!(
@@ -544,7 +560,7 @@ fn compare_sets_two_specs_side_by_side() {
     keys(&mut app, "gm");
     has(
         &screen(&app, 100, 40),
-        &["model 2/2", "specs/commute_generic.toml · logit"],
+        &["M2 of 2 models", "specs/commute_generic.toml · logit"],
     );
 }
 
@@ -790,4 +806,20 @@ fn an_ordered_model_says_which_views_do_not_apply() {
         &screen(&app, 120, 60),
         &["cut-points", "cut_very_poor", "wait_minutes"],
     );
+}
+
+#[test]
+fn a_message_goes_when_the_view_changes() {
+    // Regression: a message said on one view stayed on screen on the next.
+    let mut app = demo(&["specs/commute.toml"]);
+    keys(&mut app, "2m");
+    let text = app.status.as_ref().unwrap().text.clone();
+    assert!(text.contains("one model is open"), "{text}");
+    assert!(screen(&app, 100, 30).contains("one model is open"));
+    keys(&mut app, "3");
+    assert!(app.status.is_none());
+    assert!(!screen(&app, 100, 30).contains("one model is open"));
+    // the same view again keeps it
+    keys(&mut app, "m3");
+    assert!(app.status.is_some());
 }

@@ -1,0 +1,62 @@
+//! Fuzzes scenario `where` filters: the text is parsed as an expression and,
+//! when it parses, applied to a small data set through `scenario::prepare`
+//! (evaluation over the table's columns): changed values or an error, never a
+//! panic or a stack overflow.
+#![no_main]
+use std::path::PathBuf;
+use std::sync::{Arc, OnceLock};
+
+use libfuzzer_sys::fuzz_target;
+use sharecast::data::{self, Dataset, Extra};
+use sharecast::design::Design;
+use sharecast::scenario::{prepare, Change, Op, Scenario, Target};
+use sharecast::spec::{Expr, Spec};
+
+const SPEC: &str = "[data]\nfile = \"d.csv\"\nlayout = \"wide\"\nchoice = \"m\"\n[model]\nfamily = \"logit\"\nbase = \"car\"\n[alternatives.car]\n[alternatives.bus]\n[[attribute]]\nname = \"cost\"\ncolumns = { car = \"c1\", bus = \"c2\" }\n[[characteristic]]\nname = \"income\"\ncolumn = \"inc\"\n[derived]\nhalf = \"inc / 2\"\n";
+const CSV: &str = "m,c1,c2,inc,zone\ncar,1,2,10,1\nbus,2,1,0,2\ncar,1.5,0.5,-3,3\nbus,0,1e10,5,1\n";
+
+struct Fixed {
+    spec: Spec,
+    ds: Dataset,
+    design: Design,
+}
+
+fn fixed() -> &'static Fixed {
+    static F: OnceLock<Fixed> = OnceLock::new();
+    F.get_or_init(|| {
+        let dir: PathBuf = std::env::temp_dir().join(format!("sharecast-fuzz-filter-{}", std::process::id()));
+        let _ = std::fs::create_dir_all(&dir);
+        let _ = std::fs::write(dir.join("d.csv"), CSV);
+        let spec = match sharecast::model::parse_spec(SPEC, &dir.join("s.toml")) {
+            Ok(s) => s,
+            Err(e) => panic!("fixed spec invalid: {e}"),
+        };
+        let extra = Extra { numeric: vec!["zone".into()], text: Vec::new() };
+        let ds = match data::load(&spec, &extra) {
+            Ok(d) => d,
+            Err(e) => panic!("fixed data invalid: {e}"),
+        };
+        let design = Design::build(&spec, Arc::new(ds.obs.clone()));
+        Fixed { spec, ds, design }
+    })
+}
+
+fuzz_target!(|data: &[u8]| {
+    let Ok(text) = std::str::from_utf8(data) else {
+        return;
+    };
+    let Ok(e) = Expr::parse(text) else {
+        return;
+    };
+    let f = fixed();
+    let sc = Scenario {
+        name: "fuzz".into(),
+        changes: vec![Change {
+            target: Target::Attribute { attribute: 0, alternative: 1 },
+            op: Op::Add(1.0),
+            filter: Some((text.to_string(), e)),
+        }],
+        ..Scenario::default()
+    };
+    let _ = prepare::prepare(&f.spec, &f.design, &f.ds.table, &sc);
+});

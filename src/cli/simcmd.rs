@@ -50,10 +50,12 @@ pub struct SimulateArgs {
 #[derive(Args, Debug)]
 pub struct SweepArgs {
     pub spec: PathBuf,
+    /// An attribute, or a characteristic of the decision maker.
     #[arg(long)]
     pub attribute: String,
+    /// The alternative whose attribute changes (not for a characteristic).
     #[arg(long)]
-    pub alternative: String,
+    pub alternative: Option<String>,
     /// First multiplier of the attribute.
     #[arg(long, default_value_t = 0.5)]
     pub from: f64,

@@ -119,11 +119,11 @@ pub fn text(f: &Forecast) -> String {
 
 pub fn sweep(sw: &Sweep) -> String {
     let mut s = String::new();
-    let _ = writeln!(
-        s,
-        "━━ sharecast demand curve ━━ {} of {} multiplied",
-        sw.attribute, sw.alternative
-    );
+    let what = match &sw.alternative {
+        Some(alt) => format!("{} of {alt}", sw.attribute),
+        None => format!("{} of every decision maker", sw.attribute),
+    };
+    let _ = writeln!(s, "━━ sharecast demand curve ━━ {what} multiplied");
     let _ = write!(s, "  {:>10}", "multiplier");
     for a in &sw.alternatives {
         let _ = write!(s, "{a:>12}");

@@ -1,5 +1,5 @@
 //! Demand curves: shares of every alternative as one attribute of one
-//! alternative is multiplied across a range.
+//! alternative, or one characteristic of everyone, is multiplied across a range.
 
 use serde::Serialize;
 
@@ -19,8 +19,10 @@ pub struct SweepPoint {
 
 #[derive(Clone, Debug, Serialize)]
 pub struct Sweep {
+    /// The attribute or characteristic swept.
     pub attribute: String,
-    pub alternative: String,
+    /// The alternative whose attribute is swept; null for a characteristic.
+    pub alternative: Option<String>,
     pub alternatives: Vec<String>,
     pub points: Vec<SweepPoint>,
 }
@@ -28,33 +30,45 @@ pub struct Sweep {
 /// The most points on one demand curve.
 pub const MAX_STEPS: usize = 10_000;
 
-/// What to sweep: attribute of alternative, multiplied from `from` to `to` in `steps` steps.
+/// What to sweep: an attribute of an alternative, or a characteristic (no
+/// alternative), multiplied from `from` to `to` in `steps` steps.
 #[derive(Clone, Debug)]
 pub struct Request {
     pub attribute: String,
-    pub alternative: String,
+    pub alternative: Option<String>,
     pub from: f64,
     pub to: f64,
     pub steps: usize,
 }
 
-pub fn sweep(spec: &Spec, fit: &Fit, ds: &Dataset, req: &Request) -> Result<Sweep> {
-    let (attribute, alternative, from, to, steps) = (
-        req.attribute.as_str(),
-        req.alternative.as_str(),
-        req.from,
-        req.to,
-        req.steps,
-    );
+/// The change a sweep makes: an attribute of one alternative, or a characteristic.
+fn target(spec: &Spec, attribute: &str, alternative: Option<&str>) -> Result<Target> {
+    if let Some(c) = spec
+        .characteristics
+        .iter()
+        .position(|x| x.name == attribute)
+    {
+        if let Some(alt) = alternative {
+            return Err(Error::Usage(format!(
+                "--alternative `{alt}`: `{attribute}` is a characteristic of the decision maker, changed for every alternative at once; leave out --alternative"
+            )));
+        }
+        return Ok(Target::Characteristic { characteristic: c });
+    }
     let a = spec
         .attributes
         .iter()
         .position(|x| x.name == attribute)
         .ok_or_else(|| {
             Error::Usage(format!(
-                "--attribute: `{attribute}` is not an attribute of the spec"
+                "--attribute: `{attribute}` is neither an attribute nor a characteristic of the spec"
             ))
         })?;
+    let Some(alternative) = alternative else {
+        return Err(Error::Usage(format!(
+            "--alternative: name the alternative whose `{attribute}` changes"
+        )));
+    };
     let k = spec.alternative_index(alternative).ok_or_else(|| {
         Error::Usage(format!(
             "--alternative: `{alternative}` is not an alternative of the spec"
@@ -65,6 +79,21 @@ pub fn sweep(spec: &Spec, fit: &Fit, ds: &Dataset, req: &Request) -> Result<Swee
             "attribute `{attribute}` does not enter `{alternative}`"
         )));
     }
+    Ok(Target::Attribute {
+        attribute: a,
+        alternative: k,
+    })
+}
+
+pub fn sweep(spec: &Spec, fit: &Fit, ds: &Dataset, req: &Request) -> Result<Sweep> {
+    let (attribute, alternative, from, to, steps) = (
+        req.attribute.as_str(),
+        req.alternative.as_deref(),
+        req.from,
+        req.to,
+        req.steps,
+    );
+    let target = target(spec, attribute, alternative)?;
     if steps < 2 || !(from.is_finite() && to.is_finite()) {
         return Err(Error::Usage(
             "--steps must be at least 2 and --from/--to finite".into(),
@@ -81,12 +110,12 @@ pub fn sweep(spec: &Spec, fit: &Fit, ds: &Dataset, req: &Request) -> Result<Swee
     for s in 0..steps {
         let multiplier = from + (to - from) * s as f64 / (steps - 1) as f64;
         let sc = Scenario {
-            name: format!("{attribute} of {alternative} x {multiplier}"),
+            name: match alternative {
+                Some(alt) => format!("{attribute} of {alt} x {multiplier}"),
+                None => format!("{attribute} x {multiplier}"),
+            },
             changes: vec![Change {
-                target: Target::Attribute {
-                    attribute: a,
-                    alternative: k,
-                },
+                target: target.clone(),
                 op: Op::Multiply(multiplier),
                 filter: None,
             }],
@@ -98,7 +127,7 @@ pub fn sweep(spec: &Spec, fit: &Fit, ds: &Dataset, req: &Request) -> Result<Swee
     }
     Ok(Sweep {
         attribute: attribute.to_string(),
-        alternative: alternative.to_string(),
+        alternative: alternative.map(String::from),
         alternatives: spec.alternative_names(),
         points,
     })

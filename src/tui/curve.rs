@@ -86,7 +86,7 @@ impl Curve {
             model: model.clone(),
             request: Request {
                 attribute: model.spec.attributes[a].name.clone(),
-                alternative: model.spec.alternatives[k].name.clone(),
+                alternative: Some(model.spec.alternatives[k].name.clone()),
                 from,
                 to,
                 steps: STEPS,

@@ -290,3 +290,46 @@ fn a_category_never_observed_is_named() {
         "{err}"
     );
 }
+
+#[test]
+fn a_characteristic_can_be_swept() {
+    // The ratings curve over waiting time: longer waits shift the ratings down;
+    // at a multiplier of 1 the shares are the fitted ones (fact of the method).
+    let (code, out, err) = run(&[
+        "sweep",
+        "specs/delivery_ratings.toml",
+        "--attribute",
+        "wait_minutes",
+        "--from",
+        "0.5",
+        "--to",
+        "1.5",
+        "--steps",
+        "3",
+        "--json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v: Value = serde_json::from_str(&out).unwrap();
+    assert!(v["alternative"].is_null());
+    let share = |p: usize, k: usize| v["points"][p]["shares"][k].as_f64().unwrap();
+    assert!(
+        share(0, 4) > share(1, 4) && share(1, 4) > share(2, 4),
+        "excellent falls with waiting"
+    );
+    assert!(share(0, 0) < share(2, 0), "very poor rises with waiting");
+    let (_, fit) = fit_file("specs/delivery_ratings.toml");
+    assert_close("at x1", share(1, 2), fit.shares[2].predicted, 1e-9);
+    let (code, _, err) = run(&[
+        "sweep",
+        "specs/delivery_ratings.toml",
+        "--attribute",
+        "wait_minutes",
+        "--alternative",
+        "poor",
+    ]);
+    assert_eq!(code, 1);
+    assert!(
+        err.contains("characteristic") && err.contains("leave out --alternative"),
+        "{err}"
+    );
+}

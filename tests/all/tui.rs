@@ -488,7 +488,7 @@ fn the_demand_curve_is_the_library_sweep() {
     let m = &l.model;
     let req = sharecast::scenario::sweep::Request {
         attribute: "cost".into(),
-        alternative: "rail".into(),
+        alternative: Some("rail".into()),
         from: 0.5,
         to: 1.5,
         steps: 21,

@@ -8,17 +8,17 @@ use std::sync::{Arc, OnceLock};
 
 use libfuzzer_sys::fuzz_target;
 use sharecast::data::{self, Dataset, Extra};
-use sharecast::design::Design;
+use sharecast::estimate::{self, Fit, Step};
 use sharecast::scenario::{prepare, Change, Op, Scenario, Target};
 use sharecast::spec::{Expr, Spec};
 
-const SPEC: &str = "[data]\nfile = \"d.csv\"\nlayout = \"wide\"\nchoice = \"m\"\n[model]\nfamily = \"logit\"\nbase = \"car\"\n[alternatives.car]\n[alternatives.bus]\n[[attribute]]\nname = \"cost\"\ncolumns = { car = \"c1\", bus = \"c2\" }\n[[characteristic]]\nname = \"income\"\ncolumn = \"inc\"\n[derived]\nhalf = \"inc / 2\"\n";
+const SPEC: &str = "[data]\nfile = \"d.csv\"\nlayout = \"wide\"\nchoice = \"m\"\n[model]\nfamily = \"logit\"\nbase = \"car\"\n[alternatives.car]\n[alternatives.bus]\n[[attribute]]\nname = \"cost\"\ncolumns = { car = \"c1\", bus = \"c2\" }\n[[characteristic]]\nname = \"income\"\ncolumn = \"inc\"\n[derived]\nhalf = \"inc / 2\"\n[parameters]\nasc_bus = { fixed = 0.3 }\ncost = { fixed = -0.5 }\nincome_bus = { fixed = 0.01 }\n";
 const CSV: &str = "m,c1,c2,inc,zone\ncar,1,2,10,1\nbus,2,1,0,2\ncar,1.5,0.5,-3,3\nbus,0,1e10,5,1\n";
 
 struct Fixed {
     spec: Spec,
     ds: Dataset,
-    design: Design,
+    fit: Fit,
 }
 
 fn fixed() -> &'static Fixed {
@@ -36,8 +36,13 @@ fn fixed() -> &'static Fixed {
             Ok(d) => d,
             Err(e) => panic!("fixed data invalid: {e}"),
         };
-        let design = Design::build(&spec, Arc::new(ds.obs.clone()));
-        Fixed { spec, ds, design }
+        // Every parameter is fixed: the fit only builds the design.
+        let quiet = |_s: Step| {};
+        let fit = match estimate::fit(&spec, Arc::new(ds.obs.clone()), &quiet) {
+            Ok(f) => f,
+            Err(e) => panic!("fixed fit failed: {e}"),
+        };
+        Fixed { spec, ds, fit }
     })
 }
 
@@ -58,5 +63,5 @@ fuzz_target!(|data: &[u8]| {
         }],
         ..Scenario::default()
     };
-    let _ = prepare::prepare(&f.spec, &f.design, &f.ds.table, &sc);
+    let _ = prepare::prepare(&f.spec, &f.fit, &f.ds.table, &sc);
 });

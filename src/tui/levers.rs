@@ -70,7 +70,7 @@ pub fn parse_change(text: &str) -> Result<Op, String> {
         s.trim()
             .parse::<f64>()
             .ok()
-            .filter(|v| v.is_finite())
+            .filter(|v| crate::data::table::usable(*v))
             .ok_or_else(bad)
     };
     if let Some(p) = t.strip_suffix('%') {

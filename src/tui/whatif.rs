@@ -180,6 +180,10 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
                 (None, None) => format!("drawing {DRAWS} parameter sets for the band…"),
             };
             lines.push(Line::from(Span::styled(note, t.dim())));
+            // e.g. situations a withdrawal leaves with nothing to choose
+            for warning in &f.warnings {
+                lines.push(Line::from(Span::styled(format!("! {warning}"), t.warn())));
+            }
         }
         (None, Some(e)) => lines.push(Line::from(Span::styled(e.clone(), t.warn()))),
         (None, None) => lines.push(Line::from("computing…")),

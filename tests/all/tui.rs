@@ -391,7 +391,7 @@ fn parsing_and_stepping_changes() {
     assert_eq!(levers::parse_change(" +2 "), Ok(Op::Add(2.0)));
     assert_eq!(levers::parse_change("=3.5"), Ok(Op::Set(3.5)));
     assert_eq!(levers::parse_change("3.5"), Ok(Op::Set(3.5)));
-    for bad in ["", "abc", "+", "x", "=inf", "NaN%"] {
+    for bad in ["", "abc", "+", "x", "=inf", "NaN%", "=1e300", "x1e20"] {
         assert!(levers::parse_change(bad).is_err(), "{bad}");
     }
     assert_eq!(

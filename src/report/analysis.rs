@@ -188,9 +188,9 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
             );
             let _ = writeln!(
                 s,
-                "  {:<18}for one {} of `{}` against `{}` · 95% delta {:.4} … {:.4} · Krinsky-Robb {kr}",
+                "  {:<18}for {} of `{}` against `{}` · 95% delta {:.4} … {:.4} · Krinsky-Robb {kr}",
                 "",
-                r.per,
+                per_units(r.scale, &r.per),
                 r.numerator,
                 r.denominator,
                 r.ci_low,
@@ -340,4 +340,14 @@ fn flag_section(s: &mut String, names: &[String], a: &Analysis) {
             .map(|f| cell(f.change, f.std_error))
             .unwrap_or_default()
     });
+}
+
+/// "one unit more", "60 units less": what a ratio's willingness to pay is for.
+fn per_units(scale: f64, per: &str) -> String {
+    let way = per.strip_prefix("unit ").unwrap_or(per);
+    if scale == 1.0 {
+        format!("one unit {way}")
+    } else {
+        format!("{} units {way}", scale.abs())
+    }
 }

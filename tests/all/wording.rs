@@ -189,7 +189,7 @@ fn value_ratios_are_willingness_to_pay_with_their_unit() {
     assert_eq!(rows[1]["per"], "unit less");
     let r = run_in(&d, &["fit", "spec.toml", "--allow-unconverged"], 60);
     assert!(r.1.contains("0.5000 ± 0.0000    £ per thousand"), "{}", r.1);
-    assert!(r.1.contains("for one unit less of `income_b`"), "{}", r.1);
+    assert!(r.1.contains("for 2 units less of `income_b`"), "{}", r.1);
     let bad = setup("ratio_per", CSV, &spec("d.csv", "[[ratio]]\nname = \"x\"\nnumerator = \"income_b\"\ndenominator = \"cost\"\nper = \"hour\"\n"));
     let r = run_in(&bad, &["check", "spec.toml"], 60);
     assert_eq!(r.0, 1, "{}", r.2);

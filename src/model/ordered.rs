@@ -34,6 +34,22 @@ impl FamilyRules for Rules {
         true
     }
 
+    fn check_parameters(&self, parameters: &[crate::spec::Parameter]) -> Result<(), String> {
+        let cuts: Vec<&crate::spec::Parameter> = parameters
+            .iter()
+            .filter(|p| matches!(p.term, crate::spec::Term::Family(_)))
+            .collect();
+        for w in cuts.windows(2) {
+            if w[1].start <= w[0].start {
+                return Err(format!(
+                    "[parameters].{}: cut-points must increase from the lowest category up; {} = {} is not above {} = {}",
+                    w[1].name, w[1].name, w[1].start, w[0].name, w[0].start
+                ));
+            }
+        }
+        Ok(())
+    }
+
     fn check(&self, spec: &SpecView) -> Result<Vec<FamilyParameter>, String> {
         let family = if self.probit {
             "ordered-probit"

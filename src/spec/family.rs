@@ -53,6 +53,12 @@ pub trait FamilyRules: Sync {
     fn single_index(&self) -> bool {
         false
     }
+    /// Checks the starting and fixed values `[parameters]` gave the family's
+    /// own parameters (a nest scale must be positive, cut-points increasing).
+    fn check_parameters(&self, parameters: &[super::Parameter]) -> Result<(), String> {
+        let _ = parameters;
+        Ok(())
+    }
     /// Checks the family's constraints and keys; returns the parameters it adds.
     /// An error is a message naming the key at fault.
     fn check(&self, spec: &SpecView) -> Result<Vec<FamilyParameter>, String>;

@@ -397,6 +397,8 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         }
     }
 
+    rules.check_parameters(&parameters).map_err(fail)?;
+
     // [[ratio]]
     let ratios = super::ratio::ratios(&raw.ratio, &parameters).map_err(fail)?;
 

@@ -187,6 +187,7 @@ fn nest_errors_name_the_key() {
         ("nest of one", format!("{nested}[[nest]]\nname = \"g\"\nalternatives = [\"bus\"]\n"), vec!["[[nest]] g", "two or more", "logit"]),
         ("clash", format!("{nested}[[nest]]\nname = \"gc\"\nalternatives = [\"bus\", \"train\"]\n"), vec!["[[nest]] gc", "clash"]),
         ("no nest", nested.clone(), vec!["at least one [[nest]]"]),
+        ("scale not positive", format!("{nested}[[nest]]\nname = \"g\"\nalternatives = [\"bus\", \"train\"]\n[parameters]\nlambda_g = {{ fixed = 0.0 }}\n"), vec!["[parameters].lambda_g", "positive"]),
         ("nest with logit", format!("{base}[[nest]]\nname = \"g\"\nalternatives = [\"bus\", \"train\"]\n"), vec!["`nest` belongs to family \"nested\"", "\"logit\""]),
         ("unknown key in nest", format!("{nested}[[nest]]\nname = \"g\"\nalternatives = [\"bus\", \"train\"]\nscale = 2\n"), vec!["[[nest]] number 1", "`scale`"]),
     ];

@@ -196,6 +196,11 @@ fn ordered_spec_errors_name_the_key() {
             vec!["three or more", "binary"],
         ),
         (
+            "cut-points not increasing",
+            format!("{ok}[parameters]\ncut_r3 = {{ start = -9.0 }}\n"),
+            vec!["[parameters].cut_r3", "must increase"],
+        ),
+        (
             "long layout",
             ok.replace(
                 "layout = \"wide\"\nchoice = \"selfLR\"",

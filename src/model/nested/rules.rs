@@ -14,6 +14,18 @@ impl FamilyRules for Rules {
         &["nest"]
     }
 
+    fn check_parameters(&self, parameters: &[crate::spec::Parameter]) -> Result<(), String> {
+        for p in parameters {
+            if matches!(p.term, crate::spec::Term::Family(_)) && p.start <= 0.0 {
+                return Err(format!(
+                    "[parameters].{}: a nest scale must be positive (1 is the logit), found {}",
+                    p.name, p.start
+                ));
+            }
+        }
+        Ok(())
+    }
+
     fn check(&self, spec: &SpecView) -> Result<Vec<FamilyParameter>, String> {
         let nests = nests_of(spec.keys, spec.alternatives)?;
         if nests.is_empty() {

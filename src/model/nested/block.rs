@@ -50,6 +50,19 @@ fn nests<const F: bool>(m: &Nested, lam: &[f64], blk: &Block, r: &mut Rows, nb: 
     let v = &blk.rows;
     let mut top = [f64::NEG_INFINITY; BLOCK];
     for (g, alts) in m.members.iter().enumerate() {
+        if let [a] = alts[..] {
+            // An alternative alone (scale 1): its nest quantities are its own.
+            for b in 0..nb {
+                let on = v[a][b] > f64::NEG_INFINITY;
+                r.max[g][b] = v[a][b];
+                r.cond[a][b] = if on { 1.0 } else { 0.0 };
+                r.vbar[g][b] = if on { v[a][b] } else { 0.0 };
+                r.lns[g][b] = 0.0;
+                r.a[g][b] = v[a][b];
+                top[b] = if v[a][b] > top[b] { v[a][b] } else { top[b] };
+            }
+            continue;
+        }
         let inv = 1.0 / lam[g];
         let mx = &mut r.max[g];
         mx[..nb].iter_mut().for_each(|x| *x = f64::NEG_INFINITY);
@@ -76,15 +89,19 @@ fn nests<const F: bool>(m: &Nested, lam: &[f64], blk: &Block, r: &mut Rows, nb: 
         }
         let vbar = &mut r.vbar[g];
         vbar[..nb].iter_mut().for_each(|x| *x = 0.0);
+        let mut inv_sum = [0.0; BLOCK];
+        for (i, s) in inv_sum[..nb].iter_mut().zip(&sum[..nb]) {
+            *i = if *s > 0.0 { 1.0 / s } else { 0.0 };
+        }
         for &a in alts {
             let c = &mut r.cond[a];
             for (((e, s), vb), v) in c[..nb]
                 .iter_mut()
-                .zip(&sum[..nb])
+                .zip(&inv_sum[..nb])
                 .zip(vbar[..nb].iter_mut())
                 .zip(&v[a][..nb])
             {
-                *e = if *s > 0.0 { *e / s } else { 0.0 };
+                *e *= s;
                 *vb += if *e > 0.0 { *e * v } else { 0.0 };
             }
         }
@@ -104,18 +121,28 @@ fn nests<const F: bool>(m: &Nested, lam: &[f64], blk: &Block, r: &mut Rows, nb: 
             };
         }
     }
+    // Nest shares: Q_g = exp(a_g - top) / sum_m exp(a_m - top), one exp per nest.
+    let groups = m.members.len();
     let mut d = [0.0; BLOCK];
-    for ag in r.a.iter().take(m.members.len()) {
-        for ((db, a), t) in d[..nb].iter_mut().zip(&ag[..nb]).zip(&top[..nb]) {
-            *db += exp_nonpositive::<F>(a - t);
+    for (ag, qg) in r.a.iter().zip(r.q.iter_mut()).take(groups) {
+        for (((db, q), a), t) in d[..nb]
+            .iter_mut()
+            .zip(qg[..nb].iter_mut())
+            .zip(&ag[..nb])
+            .zip(&top[..nb])
+        {
+            *q = exp_nonpositive::<F>(a - t);
+            *db += *q;
         }
     }
+    let mut inv = [0.0; BLOCK];
     for b in 0..nb {
         r.logd[b] = top[b] + ln_positive::<F>(d[b]);
+        inv[b] = 1.0 / d[b];
     }
-    for g in 0..m.members.len() {
-        for b in 0..nb {
-            r.q[g][b] = exp_nonpositive::<F>(r.a[g][b] - r.logd[b]);
+    for qg in r.q.iter_mut().take(groups) {
+        for (q, i) in qg[..nb].iter_mut().zip(&inv[..nb]) {
+            *q *= i;
         }
     }
 }
@@ -151,11 +178,12 @@ fn residuals(
             continue;
         }
         let (mx, lns, q, vbar) = (&r.max[g], &r.lns[g], &r.q[g], &r.vbar[g]);
+        let (il, il2) = (1.0 / l, 1.0 / (l * l));
         let mut sum = 0.0;
         for b in 0..nb {
-            let iv = mx[b] / l + lns[b];
-            let own = iv - blk.vc[b] / (l * l) - (l - 1.0) * vbar[b] / (l * l);
-            let d = -q[b] * (iv - vbar[b] / l) + if gc[b] == g { own } else { 0.0 };
+            let iv = mx[b] * il + lns[b];
+            let own = iv - blk.vc[b] * il2 - (l - 1.0) * vbar[b] * il2;
+            let d = -q[b] * (iv - vbar[b] * il) + if gc[b] == g { own } else { 0.0 };
             sum += if q[b] > 0.0 { w[b] * d } else { 0.0 };
         }
         glam[g] += sum;

@@ -150,9 +150,11 @@ fn nests<const F: bool>(m: &Nested, lam: &[f64], blk: &Block, r: &mut Rows, nb: 
 /// Residual rows w d ln P_c / dV_a of a block, in place of its utilities, and
 /// the scales' gradients added to `glam`; row by row, so that it vectorises.
 #[inline(always)]
+#[allow(clippy::too_many_arguments)]
 fn residuals(
     m: &Nested,
     lam: &[f64],
+    inv_lam: &[f64],
     blk: &mut Block,
     r: &Rows,
     w: &[f64],
@@ -189,7 +191,7 @@ fn residuals(
         glam[g] += sum;
     }
     for b in 0..nb {
-        blk.rows[ch[b] as usize][b] += w[b] / lam[gc[b]];
+        blk.rows[ch[b] as usize][b] += w[b] * inv_lam[gc[b]];
     }
 }
 
@@ -215,6 +217,7 @@ fn chunk_body<const F: bool>(
     };
     let mut blk = Block::new(plan);
     let mut r = Rows::new(groups, j);
+    let inv_lam: Vec<f64> = lam.iter().map(|l| 1.0 / l).collect();
     let na = plan.attrs.len();
     let mut i0 = range.start;
     while i0 < range.end {
@@ -227,12 +230,12 @@ fn chunk_body<const F: bool>(
         for b in 0..nb {
             let c = ch[b] as usize;
             let g = m.group_of[c];
-            let within = (blk.vc[b] - r.max[g][b]) / lam[g] - r.lns[g][b];
+            let within = (blk.vc[b] - r.max[g][b]) * inv_lam[g] - r.lns[g][b];
             ll += w[b] * (r.a[g][b] - r.logd[b] + within);
         }
         acc.ll.add(ll);
         if want_grad {
-            residuals(m, lam, &mut blk, &r, w, ch, &mut acc.lam);
+            residuals(m, lam, &inv_lam, &mut blk, &r, w, ch, &mut acc.lam);
             for (a, row) in blk.rows.iter().enumerate() {
                 let row = &row[..nb];
                 let g = &mut acc.g[0][a * BLOCK..a * BLOCK + nb];

@@ -10,6 +10,7 @@ pub mod hypothesis;
 pub mod ratios;
 pub mod sensitivity;
 pub mod simulate;
+pub mod single_index;
 pub mod validation;
 
 use serde::Serialize;
@@ -89,6 +90,9 @@ pub struct Analysis {
     /// Wald test that the family's own parameters equal their null values, where
     /// the family then reduces to a simpler one (nested logit: every scale 1, the logit).
     pub family_test: Option<ChiTest>,
+    /// Ordered families: the likelihood ratio against the unordered logit (a guide).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub single_index: Option<single_index::SingleIndexCheck>,
     pub iia: Option<IiaTest>,
     /// Ordered families: the effect of a one-unit change of each
     /// characteristic on the expected category (categories numbered 1..J).
@@ -334,6 +338,7 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
         Some(hypothesis::wald(fit, &restrictions)?)
     };
     let family_test = hypothesis::family_reduction(spec, fit)?;
+    let single_index = single_index::check(spec, fit)?;
     let iia = match &opts.iia_drop {
         Some(name) => {
             let m = spec.alternative_index(name).ok_or_else(|| {
@@ -364,6 +369,7 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
         },
         wald,
         family_test,
+        single_index,
         expected_category: expected_category(spec, fit),
         iia,
         warnings,

@@ -274,6 +274,18 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
             );
         }
     }
+    if let Some(t) = &a.single_index {
+        let _ = writeln!(
+            s,
+            "\n{}: likelihood ratio {:.4}, {} df, p {} (unordered logit log-likelihood {:.4})\n  note: {}",
+            t.name,
+            t.statistic,
+            t.df,
+            super::pval(t.p_value),
+            t.unordered_log_likelihood,
+            t.note
+        );
+    }
     for t in a.family_test.iter().chain(a.wald.iter()) {
         let _ = writeln!(
             s,

@@ -338,3 +338,33 @@ fn a_characteristic_can_be_swept() {
         "{err}"
     );
 }
+
+#[test]
+fn the_single_index_check_uses_the_unordered_logit_of_statsmodels() {
+    // The unordered logit behind the check: its log-likelihood against
+    // statsmodels MNLogit on the same data (fixture `unordered_mnlogit`).
+    let r = fixture();
+    let spec = spec("ordered-logit");
+    let ds = sharecast::data::load(&spec, &Default::default()).unwrap();
+    let fit = fit_spec(&spec, &ds);
+    let t = sharecast::analysis::single_index::check(&spec, &fit)
+        .unwrap()
+        .unwrap();
+    let want = r["unordered_mnlogit"]["llf"].as_f64().unwrap();
+    assert_close("unordered logit ll", t.unordered_log_likelihood, want, 1e-8);
+    assert_close(
+        "LR",
+        t.statistic,
+        2.0 * (want - fit.stats.log_likelihood),
+        1e-6,
+    );
+    // 24 unordered parameters against 9 ordered ones (fixture's count).
+    assert_eq!(
+        t.df as u64,
+        r["unordered_mnlogit"]["df_model_parameters"]
+            .as_u64()
+            .unwrap()
+            - 9
+    );
+    assert!(t.note.contains("guide"));
+}

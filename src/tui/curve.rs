@@ -1,6 +1,7 @@
-//! The demand-curve view: one attribute of one alternative multiplied over a
-//! range (the library's `scenario::sweep`, run on the worker), and the share
-//! of a chosen alternative drawn as a line chart with a movable marker.
+//! The demand-curve view: one attribute of one alternative, or one
+//! characteristic of everyone, multiplied over a range (the library's
+//! `scenario::sweep`, run on the worker), and the share of a chosen
+//! alternative drawn as a line chart with a movable marker.
 
 use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Layout, Rect};
@@ -22,8 +23,10 @@ pub const STEPS: usize = 21;
 
 #[derive(Clone, Debug)]
 pub struct Curve {
-    /// (attribute, alternative) pairs that can be swept.
-    pub levers: Vec<(usize, usize)>,
+    /// What can be swept: (variable, alternative), the variable an attribute
+    /// index, or the number of attributes plus a characteristic index with no
+    /// alternative (a characteristic changes for everyone).
+    pub levers: Vec<(usize, Option<usize>)>,
     pub cursor: usize,
     /// The alternative whose share is drawn.
     pub shown: usize,
@@ -40,12 +43,14 @@ impl Curve {
         for k in 0..spec.alternatives.len() {
             for (a, attr) in spec.attributes.iter().enumerate() {
                 if attr.sources.get(k).is_some_and(|s| s.is_some()) {
-                    levers.push((a, k));
+                    levers.push((a, Some(k)));
                 }
             }
         }
+        let na = spec.attributes.len();
+        levers.extend((0..spec.characteristics.len()).map(|c| (na + c, None)));
         Curve {
-            shown: levers.first().map(|l| l.1).unwrap_or(0),
+            shown: levers.first().and_then(|l| l.1).unwrap_or(0),
             levers,
             cursor: 0,
             width: 1,
@@ -61,7 +66,7 @@ impl Curve {
         if let Some(i) = self
             .levers
             .iter()
-            .position(|&l| l == (attribute, alternative))
+            .position(|&l| l == (attribute, Some(alternative)))
         {
             self.cursor = i;
             self.shown = alternative;
@@ -75,7 +80,7 @@ impl Curve {
 
     /// Asks the worker for the sweep of the selected lever.
     pub fn request(&mut self, index: usize, model: &Model, generation: u64) -> Option<Job> {
-        let &(a, k) = self.levers.get(self.cursor)?;
+        let &(v, k) = self.levers.get(self.cursor)?;
         let (from, to) = self.range();
         self.generation = generation;
         self.sweep = None;
@@ -85,8 +90,8 @@ impl Curve {
             generation,
             model: model.clone(),
             request: Request {
-                attribute: model.spec.attributes[a].name.clone(),
-                alternative: Some(model.spec.alternatives[k].name.clone()),
+                attribute: variable(&model.spec, v),
+                alternative: k.map(|k| model.spec.alternatives[k].name.clone()),
                 from,
                 to,
                 steps: STEPS,
@@ -101,6 +106,16 @@ impl Curve {
                 Err(e) => self.error = Some(e),
             }
         }
+    }
+}
+
+/// The name of a lever's variable: an attribute, or a characteristic after them.
+fn variable(spec: &Spec, v: usize) -> String {
+    let na = spec.attributes.len();
+    if v < na {
+        spec.attributes[v].name.clone()
+    } else {
+        spec.characteristics[v - na].name.clone()
     }
 }
 
@@ -129,7 +144,7 @@ pub fn on(app: &mut App, a: Action) -> Vec<Job> {
         _ => {}
     }
     if (c.cursor, c.width) != before {
-        if let Some(&(_, k)) = c.levers.get(c.cursor) {
+        if let Some(&(_, Some(k))) = c.levers.get(c.cursor) {
             if before.0 != c.cursor {
                 c.shown = k;
             }
@@ -159,13 +174,16 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         .enumerate()
         .skip(first)
         .take(rows)
-        .map(|(i, &(a, k))| {
+        .map(|(i, &(v, k))| {
+            let who = k
+                .map(|k| spec.alternatives[k].name.as_str())
+                .unwrap_or("(everyone)");
             let text = left(
                 &format!(
                     "{}{:<10} {}",
                     if i == c.cursor { '›' } else { ' ' },
-                    spec.alternatives[k].name,
-                    spec.attributes[a].name
+                    who,
+                    variable(spec, v)
                 ),
                 inner.width as usize,
             );
@@ -179,13 +197,16 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         .collect();
     Paragraph::new(lines).render(inner, buf);
 
-    let Some(&(a, k)) = c.levers.get(c.cursor) else {
-        Paragraph::new("the spec has no attribute of an alternative to sweep")
+    let Some(&(v, k)) = c.levers.get(c.cursor) else {
+        Paragraph::new("the spec has no attribute or characteristic to sweep")
             .block(panel("demand curve", t))
             .render(right, buf);
         return;
     };
-    let (attr, alt) = (&spec.attributes[a].name, &spec.alternatives[k].name);
+    let attr = variable(spec, v);
+    let alt = k
+        .map(|k| spec.alternatives[k].name.clone())
+        .unwrap_or_else(|| "everyone".into());
     let shown = spec
         .alternatives
         .get(c.shown)

@@ -286,6 +286,21 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         spans.extend(interval_strip(r.low, r.estimate, r.high, strip_w, t).spans);
         lines.push(Line::from(spans));
     }
+    if fit.family.abilities().ordered {
+        let cuts: Vec<(f64, f64, f64)> = rows
+            .iter()
+            .filter(|(_, r)| r.term == "cut-points")
+            .map(|(_, r)| (r.low, r.estimate, r.high))
+            .collect();
+        let mut cuts = cuts;
+        cuts.sort_by(|a, b| a.1.total_cmp(&b.1));
+        lines.push(Line::from(""));
+        lines.extend(super::cutaxis::lines(
+            &cuts,
+            &l.model.spec.alternative_names(),
+            w.saturating_sub(2),
+        ));
+    }
     let height = inner.height as usize;
     let offset = cursor_line.saturating_sub(height.saturating_sub(1));
     let visible: Vec<Line> = if offset > 0 {

@@ -6,6 +6,7 @@
 pub mod app;
 pub mod compare;
 pub mod curve;
+mod cutaxis;
 pub mod diversion;
 pub mod elasticities;
 pub mod estimates;

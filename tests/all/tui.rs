@@ -804,7 +804,18 @@ fn an_ordered_model_says_which_views_do_not_apply() {
     keys(&mut app, "2");
     has(
         &screen(&app, 120, 60),
-        &["cut-points", "cut_very_poor", "wait_minutes"],
+        &[
+            "cut-points",
+            "cut_very_poor",
+            "wait_minutes",
+            "cut-points on one axis of the latent index",
+        ],
+    );
+    // The curve view sweeps the characteristics, for everyone at once.
+    keys(&mut app, "6");
+    has(
+        &screen(&app, 120, 40),
+        &["(everyone)", "wait_minutes of everyone scaled"],
     );
 }
 

@@ -211,20 +211,30 @@ fn ground() -> (Spec, sharecast::data::Dataset, sharecast::estimate::Fit) {
     (spec, ds, fit)
 }
 
-fn forecast(
+/// The point forecast of scenario text (no bands), or its error.
+fn try_forecast(
     spec: &Spec,
     ds: &sharecast::data::Dataset,
     fit: &sharecast::estimate::Fit,
     text: &str,
-) -> sharecast::scenario::Forecast {
-    let sc = sharecast::scenario::Scenario::from_str(text, Path::new("s.toml"), spec).unwrap();
+) -> sharecast::Result<sharecast::scenario::Forecast> {
+    let sc = sharecast::scenario::Scenario::from_str(text, Path::new("s.toml"), spec)?;
     let opts = sharecast::scenario::Options {
         draws: 0,
         seed: 1,
         by: None,
         market: None,
     };
-    sharecast::scenario::forecast(spec, fit, ds, &sc, &opts).unwrap()
+    sharecast::scenario::forecast(spec, fit, ds, &sc, &opts)
+}
+
+fn forecast(
+    spec: &Spec,
+    ds: &sharecast::data::Dataset,
+    fit: &sharecast::estimate::Fit,
+    text: &str,
+) -> sharecast::scenario::Forecast {
+    try_forecast(spec, ds, fit, text).unwrap()
 }
 
 #[test]
@@ -322,22 +332,15 @@ fn a_new_alternative_joins_its_nest_or_the_named_one() {
     );
     assert!(rel(&share(&g, "air")) > rel(&share(&g, "train")));
     // An unknown nest is named.
-    let sc = sharecast::scenario::Scenario::from_str(
-        "name = \"x\"\n[[new_alternative]]\nname = \"coach\"\nlike = \"bus\"\nnest = \"sky\"\n",
-        Path::new("s.toml"),
+    let err = try_forecast(
         &spec,
+        &ds,
+        &fit,
+        "name = \"x\"\n[[new_alternative]]\nname = \"coach\"\nlike = \"bus\"\nnest = \"sky\"\n",
     )
-    .unwrap();
-    let opts = sharecast::scenario::Options {
-        draws: 0,
-        seed: 1,
-        by: None,
-        market: None,
-    };
-    let err = sharecast::scenario::forecast(&spec, &fit, &ds, &sc, &opts)
-        .err()
-        .unwrap()
-        .to_string();
+    .err()
+    .unwrap()
+    .to_string();
     assert!(err.contains("`sky`") && err.contains("ground"), "{err}");
 }
 
@@ -345,22 +348,15 @@ fn a_new_alternative_joins_its_nest_or_the_named_one() {
 fn nest_on_a_new_alternative_of_a_logit_is_refused() {
     let (spec, fit) = fit_file("tests/specs/modechoice.toml");
     let ds = sharecast::data::load(&spec, &Default::default()).unwrap();
-    let sc = sharecast::scenario::Scenario::from_str(
-        "name = \"x\"\n[[new_alternative]]\nname = \"coach\"\nlike = \"bus\"\nnest = \"ground\"\n",
-        Path::new("s.toml"),
+    let err = try_forecast(
         &spec,
+        &ds,
+        &fit,
+        "name = \"x\"\n[[new_alternative]]\nname = \"coach\"\nlike = \"bus\"\nnest = \"ground\"\n",
     )
-    .unwrap();
-    let opts = sharecast::scenario::Options {
-        draws: 0,
-        seed: 1,
-        by: None,
-        market: None,
-    };
-    let err = sharecast::scenario::forecast(&spec, &fit, &ds, &sc, &opts)
-        .err()
-        .unwrap()
-        .to_string();
+    .err()
+    .unwrap()
+    .to_string();
     assert!(err.contains("`nest`") && err.contains("logit"), "{err}");
 }
 

@@ -74,12 +74,15 @@ pub fn sensitivities(family: &dyn Family, d: &Design, map: &TermMap, beta: &[f64
         2 * na * j * j + 2 * nc * j,
     );
     let width = o4 + j;
-    let parts = Enumeration::new(family, d, beta).pieces(
+    // Over every coefficient point of every situation (one for fixed
+    // coefficients): dP/dx through a coefficient is its point's dP/dV times
+    // the point's coefficient, averaged with the point's weight.
+    let parts = Enumeration::new(family, d, beta).points(
         |_| (vec![0.0; width], vec![0.0; j * j]),
-        |(acc, dp), s| {
-            let (i, v, p) = (s.i, s.v0, s.p0);
-            family.dprob(beta, v, p, dp);
-            let wi = w[i];
+        |(acc, dp), pt| {
+            let (i, v, p, coef) = (pt.i, pt.v, pt.p, pt.coefficients);
+            family.dprob(coef, v, p, dp);
+            let wi = w[i] * pt.weight;
             for a in 0..na {
                 for k in 0..j {
                     let Some(param) = map.attribute[a][k] else {
@@ -88,7 +91,7 @@ pub fn sensitivities(family: &dyn Family, d: &Design, map: &TermMap, beta: &[f64
                     if !d.available(i, k) {
                         continue;
                     }
-                    let b = beta[param];
+                    let b = coef[param];
                     let x = d.obs.attributes[a][i * j + k];
                     for jj in 0..j {
                         let dpk = dp[jj * j + k];
@@ -103,7 +106,7 @@ pub fn sensitivities(family: &dyn Family, d: &Design, map: &TermMap, beta: &[f64
                     let mut sum = 0.0;
                     for l in 0..j {
                         if let Some(param) = map.characteristic[c][l] {
-                            sum += dp[jj * j + l] * beta[param];
+                            sum += dp[jj * j + l] * coef[param];
                         }
                     }
                     acc[o2 + c * j + jj] += wi * z * sum;

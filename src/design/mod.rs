@@ -8,7 +8,7 @@ mod pieces;
 
 use std::sync::Arc;
 
-pub use pieces::{on_pieces, pieces, run_queue};
+pub use pieces::{heavy_pieces, on_pieces, on_ranges, pieces, run_queue};
 
 use crate::data::Observations;
 use crate::spec::{Coefficient, Spec, Term};

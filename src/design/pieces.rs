@@ -23,7 +23,25 @@ pub fn pieces(n: usize) -> Vec<std::ops::Range<usize>> {
 /// Runs `f` on each of `pieces(n)`, the cores taking the next piece as they
 /// finish one (so a core slowed by other work takes fewer); results in piece order.
 pub fn on_pieces<T: Send>(n: usize, f: impl Fn(std::ops::Range<usize>) -> T + Sync) -> Vec<T> {
-    let pieces = pieces(n);
+    on_ranges(pieces(n), f)
+}
+
+/// `n` items of heavy work (decision makers with many draws) cut into up to
+/// 64 pieces of at least `min` items: they depend on `n` and `min` alone.
+pub fn heavy_pieces(n: usize, min: usize) -> Vec<std::ops::Range<usize>> {
+    let count = (n / min.max(1)).clamp(1, 64);
+    let size = n.div_ceil(count).max(1);
+    (0..count)
+        .map(|t| (t * size).min(n)..((t + 1) * size).min(n))
+        .filter(|r| !r.is_empty())
+        .collect()
+}
+
+/// Runs `f` on each of the given pieces (as `on_pieces`); results in piece order.
+pub fn on_ranges<T: Send>(
+    pieces: Vec<std::ops::Range<usize>>,
+    f: impl Fn(std::ops::Range<usize>) -> T + Sync,
+) -> Vec<T> {
     let threads = std::thread::available_parallelism()
         .map(|t| t.get())
         .unwrap_or(1)

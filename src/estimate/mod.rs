@@ -209,9 +209,19 @@ pub fn shares(spec: &Spec, d: &Design, family: &dyn model::Family, beta: &[f64])
 
 /// Fits the spec's model to the observations.
 pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fit> {
+    fit_family(spec, obs, model::for_spec(spec)?, progress)
+}
+
+/// Fits the spec's model with a family built by the caller (a family on
+/// draws given from outside, for reference checks).
+pub fn fit_family(
+    spec: &Spec,
+    obs: Arc<Observations>,
+    family: FamilyRef,
+    progress: Progress,
+) -> Result<Fit> {
     let started = Instant::now();
     let design = Design::build(spec, obs.clone());
-    let family = model::for_spec(spec)?;
     family
         .check_data(spec, &design)
         .map_err(|m| Error::spec(&spec.path, m))?;
@@ -237,11 +247,13 @@ pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fi
             (true, Some(s)) => s,
             _ => family.clone(),
         };
+        let by_simpler = !Arc::ptr_eq(&searcher, &family);
         let o = optimise::maximise(&design, &*searcher, &start, &first, progress);
         if o.ll.is_finite() {
             start = o.beta;
         }
         first_passes = o.passes;
+        family.after_first_search(spec, &mut start, by_simpler);
     }
     let mut out = optimise::maximise(&design, &*family, &start, &free, progress);
     out.passes += first_passes;

@@ -2,11 +2,15 @@
 //! probabilities for every situation, at the base and, when a what-if is
 //! given, after it. Callers fold what they need (shares, switching, segment
 //! sums, derivatives, per-situation rows) from each `Situation`; the pass is
-//! split into the design's pieces and summed in piece order.
+//! split into the design's pieces and summed in piece order. A family whose
+//! coefficients vary across decision makers (`Family::mixture`) gives each
+//! situation a set of coefficient points; its probabilities, base and what-if,
+//! are the averages of the family's one-point probabilities over them.
 
 use std::ops::Range;
+use std::sync::Arc;
 
-use super::Family;
+use super::{Family, Points};
 use crate::design::{on_pieces, pieces, run_queue, Design};
 
 /// A change to each situation's utilities (a scenario, an arc step, a withdrawal).
@@ -36,17 +40,28 @@ impl<F: Fn(usize, &mut [f64]) + Sync> WhatIf for Edit<F> {
     }
 }
 
-/// One situation as a pass sees it. Without a what-if, `v1`/`p1` equal `v0`/`p0`.
-/// `p0` has the length of `p1`, zero for alternatives the base does not have.
+/// One situation as a pass sees it: its probabilities at the base and after
+/// the what-if (equal without one). `p0` has the length of `p1`, zero for
+/// alternatives the base does not have.
 pub struct Situation<'a> {
     pub i: usize,
-    pub v0: &'a [f64],
     pub p0: &'a [f64],
-    pub v1: &'a [f64],
     pub p1: &'a [f64],
 }
 
+/// One coefficient point of a situation (the only one for fixed coefficients):
+/// its weight in the average, coefficients, base utilities and probabilities.
+pub struct Point<'a> {
+    pub i: usize,
+    pub weight: f64,
+    pub coefficients: &'a [f64],
+    pub v: &'a [f64],
+    pub p: &'a [f64],
+}
+
 /// Each situation's utilities and choice probabilities at one `beta`, `[i * J + j]`.
+/// With coefficient draws the utilities are those at `beta` itself (the
+/// locations) and the probabilities the averages over the draws.
 #[derive(Clone, Debug, Default)]
 pub struct Baseline {
     pub utilities: Vec<f64>,
@@ -58,6 +73,7 @@ impl Baseline {
     pub fn new(family: &dyn Family, d: &Design, beta: &[f64]) -> Baseline {
         let j = d.alternatives();
         let n = d.situations();
+        let mixture = family.mixture(d);
         let mut utilities = vec![0.0; n * j];
         let mut probabilities = vec![0.0; n * j];
         let mut items = Vec::new();
@@ -69,9 +85,15 @@ impl Baseline {
             (u, p) = (ub, pb);
         }
         run_queue(items, |(r, u, p)| {
+            let mut mix = mixture
+                .as_ref()
+                .map(|m| Mix::new(m.clone(), beta.len(), j, j));
             for (i, (ui, pi)) in r.zip(u.chunks_mut(j).zip(p.chunks_mut(j))) {
                 d.utilities(beta, i, ui);
-                family.probabilities(beta, ui, pi);
+                match mix.as_mut() {
+                    None => family.probabilities(beta, ui, pi),
+                    Some(m) => m.situation(family, family, d, beta, i, None, pi, &mut []),
+                }
             }
         });
         Baseline {
@@ -86,15 +108,85 @@ pub fn probabilities(family: &dyn Family, d: &Design, beta: &[f64]) -> Vec<f64> 
     Baseline::new(family, d, beta).probabilities
 }
 
+/// Scratch for averaging over a situation's coefficient points.
+struct Mix {
+    points: Arc<dyn Points>,
+    k: usize,
+    coefs: Vec<f64>,
+    v0: Vec<f64>,
+    p0: Vec<f64>,
+    v1: Vec<f64>,
+    p1: Vec<f64>,
+}
+
+impl Mix {
+    fn new(points: Arc<dyn Points>, k: usize, j: usize, m: usize) -> Mix {
+        let r = points.count();
+        Mix {
+            points,
+            k,
+            coefs: vec![0.0; r * k],
+            v0: vec![0.0; j],
+            p0: vec![0.0; j],
+            v1: vec![0.0; m],
+            p1: vec![0.0; m],
+        }
+    }
+
+    /// Situation `i`'s average probabilities at the base into `p0` and, with a
+    /// what-if, after it into `p1`.
+    #[allow(clippy::too_many_arguments)]
+    fn situation(
+        &mut self,
+        family: &dyn Family,
+        after: &dyn Family,
+        d: &Design,
+        beta: &[f64],
+        i: usize,
+        what_if: Option<&dyn WhatIf>,
+        p0: &mut [f64],
+        p1: &mut [f64],
+    ) {
+        self.points.fill(beta, i, &mut self.coefs);
+        let r = self.points.count();
+        let share = 1.0 / r as f64;
+        let j = self.v0.len();
+        p0.iter_mut().for_each(|x| *x = 0.0);
+        p1.iter_mut().for_each(|x| *x = 0.0);
+        for c in self.coefs.chunks(self.k) {
+            d.utilities(c, i, &mut self.v0);
+            family.probabilities(c, &self.v0, &mut self.p0);
+            p0[..j]
+                .iter_mut()
+                .zip(&self.p0)
+                .for_each(|(a, b)| *a += share * b);
+            let Some(w) = what_if else { continue };
+            w.utilities(d, c, i, &self.v0, &mut self.v1);
+            if self.v1.iter().all(|x| !x.is_finite()) {
+                continue; // nothing left to choose
+            }
+            if self.v1.len() == j {
+                after.probabilities_after(c, &self.v0, &self.p0, &self.v1, &mut self.p1);
+            } else {
+                after.probabilities(c, &self.v1, &mut self.p1);
+            }
+            p1.iter_mut()
+                .zip(&self.p1)
+                .for_each(|(a, b)| *a += share * b);
+        }
+    }
+}
+
 /// A pass over every situation: the family, the design and parameters, and
 /// optionally the base cached at these parameters and a what-if.
-#[derive(Clone, Copy)]
+#[derive(Clone)]
 pub struct Enumeration<'a> {
     family: &'a dyn Family,
     d: &'a Design,
     beta: &'a [f64],
     baseline: Option<&'a Baseline>,
     what_if: Option<&'a dyn WhatIf>,
+    mixture: Option<Arc<dyn Points>>,
 }
 
 impl<'a> Enumeration<'a> {
@@ -105,6 +197,7 @@ impl<'a> Enumeration<'a> {
             beta,
             baseline: None,
             what_if: None,
+            mixture: family.mixture(d),
         }
     }
 
@@ -135,7 +228,10 @@ impl<'a> Enumeration<'a> {
     ) -> Vec<T> {
         on_pieces(self.d.situations(), |r| {
             let mut state = init(&r);
-            self.run(r, &mut |s| visit(&mut state, s));
+            match &self.mixture {
+                None => self.run(r, &mut |s| visit(&mut state, s)),
+                Some(m) => self.run_mixed(m, r, &mut |s| visit(&mut state, s)),
+            }
             state
         })
     }
@@ -148,6 +244,65 @@ impl<'a> Enumeration<'a> {
             out.iter_mut().zip(&p).for_each(|(a, b)| *a += b);
         }
         out
+    }
+
+    /// Runs `visit(state, point)` over every coefficient point of every
+    /// situation at the base (one per situation for fixed coefficients); one
+    /// state per piece, returned in piece order.
+    pub fn points<T: Send>(
+        &self,
+        init: impl Fn(&Range<usize>) -> T + Sync,
+        visit: impl Fn(&mut T, &Point) + Sync,
+    ) -> Vec<T> {
+        let (family, d, beta) = (self.family, self.d, self.beta);
+        let j = d.alternatives();
+        let k = beta.len();
+        on_pieces(d.situations(), |range| {
+            let mut state = init(&range);
+            let r = self.mixture.as_ref().map(|m| m.count()).unwrap_or(1);
+            let mut coefs = vec![0.0; r * k];
+            let (mut v, mut p) = (vec![0.0; j], vec![0.0; j]);
+            for i in range {
+                match &self.mixture {
+                    Some(m) => m.fill(beta, i, &mut coefs),
+                    None => coefs.copy_from_slice(beta),
+                }
+                for c in coefs.chunks(k) {
+                    d.utilities(c, i, &mut v);
+                    family.probabilities(c, &v, &mut p);
+                    let point = Point {
+                        i,
+                        weight: 1.0 / r as f64,
+                        coefficients: c,
+                        v: &v,
+                        p: &p,
+                    };
+                    visit(&mut state, &point);
+                }
+            }
+            state
+        })
+    }
+
+    /// One range of situations with coefficient points, scratch allocated once.
+    fn run_mixed(
+        &self,
+        m: &Arc<dyn Points>,
+        range: Range<usize>,
+        visit: &mut dyn FnMut(&Situation),
+    ) {
+        let (family, d, beta) = (self.family, self.d, self.beta);
+        let after = self.what_if.and_then(|w| w.family()).unwrap_or(family);
+        let j = d.alternatives();
+        let alts = self.alternatives();
+        let mut mix = Mix::new(m.clone(), beta.len(), j, alts);
+        let mut p0 = vec![0.0; alts];
+        let mut p1 = vec![0.0; alts];
+        for i in range {
+            mix.situation(family, after, d, beta, i, self.what_if, &mut p0, &mut p1);
+            let p1 = if self.what_if.is_some() { &p1 } else { &p0 };
+            visit(&Situation { i, p0: &p0, p1 });
+        }
     }
 
     /// One range of situations with scratch buffers allocated once.
@@ -174,9 +329,7 @@ impl<'a> Enumeration<'a> {
             let Some(w) = self.what_if else {
                 visit(&Situation {
                     i,
-                    v0: &v0,
                     p0: &p0,
-                    v1: &v0,
                     p1: &p0,
                 });
                 continue;
@@ -191,9 +344,7 @@ impl<'a> Enumeration<'a> {
             }
             visit(&Situation {
                 i,
-                v0: &v0,
                 p0: &p0,
-                v1: &v1,
                 p1: &p1,
             });
         }

@@ -10,9 +10,12 @@
 //! Code outside this room asks a family what it can do and never matches on
 //! which family it is.
 
+pub mod distribution;
+pub mod draws;
 pub mod enumerate;
 pub mod hessian;
 pub mod logit;
+pub mod mixed;
 pub mod nested;
 pub mod normal;
 pub mod ordered;
@@ -164,12 +167,66 @@ pub trait Family: Send + Sync + std::fmt::Debug {
         Vec::new()
     }
 
+    /// The coefficient points of every situation of `d` when probabilities
+    /// average over coefficient draws; `None` (the default): one point, `beta`.
+    fn mixture(&self, d: &Design) -> Option<Arc<dyn Points>> {
+        let _ = d;
+        None
+    }
+
+    /// The coefficients that vary across decision makers.
+    fn random_coefficients(&self) -> Vec<RandomCoefficient> {
+        Vec::new()
+    }
+
+    /// Turns the estimates of the first search into starting values of the
+    /// full search (`by_simpler`: the simpler family ran it, on its own scale).
+    fn after_first_search(&self, spec: &Spec, beta: &mut [f64], by_simpler: bool) {
+        let _ = (spec, beta, by_simpler);
+    }
+
+    /// Each decision maker's random coefficients conditional on their choices.
+    fn conditional(&self, d: &Design, beta: &[f64]) -> Option<Conditional> {
+        let _ = (d, beta);
+        None
+    }
+
     /// Lines describing the model's structure for reports and the workbench
     /// (the nests and their alternatives).
     fn structure(&self, spec: &Spec) -> Vec<String> {
         let _ = spec;
         Vec::new()
     }
+}
+
+/// The coefficient points a situation's probabilities average over, for a
+/// family whose coefficients vary across decision makers: each point is a full
+/// parameter vector with drawn coefficients in place of their locations, and
+/// the family's `probabilities`/`dprob` give one point's figures.
+pub trait Points: Send + Sync {
+    /// Points per situation (the draws of its decision maker).
+    fn count(&self) -> usize;
+    /// The `count()` coefficient vectors of situation `i` into `out` (rows of K).
+    fn fill(&self, beta: &[f64], i: usize, out: &mut [f64]);
+}
+
+/// A coefficient that varies across decision makers: its location and spread
+/// parameters and its distribution.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct RandomCoefficient {
+    pub location: usize,
+    pub spread: usize,
+    pub distribution: distribution::Distribution,
+}
+
+/// Each decision maker's coefficients conditional on their observed choices.
+#[derive(Clone, Debug, Default)]
+pub struct Conditional {
+    /// The first situation of each decision maker (to name them).
+    pub first: Vec<usize>,
+    /// Per decision maker, the conditional mean of each random coefficient
+    /// (in `random_coefficients` order), `[unit * D + d]`.
+    pub means: Vec<f64>,
 }
 
 /// A family shared by a fit, its analyses and the workbench.

@@ -81,6 +81,72 @@ pub fn inv_mills(t: f64) -> f64 {
     }
 }
 
+/// The standard normal quantile Phi^-1(u) for 0 < u < 1: a rational first
+/// guess (Acklam's approximation, relative error 1.2e-9) refined by one
+/// Halley step on `cdf`, which brings it to the accuracy of `cdf`.
+pub fn quantile(u: f64) -> f64 {
+    if u <= 0.0 {
+        return f64::NEG_INFINITY;
+    }
+    if u >= 1.0 {
+        return f64::INFINITY;
+    }
+    const A: [f64; 6] = [
+        -3.969_683_028_665_376e1,
+        2.209_460_984_245_205e2,
+        -2.759_285_104_469_687e2,
+        1.383_577_518_672_69e2,
+        -3.066_479_806_614_716e1,
+        2.506_628_277_459_239,
+    ];
+    const B: [f64; 5] = [
+        -5.447_609_879_822_406e1,
+        1.615_858_368_580_409e2,
+        -1.556_989_798_598_866e2,
+        6.680_131_188_771_972e1,
+        -1.328_068_155_288_572e1,
+    ];
+    const C: [f64; 6] = [
+        -7.784_894_002_430_293e-3,
+        -3.223_964_580_411_365e-1,
+        -2.400_758_277_161_838,
+        -2.549_732_539_343_734,
+        4.374_664_141_464_968,
+        2.938_163_982_698_783,
+    ];
+    const D: [f64; 4] = [
+        7.784_695_709_041_462e-3,
+        3.224_671_290_700_398e-1,
+        2.445_134_137_142_996,
+        3.754_408_661_907_416,
+    ];
+    const LOW: f64 = 0.024_25;
+    let tail = |q: f64| {
+        let r = (-2.0 * q.ln()).sqrt();
+        (((((C[0] * r + C[1]) * r + C[2]) * r + C[3]) * r + C[4]) * r + C[5])
+            / ((((D[0] * r + D[1]) * r + D[2]) * r + D[3]) * r + 1.0)
+    };
+    let x = if u < LOW {
+        tail(u)
+    } else if u > 1.0 - LOW {
+        -tail(1.0 - u)
+    } else {
+        let q = u - 0.5;
+        let r = q * q;
+        (((((A[0] * r + A[1]) * r + A[2]) * r + A[3]) * r + A[4]) * r + A[5]) * q
+            / (((((B[0] * r + B[1]) * r + B[2]) * r + B[3]) * r + B[4]) * r + 1.0)
+    };
+    // Halley's step on F(x) = cdf(x) - u, with the error measured from the
+    // nearer tail so that it keeps its relative accuracy.
+    let e = if x < 0.0 {
+        cdf(x) - u
+    } else {
+        (1.0 - u) - cdf(-x)
+    };
+    let step = e / pdf(x);
+    x - step / (1.0 + x * step / 2.0)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -5,7 +5,7 @@
 use std::path::Path;
 use std::sync::Arc;
 
-use super::{logit, nested, ordered, probit, FamilyRef};
+use super::{logit, mixed, nested, ordered, probit, FamilyRef};
 use crate::error::{Error, Result};
 use crate::spec::{Catalog, FamilyRules, Spec};
 
@@ -18,6 +18,8 @@ pub struct Entry {
     /// model has, and spec lines it adds to the example (its own sections).
     pub example_alternatives: usize,
     pub example_spec: &'static str,
+    /// Lines added inside the example's attribute table (`random = ...`).
+    pub example_attribute: &'static str,
     /// Generating values of the family's own parameters in the example (the
     /// others default to their starting values).
     pub example_truth: &'static [(&'static str, f64)],
@@ -35,6 +37,7 @@ pub static FAMILIES: &[Entry] = &[
         },
         example_alternatives: 4,
         example_spec: "",
+        example_attribute: "",
         example_truth: &[],
     },
     Entry {
@@ -43,6 +46,7 @@ pub static FAMILIES: &[Entry] = &[
         build: |spec| Ok(Arc::new(probit::Probit { base: spec.base })),
         example_alternatives: 2,
         example_spec: "",
+        example_attribute: "",
         example_truth: &[],
     },
     Entry {
@@ -50,6 +54,7 @@ pub static FAMILIES: &[Entry] = &[
         rules: &nested::Rules,
         build: |spec| Ok(Arc::new(nested::Nested::new(spec)?)),
         example_alternatives: 5,
+        example_attribute: "",
         example_spec: "[[nest]]\nname = \"near\"\nalternatives = [\"a1\", \"a2\"]\n[[nest]]\nname = \"far\"\nalternatives = [\"a3\", \"a4\"]\n",
         example_truth: &[("lambda_near", 0.5), ("lambda_far", 0.7)],
     },
@@ -59,6 +64,7 @@ pub static FAMILIES: &[Entry] = &[
         build: |spec| Ok(Arc::new(ordered::Ordered::new(spec, false))),
         example_alternatives: 4,
         example_spec: "",
+        example_attribute: "",
         example_truth: &[("cut_a0", -1.0), ("cut_a1", 0.0), ("cut_a2", 1.2)],
     },
     Entry {
@@ -67,7 +73,17 @@ pub static FAMILIES: &[Entry] = &[
         build: |spec| Ok(Arc::new(ordered::Ordered::new(spec, true))),
         example_alternatives: 4,
         example_spec: "",
+        example_attribute: "",
         example_truth: &[("cut_a0", -0.7), ("cut_a1", 0.0), ("cut_a2", 0.8)],
+    },
+    Entry {
+        name: "mixed",
+        rules: &mixed::Rules,
+        build: |spec| Ok(Arc::new(mixed::Mixed::new(spec)?)),
+        example_alternatives: 4,
+        example_spec: "[simulation]\ndraws = 200\n",
+        example_attribute: "random = \"normal\"\n",
+        example_truth: &[("x_spread", 0.7)],
     },
 ];
 

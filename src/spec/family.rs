@@ -53,6 +53,11 @@ pub trait FamilyRules: Sync {
     fn single_index(&self) -> bool {
         false
     }
+    /// Whether `random = "..."` on attributes and characteristics is this
+    /// family's to read (coefficients that vary across decision makers).
+    fn random_terms(&self) -> bool {
+        false
+    }
     /// Checks the starting and fixed values `[parameters]` gave the family's
     /// own parameters (a nest scale must be positive, cut-points increasing).
     fn check_parameters(&self, parameters: &[super::Parameter]) -> Result<(), String> {

@@ -66,6 +66,9 @@ pub struct Attribute {
     pub coefficient: Coefficient,
     /// One entry per alternative (spec order); `None` = the term is absent there.
     pub sources: Vec<Option<Source>>,
+    /// `random = "..."`: the distribution of its coefficient across decision
+    /// makers (read by a family with random coefficients).
+    pub random: Option<String>,
 }
 
 #[derive(Clone, Debug)]
@@ -74,6 +77,8 @@ pub struct Characteristic {
     pub column: String,
     /// Indices of the alternatives the characteristic enters.
     pub alternatives: Vec<usize>,
+    /// `random = "..."`, as for attributes.
+    pub random: Option<String>,
 }
 
 /// Which spec term a parameter comes from.

@@ -76,6 +76,9 @@ pub struct RawAttribute {
     pub column: Option<String>,
     /// Long layout: which alternatives get the term (default all).
     pub alternatives: Option<Vec<String>>,
+    /// A distribution name: the coefficient varies across decision makers
+    /// (checked by a family with random coefficients).
+    pub random: Option<String>,
 }
 
 #[derive(Debug, Deserialize)]
@@ -84,6 +87,8 @@ pub struct RawCharacteristic {
     pub name: String,
     pub column: String,
     pub alternatives: Option<Vec<String>>,
+    /// As for attributes: each of its per-alternative coefficients varies.
+    pub random: Option<String>,
 }
 
 #[derive(Debug, Deserialize)]

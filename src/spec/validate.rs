@@ -209,10 +209,12 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         if sources.iter().all(|s| s.is_none()) {
             return Err(at("the attribute enters no alternative".into()));
         }
+        check_random(a.random.as_deref(), rules, families, &family).map_err(at)?;
         attributes.push(Attribute {
             name: a.name.clone(),
             coefficient,
             sources,
+            random: a.random.clone(),
         });
     }
 
@@ -256,10 +258,12 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         if alts.is_empty() {
             return Err(at("the characteristic enters no alternative".into()));
         }
+        check_random(c.random.as_deref(), rules, families, &family).map_err(at)?;
         characteristics.push(Characteristic {
             name: c.name.clone(),
             column: c.column.clone(),
             alternatives: alts,
+            random: c.random.clone(),
         });
     }
 
@@ -477,6 +481,28 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         calibration,
         restrictions,
     })
+}
+
+/// `random` on a term: only a family with random coefficients takes it.
+fn check_random(
+    random: Option<&str>,
+    rules: &dyn FamilyRules,
+    families: &dyn Catalog,
+    family: &str,
+) -> std::result::Result<(), String> {
+    if random.is_none() || rules.random_terms() {
+        return Ok(());
+    }
+    let takers: Vec<String> = families
+        .names()
+        .into_iter()
+        .filter(|n| families.rules(n).is_some_and(|r| r.random_terms()))
+        .map(|n| format!("\"{n}\""))
+        .collect();
+    Err(format!(
+        "random: coefficients that vary across decision makers need a family with random coefficients ([model].family = {}); this spec's family is \"{family}\"",
+        takers.join(" or ")
+    ))
 }
 
 /// The family's own keys out of what the common sections did not claim: its

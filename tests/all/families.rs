@@ -43,8 +43,9 @@ fn example_spec(e: &Entry) -> Spec {
     let cols: Vec<String> = names.iter().map(|n| format!("{n} = \"x_{n}\"")).collect();
     if !single {
         text.push_str(&format!(
-            "[[attribute]]\nname = \"x\"\ncolumns = {{ {} }}\n",
-            cols.join(", ")
+            "[[attribute]]\nname = \"x\"\ncolumns = {{ {} }}\n{}",
+            cols.join(", "),
+            e.example_attribute
         ));
     }
     text.push_str("[[characteristic]]\nname = \"z\"\ncolumn = \"z\"\n");
@@ -101,11 +102,11 @@ fn simulate(family: &dyn Family, spec: &Spec, beta: &[f64], n: usize, seed: u64)
         first_row: (1..=n).collect(),
     };
     let d = Design::build(spec, Arc::new(obs.clone()));
-    let mut v = vec![0.0; j];
-    let mut p = vec![0.0; j];
+    // Through the sample enumeration, so that a family whose probabilities
+    // average over coefficient draws is simulated from that average.
+    let all = model::enumerate::probabilities(family, &d, beta);
     for i in 0..n {
-        d.utilities(beta, i, &mut v);
-        family.probabilities(beta, &v, &mut p);
+        let p = &all[i * j..(i + 1) * j];
         let u = rng.uniform();
         let mut acc = 0.0;
         let mut pick = j - 1;

@@ -1,0 +1,437 @@
+//! Mixed logit (random coefficients; Train, Discrete Choice Methods with
+//! Simulation, 2nd ed., ch. 6 and 10): coefficients vary across decision makers
+//! following the distributions the spec names, the logit is the kernel given
+//! the coefficients, and the probabilities are simulated by averaging over
+//! draws fixed through a fit. With `[data].group` one set of draws per
+//! decision maker is shared by all of that person's situations (a panel: the
+//! likelihood of a person is the average over draws of the product of their
+//! choice probabilities); without it each situation is its own decision maker.
+//! `rules` checks the spec keys, `pass` has the simulated log-likelihood and
+//! its analytic gradient; the Hessian is differenced (`model::hessian`).
+
+pub(crate) mod pass;
+mod rules;
+
+use std::sync::{Arc, Mutex, Weak};
+
+use super::distribution::Distribution;
+use super::draws::Simulation;
+use super::logit::{softmax, Logit};
+use super::{Abilities, Conditional, Eval, Family, FamilyRef, Points, RandomCoefficient};
+use crate::data::Observations;
+use crate::design::Design;
+use crate::spec::{Spec, Term};
+
+pub use rules::{constants_of, Rules};
+
+/// Decision makers and their draws for one data set.
+#[derive(Debug)]
+pub struct Panel {
+    pub units: usize,
+    pub draws: usize,
+    pub dims: usize,
+    /// Whether situations are grouped by decision maker (`[data].group`).
+    pub grouped: bool,
+    /// Situations of each decision maker: `members[start[n]..start[n + 1]]`, in data order.
+    start: Vec<usize>,
+    members: Vec<u32>,
+    /// The decision maker of each situation.
+    unit_of: Vec<u32>,
+    /// Standardised draws `[unit][dim][draw]`.
+    e: Vec<f64>,
+}
+
+impl Panel {
+    /// Decision makers of `obs` with standardised draws from `uniforms`
+    /// (`[unit][dim][draw]`).
+    fn new(
+        obs: &Observations,
+        terms: &[RandomCoefficient],
+        draws: usize,
+        uniforms: &[f64],
+    ) -> Panel {
+        let (units, unit_of): (usize, Vec<u32>) = match &obs.group {
+            Some(g) => (obs.groups, g.clone()),
+            None => (obs.situations, (0..obs.situations as u32).collect()),
+        };
+        let mut start = vec![0usize; units + 1];
+        for &u in &unit_of {
+            start[u as usize + 1] += 1;
+        }
+        for n in 0..units {
+            start[n + 1] += start[n];
+        }
+        let mut fill = start.clone();
+        let mut members = vec![0u32; unit_of.len()];
+        for (i, &u) in unit_of.iter().enumerate() {
+            members[fill[u as usize]] = i as u32;
+            fill[u as usize] += 1;
+        }
+        let dims = terms.len();
+        let mut e = uniforms.to_vec();
+        for n in 0..units {
+            for (dim, t) in terms.iter().enumerate() {
+                let row = &mut e[(n * dims + dim) * draws..(n * dims + dim + 1) * draws];
+                row.iter_mut()
+                    .for_each(|u| *u = t.distribution.standard(*u));
+            }
+        }
+        Panel {
+            units,
+            draws,
+            dims,
+            grouped: obs.group.is_some(),
+            start,
+            members,
+            unit_of,
+            e,
+        }
+    }
+
+    pub fn situations_of(&self, n: usize) -> &[u32] {
+        &self.members[self.start[n]..self.start[n + 1]]
+    }
+
+    pub fn unit_of(&self, i: usize) -> usize {
+        self.unit_of[i] as usize
+    }
+
+    /// The standardised draws of decision maker `n` in dimension `dim`.
+    #[inline]
+    pub fn draws_of(&self, n: usize, dim: usize) -> &[f64] {
+        let at = (n * self.dims + dim) * self.draws;
+        &self.e[at..at + self.draws]
+    }
+
+    /// A decision maker's weight: that of their first situation.
+    #[inline]
+    pub fn weight(&self, d: &Design, n: usize) -> f64 {
+        self.situations_of(n)
+            .first()
+            .map(|&i| d.obs.weight[i as usize])
+            .unwrap_or(0.0)
+    }
+}
+
+/// The mixed logit built for one spec.
+#[derive(Debug)]
+pub struct Mixed {
+    pub terms: Vec<RandomCoefficient>,
+    pub simulation: Simulation,
+    binary: bool,
+    /// Uniforms given from outside (`[unit][dim][draw]`), used instead of the sequence.
+    given: Option<Arc<Vec<f64>>>,
+    /// Draws built per data set, found again by its observations.
+    panels: Mutex<Vec<(Weak<Observations>, Arc<Panel>)>>,
+}
+
+impl Mixed {
+    /// Builds the family for a spec `Rules` accepted.
+    pub fn new(spec: &Spec) -> crate::error::Result<Mixed> {
+        let simulation = Simulation::from_keys(&spec.family_keys)
+            .map_err(|m| crate::error::Error::spec(&spec.path, m))?;
+        let constants = constants_of(spec);
+        let mut terms = Vec::new();
+        for (k, p) in spec.parameters.iter().enumerate() {
+            let name = match &p.term {
+                Term::Constant if p.alternative.is_some_and(|j| constants.contains(&j)) => {
+                    Some("normal")
+                }
+                Term::Attribute(a) => spec.attributes[*a].random.as_deref(),
+                Term::Characteristic(c) => spec.characteristics[*c].random.as_deref(),
+                _ => None,
+            };
+            let (Some(dist), Some(spread)) = (
+                name.and_then(Distribution::parse),
+                spec.parameter_index(&format!("{}_spread", p.name)),
+            ) else {
+                continue;
+            };
+            terms.push(RandomCoefficient {
+                location: k,
+                spread,
+                distribution: dist,
+            });
+        }
+        Ok(Mixed {
+            terms,
+            simulation,
+            binary: spec.alternatives.len() == 2,
+            given: None,
+            panels: Mutex::new(Vec::new()),
+        })
+    }
+
+    /// The same family with uniform draws given from outside, `[unit][dim][draw]`
+    /// with `draws` per unit (a reference check on fixed draws).
+    pub fn with_uniforms(mut self, uniforms: Vec<f64>, draws: usize) -> Mixed {
+        self.simulation.draws = draws;
+        self.given = Some(Arc::new(uniforms));
+        self
+    }
+
+    /// The decision makers and draws of `d` (built once per data set).
+    pub fn panel(&self, d: &Design) -> Arc<Panel> {
+        let mut cache = match self.panels.lock() {
+            Ok(c) => c,
+            Err(poisoned) => poisoned.into_inner(),
+        };
+        cache.retain(|(w, _)| w.strong_count() > 0);
+        if let Some((_, p)) = cache
+            .iter()
+            .find(|(w, _)| w.upgrade().is_some_and(|o| Arc::ptr_eq(&o, &d.obs)))
+        {
+            return p.clone();
+        }
+        let units = match &d.obs.group {
+            Some(_) => d.obs.groups,
+            None => d.obs.situations,
+        };
+        let dims = self.terms.len();
+        let r = self.simulation.draws;
+        let uniforms = match &self.given {
+            Some(u) if u.len() == units * dims * r => u.to_vec(),
+            _ => self.simulation.uniforms(units, dims),
+        };
+        let p = Arc::new(Panel::new(&d.obs, &self.terms, r, &uniforms));
+        cache.push((Arc::downgrade(&d.obs), p.clone()));
+        p
+    }
+
+    fn logit(&self) -> Logit {
+        Logit {
+            binary: self.binary,
+        }
+    }
+}
+
+/// A decision maker's coefficient points for the analyses.
+struct MixedPoints {
+    panel: Arc<Panel>,
+    terms: Vec<RandomCoefficient>,
+}
+
+impl Points for MixedPoints {
+    fn count(&self) -> usize {
+        self.panel.draws
+    }
+    fn fill(&self, beta: &[f64], i: usize, out: &mut [f64]) {
+        let k = beta.len();
+        let n = self.panel.unit_of(i);
+        for (r, row) in out.chunks_mut(k).enumerate() {
+            row.copy_from_slice(beta);
+            for (dim, t) in self.terms.iter().enumerate() {
+                let e = self.panel.draws_of(n, dim)[r];
+                row[t.location] = t
+                    .distribution
+                    .coefficient(beta[t.location], beta[t.spread], e);
+            }
+        }
+    }
+}
+
+impl Family for Mixed {
+    fn name(&self) -> &'static str {
+        "mixed"
+    }
+
+    fn abilities(&self) -> Abilities {
+        Abilities {
+            new_alternatives: true,
+            simulation_draws: true,
+            per_decision_maker: true,
+            ..Abilities::default()
+        }
+    }
+
+    fn evaluate(&self, d: &Design, beta: &[f64], want_grad: bool, _want_hess: bool) -> Eval {
+        let panel = self.panel(d);
+        let plan = pass::Plan::new(self, d, &panel, beta);
+        let mut ll = crate::model::logit::Compensated::default();
+        let mut grad = vec![0.0; if want_grad { d.params } else { 0 }];
+        for p in pass::pieces(&plan, want_grad, false) {
+            ll.add(p.ll.value());
+            grad.iter_mut().zip(&p.grad).for_each(|(a, b)| *a += b);
+        }
+        Eval {
+            ll: ll.value(),
+            grad,
+            hess: None,
+        }
+    }
+
+    fn for_each_score(&self, d: &Design, beta: &[f64], f: &mut dyn FnMut(usize, &[f64])) {
+        let panel = self.panel(d);
+        let plan = pass::Plan::new(self, d, &panel, beta);
+        let k = d.params;
+        let mut n = 0;
+        for p in pass::pieces(&plan, false, true) {
+            for score in p.scores.chunks(k) {
+                if let Some(&i) = panel.situations_of(n).first() {
+                    f(i as usize, score);
+                }
+                n += 1;
+            }
+        }
+    }
+
+    fn probabilities(&self, _beta: &[f64], v: &[f64], p: &mut [f64]) {
+        softmax(v, p);
+    }
+
+    fn dprob(&self, beta: &[f64], v: &[f64], p: &[f64], dp: &mut [f64]) {
+        self.logit().dprob(beta, v, p, dp)
+    }
+
+    fn caution(&self, spec: &Spec) -> Option<String> {
+        let panel = if spec.data.group.is_some() {
+            "each decision maker's tastes are assumed the same across all of their situations (a panel)"
+        } else {
+            "each situation is treated as a separate decision maker (no [data].group), so repeated choices of one person are not linked"
+        };
+        Some(format!(
+            "Mixed logit: the random coefficients are assumed to follow the distributions named in the spec, independently of each other and of the observed variables; {panel}. Probabilities are simulated with {} {} draws per decision maker, so every figure carries simulation noise (`fit --draws-check` shows how much).",
+            self.simulation.draws,
+            self.simulation.sequence.name()
+        ))
+    }
+
+    fn held_in_first_search(&self) -> Vec<usize> {
+        self.terms.iter().map(|t| t.spread).collect()
+    }
+
+    fn simpler(&self) -> Option<FamilyRef> {
+        Some(Arc::new(self.logit()))
+    }
+
+    fn after_first_search(&self, spec: &Spec, beta: &mut [f64], by_simpler: bool) {
+        for t in &self.terms {
+            let b = beta[t.location];
+            if by_simpler && t.distribution.is_log() {
+                // The logit estimated the coefficient itself: its logarithm
+                // (of minus it for a negative lognormal) is the location.
+                let sign = if t.distribution == Distribution::Lognormal {
+                    1.0
+                } else {
+                    -1.0
+                };
+                beta[t.location] = (sign * b).max(1e-3).ln();
+            }
+            let p = &spec.parameters[t.spread];
+            if p.fixed.is_none() && p.start == 0.0 && beta[t.spread] == 0.0 {
+                // A spread of exactly 0 is a stationary point: start away from it.
+                beta[t.spread] = if t.distribution.is_log() {
+                    0.5
+                } else {
+                    (0.5 * b.abs()).max(0.1)
+                };
+            }
+        }
+    }
+
+    fn mixture(&self, d: &Design) -> Option<Arc<dyn Points>> {
+        Some(Arc::new(MixedPoints {
+            panel: self.panel(d),
+            terms: self.terms.clone(),
+        }))
+    }
+
+    fn random_coefficients(&self) -> Vec<RandomCoefficient> {
+        self.terms.clone()
+    }
+
+    fn conditional(&self, d: &Design, beta: &[f64]) -> Option<Conditional> {
+        Some(conditional(self, d, beta))
+    }
+
+    fn check_data(&self, spec: &Spec, d: &Design) -> Result<(), String> {
+        let units = match &d.obs.group {
+            Some(_) => d.obs.groups,
+            None => d.obs.situations,
+        };
+        self.simulation.check_size(units, self.terms.len())?;
+        if let (Some(g), Some(col)) = (&d.obs.group, &spec.data.weight) {
+            let mut first = vec![f64::NAN; d.obs.groups];
+            for (i, &u) in g.iter().enumerate() {
+                let w = d.obs.weight[i];
+                let f = &mut first[u as usize];
+                if f.is_nan() {
+                    *f = w;
+                } else if *f != w {
+                    return Err(format!(
+                        "[data].weight `{col}`: the weight changes within decision maker (row {} of the data); a panel mixed logit weighs each decision maker once, so the weight must be the same in all of a person's situations",
+                        d.obs.first_row.get(i).map(|r| r + 1).unwrap_or(i + 1)
+                    ));
+                }
+            }
+        }
+        Ok(())
+    }
+
+    fn structure(&self, spec: &Spec) -> Vec<String> {
+        let terms: Vec<String> = self
+            .terms
+            .iter()
+            .map(|t| {
+                format!(
+                    "{} {}",
+                    spec.parameters[t.location].name,
+                    t.distribution.name()
+                )
+            })
+            .collect();
+        let s = &self.simulation;
+        let who = match &spec.data.group {
+            Some(g) => format!(
+                "panel: one set of draws per decision maker (`{g}`), shared by all of their situations"
+            ),
+            None => "cross-section: each situation is its own decision maker (no [data].group)"
+                .to_string(),
+        };
+        vec![
+            format!("random coefficients: {}", terms.join(", ")),
+            format!(
+                "simulation: {} {} draws per decision maker, seed {}",
+                s.draws,
+                s.sequence.name(),
+                s.seed
+            ),
+            who,
+        ]
+    }
+}
+
+/// Each decision maker's conditional mean of every random coefficient:
+/// sum_r w_nr beta_nr, with w_nr the draw's share of the person's likelihood.
+fn conditional(m: &Mixed, d: &Design, beta: &[f64]) -> Conditional {
+    let panel = m.panel(d);
+    let plan = pass::Plan::new(m, d, &panel, beta);
+    let dims = m.terms.len();
+    let r = panel.draws;
+    let parts = crate::design::on_ranges(crate::design::heavy_pieces(panel.units, 16), |units| {
+        let mut w = pass::Work::new(&plan);
+        let mut out = Vec::with_capacity(units.len() * dims);
+        for n in units {
+            pass::coefficients(&plan, n, &mut w);
+            pass::unit::<false>(&plan, n, &mut w, false);
+            pass::close_unit(&mut w);
+            for dim in 0..dims {
+                let c = &w.coef[dim * r..(dim + 1) * r];
+                out.push(c.iter().zip(&w.omega).map(|(c, o)| c * o).sum());
+            }
+        }
+        out
+    });
+    Conditional {
+        first: (0..panel.units)
+            .map(|n| {
+                panel
+                    .situations_of(n)
+                    .first()
+                    .map(|&i| i as usize)
+                    .unwrap_or(0)
+            })
+            .collect(),
+        means: parts.concat(),
+    }
+}

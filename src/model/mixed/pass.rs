@@ -1,0 +1,340 @@
+//! The mixed logit's simulated log-likelihood and its analytic gradient, one
+//! decision maker at a time. For decision maker n with draws r = 1..R:
+//! L_n = (1/R) sum_r prod_t P_t(chosen | beta_nr), the logit kernel P at the
+//! drawn coefficients; the pass works on rows of R draws (utilities,
+//! exponentials and residuals of one alternative over all draws are one
+//! contiguous row), so that its inner loops vectorise. The gradient is
+//! sum_r w_nr sum_t (x_chosen - sum_j P_jr x_j) d beta_nr / d theta with
+//! w_nr the draw's share of L_n. Passes are cut into pieces of decision
+//! makers that depend on their number alone, summed in piece order.
+
+use super::{Mixed, Panel};
+use crate::design::{heavy_pieces, on_ranges, Design, Value};
+use crate::model::distribution::Distribution;
+use crate::model::logit::fastmath::{exp_nonpositive, ln_positive, madd, Compensated};
+
+/// What one pass needs, set up once per parameter vector.
+pub(crate) struct Plan<'a> {
+    pub d: &'a Design,
+    pub panel: &'a Panel,
+    pub beta: &'a [f64],
+    /// (location, spread, distribution) per random dimension.
+    pub terms: Vec<(usize, usize, Distribution)>,
+    /// The random dimension of each parameter, if it is a random location.
+    pub dim_of: Vec<Option<usize>>,
+}
+
+impl<'a> Plan<'a> {
+    pub fn new(m: &Mixed, d: &'a Design, panel: &'a Panel, beta: &'a [f64]) -> Plan<'a> {
+        let terms: Vec<_> = m
+            .terms
+            .iter()
+            .map(|t| (t.location, t.spread, t.distribution))
+            .collect();
+        let mut dim_of = vec![None; d.params];
+        for (dim, t) in terms.iter().enumerate() {
+            dim_of[t.0] = Some(dim);
+        }
+        Plan {
+            d,
+            panel,
+            beta,
+            terms,
+            dim_of,
+        }
+    }
+}
+
+/// One thread's scratch rows, allocated once per piece.
+pub(crate) struct Work {
+    r: usize,
+    /// [dim][r]: the drawn coefficients and their derivatives by location and spread.
+    pub coef: Vec<f64>,
+    dm: Vec<f64>,
+    ds: Vec<f64>,
+    /// [r]: log of the product of the chosen alternatives' probabilities.
+    pub logl: Vec<f64>,
+    /// [param][r]: sum over situations of x_chosen - sum_j P_j x_j.
+    g: Vec<f64>,
+    /// [j][r]: utilities, then exponentials, then probabilities.
+    v: Vec<f64>,
+    mx: Vec<f64>,
+    s: Vec<f64>,
+    /// Per alternative: the fixed part of the utility and the random values [j][dim].
+    c: Vec<f64>,
+    xr: Vec<f64>,
+    /// The draws' shares of the decision maker's likelihood.
+    pub omega: Vec<f64>,
+}
+
+impl Work {
+    pub fn new(plan: &Plan) -> Work {
+        let r = plan.panel.draws;
+        let dims = plan.terms.len();
+        let j = plan.d.alternatives();
+        Work {
+            r,
+            coef: vec![0.0; dims * r],
+            dm: vec![0.0; dims * r],
+            ds: vec![0.0; dims * r],
+            logl: vec![0.0; r],
+            g: vec![0.0; plan.d.params * r],
+            v: vec![0.0; j * r],
+            mx: vec![0.0; r],
+            s: vec![0.0; r],
+            c: vec![0.0; j],
+            xr: vec![0.0; j * dims],
+            omega: vec![0.0; r],
+        }
+    }
+}
+
+/// The drawn coefficients of decision maker `n` and their derivatives.
+pub(crate) fn coefficients(plan: &Plan, n: usize, w: &mut Work) {
+    let r = w.r;
+    for (dim, &(loc, spr, dist)) in plan.terms.iter().enumerate() {
+        let (m, s) = (plan.beta[loc], plan.beta[spr]);
+        let e = plan.panel.draws_of(n, dim);
+        let coef = &mut w.coef[dim * r..(dim + 1) * r];
+        let dm = &mut w.dm[dim * r..(dim + 1) * r];
+        let ds = &mut w.ds[dim * r..(dim + 1) * r];
+        for k in 0..r {
+            let b = dist.coefficient(m, s, e[k]);
+            coef[k] = b;
+            if dist.is_log() {
+                dm[k] = b;
+                ds[k] = b * e[k];
+            } else {
+                dm[k] = 1.0;
+                ds[k] = e[k];
+            }
+        }
+    }
+}
+
+/// Decision maker `n`'s per-draw log-likelihoods (and gradient rows when
+/// `grad`), with `coefficients` already filled.
+pub(crate) fn unit<const F: bool>(plan: &Plan, n: usize, w: &mut Work, grad: bool) {
+    let d = plan.d;
+    let j = d.alternatives();
+    let dims = plan.terms.len();
+    let r = w.r;
+    w.logl.fill(0.0);
+    if grad {
+        w.g.fill(0.0);
+    }
+    for &i in plan.panel.situations_of(n) {
+        let i = i as usize;
+        let chosen = d.obs.chosen[i] as usize;
+        // Fixed part and random values of each alternative.
+        w.c.fill(0.0);
+        w.xr.fill(0.0);
+        for (a, feats) in d.features.iter().enumerate() {
+            if !d.available(i, a) {
+                continue;
+            }
+            for f in feats {
+                let x = d.value(i, a, f.value);
+                match plan.dim_of[f.param] {
+                    Some(dim) => w.xr[a * dims + dim] += x,
+                    None => w.c[a] += plan.beta[f.param] * x,
+                }
+            }
+        }
+        w.mx.fill(f64::NEG_INFINITY);
+        for a in 0..j {
+            if !d.available(i, a) {
+                continue;
+            }
+            let row = &mut w.v[a * r..(a + 1) * r];
+            row.fill(w.c[a]);
+            for dim in 0..dims {
+                let x = w.xr[a * dims + dim];
+                if x != 0.0 {
+                    let coef = &w.coef[dim * r..(dim + 1) * r];
+                    for (v, b) in row.iter_mut().zip(coef) {
+                        *v = madd::<F>(*b, x, *v);
+                    }
+                }
+            }
+            for (m, v) in w.mx.iter_mut().zip(row.iter()) {
+                *m = m.max(*v);
+            }
+        }
+        w.s.fill(0.0);
+        for a in 0..j {
+            if !d.available(i, a) {
+                continue;
+            }
+            let row = &mut w.v[a * r..(a + 1) * r];
+            if a == chosen {
+                for ((l, v), m) in w.logl.iter_mut().zip(row.iter()).zip(&w.mx) {
+                    *l += v - m;
+                }
+            }
+            for ((v, m), s) in row.iter_mut().zip(&w.mx).zip(w.s.iter_mut()) {
+                let e = exp_nonpositive::<F>(*v - m);
+                *v = e;
+                *s += e;
+            }
+        }
+        for (l, s) in w.logl.iter_mut().zip(&w.s) {
+            *l -= ln_positive::<F>(*s);
+        }
+        if !grad {
+            continue;
+        }
+        for s in w.s.iter_mut() {
+            *s = 1.0 / *s;
+        }
+        for (a, feats) in d.features.iter().enumerate() {
+            if !d.available(i, a) {
+                continue;
+            }
+            let row = &mut w.v[a * r..(a + 1) * r];
+            for (p, s) in row.iter_mut().zip(&w.s) {
+                *p *= s;
+            }
+            for f in feats {
+                let x = match f.value {
+                    Value::One => 1.0,
+                    v => d.value(i, a, v),
+                };
+                if x == 0.0 {
+                    continue;
+                }
+                let g = &mut w.g[f.param * r..(f.param + 1) * r];
+                if a == chosen {
+                    for (g, p) in g.iter_mut().zip(row.iter()) {
+                        *g += madd::<F>(-*p, x, x);
+                    }
+                } else {
+                    for (g, p) in g.iter_mut().zip(row.iter()) {
+                        *g = madd::<F>(-*p, x, *g);
+                    }
+                }
+            }
+        }
+    }
+}
+
+/// log L_n from the per-draw log-likelihoods; leaves each draw's share in `omega`.
+pub(crate) fn close_unit(w: &mut Work) -> f64 {
+    let top = w.logl.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    if !top.is_finite() {
+        w.omega.fill(0.0);
+        return top;
+    }
+    let mut sum = 0.0;
+    for (o, l) in w.omega.iter_mut().zip(&w.logl) {
+        *o = (l - top).exp();
+        sum += *o;
+    }
+    let inv = 1.0 / sum;
+    w.omega.iter_mut().for_each(|o| *o *= inv);
+    top + (sum / w.r as f64).ln()
+}
+
+/// Adds `weight` times decision maker n's score (gradient of log L_n) to `out`.
+pub(crate) fn add_score(plan: &Plan, w: &Work, weight: f64, out: &mut [f64]) {
+    let r = w.r;
+    for (k, o) in out.iter_mut().enumerate() {
+        if plan.dim_of[k].is_some() {
+            continue;
+        }
+        let g = &w.g[k * r..(k + 1) * r];
+        let s: f64 = g.iter().zip(&w.omega).map(|(g, o)| g * o).sum();
+        *o += weight * s;
+    }
+    for (dim, &(loc, spr, _)) in plan.terms.iter().enumerate() {
+        let g = &w.g[loc * r..(loc + 1) * r];
+        let (mut a, mut b) = (0.0, 0.0);
+        let (dm, ds) = (&w.dm[dim * r..(dim + 1) * r], &w.ds[dim * r..(dim + 1) * r]);
+        for (((o, g), dm), ds) in w.omega.iter().zip(g).zip(dm).zip(ds) {
+            let og = o * g;
+            a += og * dm;
+            b += og * ds;
+        }
+        out[loc] += weight * a;
+        out[spr] += weight * b;
+    }
+}
+
+/// The sums of one piece of decision makers.
+pub(crate) struct PieceSums {
+    pub ll: Compensated,
+    pub grad: Vec<f64>,
+    /// Per decision maker of the piece, its weighted score (when asked).
+    pub scores: Vec<f64>,
+}
+
+fn piece_body<const F: bool>(
+    plan: &Plan,
+    units: std::ops::Range<usize>,
+    grad: bool,
+    scores: bool,
+) -> PieceSums {
+    let k = plan.d.params;
+    let mut w = Work::new(plan);
+    let mut out = PieceSums {
+        ll: Compensated::default(),
+        grad: vec![0.0; if grad { k } else { 0 }],
+        scores: Vec::with_capacity(if scores { units.len() * k } else { 0 }),
+    };
+    for n in units {
+        coefficients(plan, n, &mut w);
+        unit::<F>(plan, n, &mut w, grad || scores);
+        let weight = plan.panel.weight(plan.d, n);
+        out.ll.add(weight * close_unit(&mut w));
+        if grad {
+            add_score(plan, &w, weight, &mut out.grad);
+        }
+        if scores {
+            let at = out.scores.len();
+            out.scores.resize(at + k, 0.0);
+            add_score(plan, &w, weight, &mut out.scores[at..]);
+        }
+    }
+    out
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+fn piece_avx2(plan: &Plan, units: std::ops::Range<usize>, grad: bool, scores: bool) -> PieceSums {
+    piece_body::<true>(plan, units, grad, scores)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx2,fma")]
+fn piece_avx512(plan: &Plan, units: std::ops::Range<usize>, grad: bool, scores: bool) -> PieceSums {
+    piece_body::<true>(plan, units, grad, scores)
+}
+
+/// One piece, with the widest vectors the processor has.
+pub(crate) fn piece(
+    plan: &Plan,
+    units: std::ops::Range<usize>,
+    grad: bool,
+    scores: bool,
+) -> PieceSums {
+    #[cfg(target_arch = "x86_64")]
+    {
+        use crate::model::logit::block::{fast_path, wide_path};
+        if wide_path() {
+            // SAFETY: the processor supports AVX-512F, AVX2 and FMA, checked just above.
+            return unsafe { piece_avx512(plan, units, grad, scores) };
+        }
+        if fast_path() {
+            // SAFETY: the processor supports AVX2 and FMA, checked just above.
+            return unsafe { piece_avx2(plan, units, grad, scores) };
+        }
+    }
+    piece_body::<false>(plan, units, grad, scores)
+}
+
+/// Every piece of decision makers, in piece order.
+pub(crate) fn pieces(plan: &Plan, grad: bool, scores: bool) -> Vec<PieceSums> {
+    on_ranges(heavy_pieces(plan.panel.units, 16), |units| {
+        piece(plan, units, grad, scores)
+    })
+}

@@ -12,6 +12,7 @@ mod families;
 mod fit_cli;
 mod layouts;
 mod limits;
+mod mixed;
 mod nested;
 mod ordered;
 mod recovery;

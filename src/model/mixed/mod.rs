@@ -134,9 +134,10 @@ impl Mixed {
         let mut terms = Vec::new();
         for (k, p) in spec.parameters.iter().enumerate() {
             let name = match &p.term {
-                Term::Constant if p.alternative.is_some_and(|j| constants.contains(&j)) => {
-                    Some("normal")
-                }
+                Term::Constant => p
+                    .alternative
+                    .and_then(|j| constants.iter().find(|c| c.0 == j))
+                    .map(|c| c.1.as_str()),
                 Term::Attribute(a) => spec.attributes[*a].random.as_deref(),
                 Term::Characteristic(c) => spec.characteristics[*c].random.as_deref(),
                 _ => None,

@@ -73,7 +73,9 @@ fn check_name(random: Option<&str>, table: &str, name: &str) -> Result<(), Strin
     }
 }
 
-/// Alternatives whose constant varies normally, from `[model].random_constants`.
+/// Alternatives whose constant varies, with the distribution, from
+/// `[model].random_constants`: a list of names (normal) or a table of
+/// name = "distribution".
 fn random_constants(spec: &SpecView) -> Result<Vec<usize>, String> {
     let Some(v) = spec
         .keys
@@ -82,15 +84,10 @@ fn random_constants(spec: &SpecView) -> Result<Vec<usize>, String> {
     else {
         return Ok(Vec::new());
     };
-    let Value::Array(items) = v else {
-        return Err("[model].random_constants: give a list of alternative names".into());
-    };
     let mut out = Vec::new();
-    for item in items {
-        let Value::String(name) = item else {
-            return Err("[model].random_constants: give alternatives by name".into());
-        };
-        let Some(j) = spec.alternatives.iter().position(|a| &a.name == name) else {
+    for (name, dist) in entries(v)? {
+        check_name(Some(&dist), "[model].random_constants", &name)?;
+        let Some(j) = spec.alternatives.iter().position(|a| a.name == name) else {
             return Err(format!(
                 "[model].random_constants: `{name}` is not an alternative (the spec has: {})",
                 spec.alternatives
@@ -120,18 +117,47 @@ fn random_constants(spec: &SpecView) -> Result<Vec<usize>, String> {
     Ok(out)
 }
 
-/// The random-constant alternatives of a validated spec (checked by `Rules`).
-pub fn constants_of(spec: &crate::spec::Spec) -> Vec<usize> {
-    let Some(Value::Array(items)) = spec
+/// (alternative name, distribution name) pairs of `random_constants`.
+fn entries(v: &Value) -> Result<Vec<(String, String)>, String> {
+    match v {
+        Value::Array(items) => items
+            .iter()
+            .map(|item| match item {
+                Value::String(name) => Ok((name.clone(), "normal".to_string())),
+                _ => Err("[model].random_constants: give alternatives by name".to_string()),
+            })
+            .collect(),
+        Value::Table(t) => t
+            .iter()
+            .map(|(name, d)| match d {
+                Value::String(d) => Ok((name.clone(), d.clone())),
+                _ => Err(format!(
+                    "[model].random_constants.{name}: give the distribution's name"
+                )),
+            })
+            .collect(),
+        _ => Err("[model].random_constants: give a list of alternative names (normal constants) or a table of name = \"distribution\"".into()),
+    }
+}
+
+/// The random constants of a validated spec (checked by `Rules`): alternative
+/// index and distribution name.
+pub fn constants_of(spec: &crate::spec::Spec) -> Vec<(usize, String)> {
+    let Some(v) = spec
         .family_keys
         .get("model")
         .and_then(|m| m.get("random_constants"))
     else {
         return Vec::new();
     };
-    items
-        .iter()
-        .filter_map(|v| v.as_str())
-        .filter_map(|n| spec.alternatives.iter().position(|a| a.name == n))
+    entries(v)
+        .unwrap_or_default()
+        .into_iter()
+        .filter_map(|(n, d)| {
+            spec.alternatives
+                .iter()
+                .position(|a| a.name == n)
+                .map(|j| (j, d))
+        })
         .collect()
 }

@@ -43,7 +43,9 @@ pub fn removal(
         if base[k] <= 0.0 {
             continue;
         }
-        let after = shares_with(family, d, beta, baseline, |_, v| v[k] = f64::NEG_INFINITY);
+        let after = shares_with(family, d, beta, baseline, |_, _, v| {
+            v[k] = f64::NEG_INFINITY
+        });
         for to in 0..j {
             if to != k {
                 out.push(DiversionRow {

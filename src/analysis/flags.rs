@@ -85,17 +85,17 @@ fn shares_at(
     to: f64,
 ) -> Vec<f64> {
     let j = d.alternatives();
-    shares_with(family, d, beta, None, |i, v| match s {
+    shares_with(family, d, beta, None, |i, b, v| match s {
         Switch::Attribute(a, k) => {
             if let (Some(p), true) = (map.attribute[a][k], v[k].is_finite()) {
-                v[k] += beta[p] * (to - d.obs.attributes[a][i * j + k]);
+                v[k] += b[p] * (to - d.obs.attributes[a][i * j + k]);
             }
         }
         Switch::Characteristic(c) => {
             let z = d.obs.characteristics[c][i];
             for (vl, p) in v.iter_mut().zip(&map.characteristic[c]) {
                 if let (Some(p), true) = (p, vl.is_finite()) {
-                    *vl += beta[*p] * (to - z);
+                    *vl += b[*p] * (to - z);
                 }
             }
         }

@@ -186,10 +186,9 @@ pub fn sensitivity_rows(
             let Some(param) = map.attribute[a][k] else {
                 continue;
             };
-            let b = fit.beta[param];
-            let arc = simulate::shares_with(family, d, &fit.beta, baseline, |i, v| {
+            let arc = simulate::shares_with(family, d, &fit.beta, baseline, |i, b, v| {
                 if v[k].is_finite() {
-                    v[k] += b * d.obs.attributes[a][i * j + k] * arc_change;
+                    v[k] += b[param] * d.obs.attributes[a][i * j + k] * arc_change;
                 }
             });
             for jj in 0..j {
@@ -216,11 +215,11 @@ pub fn sensitivity_rows(
         }
     }
     for (c, ch) in spec.characteristics.iter().enumerate() {
-        let arc = simulate::shares_with(family, d, &fit.beta, baseline, |i, v| {
+        let arc = simulate::shares_with(family, d, &fit.beta, baseline, |i, b, v| {
             let z = d.obs.characteristics[c][i];
             for (vl, param) in v.iter_mut().zip(&map.characteristic[c]) {
                 if let (Some(p), true) = (param, vl.is_finite()) {
-                    *vl += fit.beta[*p] * z * arc_change;
+                    *vl += b[*p] * z * arc_change;
                 }
             }
         });

@@ -6,8 +6,9 @@ use crate::design::Design;
 use crate::model::enumerate::{Edit, Enumeration};
 use crate::model::{Baseline, Family};
 
-/// Weighted aggregate shares after `modify(i, utilities)` (divided by the total
-/// weight of all situations). `baseline`, when given, holds the base at `beta`.
+/// Weighted aggregate shares after `modify(i, coefficients, utilities)` (divided
+/// by the total weight of all situations; see `Edit` for the coefficients).
+/// `baseline`, when given, holds the base at `beta`.
 pub fn shares_with<M>(
     family: &dyn Family,
     d: &Design,
@@ -16,7 +17,7 @@ pub fn shares_with<M>(
     modify: M,
 ) -> Vec<f64>
 where
-    M: Fn(usize, &mut [f64]) + Sync,
+    M: Fn(usize, &[f64], &mut [f64]) + Sync,
 {
     let j = d.alternatives();
     let w = &d.obs.weight;

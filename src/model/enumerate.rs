@@ -29,14 +29,16 @@ pub trait WhatIf: Sync {
     }
 }
 
-/// Any `Fn(i, v)` that edits a copy of the base utilities in place is a what-if
-/// that adds no alternative.
+/// Any `Fn(i, coefficients, v)` that edits a copy of the base utilities in
+/// place is a what-if that adds no alternative. `coefficients` are those the
+/// utilities were computed with (a coefficient point's draws for a family
+/// with random coefficients): a change of a value x moves v by coefficients[p] * dx.
 pub struct Edit<F>(pub F);
 
-impl<F: Fn(usize, &mut [f64]) + Sync> WhatIf for Edit<F> {
-    fn utilities(&self, _d: &Design, _beta: &[f64], i: usize, v0: &[f64], v1: &mut [f64]) {
+impl<F: Fn(usize, &[f64], &mut [f64]) + Sync> WhatIf for Edit<F> {
+    fn utilities(&self, _d: &Design, beta: &[f64], i: usize, v0: &[f64], v1: &mut [f64]) {
         v1.copy_from_slice(v0);
-        (self.0)(i, v1)
+        (self.0)(i, beta, v1)
     }
 }
 

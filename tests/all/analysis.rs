@@ -20,7 +20,7 @@ fn numeric_attr_elasticity(
     let j = d.alternatives();
     let eps = 1e-5;
     let shift = |s: f64| {
-        simulate::shares_with(&*fit.family, d, &fit.beta, None, move |i, v| {
+        simulate::shares_with(&*fit.family, d, &fit.beta, None, move |i, _, v| {
             if v[k].is_finite() {
                 v[k] += b * d.obs.attributes[a][i * j + k] * s;
             }
@@ -66,7 +66,7 @@ fn check_against_finite_differences(rel: &str) {
         let d = &fit.design;
         let eps = 1e-5;
         let shift = |s: f64| {
-            simulate::shares_with(&*fit.family, d, &fit.beta, None, |i, v| {
+            simulate::shares_with(&*fit.family, d, &fit.beta, None, |i, _, v| {
                 for (vl, param) in v.iter_mut().zip(&map.characteristic[c]) {
                     if let (Some(p), true) = (param, vl.is_finite()) {
                         *vl += fit.beta[*p] * d.obs.characteristics[c][i] * s;

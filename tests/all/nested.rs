@@ -249,7 +249,7 @@ fn elasticities_match_finite_differences_of_simulated_shares() {
     let b = fit.beta[map.attribute[a][k].unwrap()];
     let h = 1e-5;
     let at = |t: f64| {
-        sharecast::analysis::simulate::shares_with(&*fit.family, d, &fit.beta, None, |i, v| {
+        sharecast::analysis::simulate::shares_with(&*fit.family, d, &fit.beta, None, |i, _, v| {
             if v[k].is_finite() {
                 v[k] += b * d.obs.attributes[a][i * j + k] * t;
             }

@@ -114,6 +114,7 @@ pub(crate) fn coefficients(plan: &Plan, n: usize, w: &mut Work) {
 
 /// Decision maker `n`'s per-draw log-likelihoods (and gradient rows when
 /// `grad`), with `coefficients` already filled.
+#[inline(always)]
 pub(crate) fn unit<const F: bool>(plan: &Plan, n: usize, w: &mut Work, grad: bool) {
     let d = plan.d;
     let j = d.alternatives();
@@ -268,6 +269,7 @@ pub(crate) struct PieceSums {
     pub scores: Vec<f64>,
 }
 
+#[inline(always)]
 fn piece_body<const F: bool>(
     plan: &Plan,
     units: std::ops::Range<usize>,

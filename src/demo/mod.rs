@@ -1,9 +1,14 @@
 //! The invented demo data sets, simulated from known parameters with a fixed
 //! seed: commute mode choice in the invented city of Velmora (wide CSV) and
-//! product choice at the invented Larkspur Market grocery (long Parquet).
+//! product choice at the invented Larkspur Market grocery (long Parquet),
+//! delivery ratings (ordered) and a stated-choice express survey (`express`).
 //! `demo-data/README.md` lists the true parameters written here.
 
+mod express;
+
 use std::path::Path;
+
+pub use express::{express, EXPRESS_TRUTH};
 
 use crate::data::write::{table, Values};
 use crate::error::Result;
@@ -417,9 +422,10 @@ pub fn ratings(path: &Path, force: bool) -> Result<()> {
     table(path, force, &out)
 }
 
-/// Writes the three demo sets into `dir`.
+/// Writes the four demo sets into `dir`.
 pub fn write_all(dir: &Path, force: bool) -> Result<()> {
     commute(&dir.join("commute.csv"), force)?;
     grocery(&dir.join("grocery.parquet"), force)?;
-    ratings(&dir.join("ratings.csv"), force)
+    ratings(&dir.join("ratings.csv"), force)?;
+    express(&dir.join("express_survey.csv"), force)
 }

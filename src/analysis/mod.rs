@@ -7,6 +7,7 @@ pub mod delta;
 pub mod diversion;
 pub mod flags;
 pub mod hypothesis;
+pub mod random;
 pub mod ratios;
 pub mod sensitivity;
 pub mod simulate;
@@ -82,6 +83,9 @@ pub struct Analysis {
     /// (they have no elasticities or marginal effects).
     pub flag_effects: Vec<FlagRow>,
     pub ratios: Vec<RatioRow>,
+    /// Families with random coefficients: each one's implied distribution.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub random_coefficients: Vec<random::RandomRow>,
     pub diversion: Vec<DiversionRow>,
     pub price_diversion: Vec<PriceDiversionRow>,
     pub segments: Vec<SegmentShareRow>,
@@ -358,6 +362,7 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
         marginal_effects,
         flag_effects,
         ratios,
+        random_coefficients: random::rows(fit),
         diversion,
         price_diversion,
         segments,

@@ -7,9 +7,38 @@
 
 use serde::Serialize;
 
-use super::delta::quantile;
+use super::delta::{self, quantile};
 use crate::estimate::{Fit, Z95};
+use crate::model::distribution::Distribution;
+use crate::model::RandomCoefficient;
+use crate::rng::Rng;
 use crate::spec::Ratio;
+
+/// Simulated decision makers for a ratio of random coefficients.
+pub const RATIO_DRAWS: usize = 100_000;
+/// Simulated decision makers per parameter draw for its Krinsky-Robb interval.
+const RATIO_DRAWS_PER_PARAMETER_DRAW: usize = 2_000;
+/// Parameter draws used for that interval.
+const RATIO_PARAMETER_DRAWS: usize = 1_000;
+
+#[derive(Clone, Copy, Debug, Serialize)]
+pub struct RatioQuantile {
+    pub level: f64,
+    pub value: f64,
+}
+
+/// A ratio whose terms vary across decision makers: its distribution.
+#[derive(Clone, Debug, Serialize)]
+pub struct RatioDistribution {
+    pub median: f64,
+    /// The 5/25/75/95% points.
+    pub quantiles: Vec<RatioQuantile>,
+    /// The share of decision makers whose ratio is above zero.
+    pub share_positive: f64,
+    /// Simulated decision makers and the seed of their draws.
+    pub draws: usize,
+    pub seed: u64,
+}
 
 #[derive(Clone, Debug, Serialize)]
 pub struct RatioRow {
@@ -32,6 +61,11 @@ pub struct RatioRow {
     pub seed: u64,
     /// Set when the denominator's 95% interval includes zero.
     pub warning: Option<String>,
+    /// When a term varies across decision makers: the ratio's distribution
+    /// (then `value` is its median, with delta-method and Krinsky-Robb
+    /// intervals of the median).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub distribution: Option<RatioDistribution>,
 }
 
 /// Computes every declared ratio; `draws` are parameter vectors from `delta::draws`.
@@ -42,10 +76,14 @@ pub fn ratios(
     seed: u64,
 ) -> Vec<RatioRow> {
     let cov = fit.inference_covariance();
+    let random = fit.family.random_coefficients();
     declared
         .iter()
         .map(|r| {
             let (n, d) = (r.numerator, r.denominator);
+            if random.iter().any(|t| t.location == n || t.location == d) {
+                return simulated(fit, r, &random, draws, seed);
+            }
             let (bn, bd) = (fit.beta[n], fit.beta[d]);
             // The willingness to pay: c * bn / bd with c = -scale for a unit more.
             let c = if r.per_less { r.scale } else { -r.scale };
@@ -88,7 +126,124 @@ pub fn ratios(
                 draws: used,
                 seed,
                 warning,
+                distribution: None,
             }
         })
         .collect()
+}
+
+/// Coefficient `p` at uniform draw `u`: its distribution's when it is random.
+fn coefficient(random: &[RandomCoefficient], beta: &[f64], p: usize, u: f64) -> f64 {
+    match random.iter().find(|t| t.location == p) {
+        Some(t) => t.distribution.at(beta[t.location], beta[t.spread], u),
+        None => beta[p],
+    }
+}
+
+/// The sorted ratios of `count` simulated decision makers at `beta`; the
+/// numerator and denominator get independent draws (the same one when they
+/// are the same coefficient).
+fn sample(
+    random: &[RandomCoefficient],
+    beta: &[f64],
+    r: &Ratio,
+    c: f64,
+    uniforms: &[(f64, f64)],
+) -> Vec<f64> {
+    let same = r.numerator == r.denominator;
+    let mut vals: Vec<f64> = uniforms
+        .iter()
+        .map(|&(un, ud)| {
+            let bn = coefficient(random, beta, r.numerator, un);
+            let bd = coefficient(random, beta, r.denominator, if same { un } else { ud });
+            c * bn / bd
+        })
+        .filter(|v| v.is_finite())
+        .collect();
+    vals.sort_by(|a, b| a.total_cmp(b));
+    vals
+}
+
+/// A ratio with random terms: its distribution over simulated decision makers.
+fn simulated(
+    fit: &Fit,
+    r: &Ratio,
+    random: &[RandomCoefficient],
+    draws: Option<&[Vec<f64>]>,
+    seed: u64,
+) -> RatioRow {
+    let (n, d) = (r.numerator, r.denominator);
+    let c = if r.per_less { r.scale } else { -r.scale };
+    let mut rng = Rng::new(seed ^ 0x2a71_0b5e);
+    let open = |x: f64| x.clamp(1e-12, 1.0 - 1e-12);
+    let uniforms: Vec<(f64, f64)> = (0..RATIO_DRAWS)
+        .map(|_| (open(rng.uniform()), open(rng.uniform())))
+        .collect();
+    let vals = sample(random, &fit.beta, r, c, &uniforms);
+    let median = quantile(&vals, 0.5);
+    let se = delta::delta_se(fit, &|b: &[f64]| {
+        vec![quantile(&sample(random, b, r, c, &uniforms), 0.5)]
+    })[0];
+    let (mut kr_low, mut kr_high, mut used) = (f64::NAN, f64::NAN, 0);
+    if let Some(draws) = draws {
+        let few = &uniforms[..RATIO_DRAWS_PER_PARAMETER_DRAW];
+        let mut medians: Vec<f64> = draws
+            .iter()
+            .take(RATIO_PARAMETER_DRAWS)
+            .map(|b| quantile(&sample(random, b, r, c, few), 0.5))
+            .filter(|v| v.is_finite())
+            .collect();
+        medians.sort_by(|a, b| a.total_cmp(b));
+        kr_low = quantile(&medians, 0.025);
+        kr_high = quantile(&medians, 0.975);
+        used = medians.len();
+    }
+    let den = random.iter().find(|t| t.location == d);
+    let warning = den.and_then(|t| {
+        let (m, s) = (fit.beta[t.location], fit.beta[t.spread].abs());
+        let touches_zero = match t.distribution {
+            Distribution::Normal => true,
+            Distribution::Uniform | Distribution::Triangular => m.abs() <= s,
+            Distribution::Lognormal | Distribution::NegativeLognormal => false,
+        };
+        touches_zero.then(|| {
+            format!(
+                "the denominator `{}` is {} across decision makers and takes values at or near zero, so the ratio has no finite mean or variance: read its median and quantiles, or make `{}` lognormal (negative-lognormal for a price)",
+                fit.names[d],
+                t.distribution.name(),
+                fit.names[d]
+            )
+        })
+    });
+    let positive = vals.iter().filter(|v| **v > 0.0).count() as f64 / vals.len().max(1) as f64;
+    RatioRow {
+        name: r.name.clone(),
+        numerator: fit.names[n].clone(),
+        denominator: fit.names[d].clone(),
+        scale: r.scale,
+        unit: r.unit.clone(),
+        per: if r.per_less { "unit less" } else { "unit more" }.into(),
+        value: median,
+        std_error: se,
+        ci_low: median - Z95 * se,
+        ci_high: median + Z95 * se,
+        kr_low,
+        kr_high,
+        draws: used,
+        seed,
+        warning,
+        distribution: Some(RatioDistribution {
+            median,
+            quantiles: super::random::LEVELS
+                .iter()
+                .map(|q| RatioQuantile {
+                    level: *q,
+                    value: quantile(&vals, *q),
+                })
+                .collect(),
+            share_positive: positive,
+            draws: vals.len(),
+            seed,
+        }),
+    }
 }

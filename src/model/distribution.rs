@@ -83,6 +83,17 @@ impl Distribution {
         self.coefficient(m, s.abs(), self.standard(u))
     }
 
+    /// The q-th quantile (0 < q < 1) of the coefficient across decision makers.
+    pub fn quantile(self, m: f64, s: f64, q: f64) -> f64 {
+        // -exp(.) falls as the draw rises: its q-th quantile is at 1 - q.
+        let u = if self == Distribution::NegativeLognormal {
+            1.0 - q
+        } else {
+            q
+        };
+        self.at(m, s, u)
+    }
+
     /// The implied mean and standard deviation across decision makers.
     pub fn moments(self, m: f64, s: f64) -> (f64, f64) {
         let s = s.abs();

@@ -164,6 +164,7 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
             );
         }
     }
+    random_coefficients(&mut s, a);
     if !a.ratios.is_empty() {
         let _ = writeln!(
             s,
@@ -196,6 +197,22 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
                 r.ci_low,
                 r.ci_high
             );
+            if let Some(dist) = &r.distribution {
+                let q: Vec<String> = dist
+                    .quantiles
+                    .iter()
+                    .map(|x| format!("{:.0}% {:.4}", 100.0 * x.level, x.value))
+                    .collect();
+                let _ = writeln!(
+                    s,
+                    "  {:<18}varies across decision makers: the value is the median · {} · above zero {:.1}% ({} simulated, seed {})",
+                    "",
+                    q.join("  "),
+                    100.0 * dist.share_positive,
+                    dist.draws,
+                    dist.seed
+                );
+            }
         }
     }
     if !a.diversion.is_empty() {
@@ -361,5 +378,42 @@ fn per_units(scale: f64, per: &str) -> String {
         format!("one unit {way}")
     } else {
         format!("{} units {way}", scale.abs())
+    }
+}
+
+/// Each random coefficient's implied distribution across decision makers.
+fn random_coefficients(s: &mut String, a: &Analysis) {
+    if a.random_coefficients.is_empty() {
+        return;
+    }
+    let _ = writeln!(
+        s,
+        "\nrandom coefficients across decision makers (implied by each location and spread; ± delta-method s.e.)"
+    );
+    for r in &a.random_coefficients {
+        let _ = writeln!(
+            s,
+            "  {} · {} (location {:.4}, spread {:.4})",
+            r.coefficient, r.distribution, r.location, r.spread
+        );
+        let _ = writeln!(
+            s,
+            "      mean {}   std. dev. {}   median {}",
+            cell(r.mean.value, r.mean.std_error),
+            cell(r.std_dev.value, r.std_dev.std_error),
+            cell(r.median.value, r.median.std_error)
+        );
+        let q: Vec<String> = r
+            .quantiles
+            .iter()
+            .map(|x| format!("{:.0}% {}", 100.0 * x.level, cell(x.value, f64::NAN)))
+            .collect();
+        let _ = writeln!(
+            s,
+            "      above 0 {:.1}%   below 0 {:.1}%   {}",
+            100.0 * r.share_positive.value,
+            100.0 * r.share_negative.value,
+            q.join("   ")
+        );
     }
 }

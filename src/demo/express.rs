@@ -71,7 +71,9 @@ pub fn express(path: &Path, force: bool) -> Result<()> {
             let rail_headway = level(&mut rng, &[10.0, 20.0, 30.0, 60.0]);
             let v = [
                 b_cost * car_cost + b_time * car_time,
-                t("asc_coach") + b_cost * coach_fare + b_time * coach_time
+                t("asc_coach")
+                    + b_cost * coach_fare
+                    + b_time * coach_time
                     + t("headway") * coach_headway,
                 c_rail + b_cost * rail_fare + b_time * rail_time + t("headway") * rail_headway,
             ];

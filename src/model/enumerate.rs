@@ -11,7 +11,7 @@ use std::ops::Range;
 use std::sync::Arc;
 
 use super::{Family, Points};
-use crate::design::{on_pieces, pieces, run_queue, Design};
+use crate::design::{heavy_pieces, on_ranges, pieces, run_queue, Design};
 
 /// A change to each situation's utilities (a scenario, an arc step, a withdrawal).
 pub trait WhatIf: Sync {
@@ -76,11 +76,12 @@ impl Baseline {
         let j = d.alternatives();
         let n = d.situations();
         let mixture = family.mixture(d);
+        let ranges = ranges(n, mixture.as_deref());
         let mut utilities = vec![0.0; n * j];
         let mut probabilities = vec![0.0; n * j];
         let mut items = Vec::new();
         let (mut u, mut p) = (utilities.as_mut_slice(), probabilities.as_mut_slice());
-        for r in pieces(n) {
+        for r in ranges {
             let (ua, ub) = u.split_at_mut(r.len() * j);
             let (pa, pb) = p.split_at_mut(r.len() * j);
             items.push((r, ua, pa));
@@ -102,6 +103,16 @@ impl Baseline {
             utilities,
             probabilities,
         }
+    }
+}
+
+/// The pieces a pass over `n` situations is cut into: by situations, or with
+/// coefficient points by the work they make (they depend on `n` and the
+/// number of points alone).
+fn ranges(n: usize, mixture: Option<&dyn Points>) -> Vec<Range<usize>> {
+    match mixture {
+        None => pieces(n),
+        Some(m) => heavy_pieces(n, (8_192 / m.count().max(1)).max(1)),
     }
 }
 
@@ -228,7 +239,7 @@ impl<'a> Enumeration<'a> {
         init: impl Fn(&Range<usize>) -> T + Sync,
         visit: impl Fn(&mut T, &Situation) + Sync,
     ) -> Vec<T> {
-        on_pieces(self.d.situations(), |r| {
+        on_ranges(ranges(self.d.situations(), self.mixture.as_deref()), |r| {
             let mut state = init(&r);
             match &self.mixture {
                 None => self.run(r, &mut |s| visit(&mut state, s)),
@@ -259,7 +270,7 @@ impl<'a> Enumeration<'a> {
         let (family, d, beta) = (self.family, self.d, self.beta);
         let j = d.alternatives();
         let k = beta.len();
-        on_pieces(d.situations(), |range| {
+        on_ranges(ranges(d.situations(), self.mixture.as_deref()), |range| {
             let mut state = init(&range);
             let r = self.mixture.as_ref().map(|m| m.count()).unwrap_or(1);
             let mut coefs = vec![0.0; r * k];

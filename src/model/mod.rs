@@ -174,6 +174,12 @@ pub trait Family: Send + Sync + std::fmt::Debug {
         None
     }
 
+    /// A cheaper version of the family for the many passes of uncertainty
+    /// bands (fewer simulation draws per decision maker); `None`: itself.
+    fn for_bands(&self) -> Option<FamilyRef> {
+        None
+    }
+
     /// The coefficients that vary across decision makers.
     fn random_coefficients(&self) -> Vec<RandomCoefficient> {
         Vec::new()

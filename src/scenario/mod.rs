@@ -222,10 +222,11 @@ pub fn forecast(
     if opts.draws > 0 {
         match draws(fit, opts.draws, opts.seed) {
             Some(all) => {
+                // A family that simulates may use fewer draws per parameter draw.
+                let family = fit.family.for_bands().unwrap_or_else(|| fit.family.clone());
                 for b in all {
                     let b: Vec<f64> = b.iter().zip(&shift).map(|(x, s)| x + s).collect();
-                    let (base, scen, segs) =
-                        simulate::shares_only(&*fit.family, d, &b, &prep, seg_arg);
+                    let (base, scen, segs) = simulate::shares_only(&*family, d, &b, &prep, seg_arg);
                     for a in 0..m {
                         band_scen[a].push(scen[a]);
                         band_change[a].push(scen[a] - base[a]);

@@ -40,6 +40,8 @@ fn every_shipped_scenario_simulates() {
         // Scenarios name the demo they belong to by the alternatives they use.
         let spec = if text.contains("marrowby") || text.contains("own_label") {
             "specs/grocery.toml"
+        } else if text.contains("coach") {
+            "specs/express_survey.toml"
         } else {
             "specs/commute.toml"
         };
@@ -53,6 +55,8 @@ fn every_shipped_scenario_simulates() {
             "--by",
             if spec.contains("commute") {
                 "district"
+            } else if spec.contains("express") {
+                "task"
             } else {
                 "week"
             },

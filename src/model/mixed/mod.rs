@@ -123,7 +123,13 @@ pub struct Mixed {
     given: Option<Arc<Vec<f64>>>,
     /// Draws built per data set, found again by its observations.
     panels: Mutex<Vec<(Weak<Observations>, Arc<Panel>)>>,
+    /// The analyses (not the likelihood) use only this many of each decision
+    /// maker's draws: the cheaper family of uncertainty bands.
+    limit: Option<usize>,
 }
+
+/// Simulation draws per decision maker in each parameter draw of a band.
+pub const BAND_DRAWS: usize = 50;
 
 impl Mixed {
     /// Builds the family for a spec `Rules` accepted.
@@ -160,6 +166,7 @@ impl Mixed {
             binary: spec.alternatives.len() == 2,
             given: None,
             panels: Mutex::new(Vec::new()),
+            limit: None,
         })
     }
 
@@ -206,20 +213,22 @@ impl Mixed {
     }
 }
 
-/// A decision maker's coefficient points for the analyses.
+/// A decision maker's coefficient points for the analyses (the first `count`
+/// of their draws).
 struct MixedPoints {
     panel: Arc<Panel>,
     terms: Vec<RandomCoefficient>,
+    count: usize,
 }
 
 impl Points for MixedPoints {
     fn count(&self) -> usize {
-        self.panel.draws
+        self.count
     }
     fn fill(&self, beta: &[f64], i: usize, out: &mut [f64]) {
         let k = beta.len();
         let n = self.panel.unit_of(i);
-        for (r, row) in out.chunks_mut(k).enumerate() {
+        for (r, row) in out.chunks_mut(k).take(self.count).enumerate() {
             row.copy_from_slice(beta);
             for (dim, t) in self.terms.iter().enumerate() {
                 let e = self.panel.draws_of(n, dim)[r];
@@ -331,10 +340,26 @@ impl Family for Mixed {
     }
 
     fn mixture(&self, d: &Design) -> Option<Arc<dyn Points>> {
+        let panel = self.panel(d);
+        let count = self.limit.unwrap_or(panel.draws).min(panel.draws);
         Some(Arc::new(MixedPoints {
-            panel: self.panel(d),
+            panel,
             terms: self.terms.clone(),
+            count,
         }))
+    }
+
+    fn for_bands(&self) -> Option<FamilyRef> {
+        (self.simulation.draws > BAND_DRAWS).then(|| {
+            Arc::new(Mixed {
+                terms: self.terms.clone(),
+                simulation: self.simulation,
+                binary: self.binary,
+                given: self.given.clone(),
+                panels: Mutex::new(Vec::new()),
+                limit: Some(BAND_DRAWS),
+            }) as FamilyRef
+        })
     }
 
     fn random_coefficients(&self) -> Vec<RandomCoefficient> {

@@ -67,6 +67,14 @@ pub struct FitArgs {
     /// Exit 0 even when the fit did not converge.
     #[arg(long)]
     pub allow_unconverged: bool,
+    /// Write each decision maker's random coefficients conditional on their
+    /// choices to this CSV or Parquet file (families with random coefficients).
+    #[arg(long, value_name = "FILE")]
+    pub conditional: Option<PathBuf>,
+    /// Fit again on the draws of the next seed and show how far each estimate
+    /// moves, in standard errors (families that simulate their probabilities).
+    #[arg(long)]
+    pub draws_check: bool,
     #[command(flatten)]
     pub analysis: AnalysisArgs,
 }
@@ -95,7 +103,23 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
         // Refused before the fit rather than after it.
         args.analysis.options().check(spec.parameters.len())?;
     }
+    if let Some(path) = &args.conditional {
+        // Refused before the fit rather than after it.
+        crate::data::write::check_overwrite(path, args.force)?;
+    }
     let fit = super::fit_quietly(&spec, &ds)?;
+    let draws_check = if args.draws_check {
+        let progress = super::stderr_progress();
+        let check =
+            crate::estimate::simcheck::draws_check(&spec, ds.obs.clone().into(), &fit, &progress);
+        super::clear_progress();
+        Some(check?)
+    } else {
+        None
+    };
+    if let Some(path) = &args.conditional {
+        write_conditional(&spec, &fit, &ds, path, args.force)?;
+    }
     let analysis = if args.analysis.no_analysis {
         None
     } else {
@@ -111,6 +135,11 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
     if let Some(a) = &analysis {
         add_analysis(&mut doc, a);
     }
+    if let Some(c) = &draws_check {
+        if let Ok(v) = serde_json::to_value(c) {
+            doc.insert("draws_check".into(), v);
+        }
+    }
     let body = serde_json::to_string_pretty(&serde_json::Value::Object(doc)).unwrap_or_default();
     if let Some(path) = &args.save {
         crate::data::write::text(path, args.force, &body)?;
@@ -124,6 +153,10 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
             crate::outln!();
             crate::out!("{}", report::analysis::sections(&spec, a));
         }
+        if let Some(c) = &draws_check {
+            crate::outln!();
+            crate::out!("{}", report::text::draws_check(c));
+        }
         crate::outln!();
         crate::out!("{}", report::text::closing(&spec, &fit));
     }
@@ -132,4 +165,60 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
         return Ok(ExitCode::from(2));
     }
     Ok(ExitCode::SUCCESS)
+}
+
+/// Writes each decision maker's conditional mean of every random coefficient:
+/// one row per decision maker, named by the group column (or the data row of
+/// their situation when each situation is its own decision maker).
+fn write_conditional(
+    spec: &crate::spec::Spec,
+    fit: &crate::estimate::Fit,
+    ds: &crate::data::Dataset,
+    path: &std::path::Path,
+    force: bool,
+) -> Result<()> {
+    use crate::data::write::Values;
+    let terms = fit.family.random_coefficients();
+    let cond = match fit.family.conditional(&fit.design, &fit.beta) {
+        Some(c) if !terms.is_empty() => c,
+        _ => {
+            return Err(crate::error::Error::Usage(format!(
+                "--conditional: the {} family has no random coefficients (they come with [model].family = \"mixed\")",
+                fit.family.name()
+            )))
+        }
+    };
+    let rows: Vec<usize> = cond
+        .first
+        .iter()
+        .map(|&i| fit.design.obs.first_row[i])
+        .collect();
+    let mut columns = Vec::new();
+    match &spec.data.group {
+        Some(g) => {
+            let keys = ds.table.keys(g, "[data].group")?;
+            columns.push((
+                g.clone(),
+                Values::Text(rows.iter().map(|&r| keys[r - 1].clone()).collect()),
+            ));
+        }
+        None => columns.push((
+            "row".to_string(),
+            Values::Int(rows.iter().map(|&r| r as i64).collect()),
+        )),
+    }
+    let dims = terms.len();
+    for (d, t) in terms.iter().enumerate() {
+        columns.push((
+            fit.names[t.location].clone(),
+            Values::Num(cond.means.iter().skip(d).step_by(dims).copied().collect()),
+        ));
+    }
+    crate::data::write::table(path, force, &columns)?;
+    crate::errln!(
+        "wrote {} decision makers' conditional coefficients to {}",
+        rows.len(),
+        path.display()
+    );
+    Ok(())
 }

@@ -169,7 +169,7 @@ pub fn fit_quietly(spec: &Spec, ds: impl IntoObservations) -> Result<crate::esti
 }
 
 /// Clears the progress line, if one was printed.
-fn clear_progress() {
+pub(crate) fn clear_progress() {
     if std::io::stderr().is_terminal() {
         crate::report::note(&format!("\r{:100}\r", ""));
     }

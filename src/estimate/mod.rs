@@ -5,6 +5,7 @@ pub mod diagnose;
 pub mod document;
 pub mod inference;
 pub mod optimise;
+pub mod simcheck;
 
 use std::sync::Arc;
 use std::time::Instant;

@@ -234,3 +234,26 @@ pub fn mlhs(rng: &mut Rng, row: &mut [f64]) {
         row.swap(i, j);
     }
 }
+
+/// The spec with `[simulation].seed` set to `seed` (for a second fit on other draws).
+pub fn reseeded(spec: &crate::spec::Spec, seed: u64) -> crate::spec::Spec {
+    let mut s = spec.clone();
+    let entry = s
+        .family_keys
+        .entry("simulation")
+        .or_insert_with(|| Value::Table(Table::new()));
+    if let Value::Table(t) = entry {
+        t.insert(
+            "seed".into(),
+            Value::Integer(seed.min(i64::MAX as u64) as i64),
+        );
+    }
+    s
+}
+
+/// The seed a spec's `[simulation]` gives (the default when absent or unreadable).
+pub fn seed_of(spec: &crate::spec::Spec) -> u64 {
+    Simulation::from_keys(&spec.family_keys)
+        .unwrap_or_default()
+        .seed
+}

@@ -209,3 +209,38 @@ pub fn fit_report(spec: &Spec, fit: &Fit, colour: bool) -> String {
 pub fn closing(spec: &Spec, fit: &Fit) -> String {
     format!("{}\n", cautions(spec, &*fit.family))
 }
+
+/// The simulation check: each estimate on the second seed's draws.
+pub fn draws_check(c: &crate::estimate::simcheck::DrawsCheck) -> String {
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "simulation check: refitted on the draws of seed {} (the fit used seed {})",
+        c.other_seed, c.seed
+    );
+    let _ = writeln!(
+        s,
+        "  {:<22}{:>13}{:>13}{:>13}{:>12}",
+        "parameter", "this fit", "other seed", "difference", "in s.e."
+    );
+    for r in &c.rows {
+        let _ = writeln!(
+            s,
+            "  {:<22}{:>13.5}{:>13.5}{:>13.5}{:>12.3}",
+            r.name, r.estimate, r.other, r.difference, r.in_std_errors
+        );
+    }
+    let verdict = if c.largest < 0.1 {
+        "the draws are enough: no estimate moves by a tenth of its standard error"
+    } else if c.largest < 0.5 {
+        "simulation noise is small next to sampling noise; more draws would tighten it"
+    } else {
+        "estimates move by half a standard error or more: use more draws ([simulation].draws)"
+    };
+    let _ = writeln!(
+        s,
+        "  log-likelihood {:.4} against {:.4} · largest move {:.3} s.e.: {verdict}",
+        c.log_likelihood, c.other_log_likelihood, c.largest
+    );
+    s
+}

@@ -13,6 +13,7 @@ mod fit_cli;
 mod layouts;
 mod limits;
 mod mixed;
+mod mixed_analysis;
 mod nested;
 mod ordered;
 mod recovery;

@@ -19,12 +19,12 @@ use sharecast::spec::Spec;
 
 use crate::common::*;
 
-fn fixture() -> Value {
+pub(crate) fn fixture() -> Value {
     let text = std::fs::read_to_string(path("tests/fixtures/mixed_reference.json")).unwrap();
     serde_json::from_str(&text).unwrap()
 }
 
-fn floats(v: &Value) -> Vec<f64> {
+pub(crate) fn floats(v: &Value) -> Vec<f64> {
     v.as_array()
         .unwrap()
         .iter()
@@ -34,7 +34,7 @@ fn floats(v: &Value) -> Vec<f64> {
 
 /// The case's data as a wide CSV and a spec over it (group by person unless
 /// `cross_section`), with `[parameters]` starts when given.
-fn case_spec(case: &Value, start: Option<&[f64]>) -> (Spec, Dataset) {
+pub(crate) fn case_spec(case: &Value, start: Option<&[f64]>) -> (Spec, Dataset) {
     let name = case["name"].as_str().unwrap();
     let dir = scratch(&format!("mixed-{name}-{}", start.is_some()));
     let cols = case["columns"].as_object().unwrap();
@@ -121,12 +121,12 @@ fn uniforms(case: &Value) -> (Vec<f64>, usize) {
     (out, r)
 }
 
-fn family_on(spec: &Spec, case: &Value) -> Arc<Mixed> {
+pub(crate) fn family_on(spec: &Spec, case: &Value) -> Arc<Mixed> {
     let (u, r) = uniforms(case);
     Arc::new(Mixed::new(spec).unwrap().with_uniforms(u, r))
 }
 
-fn case<'a>(r: &'a Value, name: &str) -> &'a Value {
+pub(crate) fn case<'a>(r: &'a Value, name: &str) -> &'a Value {
     r["cases"]
         .as_array()
         .unwrap()

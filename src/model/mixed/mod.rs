@@ -386,7 +386,7 @@ impl Family for Mixed {
                 } else if *f != w {
                     return Err(format!(
                         "[data].weight `{col}`: the weight changes within decision maker (row {} of the data); a panel mixed logit weighs each decision maker once, so the weight must be the same in all of a person's situations",
-                        d.obs.first_row.get(i).map(|r| r + 1).unwrap_or(i + 1)
+                        d.obs.first_row.get(i).copied().unwrap_or(i + 1)
                     ));
                 }
             }

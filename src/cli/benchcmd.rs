@@ -18,6 +18,10 @@ pub enum BenchModel {
     Characteristics,
     /// The full model as a nested logit (two nests of two): 17 parameters.
     Nested,
+    /// A mixed logit panel: --decision-makers x --tasks situations of 4
+    /// alternatives, 3 fixed constants and 4 random attributes, --draws Halton
+    /// draws; side by side with a plain numpy pass (bench/mixed_peer.py).
+    Mixed,
 }
 
 #[derive(Args, Debug)]
@@ -51,15 +55,40 @@ pub struct BenchArgs {
     /// With --profile: passes with the Hessian.
     #[arg(long, requires = "profile")]
     pub hessian: bool,
+    /// --model mixed: decision makers in the panel.
+    #[arg(long, default_value_t = 5_000)]
+    pub decision_makers: usize,
+    /// --model mixed: choice tasks per decision maker.
+    #[arg(long, default_value_t = 10)]
+    pub tasks: usize,
+    /// --model mixed: Halton draws per decision maker.
+    #[arg(long, default_value_t = 1_000)]
+    pub draws: usize,
+    /// --model mixed: do not run the numpy peer.
+    #[arg(long)]
+    pub no_peer: bool,
 }
 
 pub fn run(args: BenchArgs) -> Result<ExitCode> {
+    if args.model == BenchModel::Mixed {
+        return bench::mixed::run(bench::mixed::MixedOptions {
+            decision_makers: args.decision_makers,
+            tasks: args.tasks,
+            draws: args.draws,
+            repeats: args.repeats.min(5),
+            keep: args.keep,
+            no_process: args.no_process,
+            no_peer: args.no_peer,
+            json: args.json,
+        });
+    }
     bench::run(Options {
         situations: args.situations,
         model: match args.model {
             BenchModel::Full => bench::Model::Full,
             BenchModel::Characteristics => bench::Model::Characteristics,
             BenchModel::Nested => bench::Model::Nested,
+            BenchModel::Mixed => bench::Model::Full, // handled above
         },
         keep: args.keep,
         write_only: args.write_only,

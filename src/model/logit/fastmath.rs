@@ -123,3 +123,38 @@ pub(crate) fn ln_positive<const F: bool>(s: f64) -> f64 {
     let t = 2.0 * z * q;
     madd::<F>(e, LN2_HI, madd::<F>(e, LN2_LO, t))
 }
+
+fn exp_slice_body<const F: bool>(x: &[f64], y: &mut [f64]) {
+    for (y, x) in y.iter_mut().zip(x) {
+        *y = exp_nonpositive::<F>(*x);
+    }
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+fn exp_slice_avx2(x: &[f64], y: &mut [f64]) {
+    exp_slice_body::<true>(x, y)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx2,fma")]
+fn exp_slice_avx512(x: &[f64], y: &mut [f64]) {
+    exp_slice_body::<true>(x, y)
+}
+
+/// e^x of every x <= 0 with the widest vectors the processor has (the
+/// benchmark's measure of what one exponential of a pass costs).
+pub fn exp_slice(x: &[f64], y: &mut [f64]) {
+    #[cfg(target_arch = "x86_64")]
+    {
+        if super::block::wide_path() {
+            // SAFETY: the processor supports AVX-512F, AVX2 and FMA, checked just above.
+            return unsafe { exp_slice_avx512(x, y) };
+        }
+        if super::block::fast_path() {
+            // SAFETY: the processor supports AVX2 and FMA, checked just above.
+            return unsafe { exp_slice_avx2(x, y) };
+        }
+    }
+    exp_slice_body::<false>(x, y)
+}

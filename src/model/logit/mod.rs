@@ -28,7 +28,7 @@ use crate::spec::{FamilyParameter, FamilyRules, Spec, SpecView};
 use super::{Abilities, Eval, Family};
 
 pub(crate) mod block;
-pub(crate) mod fastmath;
+pub mod fastmath;
 
 use block::*;
 pub(crate) use fastmath::Compensated;

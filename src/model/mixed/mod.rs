@@ -68,14 +68,16 @@ impl Panel {
             fill[u as usize] += 1;
         }
         let dims = terms.len();
-        let mut e = uniforms.to_vec();
-        for n in 0..units {
-            for (dim, t) in terms.iter().enumerate() {
-                let row = &mut e[(n * dims + dim) * draws..(n * dims + dim + 1) * draws];
-                row.iter_mut()
-                    .for_each(|u| *u = t.distribution.standard(*u));
+        // The standardised draws (normal quantiles), over the cores.
+        let per_unit = dims * draws;
+        let parts = crate::design::on_ranges(crate::design::heavy_pieces(units, 64), |r| {
+            let mut out = uniforms[r.start * per_unit..r.end * per_unit].to_vec();
+            for (k, u) in out.iter_mut().enumerate() {
+                *u = terms[(k / draws) % dims].distribution.standard(*u);
             }
-        }
+            out
+        });
+        let e = parts.concat();
         Panel {
             units,
             draws,

@@ -9,7 +9,7 @@
 //! makers that depend on their number alone, summed in piece order.
 
 use super::{Mixed, Panel};
-use crate::design::{heavy_pieces, on_ranges, Design, Value};
+use crate::design::{heavy_pieces, on_ranges, Design};
 use crate::model::distribution::Distribution;
 use crate::model::logit::fastmath::{exp_nonpositive, ln_positive, madd, Compensated};
 
@@ -45,6 +45,9 @@ impl<'a> Plan<'a> {
     }
 }
 
+/// Draws a block of the pass works on at once: its rows stay in the first-level cache.
+const BLOCK: usize = 64;
+
 /// One thread's scratch rows, allocated once per piece.
 pub(crate) struct Work {
     r: usize,
@@ -56,13 +59,20 @@ pub(crate) struct Work {
     pub logl: Vec<f64>,
     /// [param][r]: sum over situations of x_chosen - sum_j P_j x_j.
     g: Vec<f64>,
-    /// [j][r]: utilities, then exponentials, then probabilities.
+    /// [j][BLOCK]: utilities, then exponentials, then probabilities of a block of draws.
     v: Vec<f64>,
     mx: Vec<f64>,
     s: Vec<f64>,
-    /// Per alternative: the fixed part of the utility and the random values [j][dim].
+    /// The decision maker's situations, set up once per decision maker: per
+    /// situation the chosen alternative; per situation and alternative its
+    /// availability, the fixed part of the utility and the random values
+    /// ([t][j][dim]); and the (parameter, alternative, value) of each feature.
+    chosen: Vec<usize>,
+    avail: Vec<bool>,
     c: Vec<f64>,
     xr: Vec<f64>,
+    feats: Vec<(usize, usize, f64)>,
+    feats_at: Vec<usize>,
     /// The draws' shares of the decision maker's likelihood.
     pub omega: Vec<f64>,
 }
@@ -79,13 +89,56 @@ impl Work {
             ds: vec![0.0; dims * r],
             logl: vec![0.0; r],
             g: vec![0.0; plan.d.params * r],
-            v: vec![0.0; j * r],
-            mx: vec![0.0; r],
-            s: vec![0.0; r],
-            c: vec![0.0; j],
-            xr: vec![0.0; j * dims],
+            v: vec![0.0; j * BLOCK],
+            mx: vec![0.0; BLOCK],
+            s: vec![0.0; BLOCK],
+            chosen: Vec::new(),
+            avail: Vec::new(),
+            c: Vec::new(),
+            xr: Vec::new(),
+            feats: Vec::new(),
+            feats_at: Vec::new(),
             omega: vec![0.0; r],
         }
+    }
+
+    /// Sets up decision maker `n`'s situations (buffers grow, never shrink).
+    fn situations(&mut self, plan: &Plan, n: usize) {
+        let d = plan.d;
+        let (j, dims) = (d.alternatives(), plan.terms.len());
+        self.chosen.clear();
+        self.avail.clear();
+        self.c.clear();
+        self.xr.clear();
+        self.feats.clear();
+        self.feats_at.clear();
+        for &i in plan.panel.situations_of(n) {
+            let i = i as usize;
+            self.chosen.push(d.obs.chosen[i] as usize);
+            self.feats_at.push(self.feats.len());
+            for (a, feats) in d.features.iter().enumerate() {
+                let open = d.available(i, a);
+                self.avail.push(open);
+                let at = self.xr.len();
+                self.xr.resize(at + dims, 0.0);
+                let mut c = 0.0;
+                if open {
+                    for f in feats {
+                        let x = d.value(i, a, f.value);
+                        match plan.dim_of[f.param] {
+                            Some(dim) => self.xr[at + dim] += x,
+                            None => c += plan.beta[f.param] * x,
+                        }
+                        if x != 0.0 {
+                            self.feats.push((f.param, a, x));
+                        }
+                    }
+                }
+                self.c.push(c);
+            }
+        }
+        self.feats_at.push(self.feats.len());
+        debug_assert_eq!(self.c.len(), self.chosen.len() * j);
     }
 }
 
@@ -113,107 +166,108 @@ pub(crate) fn coefficients(plan: &Plan, n: usize, w: &mut Work) {
 }
 
 /// Decision maker `n`'s per-draw log-likelihoods (and gradient rows when
-/// `grad`), with `coefficients` already filled.
+/// `grad`), with `coefficients` already filled. Draws are taken in blocks of
+/// `BLOCK`, each block through all of the person's situations.
 #[inline(always)]
 pub(crate) fn unit<const F: bool>(plan: &Plan, n: usize, w: &mut Work, grad: bool) {
-    let d = plan.d;
-    let j = d.alternatives();
+    let j = plan.d.alternatives();
     let dims = plan.terms.len();
     let r = w.r;
+    w.situations(plan, n);
     w.logl.fill(0.0);
     if grad {
         w.g.fill(0.0);
     }
-    for &i in plan.panel.situations_of(n) {
-        let i = i as usize;
-        let chosen = d.obs.chosen[i] as usize;
-        // Fixed part and random values of each alternative.
-        w.c.fill(0.0);
-        w.xr.fill(0.0);
-        for (a, feats) in d.features.iter().enumerate() {
-            if !d.available(i, a) {
-                continue;
-            }
-            for f in feats {
-                let x = d.value(i, a, f.value);
-                match plan.dim_of[f.param] {
-                    Some(dim) => w.xr[a * dims + dim] += x,
-                    None => w.c[a] += plan.beta[f.param] * x,
-                }
-            }
+    let mut r0 = 0;
+    while r0 < r {
+        let nb = BLOCK.min(r - r0);
+        for t in 0..w.chosen.len() {
+            block::<F>(w, t, j, dims, r0, nb, grad);
         }
-        w.mx.fill(f64::NEG_INFINITY);
-        for a in 0..j {
-            if !d.available(i, a) {
-                continue;
-            }
-            let row = &mut w.v[a * r..(a + 1) * r];
-            row.fill(w.c[a]);
-            for dim in 0..dims {
-                let x = w.xr[a * dims + dim];
-                if x != 0.0 {
-                    let coef = &w.coef[dim * r..(dim + 1) * r];
-                    for (v, b) in row.iter_mut().zip(coef) {
-                        *v = madd::<F>(*b, x, *v);
-                    }
-                }
-            }
-            for (m, v) in w.mx.iter_mut().zip(row.iter()) {
-                *m = m.max(*v);
-            }
-        }
-        w.s.fill(0.0);
-        for a in 0..j {
-            if !d.available(i, a) {
-                continue;
-            }
-            let row = &mut w.v[a * r..(a + 1) * r];
-            if a == chosen {
-                for ((l, v), m) in w.logl.iter_mut().zip(row.iter()).zip(&w.mx) {
-                    *l += v - m;
-                }
-            }
-            for ((v, m), s) in row.iter_mut().zip(&w.mx).zip(w.s.iter_mut()) {
-                let e = exp_nonpositive::<F>(*v - m);
-                *v = e;
-                *s += e;
-            }
-        }
-        for (l, s) in w.logl.iter_mut().zip(&w.s) {
-            *l -= ln_positive::<F>(*s);
-        }
-        if !grad {
+        r0 += nb;
+    }
+}
+
+/// Draws `r0..r0 + nb` of situation `t` (set up by `Work::situations`).
+#[inline(always)]
+fn block<const F: bool>(
+    w: &mut Work,
+    t: usize,
+    j: usize,
+    dims: usize,
+    r0: usize,
+    nb: usize,
+    grad: bool,
+) {
+    let r = w.r;
+    let chosen = w.chosen[t];
+    let mx = &mut w.mx[..nb];
+    mx.fill(f64::NEG_INFINITY);
+    for a in 0..j {
+        if !w.avail[t * j + a] {
             continue;
         }
-        for s in w.s.iter_mut() {
-            *s = 1.0 / *s;
-        }
-        for (a, feats) in d.features.iter().enumerate() {
-            if !d.available(i, a) {
-                continue;
+        let row = &mut w.v[a * BLOCK..a * BLOCK + nb];
+        row.fill(w.c[t * j + a]);
+        for dim in 0..dims {
+            let x = w.xr[(t * j + a) * dims + dim];
+            if x != 0.0 {
+                let coef = &w.coef[dim * r + r0..dim * r + r0 + nb];
+                for (v, b) in row.iter_mut().zip(coef) {
+                    *v = madd::<F>(*b, x, *v);
+                }
             }
-            let row = &mut w.v[a * r..(a + 1) * r];
-            for (p, s) in row.iter_mut().zip(&w.s) {
+        }
+        for (m, v) in mx.iter_mut().zip(row.iter()) {
+            *m = m.max(*v);
+        }
+    }
+    let s = &mut w.s[..nb];
+    s.fill(0.0);
+    let logl = &mut w.logl[r0..r0 + nb];
+    for a in 0..j {
+        if !w.avail[t * j + a] {
+            continue;
+        }
+        let row = &mut w.v[a * BLOCK..a * BLOCK + nb];
+        if a == chosen {
+            for ((l, v), m) in logl.iter_mut().zip(row.iter()).zip(mx.iter()) {
+                *l += v - m;
+            }
+        }
+        for ((v, m), s) in row.iter_mut().zip(mx.iter()).zip(s.iter_mut()) {
+            let e = exp_nonpositive::<F>(*v - m);
+            *v = e;
+            *s += e;
+        }
+    }
+    for (l, s) in logl.iter_mut().zip(s.iter()) {
+        *l -= ln_positive::<F>(*s);
+    }
+    if !grad {
+        return;
+    }
+    for s in s.iter_mut() {
+        *s = 1.0 / *s;
+    }
+    for a in 0..j {
+        if w.avail[t * j + a] {
+            let row = &mut w.v[a * BLOCK..a * BLOCK + nb];
+            for (p, s) in row.iter_mut().zip(s.iter()) {
                 *p *= s;
             }
-            for f in feats {
-                let x = match f.value {
-                    Value::One => 1.0,
-                    v => d.value(i, a, v),
-                };
-                if x == 0.0 {
-                    continue;
-                }
-                let g = &mut w.g[f.param * r..(f.param + 1) * r];
-                if a == chosen {
-                    for (g, p) in g.iter_mut().zip(row.iter()) {
-                        *g += madd::<F>(-*p, x, x);
-                    }
-                } else {
-                    for (g, p) in g.iter_mut().zip(row.iter()) {
-                        *g = madd::<F>(-*p, x, *g);
-                    }
-                }
+        }
+    }
+    for &(param, a, x) in &w.feats[w.feats_at[t]..w.feats_at[t + 1]] {
+        let p = &w.v[a * BLOCK..a * BLOCK + nb];
+        let g = &mut w.g[param * r + r0..param * r + r0 + nb];
+        if a == chosen {
+            for (g, p) in g.iter_mut().zip(p) {
+                *g += madd::<F>(-*p, x, x);
+            }
+        } else {
+            for (g, p) in g.iter_mut().zip(p) {
+                *g = madd::<F>(-*p, x, *g);
             }
         }
     }

@@ -5,6 +5,8 @@
 //! of passes, the whole fit, `sharecast fit` as a separate process, and the
 //! peak memory. `docs/performance.md` reports the figures.
 
+pub mod mixed;
+
 use std::fmt::Write as _;
 use std::io::Write as _;
 use std::path::{Path, PathBuf};
@@ -341,7 +343,7 @@ pub fn peak_memory() -> Option<u64> {
     status_bytes(&s, "VmHWM")
 }
 
-fn median(mut v: Vec<f64>) -> f64 {
+pub(crate) fn median(mut v: Vec<f64>) -> f64 {
     if v.is_empty() {
         return f64::NAN;
     }
@@ -421,7 +423,7 @@ fn stream_once(d: &Design) -> f64 {
 }
 
 /// This program's path (a rebuild while it runs leaves the old one " (deleted)").
-fn own_path() -> Result<PathBuf> {
+pub(crate) fn own_path() -> Result<PathBuf> {
     let exe = std::env::current_exe().map_err(|e| Error::Usage(format!("bench: {e}")))?;
     let text = exe.to_string_lossy();
     Ok(match text.strip_suffix(" (deleted)") {
@@ -432,7 +434,7 @@ fn own_path() -> Result<PathBuf> {
 
 /// Runs `sharecast fit SPEC --json [extra]` as a separate process: wall seconds
 /// and, polled from /proc every few milliseconds, its peak resident memory.
-fn time_process(spec: &Path, extra: &[&str]) -> Result<(f64, Option<u64>, bool)> {
+pub(crate) fn time_process(spec: &Path, extra: &[&str]) -> Result<(f64, Option<u64>, bool)> {
     let exe = own_path()?;
     let started = Instant::now();
     let mut child = Command::new(exe)
@@ -462,12 +464,12 @@ fn time_process(spec: &Path, extra: &[&str]) -> Result<(f64, Option<u64>, bool)>
     Ok((started.elapsed().as_secs_f64(), peak, status.success()))
 }
 
-fn mb(b: Option<u64>) -> String {
+pub(crate) fn mb(b: Option<u64>) -> String {
     b.map(|b| format!("{:.0} MB", b as f64 / 1e6))
         .unwrap_or_else(|| "n/a".into())
 }
 
-fn ms(s: f64) -> String {
+pub(crate) fn ms(s: f64) -> String {
     if s < 0.01 {
         format!("{:.3} ms", s * 1e3)
     } else if s < 1.0 {

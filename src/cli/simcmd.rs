@@ -131,6 +131,7 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
         seed: args.seed,
         by: args.by.clone(),
         market,
+        quick: false,
     };
     let f = scenario::forecast(&spec, &fit, &ds, &sc, &opts)?;
     if let Some(out) = &args.out {

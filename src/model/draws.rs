@@ -53,6 +53,9 @@ pub const MAX_DRAWS: usize = 100_000;
 pub const MAX_HALTON_DIMENSIONS: usize = 40;
 /// Halton dimensions used as they are; later ones get scrambled digits.
 pub const PLAIN_HALTON_DIMENSIONS: usize = 6;
+/// Simulation draws per decision maker in each parameter draw of a band
+/// (and in the workbench's quick what-ifs on large data).
+pub const BAND_DRAWS: usize = 50;
 /// The most memory the stored draws may take.
 pub const MAX_DRAW_BYTES: usize = 4 << 30;
 

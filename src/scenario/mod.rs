@@ -34,6 +34,9 @@ pub struct Options {
     pub seed: u64,
     pub by: Option<String>,
     pub market: Option<Market>,
+    /// A quick point forecast: a family that simulates uses its cheaper
+    /// version (fewer draws per decision maker, `Family::for_bands`).
+    pub quick: bool,
 }
 
 impl Default for Options {
@@ -43,6 +46,7 @@ impl Default for Options {
             seed: 7,
             by: None,
             market: None,
+            quick: false,
         }
     }
 }
@@ -193,9 +197,10 @@ pub fn forecast(
     };
     let seg_arg = seg.as_ref().map(|(i, l)| (i.as_slice(), l.len()));
     // The cached baseline applies when the parameters are the estimates (no calibration).
-    let baseline = (beta == fit.beta).then(|| fit.baseline());
+    let quick = opts.quick.then(|| fit.family.for_bands()).flatten();
+    let baseline = (beta == fit.beta && quick.is_none()).then(|| fit.baseline());
     let point = simulate::run(
-        &*fit.family,
+        quick.as_deref().unwrap_or(&*fit.family),
         d,
         &beta,
         &prep,

@@ -301,6 +301,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
             w.saturating_sub(2),
         ));
     }
+    lines.extend(spreads(fit, w.saturating_sub(2), t));
     let height = inner.height as usize;
     let offset = cursor_line.saturating_sub(height.saturating_sub(1));
     let visible: Vec<Line> = if offset > 0 {
@@ -354,4 +355,55 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         }
     }
     Paragraph::new(lines).render(inner, buf);
+}
+
+/// Each random coefficient's distribution across decision makers as a row of
+/// bars between its 0.5% and 99.5% points, zero marked `┃` where it falls
+/// inside, and the share below zero.
+fn spreads(fit: &Fit, width: usize, t: &super::theme::Theme) -> Vec<Line<'static>> {
+    let terms = fit.family.random_coefficients();
+    if terms.is_empty() {
+        return Vec::new();
+    }
+    let mut out = vec![
+        Line::from(""),
+        Line::from(Span::styled(
+            "▸ random coefficients across decision makers (0.5% … 99.5%; ┃ zero)",
+            t.accent(),
+        )),
+    ];
+    let name_w = terms
+        .iter()
+        .map(|x| fit.names[x.location].chars().count())
+        .max()
+        .unwrap_or(4)
+        + 3;
+    let bins = width.saturating_sub(name_w + 40).clamp(8, 48);
+    for term in &terms {
+        let h = crate::analysis::random::histogram(term, &fit.beta, bins);
+        let top = h.shares.iter().copied().fold(0.0, f64::max).max(1e-300);
+        const BARS: [char; 8] = ['▁', '▂', '▃', '▄', '▅', '▆', '▇', '█'];
+        let zero = (h.low < 0.0 && h.high > 0.0)
+            .then(|| ((-h.low / (h.high - h.low)) * bins as f64) as usize);
+        let bars: String = h
+            .shares
+            .iter()
+            .enumerate()
+            .map(|(b, x)| {
+                if Some(b) == zero {
+                    '┃'
+                } else {
+                    BARS[((x / top) * 7.0).round().clamp(0.0, 7.0) as usize]
+                }
+            })
+            .collect();
+        out.push(Line::from(format!(
+            "  {}{} {bars} {}   below 0: {:.1}%",
+            left(&fit.names[term.location], name_w),
+            right(&short(h.low), 8),
+            short(h.high),
+            100.0 * h.below_zero
+        )));
+    }
+    out
 }

@@ -33,7 +33,14 @@ pub struct WhatIf {
     pub generation: u64,
     pub error: Option<String>,
     pub band_error: Option<String>,
+    /// The point shown is a quick one (fewer simulation draws); the full
+    /// forecast replaces it when the worker's band arrives.
+    pub quick: bool,
 }
+
+/// Situations above which a family that simulates gives a quick point
+/// forecast at each key press while the full one is computed on the worker.
+pub const QUICK_ABOVE: usize = 20_000;
 
 /// Rounds to six decimals so that repeated steps land on round numbers.
 fn tidy(x: f64) -> f64 {
@@ -138,6 +145,7 @@ impl WhatIf {
             generation: 0,
             error: None,
             band_error: None,
+            quick: false,
         }
     }
 
@@ -192,12 +200,18 @@ impl WhatIf {
     /// Recomputes the point forecast now and asks the worker for the band.
     pub fn refresh(&mut self, index: usize, model: &Model, generation: u64) -> Option<Job> {
         let sc = self.scenario(&model.spec);
+        let fit = &model.fit;
+        let quick = fit.family.abilities().simulation_draws
+            && fit.design.situations() > QUICK_ABOVE
+            && fit.family.for_bands().is_some();
         let opts = scenario::Options {
             draws: 0,
             seed: SEED,
             by: None,
             market: None,
+            quick,
         };
+        self.quick = quick;
         self.generation = generation;
         self.band = None;
         self.band_error = None;
@@ -226,7 +240,14 @@ impl WhatIf {
             return;
         }
         match result {
-            Ok(f) => self.band = Some(*f),
+            Ok(f) => {
+                if self.quick {
+                    // The worker's forecast has the full point figures too.
+                    self.point = Some((*f).clone());
+                    self.quick = false;
+                }
+                self.band = Some(*f)
+            }
             Err(e) => self.band_error = Some(e),
         }
     }

@@ -113,8 +113,13 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         .best()
         .map(|f| f.shares.len())
         .unwrap_or(spec.alternatives.len());
-    let [top, bottom] =
-        Layout::vertical([Constraint::Length(j as u16 + 4), Constraint::Min(3)]).areas(area);
+    // One more line says that the figures are simulated.
+    let simulated = u16::from(l.model.fit.family.abilities().simulation_draws);
+    let [top, bottom] = Layout::vertical([
+        Constraint::Length(j as u16 + 4 + simulated),
+        Constraint::Min(3),
+    ])
+    .areas(area);
     let [levers, changes] =
         Layout::horizontal([Constraint::Percentage(50), Constraint::Percentage(50)]).areas(bottom);
 
@@ -180,6 +185,23 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
                 (None, None) => format!("drawing {DRAWS} parameter sets for the band…"),
             };
             lines.push(Line::from(Span::styled(note, t.dim())));
+            if w.quick {
+                lines.push(Line::from(Span::styled(
+                    format!(
+                        "quick figures from the first {} simulation draws of each decision maker; the full forecast fills in from the worker",
+                        crate::model::draws::BAND_DRAWS
+                    ),
+                    t.warn(),
+                )));
+            } else if l.model.fit.family.abilities().simulation_draws {
+                lines.push(Line::from(Span::styled(
+                    format!(
+                        "simulated: each decision maker's shares average over their draws; the band's parameter draws use the first {} of them",
+                        crate::model::draws::BAND_DRAWS
+                    ),
+                    t.dim(),
+                )));
+            }
             // e.g. situations a withdrawal leaves with nothing to choose
             for warning in &f.warnings {
                 lines.push(Line::from(Span::styled(format!("! {warning}"), t.warn())));

@@ -160,6 +160,7 @@ pub fn execute(job: Job, send: &(dyn Fn(Msg) + Sync)) {
                 seed: SEED,
                 by: None,
                 market: None,
+                quick: false,
             };
             let result = guarded(|| {
                 scenario::forecast(&model.spec, &model.fit, &model.ds, &scenario, &opts)

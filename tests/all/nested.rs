@@ -224,6 +224,7 @@ fn try_forecast(
         seed: 1,
         by: None,
         market: None,
+        quick: false,
     };
     sharecast::scenario::forecast(spec, fit, ds, &sc, &opts)
 }

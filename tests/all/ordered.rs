@@ -247,6 +247,7 @@ fn expected_category_effects_and_scenarios() {
         seed: 1,
         by: None,
         market: None,
+        quick: false,
     };
     // Two more years of education everywhere: shares move toward the lower
     // categories (educ's coefficient is negative) and still add up to one.

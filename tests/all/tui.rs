@@ -834,3 +834,49 @@ fn a_message_goes_when_the_view_changes() {
     keys(&mut app, "m3");
     assert!(app.status.is_some());
 }
+
+#[test]
+fn a_mixed_model_shows_each_random_coefficient_and_simulated_what_ifs() {
+    // The estimates view draws each random coefficient's distribution with the
+    // share below zero from the library (`analysis::random::histogram`); the
+    // what-if view says its figures are simulated.
+    let mut app = demo(&["specs/express_survey.toml"]);
+    has(
+        &screen(&app, 120, 40),
+        &[
+            "mixed",
+            "random coefficients: asc_rail normal, cost negative-lognormal",
+        ],
+    );
+    keys(&mut app, "2");
+    let s = screen(&app, 140, 60);
+    has(
+        &s,
+        &[
+            "random coefficients across decision makers",
+            "asc_rail_spread",
+        ],
+    );
+    let m = model("specs/express_survey.toml");
+    let terms = m.fit.family.random_coefficients();
+    for t in &terms {
+        let h = sharecast::analysis::random::histogram(t, &m.fit.beta, 20);
+        has(&s, &[&format!("below 0: {:.1}%", 100.0 * h.below_zero)]);
+    }
+    // Zero is marked inside the time coefficient's range (a normal with a
+    // small share above zero), not inside cost's (all below zero).
+    let time_line = s
+        .lines()
+        .find(|l| l.contains("below 0") && l.contains("  time"))
+        .unwrap();
+    assert!(time_line.contains('┃'), "{time_line}");
+    let cost_line = s.lines().find(|l| l.contains("below 0: 100.0%")).unwrap();
+    assert!(!cost_line.contains('┃'), "{cost_line}");
+    keys(&mut app, "5j");
+    let jobs = press(&mut app, KeyCode::Char('L'));
+    drain(&mut app, jobs);
+    has(
+        &screen(&app, 120, 40),
+        &["simulated: each decision maker's shares average over their draws"],
+    );
+}

@@ -130,8 +130,7 @@ pub struct Mixed {
     limit: Option<usize>,
 }
 
-/// Simulation draws per decision maker in each parameter draw of a band.
-pub const BAND_DRAWS: usize = 50;
+pub use super::draws::BAND_DRAWS;
 
 impl Mixed {
     /// Builds the family for a spec `Rules` accepted.
@@ -289,6 +288,17 @@ impl Family for Mixed {
 
     fn probabilities(&self, _beta: &[f64], v: &[f64], p: &mut [f64]) {
         softmax(v, p);
+    }
+
+    fn probabilities_after(
+        &self,
+        beta: &[f64],
+        v0: &[f64],
+        p0: &[f64],
+        v1: &[f64],
+        p1: &mut [f64],
+    ) {
+        self.logit().probabilities_after(beta, v0, p0, v1, p1)
     }
 
     fn dprob(&self, beta: &[f64], v: &[f64], p: &[f64], dp: &mut [f64]) {

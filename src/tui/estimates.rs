@@ -342,7 +342,18 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
                         right(&format!("{}…{}", short(r.ci_low), short(r.ci_high)), 18),
                         right(&format!("{}…{}", short(r.kr_low), short(r.kr_high)), 19),
                     )),
-                    Span::styled(format!("  {}", r.unit.as_deref().unwrap_or("")), t.dim()),
+                    Span::styled(
+                        format!(
+                            "  {}{}",
+                            if r.distribution.is_some() {
+                                "median across decision makers · "
+                            } else {
+                                ""
+                            },
+                            r.unit.as_deref().unwrap_or("")
+                        ),
+                        t.dim(),
+                    ),
                 ]));
             }
         }

@@ -14,6 +14,7 @@ mod layouts;
 mod limits;
 mod mixed;
 mod mixed_analysis;
+mod mixed_recovery;
 mod nested;
 mod ordered;
 mod recovery;

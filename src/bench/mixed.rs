@@ -292,6 +292,13 @@ fn measure(o: &MixedOptions, dir: &Path) -> Result<ExitCode> {
         pass_t.push(t.elapsed().as_secs_f64());
     }
     let pass_s = median(pass_t);
+    let mut ll_t = Vec::new();
+    for _ in 0..o.repeats.max(1) {
+        let t = Instant::now();
+        std::hint::black_box(family.evaluate(&d, &theta, false, false).ll);
+        ll_t.push(t.elapsed().as_secs_f64());
+    }
+    let ll_only_s = median(ll_t);
     let cores = std::thread::available_parallelism()
         .map(|c| c.get())
         .unwrap_or(1);
@@ -323,6 +330,7 @@ fn measure(o: &MixedOptions, dir: &Path) -> Result<ExitCode> {
             load_s,
             draws_s,
             pass_s,
+            ll_only_s,
             floor_s,
             ns_exp,
             exps,
@@ -343,6 +351,7 @@ struct Figures {
     load_s: f64,
     draws_s: f64,
     pass_s: f64,
+    ll_only_s: f64,
     floor_s: f64,
     ns_exp: f64,
     exps: f64,
@@ -376,6 +385,7 @@ fn report(o: &MixedOptions, d: &Design, f: Figures) -> Result<()> {
             "alternatives": d.alternatives(), "draws": o.draws, "cores": f.cores,
             "generate_seconds": f.generate_s, "load_seconds": f.load_s,
             "first_pass_seconds": f.draws_s, "pass_seconds": f.pass_s,
+            "ll_only_pass_seconds": f.ll_only_s,
             "exponentials_per_pass": f.exps, "ns_per_exponential": f.ns_exp,
             "floor_seconds": f.floor_s, "log_likelihood": f.ll,
             "peer": f.peer.as_ref().ok(), "peer_note": f.peer.as_ref().err(),
@@ -402,6 +412,7 @@ fn report(o: &MixedOptions, d: &Design, f: Figures) -> Result<()> {
         f.cores,
         f.pass_s / f.floor_s
     );
+    crate::outln!("  one pass, ll only       {}", ms(f.ll_only_s));
     match (&f.peer, peer_s) {
         (Ok(p), Some(ps)) => {
             crate::outln!(

@@ -47,6 +47,8 @@ impl<'a> Plan<'a> {
 
 /// Draws a block of the pass works on at once: its rows stay in the first-level cache.
 const BLOCK: usize = 64;
+/// Draws held in registers at once in the gradient's sums.
+const LANES: usize = 8;
 
 /// One thread's scratch rows, allocated once per piece.
 pub(crate) struct Work {
@@ -136,6 +138,9 @@ impl Work {
                 }
                 self.c.push(c);
             }
+            // Grouped by parameter: the gradient then updates each row once.
+            let at = *self.feats_at.last().unwrap_or(&0);
+            self.feats[at..].sort_by_key(|f| f.0);
         }
         self.feats_at.push(self.feats.len());
         debug_assert_eq!(self.c.len(), self.chosen.len() * j);
@@ -258,17 +263,38 @@ fn block<const F: bool>(
             }
         }
     }
-    for &(param, a, x) in &w.feats[w.feats_at[t]..w.feats_at[t + 1]] {
-        let p = &w.v[a * BLOCK..a * BLOCK + nb];
+    let feats = &w.feats[w.feats_at[t]..w.feats_at[t + 1]];
+    let mut start = 0;
+    while start < feats.len() {
+        let param = feats[start].0;
+        let end = start + feats[start..].iter().take_while(|f| f.0 == param).count();
+        let group = &feats[start..end];
+        start = end;
+        // x of the chosen alternative, then minus sum_a P_a x_a, eight draws at a time.
+        let xc: f64 = group.iter().filter(|f| f.1 == chosen).map(|f| f.2).sum();
         let g = &mut w.g[param * r + r0..param * r + r0 + nb];
-        if a == chosen {
-            for (g, p) in g.iter_mut().zip(p) {
-                *g += madd::<F>(-*p, x, x);
+        let mut k = 0;
+        while k + LANES <= nb {
+            let mut acc = [0.0; LANES];
+            acc.copy_from_slice(&g[k..k + LANES]);
+            for a in acc.iter_mut() {
+                *a += xc;
             }
-        } else {
-            for (g, p) in g.iter_mut().zip(p) {
-                *g = madd::<F>(-*p, x, *g);
+            for &(_, a, x) in group {
+                let p = &w.v[a * BLOCK + k..a * BLOCK + k + LANES];
+                for l in 0..LANES {
+                    acc[l] = madd::<F>(-p[l], x, acc[l]);
+                }
             }
+            g[k..k + LANES].copy_from_slice(&acc);
+            k += LANES;
+        }
+        for (kk, gk) in g.iter_mut().enumerate().skip(k) {
+            let mut acc = *gk + xc;
+            for &(_, a, x) in group {
+                acc = madd::<F>(-w.v[a * BLOCK + kk], x, acc);
+            }
+            *gk = acc;
         }
     }
 }

@@ -32,6 +32,10 @@ pub struct FitDocument {
     pub shares: Vec<ShareRow>,
     pub diagnostics: Vec<Diagnostic>,
     pub cautions: String,
+    /// The family's structure in words (nests; random coefficients, draws and
+    /// whether the draws are per decision maker); empty for the others.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub structure: Vec<String>,
 }
 
 impl FitDocument {
@@ -65,6 +69,7 @@ impl FitDocument {
             shares: fit.shares.clone(),
             diagnostics: fit.diagnostics.clone(),
             cautions,
+            structure: fit.family.structure(spec),
         }
     }
 }

@@ -46,7 +46,7 @@ impl<'a> Plan<'a> {
 }
 
 /// Draws a block of the pass works on at once: its rows stay in the first-level cache.
-const BLOCK: usize = 64;
+const BLOCK: usize = 256;
 /// Draws held in registers at once in the gradient's sums.
 const LANES: usize = 8;
 

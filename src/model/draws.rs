@@ -135,29 +135,43 @@ impl Simulation {
     /// Uniform draws in (0, 1), `[unit][dimension][draw]`.
     pub fn uniforms(&self, units: usize, dims: usize) -> Vec<f64> {
         let r = self.draws;
-        let mut out = vec![0.0; units * dims * r];
+        let mut out = Vec::new();
         let mut rng = Rng::new(self.seed ^ 0x5eed_d4a3_u64);
         match self.sequence {
             Sequence::Halton => {
-                for d in 0..dims {
-                    let base = PRIMES[d % PRIMES.len()];
-                    let shift = rng.uniform();
-                    let perm =
-                        (d >= PLAIN_HALTON_DIMENSIONS).then(|| digit_permutation(base, &mut rng));
-                    for n in 0..units {
-                        let row = &mut out[(n * dims + d) * r..(n * dims + d + 1) * r];
-                        for (k, x) in row.iter_mut().enumerate() {
-                            let index = (n * r + k + 1) as u64;
-                            let h = match &perm {
-                                None => halton(base, index),
-                                Some(p) => scrambled_halton(base, index, p),
-                            };
-                            *x = open_unit((h + shift).fract());
+                // Each dimension's shift (and digit permutation) from the seed,
+                // then the decision makers' rows over the cores.
+                let dims_setup: Vec<(u64, f64, Option<Vec<u64>>)> = (0..dims)
+                    .map(|d| {
+                        let base = PRIMES[d % PRIMES.len()];
+                        let shift = rng.uniform();
+                        let perm = (d >= PLAIN_HALTON_DIMENSIONS)
+                            .then(|| digit_permutation(base, &mut rng));
+                        (base, shift, perm)
+                    })
+                    .collect();
+                let per_unit = dims * r;
+                let parts =
+                    crate::design::on_ranges(crate::design::heavy_pieces(units, 256), |range| {
+                        let mut out = vec![0.0; range.len() * per_unit];
+                        for (n, unit) in range.zip(out.chunks_mut(per_unit.max(1))) {
+                            for (d, (base, shift, perm)) in dims_setup.iter().enumerate() {
+                                for (k, x) in unit[d * r..(d + 1) * r].iter_mut().enumerate() {
+                                    let index = (n * r + k + 1) as u64;
+                                    let h = match perm {
+                                        None => halton(*base, index),
+                                        Some(p) => scrambled_halton(*base, index, p),
+                                    };
+                                    *x = open_unit((h + shift).fract());
+                                }
+                            }
                         }
-                    }
-                }
+                        out
+                    });
+                out = parts.concat();
             }
             Sequence::Mlhs => {
+                out = vec![0.0; units * dims * r];
                 for n in 0..units {
                     for d in 0..dims {
                         let row = &mut out[(n * dims + d) * r..(n * dims + d + 1) * r];
@@ -166,6 +180,7 @@ impl Simulation {
                 }
             }
             Sequence::Pseudo => {
+                out = vec![0.0; units * dims * r];
                 for x in out.iter_mut() {
                     *x = open_unit(rng.uniform());
                 }

@@ -135,7 +135,7 @@ impl Simulation {
     /// Uniform draws in (0, 1), `[unit][dimension][draw]`.
     pub fn uniforms(&self, units: usize, dims: usize) -> Vec<f64> {
         let r = self.draws;
-        let mut out = Vec::new();
+        let mut out: Vec<f64>;
         let mut rng = Rng::new(self.seed ^ 0x5eed_d4a3_u64);
         match self.sequence {
             Sequence::Halton => {

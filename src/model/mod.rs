@@ -13,6 +13,7 @@
 pub mod distribution;
 pub mod draws;
 pub mod enumerate;
+pub mod ghk;
 pub mod hessian;
 pub mod logit;
 pub mod mixed;

@@ -10,6 +10,7 @@ mod diagnostics;
 mod edge_cases;
 mod families;
 mod fit_cli;
+mod ghk;
 mod layouts;
 mod limits;
 mod mixed;

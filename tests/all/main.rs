@@ -18,6 +18,7 @@ mod ordered;
 mod recovery;
 mod references;
 mod report_html;
+mod report_render;
 mod scenarios;
 mod spec_errors;
 mod tui;

@@ -89,9 +89,8 @@ pub fn statistics(m: &Material) -> String {
 }
 
 pub fn estimates(m: &Material, charts: &mut Vec<Chart>) -> String {
-    let (spec, fit) = (m.spec, m.fit);
+    let fit = m.fit;
     let robust = fit.stats.inference == "robust";
-    let odds = fit.family.abilities().odds_ratios;
     let mut s = note(&format!(
         "value ± standard error {}; t, p and the 95% interval use these errors{}",
         crate::report::errors_label(fit),
@@ -101,6 +100,33 @@ pub fn estimates(m: &Material, charts: &mut Vec<Chart>) -> String {
             ""
         }
     ));
+    let chart = svg::intervals("Estimates with 95% intervals", &interval_groups(fit));
+    s.push_str(&figure(
+        &chart,
+        "Each estimate (dot) with its 95% interval (bar); each term has its own axis, since terms are measured in different units. The dashed line is zero.",
+    ));
+    charts.push(Chart {
+        name: "estimates".into(),
+        svg: chart,
+    });
+    s.push_str(&estimate_table(m));
+    let against: Vec<String> = fit
+        .parameters
+        .iter()
+        .filter(|r| r.null != 0.0 && !r.fixed)
+        .map(|r| format!("{} against {}", r.name, r.null))
+        .collect();
+    if !against.is_empty() {
+        s.push_str(&note(&format!(
+            "t and p test each value against 0, except {}",
+            against.join(", ")
+        )));
+    }
+    section("estimates", heading("estimates"), &s)
+}
+
+/// The interval chart's rows, one group per spec term.
+fn interval_groups(fit: &crate::estimate::Fit) -> Vec<(String, Vec<Interval>)> {
     let mut groups: Vec<(String, Vec<Interval>)> = Vec::new();
     for row in &fit.parameters {
         if groups.last().map(|g| &g.0) != Some(&row.term) {
@@ -116,15 +142,14 @@ pub fn estimates(m: &Material, charts: &mut Vec<Chart>) -> String {
             });
         }
     }
-    let chart = svg::intervals("Estimates with 95% intervals", &groups);
-    s.push_str(&figure(
-        &chart,
-        "Each estimate (dot) with its 95% interval (bar); each term has its own axis, since terms are measured in different units. The dashed line is zero.",
-    ));
-    charts.push(Chart {
-        name: "estimates".into(),
-        svg: chart,
-    });
+    groups
+}
+
+/// The estimates table: a heading row per term, then its parameters.
+fn estimate_table(m: &Material) -> String {
+    let fit = m.fit;
+    let robust = fit.stats.inference == "robust";
+    let odds = fit.family.abilities().odds_ratios;
     let mut header = vec!["parameter", "value", "s.e.", "t", "p", "95% interval"];
     if robust {
         header.push("Hessian s.e.");
@@ -143,62 +168,57 @@ pub fn estimates(m: &Material, charts: &mut Vec<Chart>) -> String {
             ));
             last = Some(row.term.as_str());
         }
-        let mut r = label_cell(&row.name);
         if row.fixed {
-            let _ = write!(
-                r,
-                "{}<td class=\"l\" colspan=\"{}\">(fixed)</td>",
+            rows.push(format!(
+                "{}{}<td class=\"l\" colspan=\"{}\">(fixed)</td>",
+                label_cell(&row.name),
                 num_cell(&short(row.estimate)),
                 header.len() - 2
-            );
-            rows.push(r);
+            ));
             continue;
         }
-        r.push_str(&num_cell(&short(row.estimate)));
-        r.push_str(&num_cell(&short(crate::report::shown_error(fit, row))));
-        r.push_str(&num_cell(&if row.t_stat.is_finite() {
-            format!("{:.2}", row.t_stat)
-        } else {
-            "—".into()
-        }));
-        r.push_str(&num_cell(&crate::report::pval(row.p_value)));
-        r.push_str(&num_cell(&format!(
-            "{} … {}",
-            short(row.ci_low),
-            short(row.ci_high)
-        )));
-        if robust {
-            r.push_str(&num_cell(&short(row.std_error)));
-        }
-        if odds {
-            let cell = match &spec.parameters[k].term {
-                Term::Characteristic(_) => short(row.estimate.exp()),
-                _ => String::new(),
-            };
-            r.push_str(&num_cell(&cell));
-        }
-        rows.push(r);
+        let odds_ratio = match (&m.spec.parameters[k].term, odds) {
+            (Term::Characteristic(_), true) => Some(short(row.estimate.exp())),
+            (_, true) => Some(String::new()),
+            _ => None,
+        };
+        rows.push(estimate_row(fit, row, robust, odds_ratio));
     }
-    let mut t = table("estimates", &header, &rows);
     // Term rows are the ones with a single spanning cell.
-    t = t.replace(
+    table("estimates", &header, &rows).replace(
         "<tr><td class=\"l\" colspan",
         "<tr class=\"term\"><td class=\"l\" colspan",
-    );
-    s.push_str(&t);
-    let against: Vec<String> = fit
-        .parameters
-        .iter()
-        .filter(|r| r.null != 0.0 && !r.fixed)
-        .map(|r| format!("{} against {}", r.name, r.null))
-        .collect();
-    if !against.is_empty() {
-        s.push_str(&note(&format!(
-            "t and p test each value against 0, except {}",
-            against.join(", ")
-        )));
+    )
+}
+
+/// One estimated parameter's cells.
+fn estimate_row(
+    fit: &crate::estimate::Fit,
+    row: &crate::estimate::ParameterRow,
+    robust: bool,
+    odds_ratio: Option<String>,
+) -> String {
+    let mut r = label_cell(&row.name);
+    r.push_str(&num_cell(&short(row.estimate)));
+    r.push_str(&num_cell(&short(crate::report::shown_error(fit, row))));
+    r.push_str(&num_cell(&if row.t_stat.is_finite() {
+        format!("{:.2}", row.t_stat)
+    } else {
+        "—".into()
+    }));
+    r.push_str(&num_cell(&crate::report::pval(row.p_value)));
+    r.push_str(&num_cell(&format!(
+        "{} … {}",
+        short(row.ci_low),
+        short(row.ci_high)
+    )));
+    if robust {
+        r.push_str(&num_cell(&short(row.std_error)));
     }
-    section("estimates", heading("estimates"), &s)
+    if let Some(o) = odds_ratio {
+        r.push_str(&num_cell(&o));
+    }
+    r
 }
 
 pub fn shares(m: &Material, charts: &mut Vec<Chart>) -> String {

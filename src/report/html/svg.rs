@@ -307,9 +307,8 @@ pub fn lines(
     series: &[Series],
     mark_x: Option<f64>,
 ) -> String {
-    let height = 380.0;
-    let (left, right, top, bottom) = (70.0, 540.0, 20.0, 320.0);
-    let mut s = open(height, title);
+    let (left, right, top, bottom) = PLOT;
+    let mut s = open(380.0, title);
     let finite_x = xs.iter().copied().filter(|v| v.is_finite());
     let (x0, x1) = finite_x.fold((f64::MAX, f64::MIN), |(a, b), v| (a.min(v), b.max(v)));
     let (x0, x1) = if x0 <= x1 { (x0, x1) } else { (0.0, 1.0) };
@@ -332,34 +331,53 @@ pub fn lines(
         r0: bottom,
         r1: top,
     };
-    for &t in &ty {
+    y_grid(&mut s, sy, &ty);
+    x_axis(&mut s, sx, &ticks(x0, x1), PLOT.2, PLOT.3);
+    if let Some(m) = mark_x.filter(|m| (x0..=x1).contains(m)) {
+        today(&mut s, sx.at(m));
+    }
+    frame(&mut s, x_label, y_label);
+    for (k, sr) in series.iter().enumerate() {
+        one_line(&mut s, sx, sy, xs, sr, k, right);
+    }
+    s.push_str("</svg>");
+    s
+}
+
+/// The plotting area of a line chart: left, right, top, bottom.
+const PLOT: (f64, f64, f64, f64) = (70.0, 540.0, 20.0, 320.0);
+
+/// Horizontal grid lines with their labels.
+fn y_grid(s: &mut String, sy: Scale, ty: &[f64]) {
+    let (left, right, _, _) = PLOT;
+    for &t in ty {
         let y = sy.at(t);
         let _ = write!(
             s,
             "<line x1=\"{left}\" y1=\"{y:.1}\" x2=\"{right}\" y2=\"{y:.1}\" stroke=\"#ddd\"/>"
         );
-        text(
-            &mut s,
-            left - 6.0,
-            y + 4.0,
-            "end",
-            " fill=\"#444\" font-size=\"10\"",
-            &tick_label(t),
-        );
+        let style = " fill=\"#444\" font-size=\"10\"";
+        text(s, left - 6.0, y + 4.0, "end", style, &tick_label(t));
     }
-    x_axis(&mut s, sx, &ticks(x0, x1), top, bottom);
-    if let Some(m) = mark_x.filter(|m| (x0..=x1).contains(m)) {
-        let x = sx.at(m);
-        let _ = write!(s, "<line x1=\"{x:.1}\" y1=\"{top}\" x2=\"{x:.1}\" y2=\"{bottom}\" stroke=\"#111\" stroke-dasharray=\"5 3\"/>");
-        text(
-            &mut s,
-            x + 4.0,
-            top + 10.0,
-            "start",
-            " font-size=\"10\"",
-            "today",
-        );
-    }
+}
+
+/// The dashed line at the data as they are.
+fn today(s: &mut String, x: f64) {
+    let (_, _, top, bottom) = PLOT;
+    let _ = write!(s, "<line x1=\"{x:.1}\" y1=\"{top}\" x2=\"{x:.1}\" y2=\"{bottom}\" stroke=\"#111\" stroke-dasharray=\"5 3\"/>");
+    text(
+        s,
+        x + 4.0,
+        top + 10.0,
+        "start",
+        " font-size=\"10\"",
+        "today",
+    );
+}
+
+/// The frame of the plotting area and the axis titles.
+fn frame(s: &mut String, x_label: &str, y_label: &str) {
+    let (left, right, top, bottom) = PLOT;
     let _ = write!(
         s,
         "<rect x=\"{left}\" y=\"{top}\" width=\"{}\" height=\"{}\" fill=\"none\" stroke=\"#555\"/>",
@@ -367,26 +385,16 @@ pub fn lines(
         bottom - top
     );
     text(
-        &mut s,
+        s,
         (left + right) / 2.0,
         bottom + 32.0,
         "middle",
         "",
         x_label,
     );
-    text(
-        &mut s,
-        14.0,
-        (top + bottom) / 2.0,
-        "middle",
-        &format!(" transform=\"rotate(-90 14 {:.1})\"", (top + bottom) / 2.0),
-        y_label,
-    );
-    for (k, sr) in series.iter().enumerate() {
-        one_line(&mut s, sx, sy, xs, sr, k, right);
-    }
-    s.push_str("</svg>");
-    s
+    let mid = (top + bottom) / 2.0;
+    let turn = format!(" transform=\"rotate(-90 14 {mid:.1})\"");
+    text(s, 14.0, mid, "middle", &turn, y_label);
 }
 
 /// One series: the polyline, a marker per point and its name at the right end.

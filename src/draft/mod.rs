@@ -26,12 +26,15 @@ pub struct Draft {
 /// Drafts a spec for `data` that will be written to `spec_path` (the data
 /// file is named relative to the spec's folder).
 pub fn draft(data: &Path, spec_path: &Path) -> Result<Draft> {
-    let names = crate::data::load::column_names(data)?;
+    let (names, unreadable) = crate::data::load::readable_columns(data)?;
     let table = crate::data::load::read(data, &names, &names)?;
     let profiles = profile::profiles(&table);
     let g = layout::guess(&table, &profiles)
         .map_err(|why| Error::data(data, format!("cannot be read as choices: {why}")))?;
-    let plan = roles::plan(&table, &profiles, &g);
+    let mut plan = roles::plan(&table, &profiles, &g);
+    for (col, why) in unreadable {
+        plan.left_out.push((col, why));
+    }
     let fam = text::family(&g);
     let rel = relative(data, spec_path);
     let label = data.display().to_string();

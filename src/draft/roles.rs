@@ -118,7 +118,9 @@ pub fn plan(t: &Table, p: &[Profile], g: &Guess) -> Plan {
         let varies = t
             .column(&c.name)
             .is_some_and(|col| !constant_within(col, &g.situation, g.situations));
-        if varies && c.numeric {
+        if varies && alternative_code(t, &c.name, g) {
+            plan.left_out.push((c.name.clone(), "one value per alternative in every situation (a code of the alternative): the constants already carry it".into()));
+        } else if varies && c.numeric {
             plan.attributes.push(Attribute {
                 name: ident(&c.name),
                 columns: vec![(usize::MAX, c.name.clone())],
@@ -134,6 +136,18 @@ pub fn plan(t: &Table, p: &[Profile], g: &Guess) -> Plan {
         situation_role(t, c, g, &mut plan);
     }
     plan
+}
+
+/// Long layout: whether a column takes one value per alternative, the same in every situation.
+fn alternative_code(t: &Table, column: &str, g: &Guess) -> bool {
+    let Layout::Long { alternative, .. } = &g.layout else {
+        return false;
+    };
+    let (Some(alt), Some(col)) = (t.column(alternative), t.column(column)) else {
+        return false;
+    };
+    let (by_alt, n) = super::profile::groups(alt, t.nrows);
+    constant_within(col, &by_alt, n)
 }
 
 /// Wide columns whose names carry an alternative: availability or attributes by stem.

@@ -198,3 +198,27 @@ fn files_that_are_not_choices_are_refused_with_the_reason() {
         assert!(!out.exists(), "{name}: a draft was written");
     }
 }
+
+#[test]
+fn a_code_of_the_alternative_is_left_out_of_a_long_draft() {
+    // Greene's travel-mode data carry `mode` (1-4), a code of `alt`: as an
+    // attribute it would move with the constants (fact: it is a linear
+    // combination of them), so the draft leaves it out and says why.
+    let dir = scratch("draft-modechoice");
+    let (spec, stdout) = draft("tests/data/modechoice_long.csv", &dir, "mode.toml");
+    assert!(stdout.contains("long layout"), "{stdout}");
+    let text = std::fs::read_to_string(&spec).unwrap();
+    assert!(
+        text.contains("#   mode: one value per alternative in every situation"),
+        "{text}"
+    );
+    assert!(!text.contains("column = \"mode\""), "{text}");
+    let spec = sharecast::model::read_spec(&spec).unwrap();
+    let ds = data::load(&spec, &Extra::default()).unwrap();
+    let fit = fit_spec(&spec, &ds);
+    assert!(
+        fit.stats.converged && fit.diagnostics.is_empty(),
+        "{:?}",
+        fit.diagnostics
+    );
+}

@@ -409,6 +409,40 @@ fn report_refuses_to_replace_a_file_without_force() {
 }
 
 #[test]
+fn a_saved_fit_is_reused_and_the_page_says_so() {
+    let dir = scratch("report-load");
+    let saved = dir.join("fit.json");
+    let (code, _, err) = run(&[
+        "fit",
+        "specs/grocery.toml",
+        "--save",
+        saved.to_str().unwrap(),
+        "--no-analysis",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let out = dir.join("r.html");
+    let (code, _, err) = run(&[
+        "report",
+        "specs/grocery.toml",
+        "--load",
+        saved.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let page = Html::parse_document(&std::fs::read_to_string(&out).unwrap());
+    let fitted = text_of(page.select(&sel("section#fitted")).next().unwrap());
+    assert!(fitted.contains("estimates loaded from"), "{fitted}");
+    // Source: the saved results document itself.
+    let doc: Value = serde_json::from_str(&std::fs::read_to_string(&saved).unwrap()).unwrap();
+    let est = rows(page.select(&sel("table.estimates")).next().unwrap());
+    for p in doc["parameters"].as_array().unwrap() {
+        let name = p["name"].as_str().unwrap();
+        assert_shown(name, &row(&est, name)[1], p["estimate"].as_f64().unwrap());
+    }
+}
+
+#[test]
 fn a_page_is_built_for_every_registered_family() {
     // Every family in the registry, on the shared suite's simulated example:
     // the page holds every section, and the ordered families say diversion does not apply.

@@ -50,6 +50,7 @@ table { border-collapse: collapse; margin: .5rem 0 1rem; font-size: .88rem; }
 th, td { border-bottom: 1px solid var(--rule); padding: .22rem .55rem; text-align: right; vertical-align: top; }
 th { border-bottom: 2px solid var(--ink); font-weight: 600; }
 th:first-child, td:first-child, td.l, th.l { text-align: left; }
+table.ratios th:nth-child(4), table.ratios th:nth-child(5), table.tests th:nth-child(5), table.switching th:nth-child(2), table.calibration th:nth-child(2) { text-align: left; }
 td.num { font-variant-numeric: tabular-nums; white-space: nowrap; }
 tr.term td { font-weight: 600; background: #f3f3f3; text-align: left; }
 dl.facts { display: grid; grid-template-columns: max-content 1fr; gap: .2rem 1rem; }

@@ -268,6 +268,14 @@ fn situation_role(t: &Table, c: &Profile, g: &Guess, plan: &mut Plan) {
         ));
         return;
     }
+    if counter(t, c, g.situations) {
+        plan.left_out.push((
+            name,
+            "a counter (whole numbers, each once, without gaps): an identifier of the situation"
+                .into(),
+        ));
+        return;
+    }
     if id_like {
         if plan.group.is_none() {
             let per = g.situations as f64 / distinct_situations.max(1) as f64;
@@ -300,6 +308,20 @@ fn situation_role(t: &Table, c: &Profile, g: &Guess, plan: &mut Plan) {
         column: name,
         left_out: reason,
     });
+}
+
+/// Whole numbers, a different one in each situation, from the smallest to the largest without gaps.
+fn counter(t: &Table, c: &Profile, situations: usize) -> bool {
+    if !(c.integer && c.missing == 0 && c.distinct == situations && situations > 2) {
+        return false;
+    }
+    let Some(v) = t.raw_numbers(&c.name) else {
+        return false;
+    };
+    let (lo, hi) = v
+        .iter()
+        .fold((f64::MAX, f64::MIN), |(a, b), x| (a.min(*x), b.max(*x)));
+    hi - lo + 1.0 == situations as f64
 }
 
 /// Why a numeric situation-level column stays out of the model, if it should.

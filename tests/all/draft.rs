@@ -222,3 +222,42 @@ fn a_code_of_the_alternative_is_left_out_of_a_long_draft() {
         fit.diagnostics
     );
 }
+
+#[test]
+fn codes_carried_by_column_names_make_a_wide_draft() {
+    // Constructed data: the chosen code (1-3) is carried by `time_1` ..
+    // `time_3`; `case` counts the rows and is an identifier, not a characteristic.
+    let dir = scratch("draft-codes");
+    let mut body = String::from("case,mode,time_1,time_2,time_3,age\n");
+    for i in 0..30 {
+        let t = [10 + (i * 7) % 23, 12 + (i * 5) % 19, 9 + (i * 11) % 29];
+        let best = (0..3)
+            .min_by_key(|&k| t[k] + (i % 3 == k) as usize * 5)
+            .unwrap_or(0);
+        body.push_str(&format!(
+            "{},{},{},{},{},{}\n",
+            i + 1,
+            best + 1,
+            t[0],
+            t[1],
+            t[2],
+            20 + (i * 13) % 50
+        ));
+    }
+    let data = write(&dir, "codes.csv", &body);
+    let (spec, stdout) = draft(data.to_str().unwrap(), &dir, "codes.toml");
+    let text = std::fs::read_to_string(&spec).unwrap();
+    assert!(
+        stdout.contains("3 other columns' names carry them"),
+        "{stdout}"
+    );
+    assert!(
+        text.contains(
+            "columns = { mode_1 = \"time_1\", mode_2 = \"time_2\", mode_3 = \"time_3\" }"
+        ),
+        "{text}"
+    );
+    assert!(text.contains("code = 2"), "{text}");
+    assert!(text.contains("#   case: a counter"), "{text}");
+    assert!(text.contains("column = \"age\""), "{text}");
+}

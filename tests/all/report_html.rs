@@ -352,6 +352,11 @@ fn ordered_and_nested_reports_say_which_sections_do_not_apply() {
         "{}",
         na("demand-curve")
     );
+    let facts = text_of(page.select(&sel("section#fitted")).next().unwrap());
+    assert!(
+        facts.contains("5 (lowest first): very_poor, poor, fair, good, excellent"),
+        "{facts}"
+    );
     let fit = json(&["fit", "specs/delivery_ratings.toml", "--json"]);
     let est = rows(page.select(&sel("table.estimates")).next().unwrap());
     for p in fit["parameters"].as_array().unwrap() {
@@ -368,7 +373,20 @@ fn ordered_and_nested_reports_say_which_sections_do_not_apply() {
         &["specs/scenarios/rail_fare_up.toml"],
     );
     let facts = text_of(page.select(&sel("section#fitted")).next().unwrap());
-    assert!(facts.contains("nested"), "{facts}");
+    assert!(facts.contains("nest transit: bus, rail"), "{facts}");
+    // The family's reduction test is among the diagnostics, as `fit --json` gives it.
+    let fit = json(&["fit", "specs/commute_nested.toml", "--json"]);
+    let tests = rows(
+        page.select(&sel("section#diagnostics table.tests"))
+            .next()
+            .unwrap(),
+    );
+    let t = &fit["family_test"];
+    assert_shown(
+        "family test",
+        &row(&tests, t["name"].as_str().unwrap())[1],
+        t["statistic"].as_f64().unwrap(),
+    );
     assert!(page
         .select(&sel("section#diversion table.matrix"))
         .next()

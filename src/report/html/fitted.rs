@@ -25,7 +25,7 @@ pub fn what_was_fitted(m: &Material) -> String {
         fact(
             &mut s,
             "ordered categories",
-            &format!("{} (lowest first): {names}", names.len()),
+            &format!("{} (lowest first): {names}", spec.alternatives.len()),
         );
     } else {
         fact(

@@ -121,10 +121,14 @@ pub fn plan(t: &Table, p: &[Profile], g: &Guess) -> Plan {
         if varies && alternative_code(t, &c.name, g) {
             plan.left_out.push((c.name.clone(), "one value per alternative in every situation (a code of the alternative): the constants already carry it".into()));
         } else if varies && c.numeric {
+            let notes = (c.missing > 0)
+                .then(|| format!("`{}` has {} missing values (first at row {}): allowed only on rows marked unavailable", c.name, c.missing, c.first_missing.unwrap_or(0)))
+                .into_iter()
+                .collect();
             plan.attributes.push(Attribute {
                 name: ident(&c.name),
                 columns: vec![(usize::MAX, c.name.clone())],
-                notes: Vec::new(),
+                notes,
             });
         } else if varies {
             plan.left_out.push((c.name.clone(), "holds text that varies between the rows of a situation: an attribute must be a number".into()));

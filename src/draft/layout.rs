@@ -321,6 +321,24 @@ fn wide(t: &Table, p: &[Profile]) -> Result<Guess, String> {
 }
 
 fn no_choice_column(p: &[Profile]) -> String {
+    // A column named like a choice that fails for a reason of its own says so.
+    for c in p.iter().filter(|c| has_word(&c.name, &CHOICE_WORDS)) {
+        if let Some(row) = c.first_missing {
+            return format!(
+                "`{}` looks like the chosen alternative but is missing in {} row{} (first at row {row}): every situation needs its choice",
+                c.name,
+                c.missing,
+                if c.missing == 1 { "" } else { "s" }
+            );
+        }
+        if c.distinct < 2 {
+            let only = c.values.first().map(String::as_str).unwrap_or("");
+            return format!(
+                "`{}` looks like the chosen alternative but holds one value only (`{only}`): a model needs at least two alternatives that were chosen",
+                c.name
+            );
+        }
+    }
     let names: Vec<&str> = p.iter().map(|c| c.name.as_str()).take(12).collect();
     format!(
         "no column looks like the chosen alternative: none holds a few names or whole-number codes (at most {LISTED}) that other columns' names carry (bus_time, time_bus, bus.time) or is named like a choice (choice, mode, rating, ...), and no 0/1 column has exactly one 1 per situation of an id column (columns: {})",

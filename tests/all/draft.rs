@@ -183,6 +183,16 @@ fn files_that_are_not_choices_are_refused_with_the_reason() {
             "height,weight\n1.71,60.2\n1.80,75.5\n1.65,58.0\n",
             "no column looks like the chosen alternative",
         ),
+        (
+            "same.csv",
+            "mode,bus_time,car_time\nbus,1,2\nbus,3,4\n",
+            "`mode` looks like the chosen alternative but holds one value only (`bus`)",
+        ),
+        (
+            "gaps.csv",
+            "mode,bus_time,car_time\nbus,1,2\n,3,4\ncar,2,2\n",
+            "`mode` looks like the chosen alternative but is missing in 1 row (first at row 2)",
+        ),
     ];
     for (name, body, why) in cases {
         let file = write(&dir, name, body);

@@ -9,6 +9,7 @@ pub mod cli;
 pub mod data;
 pub mod demo;
 pub mod design;
+pub mod draft;
 pub mod error;
 pub mod estimate;
 pub mod model;

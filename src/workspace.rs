@@ -54,3 +54,152 @@ pub fn fit_or_restore(
         ))
     }
 }
+
+/// Everything `sharecast report` lays out, computed here by the library:
+/// the fit (or a restored one), its analysis with the default options, each
+/// scenario's forecast with `simulate`'s defaults, and demand curves over the
+/// price attribute a scenario or a ratio names.
+pub struct ReportResults {
+    pub spec: Spec,
+    pub fit: Fit,
+    pub analysis: crate::analysis::Analysis,
+    pub forecasts: Vec<(String, crate::scenario::Forecast)>,
+    pub curves: std::result::Result<crate::report::html::Curves, String>,
+    pub notes: Vec<String>,
+}
+
+impl ReportResults {
+    /// The page's material; `spec_label` is how the spec is named on it.
+    pub fn material(&self, spec_label: &str) -> crate::report::html::Material<'_> {
+        crate::report::html::Material {
+            spec: &self.spec,
+            fit: &self.fit,
+            spec_label: spec_label.to_string(),
+            analysis: Some(&self.analysis),
+            forecasts: self.forecasts.clone(),
+            curves: self.curves.clone(),
+            notes: self.notes.clone(),
+        }
+    }
+}
+
+/// Draws of `simulate` and its seed, used for the report's scenario bands.
+pub const FORECAST_DRAWS: usize = 1000;
+pub const FORECAST_SEED: u64 = 7;
+
+/// Opens the spec, reads the scenarios, fits or restores, analyses and forecasts.
+pub fn report_results(
+    spec_path: &Path,
+    scenarios: &[std::path::PathBuf],
+    load: Option<&Path>,
+    progress: Progress,
+) -> Result<ReportResults> {
+    use crate::scenario::{self, Scenario};
+    let spec = crate::model::read_spec(spec_path)?;
+    let mut read = Vec::new();
+    for p in scenarios {
+        read.push((p.display().to_string(), Scenario::from_file(p, &spec)?));
+    }
+    let mut numeric: Vec<String> = Vec::new();
+    for c in read.iter().flat_map(|(_, sc)| sc.columns()) {
+        if !numeric.contains(&c) {
+            numeric.push(c);
+        }
+    }
+    let extra = Extra {
+        numeric,
+        text: Vec::new(),
+    };
+    let ds = data::load(&spec, &extra)?;
+    let (fit, note) = fit_or_restore(&spec, Arc::new(ds.obs.clone()), load, progress)?;
+    let analysis =
+        crate::analysis::analyse(&spec, &fit, &ds, &crate::analysis::Options::default())?;
+    let opts = scenario::Options {
+        draws: FORECAST_DRAWS,
+        seed: FORECAST_SEED,
+        by: None,
+        market: None,
+        quick: false,
+    };
+    let mut forecasts = Vec::new();
+    for (file, sc) in &read {
+        forecasts.push((
+            file.clone(),
+            scenario::forecast(&spec, &fit, &ds, sc, &opts)?,
+        ));
+    }
+    let scs: Vec<&Scenario> = read.iter().map(|(_, sc)| sc).collect();
+    let curves = match price_attribute(&spec, &scs) {
+        Ok((a, named_by)) => Ok(curves(&spec, &fit, &ds, a, named_by)?),
+        Err(why) => Err(why),
+    };
+    Ok(ReportResults {
+        spec,
+        fit,
+        analysis,
+        forecasts,
+        curves,
+        notes: note.into_iter().collect(),
+    })
+}
+
+/// The price attribute: the first scenario's `price`, else the denominator of
+/// the first ratio whose denominator is an attribute; or why there is none.
+fn price_attribute(
+    spec: &Spec,
+    scenarios: &[&crate::scenario::Scenario],
+) -> std::result::Result<(usize, String), String> {
+    if let Some((sc, p)) = scenarios.iter().find_map(|sc| sc.price.map(|p| (sc, p))) {
+        let named = format!(
+            "scenario \"{}\" (price = \"{}\")",
+            sc.name, spec.attributes[p].name
+        );
+        return Ok((p, named));
+    }
+    for r in &spec.ratios {
+        if let crate::spec::Term::Attribute(a) = spec.parameters[r.denominator].term {
+            return Ok((
+                a,
+                format!("the denominator of the spec's [[ratio]] \"{}\"", r.name),
+            ));
+        }
+    }
+    Err(if spec.attributes.is_empty() {
+        "The model has no attribute of the alternatives, so there is no price to vary: no demand curve (a characteristic's curve is drawn by `sharecast sweep --attribute NAME`).".to_string()
+    } else {
+        "No price attribute is named: a scenario's `price` key or the denominator of a [[ratio]] names one, and neither is given here, so there is no demand curve.".to_string()
+    })
+}
+
+/// One sweep from ×0.5 to ×1.5 of the price of each alternative where it enters.
+fn curves(
+    spec: &Spec,
+    fit: &Fit,
+    ds: &Dataset,
+    a: usize,
+    named_by: String,
+) -> Result<crate::report::html::Curves> {
+    use crate::scenario::sweep;
+    let mut sweeps = Vec::new();
+    for (k, present) in crate::analysis::attribute_present(spec, a)
+        .iter()
+        .enumerate()
+    {
+        if !present {
+            continue;
+        }
+        let req = sweep::Request {
+            attribute: spec.attributes[a].name.clone(),
+            alternative: Some(spec.alternatives[k].name.clone()),
+            from: 0.5,
+            to: 1.5,
+            steps: 11,
+        };
+        sweeps.push(sweep::sweep(spec, fit, ds, &req)?);
+    }
+    Ok(crate::report::html::Curves {
+        attribute: spec.attributes[a].name.clone(),
+        named_by,
+        sweeps,
+    })
+}

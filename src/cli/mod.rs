@@ -4,6 +4,8 @@
 mod benchcmd;
 mod comparecmd;
 mod fitcmd;
+mod newcmd;
+mod reportcmd;
 mod simcmd;
 
 use std::io::IsTerminal;
@@ -42,6 +44,10 @@ pub enum Command {
     Simulate(simcmd::SimulateArgs),
     /// Shares over a range of one attribute of one alternative (a demand curve).
     Sweep(simcmd::SweepArgs),
+    /// Draft a commented spec from a CSV or Parquet data file.
+    New(newcmd::NewArgs),
+    /// Write one self-contained HTML report of a fit, its analysis and scenarios.
+    Report(reportcmd::ReportArgs),
     /// Write the invented demo data sets into a folder.
     DemoData {
         /// Target folder.
@@ -97,6 +103,8 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
         Command::Compare(args) => comparecmd::run(args),
         Command::Simulate(args) => simcmd::simulate(args),
         Command::Sweep(args) => simcmd::sweep(args),
+        Command::New(args) => newcmd::run(args),
+        Command::Report(args) => reportcmd::run(args),
         Command::DemoData { dir, force } => {
             crate::demo::write_all(&dir, force)?;
             crate::outln!(

@@ -83,6 +83,36 @@ pub fn column_names(path: &Path) -> Result<Vec<String>> {
     }
 }
 
+/// A column that cannot be read, and why.
+pub type Unreadable = (String, String);
+
+/// Column names of a data file split into those that can be read (numbers,
+/// booleans or text) and those that cannot, with the reason (a Parquet date,
+/// list, ... column). Every CSV column can be read.
+pub fn readable_columns(path: &Path) -> Result<(Vec<String>, Vec<Unreadable>)> {
+    let names = column_names(path)?;
+    if format_of(path)? == Format::Csv {
+        return Ok((names, Vec::new()));
+    }
+    let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+    let schema = ParquetReader::new(file)
+        .schema()
+        .map_err(|e| polars_err(path, e))?;
+    let mut ok = Vec::new();
+    let mut not = Vec::new();
+    for n in names {
+        match schema
+            .get(n.as_str())
+            .map(|f| parquet_type_usable(path, &n, f.dtype(), true))
+        {
+            Some(Err(Error::Data { message, .. })) => not.push((n, message)),
+            Some(Err(e)) => not.push((n, e.to_string())),
+            _ => ok.push(n),
+        }
+    }
+    Ok((ok, not))
+}
+
 /// Reads `numeric` columns as f64 (unparsable values become NaN) and `text`
 /// columns as strings. A column may be in both lists; it is then kept as text.
 pub fn read(path: &Path, numeric: &[String], text: &[String]) -> Result<Table> {

@@ -5,26 +5,35 @@ pub mod analysis;
 pub mod check;
 pub mod compare;
 pub mod forecast;
+pub mod heat;
+pub mod html;
 pub mod json;
 pub mod text;
 
 use crate::model::Family;
 use crate::spec::Spec;
 
+/// The first sentence of every report's cautions.
+pub const GENERAL_CAUTION: &str = "Cautions: forecasts rest on the model's assumptions and on how well the sample represents the population it is applied to.";
+
+/// Further cautions the HTML report states in full beside the line every report carries.
+pub const FURTHER_CAUTIONS: [&str; 3] = [
+    "Estimates describe the sample. Shares carried to a population need a sample that represents it (or weights that make it do so), and forecasts far outside the range of the data are extrapolations.",
+    "Standard errors assume the model is correctly specified; with repeated choices by one decision maker, set [data].group so that errors are clustered.",
+    "Uncertainty bands on forecasts cover parameter uncertainty only (draws from the estimated distribution of the parameters), not errors in the forecast inputs or in the model's form. Calibrating constants to counts makes the base match but does not validate the model's response to change.",
+];
+
+/// The sentences of the cautions line: the general one, the family's own and the field's own.
+pub fn caution_sentences(spec: &Spec, family: &dyn Family) -> Vec<String> {
+    let mut out = vec![GENERAL_CAUTION.to_string()];
+    out.extend(family.caution(spec));
+    out.extend(spec.field.caution().map(str::to_string));
+    out
+}
+
 /// The cautions line every report carries, with the family's own sentence.
 pub fn cautions(spec: &Spec, family: &dyn Family) -> String {
-    let iia = family
-        .caution(spec)
-        .map(|c| format!(" {c}"))
-        .unwrap_or_default();
-    let field = spec
-        .field
-        .caution()
-        .map(|c| format!(" {c}"))
-        .unwrap_or_default();
-    format!(
-        "Cautions: forecasts rest on the model's assumptions and on how well the sample represents the population it is applied to.{iia}{field}"
-    )
+    caution_sentences(spec, family).join(" ")
 }
 
 /// A number in a fixed-width column: fixed point for ordinary magnitudes, scientific otherwise.

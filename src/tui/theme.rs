@@ -6,13 +6,7 @@
 
 use ratatui::style::{Color, Modifier, Style};
 
-/// The five heat levels' glyphs, weakest first.
-pub const GLYPHS: [&str; 5] = [" ", "░", "▒", "▓", "█"];
-
-/// Level cut points for elasticities (|value|): 1 and above is elastic.
-pub const ELASTICITY_CUTS: [f64; 4] = [0.05, 0.2, 0.5, 1.0];
-/// Level cut points for diversion shares and ratios (0 to 1).
-pub const SHARE_CUTS: [f64; 4] = [0.1, 0.2, 0.3, 0.45];
+pub use crate::report::heat::{level, ELASTICITY_CUTS, GLYPHS, SHARE_CUTS};
 
 const INK_DARK: Color = Color::Indexed(16);
 const INK_LIGHT: Color = Color::Indexed(231);
@@ -24,14 +18,6 @@ const COOL: [u8; 4] = [195, 153, 75, 25];
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct Theme {
     pub colour: bool,
-}
-
-/// Which bucket of a scale a magnitude falls in: 0 (faint) to 4 (strong).
-pub fn level(magnitude: f64, cuts: &[f64; 4]) -> usize {
-    if !magnitude.is_finite() {
-        return 0;
-    }
-    cuts.iter().filter(|&&c| magnitude.abs() >= c).count()
 }
 
 impl Theme {

@@ -125,7 +125,7 @@ fn simulate(family: &dyn Family, spec: &Spec, beta: &[f64], n: usize, seed: u64)
     Design::build(spec, Arc::new(obs))
 }
 
-fn setup(e: &Entry, n: usize, seed: u64) -> (Spec, Arc<dyn Family>, Vec<f64>, Design) {
+pub(crate) fn setup(e: &Entry, n: usize, seed: u64) -> (Spec, Arc<dyn Family>, Vec<f64>, Design) {
     let spec = example_spec(e);
     let family = model::for_spec(&spec).unwrap();
     let beta = truth(e, &spec);

@@ -1,0 +1,92 @@
+//! `sharecast report`: one self-contained HTML page of a fit, its analysis,
+//! scenario forecasts and demand curves; `--charts DIR` writes its charts as SVG files.
+
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+use clap::Args;
+
+use crate::data::write;
+use crate::error::{Error, Result};
+
+#[derive(Args, Debug)]
+pub struct ReportArgs {
+    pub spec: PathBuf,
+    /// A scenario file to forecast (repeatable; each gets its own part of the page).
+    #[arg(long = "scenario", value_name = "FILE")]
+    pub scenarios: Vec<PathBuf>,
+    /// Reuse a fit saved with `fit --save` when spec and data are unchanged.
+    #[arg(long, value_name = "FIT.json")]
+    pub load: Option<PathBuf>,
+    /// The HTML file to write.
+    #[arg(long, value_name = "REPORT.html")]
+    pub out: PathBuf,
+    /// Also write each chart as an SVG file into this folder (made if missing).
+    #[arg(long, value_name = "DIR")]
+    pub charts: Option<PathBuf>,
+    /// Replace the report and chart files if they exist.
+    #[arg(long)]
+    pub force: bool,
+}
+
+pub fn run(args: ReportArgs) -> Result<ExitCode> {
+    // Refused before the fit rather than after it.
+    write::check_overwrite(&args.out, args.force)?;
+    if let Some(dir) = &args.charts {
+        if dir.exists() && !dir.is_dir() {
+            return Err(Error::io(dir, "--charts: exists and is not a folder"));
+        }
+    }
+    let progress = super::stderr_progress();
+    let results = crate::workspace::report_results(
+        &args.spec,
+        &args.scenarios,
+        args.load.as_deref(),
+        &progress,
+    );
+    super::clear_progress();
+    let results = results?;
+    for n in &results.notes {
+        crate::errln!("{n}");
+    }
+    let label = args.spec.display().to_string();
+    let page = crate::report::html::page(&results.material(&label));
+    let chart_paths: Vec<(PathBuf, &str)> = match &args.charts {
+        Some(dir) => page
+            .charts
+            .iter()
+            .map(|c| (dir.join(format!("{}.svg", c.name)), c.svg.as_str()))
+            .collect(),
+        None => Vec::new(),
+    };
+    for (p, _) in &chart_paths {
+        write::check_overwrite(p, args.force)?;
+    }
+    write::text(&args.out, args.force, &page.html)?;
+    crate::outln!(
+        "wrote {} ({} scenario{}, {} charts)",
+        args.out.display(),
+        results.forecasts.len(),
+        if results.forecasts.len() == 1 {
+            ""
+        } else {
+            "s"
+        },
+        page.charts.len()
+    );
+    if let Some(dir) = &args.charts {
+        std::fs::create_dir_all(dir).map_err(|e| Error::io(dir, e))?;
+        for (p, svg) in &chart_paths {
+            write::text(
+                p,
+                args.force,
+                &format!("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n{svg}\n"),
+            )?;
+        }
+        crate::outln!("wrote {} charts into {}", chart_paths.len(), dir.display());
+    }
+    if !results.fit.stats.converged {
+        crate::errln!("warning: the fit did not converge; the report says so in its first section");
+    }
+    Ok(ExitCode::SUCCESS)
+}

@@ -1,0 +1,510 @@
+//! The HTML report (`sharecast report`): the page parses with an HTML parser
+//! (scraper, on html5ever) and holds every section and every scenario; the
+//! figures on it equal the JSON results of the same tool (`fit --json`,
+//! `simulate --json`, `sweep --json`) to the digits shown; it fetches
+//! nothing; and it is built for every registered family. Its rendering is
+//! checked in `report_render`.
+
+use std::path::Path;
+
+use scraper::{ElementRef, Html, Selector};
+use serde_json::Value;
+
+use crate::common::{path, run, scratch};
+
+fn sel(s: &str) -> Selector {
+    Selector::parse(s).unwrap()
+}
+
+fn text_of(e: ElementRef) -> String {
+    e.text().collect::<String>().trim().to_string()
+}
+
+/// The first number in a cell's text and half a unit of its last shown digit
+/// (the rounding the page applied), or None for a dash.
+fn shown(text: &str) -> Option<(f64, f64)> {
+    let t = text.replace('−', "-");
+    let start = t.find(|c: char| c.is_ascii_digit() || c == '-' || c == '+')?;
+    let rest = &t[start..];
+    let end = rest
+        .char_indices()
+        .skip(1)
+        .find(|(_, c)| !(c.is_ascii_digit() || *c == '.' || *c == 'e' || *c == '-'))
+        .map(|(i, _)| i)
+        .unwrap_or(rest.len());
+    let s = &rest[..end];
+    let v: f64 = s.parse().ok()?;
+    let tol = match (s.find('.'), s.find('e')) {
+        (Some(d), None) => 0.5 * 10f64.powi(-((s.len() - d - 1) as i32)),
+        (Some(d), Some(e)) => {
+            let exp: i32 = s[e + 1..].parse().unwrap_or(0);
+            0.5 * 10f64.powi(exp - (e - d - 1) as i32)
+        }
+        (None, Some(e)) => 0.5 * 10f64.powi(s[e + 1..].parse().unwrap_or(0)),
+        (None, None) => 0.5,
+    };
+    Some((v, tol * 1.000001 + 1e-12))
+}
+
+#[track_caller]
+fn assert_shown(what: &str, text: &str, want: f64) {
+    let (v, tol) = shown(text).unwrap_or_else(|| panic!("{what}: no number in `{text}`"));
+    assert!(
+        (v - want).abs() <= tol,
+        "{what}: the page shows `{text}`, the JSON has {want}"
+    );
+}
+
+fn json(args: &[&str]) -> Value {
+    let (code, out, err) = run(args);
+    assert_eq!(code, 0, "{args:?}: {err}");
+    serde_json::from_str(&out).unwrap()
+}
+
+/// Rows of a table as cell texts.
+fn rows(table: ElementRef) -> Vec<Vec<String>> {
+    table
+        .select(&sel("tbody tr"))
+        .map(|tr| tr.select(&sel("td")).map(text_of).collect())
+        .collect()
+}
+
+/// The row of a table whose first cell is `label`.
+fn row<'a>(rows: &'a [Vec<String>], label: &str) -> &'a [String] {
+    rows.iter()
+        .find(|r| r.first().map(String::as_str) == Some(label))
+        .unwrap_or_else(|| panic!("no row `{label}`"))
+}
+
+pub(crate) fn report(dir: &Path, spec: &str, scenarios: &[&str]) -> Html {
+    let out = dir.join("report.html");
+    let charts = dir.join("charts");
+    let mut args = vec![
+        "report",
+        spec,
+        "--out",
+        out.to_str().unwrap(),
+        "--charts",
+        charts.to_str().unwrap(),
+    ];
+    for s in scenarios {
+        args.extend(["--scenario", s]);
+    }
+    let (code, stdout, err) = run(&args);
+    assert_eq!(code, 0, "report {spec}: {err}");
+    assert!(stdout.contains("wrote"), "{stdout}");
+    Html::parse_document(&std::fs::read_to_string(out).unwrap())
+}
+
+const COMMUTE_SCENARIOS: [&str; 2] = [
+    "specs/scenarios/rail_fare_up.toml",
+    "specs/scenarios/tram_line.toml",
+];
+
+#[test]
+fn commute_report_has_every_section_and_scenario_and_fetches_nothing() {
+    let dir = scratch("report-commute-sections");
+    let page = report(&dir, "specs/commute.toml", &COMMUTE_SCENARIOS);
+    // Source: the HTML parser finds each section with its heading.
+    for (id, heading) in sharecast::report::html::SECTIONS {
+        let s = page
+            .select(&sel(&format!("section#{id}")))
+            .next()
+            .unwrap_or_else(|| panic!("no section {id}"));
+        let h2 = s.select(&sel("h2")).next().map(text_of);
+        assert_eq!(h2.as_deref(), Some(heading), "section {id}");
+    }
+    // Each scenario's article is titled with the name `simulate --json` gives it.
+    for (k, file) in COMMUTE_SCENARIOS.iter().enumerate() {
+        let doc = json(&[
+            "simulate",
+            "specs/commute.toml",
+            "--scenario",
+            file,
+            "--json",
+        ]);
+        let art = page
+            .select(&sel(&format!("article#scenario-{}", k + 1)))
+            .next()
+            .expect("scenario article");
+        assert_eq!(
+            text_of(art.select(&sel("h3")).next().unwrap()),
+            doc["scenario"].as_str().unwrap()
+        );
+        assert!(
+            art.select(&sel("svg")).next().is_some(),
+            "scenario {file} has no chart"
+        );
+    }
+    // Self-contained: no scripts, no external stylesheets, images or links.
+    let html = page.html();
+    assert!(page
+        .select(&sel("script, link, img, iframe, object"))
+        .next()
+        .is_none());
+    for a in page.select(&sel("[href], [src]")) {
+        let target = a
+            .value()
+            .attr("href")
+            .or(a.value().attr("src"))
+            .unwrap_or("");
+        assert!(target.starts_with('#'), "an outside reference: {target}");
+    }
+    assert!(
+        !html.contains("url(") && !html.contains("@import"),
+        "the stylesheet fetches something"
+    );
+    assert!(html.contains("@media print"), "no print stylesheet");
+    // The cautions in full: the library's sentences are all there.
+    let cautions = text_of(page.select(&sel("section#cautions")).next().unwrap());
+    for c in sharecast::report::FURTHER_CAUTIONS {
+        assert!(cautions.contains(c), "missing caution: {c}");
+    }
+    assert!(cautions.contains("local official guidance"), "{cautions}");
+    assert!(
+        cautions.contains("independence from irrelevant alternatives"),
+        "{cautions}"
+    );
+    // --charts wrote the same charts the page holds inline.
+    for name in [
+        "estimates",
+        "shares",
+        "scenario-1",
+        "scenario-2",
+        "demand-curve",
+    ] {
+        let svg = std::fs::read_to_string(dir.join("charts").join(format!("{name}.svg"))).unwrap();
+        let body = svg.lines().skip(1).collect::<Vec<_>>().join("\n");
+        let frag = Html::parse_fragment(&body);
+        assert!(
+            frag.select(&sel("svg")).next().is_some(),
+            "{name}.svg is not an SVG"
+        );
+        assert!(
+            std::fs::read_to_string(dir.join("report.html"))
+                .unwrap()
+                .contains(body.trim()),
+            "{name}.svg differs from the page's chart"
+        );
+    }
+}
+
+#[test]
+fn commute_report_figures_equal_the_json_results() {
+    let dir = scratch("report-commute-figures");
+    let page = report(&dir, "specs/commute.toml", &COMMUTE_SCENARIOS);
+    let fit = json(&["fit", "specs/commute.toml", "--json"]);
+    let stats = rows(page.select(&sel("table.stats")).next().unwrap());
+    assert_shown(
+        "log-likelihood",
+        &row(&stats, "log-likelihood")[1],
+        fit["fit"]["log_likelihood"].as_f64().unwrap(),
+    );
+    assert_shown(
+        "BIC",
+        &row(&stats, "BIC")[1],
+        fit["fit"]["bic"].as_f64().unwrap(),
+    );
+    let est = rows(page.select(&sel("table.estimates")).next().unwrap());
+    let robust = fit["fit"]["inference"] == "robust";
+    for p in fit["parameters"].as_array().unwrap() {
+        let name = p["name"].as_str().unwrap();
+        let r = row(&est, name);
+        assert_shown(name, &r[1], p["estimate"].as_f64().unwrap());
+        let se = if robust {
+            &p["robust_std_error"]
+        } else {
+            &p["std_error"]
+        };
+        assert_shown(&format!("{name} s.e."), &r[2], se.as_f64().unwrap());
+    }
+    let shares = rows(page.select(&sel("table.shares")).next().unwrap());
+    for s in fit["shares"].as_array().unwrap() {
+        let r = row(&shares, s["alternative"].as_str().unwrap());
+        assert_shown("observed share", &r[1], s["observed"].as_f64().unwrap());
+        assert_shown("predicted share", &r[2], s["predicted"].as_f64().unwrap());
+    }
+    let ratios = rows(page.select(&sel("table.ratios")).next().unwrap());
+    for r in fit["ratios"].as_array().unwrap() {
+        let line = row(&ratios, r["name"].as_str().unwrap());
+        assert_shown("ratio", &line[1], r["value"].as_f64().unwrap());
+        let kr: Vec<&str> = line[6].split('…').collect();
+        assert_shown("Krinsky-Robb low", kr[0], r["kr_low"].as_f64().unwrap());
+    }
+    let hit = text_of(page.select(&sel("#hit-rate")).next().unwrap());
+    assert_shown(
+        "hit rate",
+        &hit,
+        fit["validation"]["hit_rate"].as_f64().unwrap(),
+    );
+    // One elasticity: the rail share's own cost elasticity.
+    let own = fit["elasticities"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|e| e["variable"] == "cost" && e["changed"] == "rail" && e["affected"] == "rail")
+        .unwrap();
+    let cost_table = matrix_after(&page, "elasticities", "cost of the row's alternative");
+    let names: Vec<String> = cost_table.select(&sel("thead th")).map(text_of).collect();
+    let col = names.iter().position(|n| n == "rail").unwrap();
+    assert_shown(
+        "own cost elasticity of rail",
+        &row(&rows(cost_table), "rail")[col],
+        own["value"].as_f64().unwrap(),
+    );
+    // Scenarios: base, forecast and band against `simulate --json` (same draws and seed).
+    for (k, file) in COMMUTE_SCENARIOS.iter().enumerate() {
+        let doc = json(&[
+            "simulate",
+            "specs/commute.toml",
+            "--scenario",
+            file,
+            "--json",
+        ]);
+        let art = page
+            .select(&sel(&format!("article#scenario-{}", k + 1)))
+            .next()
+            .unwrap();
+        let t = rows(art.select(&sel("table.forecast")).next().unwrap());
+        for s in doc["shares"].as_array().unwrap() {
+            let r = row(&t, s["alternative"].as_str().unwrap());
+            assert_shown("base", &r[1], s["base"].as_f64().unwrap());
+            assert_shown("forecast", &r[2], s["scenario"].as_f64().unwrap());
+            let band: Vec<&str> = r[5].split('…').collect();
+            assert_shown("band low", band[0], s["low"].as_f64().unwrap());
+            assert_shown("band high", band[1], s["high"].as_f64().unwrap());
+        }
+    }
+    // The demand curve's rail column against `sweep --json`.
+    let sw = json(&[
+        "sweep",
+        "specs/commute.toml",
+        "--attribute",
+        "cost",
+        "--alternative",
+        "rail",
+        "--from",
+        "0.5",
+        "--to",
+        "1.5",
+        "--steps",
+        "11",
+        "--json",
+    ]);
+    let k = sw["alternatives"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .position(|a| a == "rail")
+        .unwrap();
+    let curve = page.select(&sel("table.curve")).next().unwrap();
+    let head: Vec<String> = curve.select(&sel("thead th")).map(text_of).collect();
+    let col = head.iter().position(|h| h == "rail").unwrap();
+    for (point, r) in sw["points"].as_array().unwrap().iter().zip(rows(curve)) {
+        assert_shown(
+            "curve multiplier",
+            &r[0],
+            point["multiplier"].as_f64().unwrap(),
+        );
+        assert_shown("curve share", &r[col], point["shares"][k].as_f64().unwrap());
+    }
+}
+
+/// The table that follows the `h3` starting with `heading` inside a section.
+fn matrix_after<'a>(page: &'a Html, section: &str, heading: &str) -> ElementRef<'a> {
+    let s = page
+        .select(&sel(&format!("section#{section}")))
+        .next()
+        .unwrap();
+    let mut after = false;
+    for e in s.children().filter_map(ElementRef::wrap) {
+        if e.value().name() == "h3" {
+            after = text_of(e).starts_with(heading);
+        } else if after && e.value().name() == "table" {
+            return e;
+        }
+    }
+    panic!("no table after `{heading}`")
+}
+
+#[test]
+fn ordered_and_nested_reports_say_which_sections_do_not_apply() {
+    let dir = scratch("report-ordered");
+    let page = report(&dir, "specs/delivery_ratings.toml", &[]);
+    let na = |id: &str| {
+        page.select(&sel(&format!("section#{id} p.na")))
+            .map(text_of)
+            .collect::<Vec<_>>()
+            .join(" ")
+    };
+    assert!(
+        na("diversion").contains("Does not apply to the ordered-logit family"),
+        "{}",
+        na("diversion")
+    );
+    assert!(
+        na("scenarios").contains("No scenario"),
+        "{}",
+        na("scenarios")
+    );
+    assert!(
+        na("demand-curve").contains("no attribute"),
+        "{}",
+        na("demand-curve")
+    );
+    let facts = text_of(page.select(&sel("section#fitted")).next().unwrap());
+    assert!(
+        facts.contains("5 (lowest first): very_poor, poor, fair, good, excellent"),
+        "{facts}"
+    );
+    let fit = json(&["fit", "specs/delivery_ratings.toml", "--json"]);
+    let est = rows(page.select(&sel("table.estimates")).next().unwrap());
+    for p in fit["parameters"].as_array().unwrap() {
+        assert_shown(
+            p["name"].as_str().unwrap(),
+            &row(&est, p["name"].as_str().unwrap())[1],
+            p["estimate"].as_f64().unwrap(),
+        );
+    }
+    let dir = scratch("report-nested");
+    let page = report(
+        &dir,
+        "specs/commute_nested.toml",
+        &["specs/scenarios/rail_fare_up.toml"],
+    );
+    let facts = text_of(page.select(&sel("section#fitted")).next().unwrap());
+    assert!(facts.contains("nest transit: bus, rail"), "{facts}");
+    // The family's reduction test is among the diagnostics, as `fit --json` gives it.
+    let fit = json(&["fit", "specs/commute_nested.toml", "--json"]);
+    let tests = rows(
+        page.select(&sel("section#diagnostics table.tests"))
+            .next()
+            .unwrap(),
+    );
+    let t = &fit["family_test"];
+    assert_shown(
+        "family test",
+        &row(&tests, t["name"].as_str().unwrap())[1],
+        t["statistic"].as_f64().unwrap(),
+    );
+    assert!(page
+        .select(&sel("section#diversion table.matrix"))
+        .next()
+        .is_some());
+}
+
+#[test]
+fn report_refuses_to_replace_a_file_without_force() {
+    let dir = scratch("report-force");
+    let out = dir.join("r.html");
+    std::fs::write(&out, "mine").unwrap();
+    let (code, _, err) = run(&[
+        "report",
+        "specs/grocery.toml",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 1);
+    assert!(err.contains("r.html"), "{err}");
+    assert_eq!(std::fs::read_to_string(&out).unwrap(), "mine");
+    let (code, _, err) = run(&[
+        "report",
+        "specs/grocery.toml",
+        "--out",
+        out.to_str().unwrap(),
+        "--force",
+        "--scenario",
+        "specs/scenarios/own_label_promo.toml",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let page = Html::parse_document(&std::fs::read_to_string(&out).unwrap());
+    // own_label_promo names `price` as its price: the curve says so.
+    let curve = text_of(page.select(&sel("section#demand-curve")).next().unwrap());
+    assert!(
+        curve.contains("Own label 10% cheaper at eye level"),
+        "{curve}"
+    );
+}
+
+#[test]
+fn a_saved_fit_is_reused_and_the_page_says_so() {
+    let dir = scratch("report-load");
+    let saved = dir.join("fit.json");
+    let (code, _, err) = run(&[
+        "fit",
+        "specs/grocery.toml",
+        "--save",
+        saved.to_str().unwrap(),
+        "--no-analysis",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let out = dir.join("r.html");
+    let (code, _, err) = run(&[
+        "report",
+        "specs/grocery.toml",
+        "--load",
+        saved.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let page = Html::parse_document(&std::fs::read_to_string(&out).unwrap());
+    let fitted = text_of(page.select(&sel("section#fitted")).next().unwrap());
+    assert!(fitted.contains("estimates loaded from"), "{fitted}");
+    // Source: the saved results document itself.
+    let doc: Value = serde_json::from_str(&std::fs::read_to_string(&saved).unwrap()).unwrap();
+    let est = rows(page.select(&sel("table.estimates")).next().unwrap());
+    for p in doc["parameters"].as_array().unwrap() {
+        let name = p["name"].as_str().unwrap();
+        assert_shown(name, &row(&est, name)[1], p["estimate"].as_f64().unwrap());
+    }
+}
+
+#[test]
+fn a_page_is_built_for_every_registered_family() {
+    // Every family in the registry, on the shared suite's simulated example:
+    // the page holds every section, and the ordered families say diversion does not apply.
+    for e in sharecast::model::registry::FAMILIES {
+        let (spec, _, _, d) = crate::families::setup(e, 800, 5);
+        let quiet = |_s: sharecast::estimate::Step| {};
+        let fit = sharecast::estimate::fit(&spec, d.obs.clone(), &quiet).unwrap();
+        let ds = sharecast::data::Dataset {
+            obs: (*d.obs).clone(),
+            table: sharecast::data::Table::new(Path::new("example.csv"), d.obs.situations),
+        };
+        let a = sharecast::analysis::analyse(&spec, &fit, &ds, &Default::default()).unwrap();
+        let m = sharecast::report::html::Material {
+            spec: &spec,
+            fit: &fit,
+            spec_label: "example".into(),
+            analysis: Some(&a),
+            forecasts: Vec::new(),
+            curves: Err("none".into()),
+            notes: Vec::new(),
+        };
+        let page = Html::parse_document(&sharecast::report::html::page(&m).html);
+        for (id, _) in sharecast::report::html::SECTIONS {
+            assert!(
+                page.select(&sel(&format!("section#{id}"))).next().is_some(),
+                "{}: no section {id}",
+                e.name
+            );
+        }
+        let est = rows(page.select(&sel("table.estimates")).next().unwrap());
+        for p in &fit.parameters {
+            assert_shown(
+                &format!("{} {}", e.name, p.name),
+                &row(&est, &p.name)[1],
+                p.estimate,
+            );
+        }
+        let na = page.select(&sel("section#diversion p.na")).next().is_some();
+        assert_eq!(
+            na,
+            fit.family.abilities().ordered,
+            "{}: diversion applies only to unordered families",
+            e.name
+        );
+    }
+    let _ = path("specs");
+}

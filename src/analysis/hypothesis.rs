@@ -33,7 +33,11 @@ pub fn family_reduction(spec: &Spec, fit: &Fit) -> Result<Option<ChiTest>> {
     if restrictions.is_empty() {
         return Ok(None);
     }
-    let mut t = wald(fit, &restrictions)?;
+    // The family's own test is not the user's: without a usable covariance
+    // (a model not identified) it is left out rather than stopping the report.
+    let Ok(mut t) = wald(fit, &restrictions) else {
+        return Ok(None);
+    };
     t.name = format!(
         "{} against {simpler} (Wald: {})",
         fit.family.name(),

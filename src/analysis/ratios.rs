@@ -201,7 +201,8 @@ fn simulated(
     let den = random.iter().find(|t| t.location == d);
     let warning = den.and_then(|t| {
         let (m, s) = (fit.beta[t.location], fit.beta[t.spread].abs());
-        let touches_zero = match t.distribution {
+        let touches_zero = s > 0.0
+            && match t.distribution {
             Distribution::Normal => true,
             Distribution::Uniform | Distribution::Triangular => m.abs() <= s,
             Distribution::Lognormal | Distribution::NegativeLognormal => false,

@@ -116,6 +116,9 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
             let other = data::load_file(&spec, file, &extra)?;
             let design =
                 crate::design::Design::build(&spec, std::sync::Arc::new(other.obs.clone()));
+            fit.family.check_data(&spec, &design).map_err(|m| {
+                crate::error::Error::data(file, format!("forecasting over this file: {m}"))
+            })?;
             (
                 crate::estimate::Fit {
                     design,

@@ -255,6 +255,11 @@ pub fn fit_family(
         }
         first_passes = o.passes;
         family.after_first_search(spec, &mut start, by_simpler);
+        for (b, p) in start.iter_mut().zip(&spec.parameters) {
+            if let Some(f) = p.fixed {
+                *b = f; // a fixed value is never moved
+            }
+        }
     }
     let mut out = optimise::maximise(&design, &*family, &start, &free, progress);
     out.passes += first_passes;

@@ -50,17 +50,35 @@ pub fn draws_check(
         )));
     }
     let seed = seed_of(spec);
-    let other_seed = seed.wrapping_add(1);
+    // The next seed, or the one before at the largest seed a spec can give.
+    let other_seed = if seed >= i64::MAX as u64 {
+        seed - 1
+    } else {
+        seed + 1
+    };
     let second = fit(&reseeded(spec, other_seed), obs, progress)?;
     let robust = first.design.obs.group.is_some();
+    // A spread's sign carries no meaning: spreads are compared in size.
+    let spreads: Vec<usize> = first
+        .family
+        .random_coefficients()
+        .iter()
+        .map(|t| t.spread)
+        .collect();
     let rows: Vec<DrawsCheckRow> = first
         .parameters
         .iter()
         .zip(&second.parameters)
-        .filter(|(a, _)| !a.fixed)
-        .map(|(a, b)| {
+        .enumerate()
+        .filter(|(_, (a, _))| !a.fixed)
+        .map(|(k, (a, b))| {
             let se = a.inference(robust).std_error;
-            let difference = b.estimate - a.estimate;
+            let (x, y) = if spreads.contains(&k) {
+                (a.estimate.abs(), b.estimate.abs())
+            } else {
+                (a.estimate, b.estimate)
+            };
+            let difference = y - x;
             DrawsCheckRow {
                 name: a.name.clone(),
                 estimate: a.estimate,
@@ -70,11 +88,12 @@ pub fn draws_check(
             }
         })
         .collect();
-    let largest = rows
-        .iter()
-        .map(|r| r.in_std_errors)
-        .filter(|x| x.is_finite())
-        .fold(0.0, f64::max);
+    // Without standard errors nothing can be judged: NaN, not 0.
+    let largest = if rows.iter().any(|r| !r.in_std_errors.is_finite()) {
+        f64::NAN
+    } else {
+        rows.iter().map(|r| r.in_std_errors).fold(0.0, f64::max)
+    };
     Ok(DrawsCheck {
         seed,
         other_seed,

@@ -71,9 +71,11 @@ impl Distribution {
     /// The coefficient at location m, spread s and standardised value e.
     #[inline]
     pub fn coefficient(self, m: f64, s: f64, e: f64) -> f64 {
+        // The exponent is capped where exp would overflow (a search may try
+        // absurd spreads; the likelihood there is tiny but stays a number).
         match self {
-            Distribution::Lognormal => (m + s * e).exp(),
-            Distribution::NegativeLognormal => -(m + s * e).exp(),
+            Distribution::Lognormal => (m + s * e).min(700.0).exp(),
+            Distribution::NegativeLognormal => -(m + s * e).min(700.0).exp(),
             _ => m + s * e,
         }
     }

@@ -151,24 +151,28 @@ impl Simulation {
                     })
                     .collect();
                 let per_unit = dims * r;
-                let parts =
-                    crate::design::on_ranges(crate::design::heavy_pieces(units, 256), |range| {
-                        let mut out = vec![0.0; range.len() * per_unit];
-                        for (n, unit) in range.zip(out.chunks_mut(per_unit.max(1))) {
-                            for (d, (base, shift, perm)) in dims_setup.iter().enumerate() {
-                                for (k, x) in unit[d * r..(d + 1) * r].iter_mut().enumerate() {
-                                    let index = (n * r + k + 1) as u64;
-                                    let h = match perm {
-                                        None => halton(*base, index),
-                                        Some(p) => scrambled_halton(*base, index, p),
-                                    };
-                                    *x = open_unit((h + shift).fract());
-                                }
+                out = vec![0.0; units * per_unit];
+                let mut items = Vec::new();
+                let mut rest = out.as_mut_slice();
+                for range in crate::design::heavy_pieces(units, 256) {
+                    let (a, b) = rest.split_at_mut((range.len() * per_unit).min(rest.len()));
+                    items.push((range, a));
+                    rest = b;
+                }
+                crate::design::run_queue(items, |(range, chunk)| {
+                    for (n, unit) in range.zip(chunk.chunks_mut(per_unit.max(1))) {
+                        for (d, (base, shift, perm)) in dims_setup.iter().enumerate() {
+                            for (k, x) in unit[d * r..(d + 1) * r].iter_mut().enumerate() {
+                                let index = (n * r + k + 1) as u64;
+                                let h = match perm {
+                                    None => halton(*base, index),
+                                    Some(p) => scrambled_halton(*base, index, p),
+                                };
+                                *x = open_unit((h + shift).fract());
                             }
                         }
-                        out
-                    });
-                out = parts.concat();
+                    }
+                });
             }
             Sequence::Mlhs => {
                 out = vec![0.0; units * dims * r];

@@ -230,7 +230,9 @@ pub fn draws_check(c: &crate::estimate::simcheck::DrawsCheck) -> String {
             r.name, r.estimate, r.other, r.difference, r.in_std_errors
         );
     }
-    let verdict = if c.largest < 0.1 {
+    let verdict = if !c.largest.is_finite() {
+        "cannot be judged: the fit has no standard errors to measure the moves against"
+    } else if c.largest < 0.1 {
         "the draws are enough: no estimate moves by a tenth of its standard error"
     } else if c.largest < 0.5 {
         "simulation noise is small next to sampling noise; more draws would tighten it"

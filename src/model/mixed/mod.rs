@@ -48,7 +48,7 @@ impl Panel {
         obs: &Observations,
         terms: &[RandomCoefficient],
         draws: usize,
-        uniforms: &[f64],
+        uniforms: Vec<f64>,
     ) -> Panel {
         let (units, unit_of): (usize, Vec<u32>) = match &obs.group {
             Some(g) => (obs.groups, g.clone()),
@@ -70,14 +70,20 @@ impl Panel {
         let dims = terms.len();
         // The standardised draws (normal quantiles), over the cores.
         let per_unit = dims * draws;
-        let parts = crate::design::on_ranges(crate::design::heavy_pieces(units, 64), |r| {
-            let mut out = uniforms[r.start * per_unit..r.end * per_unit].to_vec();
-            for (k, u) in out.iter_mut().enumerate() {
+        // In place, so that the draws are held once.
+        let mut e = uniforms;
+        let mut items = Vec::new();
+        let mut rest = e.as_mut_slice();
+        for r in crate::design::heavy_pieces(units, 64) {
+            let (a, b) = rest.split_at_mut((r.len() * per_unit).min(rest.len()));
+            items.push(a);
+            rest = b;
+        }
+        crate::design::run_queue(items, |chunk| {
+            for (k, u) in chunk.iter_mut().enumerate() {
                 *u = terms[(k / draws) % dims].distribution.standard(*u);
             }
-            out
         });
-        let e = parts.concat();
         Panel {
             units,
             draws,
@@ -115,6 +121,9 @@ impl Panel {
     }
 }
 
+/// Draws built for one data set, found again by its observations.
+type Cached = (Weak<Observations>, Arc<Panel>);
+
 /// The mixed logit built for one spec.
 #[derive(Debug)]
 pub struct Mixed {
@@ -123,8 +132,9 @@ pub struct Mixed {
     binary: bool,
     /// Uniforms given from outside (`[unit][dim][draw]`), used instead of the sequence.
     given: Option<Arc<Vec<f64>>>,
-    /// Draws built per data set, found again by its observations.
-    panels: Mutex<Vec<(Weak<Observations>, Arc<Panel>)>>,
+    /// Draws built per data set, found again by its observations (shared
+    /// with the cheaper family of bands, which uses the first of them).
+    panels: Arc<Mutex<Vec<Cached>>>,
     /// The analyses (not the likelihood) use only this many of each decision
     /// maker's draws: the cheaper family of uncertainty bands.
     limit: Option<usize>,
@@ -166,7 +176,7 @@ impl Mixed {
             simulation,
             binary: spec.alternatives.len() == 2,
             given: None,
-            panels: Mutex::new(Vec::new()),
+            panels: Arc::new(Mutex::new(Vec::new())),
             limit: None,
         })
     }
@@ -202,7 +212,7 @@ impl Mixed {
             Some(u) if u.len() == units * dims * r => u.to_vec(),
             _ => self.simulation.uniforms(units, dims),
         };
-        let p = Arc::new(Panel::new(&d.obs, &self.terms, r, &uniforms));
+        let p = Arc::new(Panel::new(&d.obs, &self.terms, r, uniforms));
         cache.push((Arc::downgrade(&d.obs), p.clone()));
         p
     }
@@ -329,7 +339,8 @@ impl Family for Mixed {
     fn after_first_search(&self, spec: &Spec, beta: &mut [f64], by_simpler: bool) {
         for t in &self.terms {
             let b = beta[t.location];
-            if by_simpler && t.distribution.is_log() {
+            let fixed = spec.parameters[t.location].fixed.is_some();
+            if by_simpler && t.distribution.is_log() && !fixed {
                 // The logit estimated the coefficient itself: its logarithm
                 // (of minus it for a negative lognormal) is the location.
                 let sign = if t.distribution == Distribution::Lognormal {
@@ -368,7 +379,7 @@ impl Family for Mixed {
                 simulation: self.simulation,
                 binary: self.binary,
                 given: self.given.clone(),
-                panels: Mutex::new(Vec::new()),
+                panels: self.panels.clone(),
                 limit: Some(BAND_DRAWS),
             }) as FamilyRef
         })

@@ -6,7 +6,9 @@ use super::layout::{Guess, Layout};
 use super::profile::{constant_within, correlation, key, Profile};
 use crate::data::table::Table;
 
-const AVAILABILITY_WORDS: [&str; 9] = [
+const AVAILABILITY_WORDS: [&str; 11] = [
+    "owner",
+    "owns",
     "ok",
     "av",
     "avail",
@@ -36,6 +38,19 @@ const CATEGORY_WORDS: [&str; 16] = [
 const TIME_INDEX_WORDS: [&str; 9] = [
     "week", "month", "year", "day", "date", "period", "wave", "quarter", "season",
 ];
+/// Names of a decision maker whose values repeat over their situations (a panel).
+const PERSON_WORDS: [&str; 8] = [
+    "respondent",
+    "person",
+    "household",
+    "customer",
+    "individual",
+    "member",
+    "traveller",
+    "shopper",
+];
+/// Names of the position of a situation in a decision maker's sequence.
+const SEQUENCE_WORDS: [&str; 5] = ["task", "occasion", "round", "trip", "card"];
 /// Correlation above which a characteristic is left out beside an attribute column.
 const COLLINEAR: f64 = 0.95;
 
@@ -280,7 +295,21 @@ fn situation_role(t: &Table, c: &Profile, g: &Guess, plan: &mut Plan) {
         ));
         return;
     }
-    if id_like {
+    // A name that is only about the person (`respondent`, `customer_no`), not
+    // a measure of them (`household_size`).
+    let person = !words(&name).is_empty()
+        && words(&name).iter().all(|w| {
+            PERSON_WORDS.contains(&w.as_str()) || ["id", "no", "number"].contains(&w.as_str())
+        })
+        && c.distinct < g.situations;
+    if has_word(&name, &SEQUENCE_WORDS) && c.integer && !person {
+        plan.left_out.push((
+            name,
+            "looks like the number of a situation in a decision maker's sequence (a task or occasion number): as a number it would be a trend; use it with care".into(),
+        ));
+        return;
+    }
+    if id_like || person {
         if plan.group.is_none() {
             let per = g.situations as f64 / distinct_situations.max(1) as f64;
             plan.group = Some((name, format!("guessed: the decision maker, each value covering {per:.1} situations on average; errors are then clustered by it. Check that it identifies people or households, not places or days")));

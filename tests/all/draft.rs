@@ -57,6 +57,24 @@ fn grocery_draft_is_the_shipped_long_model() {
 }
 
 #[test]
+fn express_survey_draft_is_the_shipped_fixed_coefficient_logit() {
+    // A stated-choice panel: the respondent column is the group (its values
+    // repeat over the tasks), the task number is left out, and `car_owner`
+    // is car's availability (car is never chosen where it is 0). The draft
+    // is the logit; the random tastes of specs/express_survey.toml are the
+    // modeller's choice.
+    let dir = scratch("draft-express");
+    let (spec, stdout) = draft("demo-data/express_survey.csv", &dir, "express.toml");
+    assert!(stdout.contains("group respondent"), "{stdout}");
+    let text = std::fs::read_to_string(&spec).unwrap();
+    assert!(text.contains("available = \"car_owner\""), "{text}");
+    let (ll, k) = fitted(&spec);
+    let (want, want_k) = fitted(&path("specs/express_logit.toml"));
+    same_ll("express", ll, want);
+    assert_eq!(k, want_k);
+}
+
+#[test]
 fn ratings_draft_is_the_shipped_ordered_model() {
     // Ordered ratings: whole-number codes in a column named like a rating, with
     // no column carrying them, are drafted as an ordered logit (categories lowest first).

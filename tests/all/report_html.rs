@@ -505,6 +505,28 @@ fn a_page_is_built_for_every_registered_family() {
             "{}: diversion applies only to unordered families",
             e.name
         );
+        // Tastes across decision makers: the library's figures for a family
+        // with random coefficients, a sentence for the others.
+        let random = page.select(&sel("table.random")).next();
+        assert_eq!(
+            random.is_some(),
+            !a.random_coefficients.is_empty(),
+            "{}: random coefficients table",
+            e.name
+        );
+        if let Some(t) = random {
+            let rs = rows(t);
+            for r in &a.random_coefficients {
+                let label = format!("{} ({})", r.coefficient, r.distribution);
+                let shown = &row(&rs, &label)[1];
+                assert!(
+                    shown.starts_with(&format!("{:.4}", r.mean.value)),
+                    "{}: mean of {} shown as {shown}",
+                    e.name,
+                    r.coefficient
+                );
+            }
+        }
     }
     let _ = path("specs");
 }

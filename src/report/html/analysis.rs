@@ -83,7 +83,11 @@ pub fn ratios(m: &Material) -> String {
             };
             format!(
                 "{}{}{}{}{}{}{}",
-                label_cell(&r.name),
+                label_cell(&if r.distribution.is_some() {
+                    format!("{} (median across decision makers)", r.name)
+                } else {
+                    r.name.clone()
+                }),
                 num_cell(&format!("{:.4}", r.value)),
                 num_cell(&format!("{:.4}", r.std_error)),
                 label_cell(r.unit.as_deref().unwrap_or("")),

@@ -6,6 +6,7 @@
 mod analysis;
 mod fitted;
 pub mod page;
+mod random;
 mod scenarios;
 pub mod svg;
 
@@ -55,10 +56,11 @@ pub struct Page {
 }
 
 /// The sections in page order: id and heading (the contents list and the tests use these).
-pub const SECTIONS: [(&str, &str); 11] = [
+pub const SECTIONS: [(&str, &str); 12] = [
     ("fitted", "What was fitted"),
     ("fit-statistics", "How well it fits"),
     ("estimates", "Estimates"),
+    ("random-coefficients", "Tastes across decision makers"),
     ("value-ratios", "Value ratios"),
     ("elasticities", "Elasticities"),
     ("diversion", "Diversion"),
@@ -88,6 +90,7 @@ pub fn page(m: &Material) -> Page {
     body.push_str(&fitted::what_was_fitted(m));
     body.push_str(&fitted::statistics(m));
     body.push_str(&fitted::estimates(m, &mut charts));
+    body.push_str(&random::random_coefficients(m));
     body.push_str(&analysis::ratios(m));
     body.push_str(&analysis::elasticities(m));
     body.push_str(&analysis::diversion(m));

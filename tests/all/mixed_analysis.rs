@@ -249,3 +249,75 @@ fn the_simulation_check_refits_on_another_seed() {
     assert!(largest > 0.0 && largest < 0.5, "{largest}");
     assert_ne!(c["log_likelihood"], c["other_log_likelihood"]);
 }
+
+#[test]
+fn a_quick_forecast_uses_fewer_draws_and_stays_close_to_the_full_one() {
+    // The workbench's quick what-if on large data: the point forecast on the
+    // first 50 draws of each decision maker (`Family::for_bands`).
+    let (spec, ds) = load("specs/express_survey.toml");
+    let f = fit_spec(&spec, &ds);
+    let sc = sharecast::scenario::Scenario::from_file(
+        &path("specs/scenarios/express_fare_cut.toml"),
+        &spec,
+    )
+    .unwrap();
+    let opts = |quick| sharecast::scenario::Options {
+        draws: 0,
+        seed: 7,
+        by: None,
+        market: None,
+        quick,
+    };
+    let full = sharecast::scenario::forecast(&spec, &f, &ds, &sc, &opts(false)).unwrap();
+    let quick = sharecast::scenario::forecast(&spec, &f, &ds, &sc, &opts(true)).unwrap();
+    let mut differs = false;
+    for (a, b) in full.shares.iter().zip(&quick.shares) {
+        assert!(
+            (a.scenario - b.scenario).abs() < 0.01,
+            "{} {} {}",
+            a.alternative,
+            a.scenario,
+            b.scenario
+        );
+        differs |= a.scenario != b.scenario;
+    }
+    assert!(differs, "the quick forecast should use other (fewer) draws");
+}
+
+#[test]
+fn every_sequence_fits_the_survey_to_nearly_the_same_estimates() {
+    // Halton, MLHS and pseudo-random draws (200 per respondent) estimate the
+    // same model: the estimates agree within a fraction of their standard
+    // errors (simulation noise is small next to sampling noise).
+    let fits: Vec<Fit> = ["halton", "mlhs", "pseudo"]
+        .iter()
+        .map(|seq| {
+            let dir = scratch(&format!("mixed-sequence-{seq}"));
+            std::fs::copy(
+                path("demo-data/express_survey.csv"),
+                dir.join("express_survey.csv"),
+            )
+            .unwrap();
+            let text = std::fs::read_to_string(path("specs/express_survey.toml"))
+                .unwrap()
+                .replace("../demo-data/express_survey.csv", "express_survey.csv")
+                .replace("draws = 500", "draws = 200")
+                .replace("sequence = \"halton\"", &format!("sequence = \"{seq}\""));
+            let p = write(&dir, "spec.toml", &text);
+            let spec = sharecast::model::read_spec(&p).unwrap();
+            let ds = sharecast::data::load(&spec, &Default::default()).unwrap();
+            fit_spec(&spec, &ds)
+        })
+        .collect();
+    for f in &fits[1..] {
+        for (a, b) in fits[0].parameters.iter().zip(&f.parameters) {
+            let (x, y) = (a.estimate.abs(), b.estimate.abs());
+            assert!(
+                (x - y).abs() < 0.5 * a.robust_std_error,
+                "{}: {x} vs {y} (s.e. {})",
+                a.name,
+                a.robust_std_error
+            );
+        }
+    }
+}

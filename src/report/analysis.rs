@@ -6,8 +6,9 @@ use std::fmt::Write;
 use crate::analysis::Analysis;
 use crate::spec::Spec;
 
-/// Decimals that show about three significant digits of `v`.
-fn decimals(v: f64) -> usize {
+/// Decimals that show about three significant digits of `v` (the text and
+/// HTML reports' matrices).
+pub(crate) fn decimals(v: f64) -> usize {
     if v == 0.0 || !v.is_finite() {
         return 3;
     }

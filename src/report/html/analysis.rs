@@ -11,13 +11,7 @@ use super::{heading, Material};
 use crate::analysis::Analysis;
 use crate::report::heat::{ELASTICITY_CUTS, SHARE_CUTS};
 
-/// Decimals that show about three significant digits (as the text report's matrices).
-fn decimals(v: f64) -> usize {
-    if v == 0.0 || !v.is_finite() {
-        return 3;
-    }
-    (2 - v.abs().log10().floor() as i32).clamp(3, 7) as usize
-}
+use crate::report::analysis::decimals;
 
 /// A value with about three significant digits and its standard error, or a dot when missing.
 fn value_se(v: f64, se: f64) -> String {

@@ -71,6 +71,18 @@ pub struct BenchArgs {
 
 pub fn run(args: BenchArgs) -> Result<ExitCode> {
     if args.model == BenchModel::Mixed {
+        if args.profile.is_some() {
+            return Err(crate::error::Error::Usage(
+                "--profile applies to the logit and nested models; for --model mixed time the passes without it".into(),
+            ));
+        }
+        if args.draws > crate::model::draws::MAX_DRAWS {
+            return Err(crate::error::Error::Usage(format!(
+                "--draws {}: at most {} draws per decision maker",
+                args.draws,
+                crate::model::draws::MAX_DRAWS
+            )));
+        }
         return bench::mixed::run(bench::mixed::MixedOptions {
             decision_makers: args.decision_makers,
             tasks: args.tasks,
@@ -80,6 +92,7 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
             no_process: args.no_process,
             no_peer: args.no_peer,
             json: args.json,
+            write_only: args.write_only,
         });
     }
     bench::run(Options {

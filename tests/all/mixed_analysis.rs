@@ -115,6 +115,17 @@ fn implied_distributions_match_simulation_from_their_definitions() {
 #[test]
 fn random_coefficient_rows_report_the_fit_with_errors() {
     let (_, fit) = panel_fit("");
+    // 60 draws per person: the fit says they are few.
+    let few = fit
+        .diagnostics
+        .iter()
+        .find(|d| d.code.as_deref() == Some("few_draws"))
+        .expect("a few_draws warning");
+    assert!(
+        few.message.contains("only 60 simulation draws"),
+        "{}",
+        few.message
+    );
     let rows = random::rows(&fit);
     let names: Vec<&str> = rows.iter().map(|r| r.coefficient.as_str()).collect();
     assert_eq!(names, ["asc_rail", "cost", "time"]);

@@ -142,6 +142,9 @@ pub struct Mixed {
 
 pub use super::draws::BAND_DRAWS;
 
+/// Below this many draws per decision maker the fit carries a warning.
+pub const FEW_DRAWS: usize = 100;
+
 impl Mixed {
     /// Builds the family for a spec `Rules` accepted.
     pub fn new(spec: &Spec) -> crate::error::Result<Mixed> {
@@ -415,6 +418,25 @@ impl Family for Mixed {
             }
         }
         Ok(())
+    }
+
+    fn warnings(&self, spec: &Spec, _d: &Design, _beta: &[f64]) -> Vec<super::FamilyWarning> {
+        let r = self.simulation.draws;
+        if r >= FEW_DRAWS {
+            return Vec::new();
+        }
+        vec![super::FamilyWarning {
+            code: "few_draws",
+            parameters: self
+                .terms
+                .iter()
+                .map(|t| spec.parameters[t.spread].name.clone())
+                .collect(),
+            message: format!(
+                "only {r} simulation draw{} per decision maker: the spreads and everything simulated carry large simulation error and bias; use a few hundred or more ([simulation].draws) and check with `fit --draws-check`",
+                if r == 1 { "" } else { "s" }
+            ),
+        }]
     }
 
     fn structure(&self, spec: &Spec) -> Vec<String> {

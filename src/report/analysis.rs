@@ -16,14 +16,20 @@ pub(crate) fn decimals(v: f64) -> usize {
 }
 
 fn cell(v: f64, se: f64) -> String {
+    value_se(v, se, "±")
+}
+
+/// A value with about three significant digits and its standard error after
+/// `sep` (none when the error is not a number), or a dot when the value is missing.
+pub(crate) fn value_se(v: f64, se: f64, sep: &str) -> String {
     if v.is_nan() {
         return "·".to_string();
     }
     let d = decimals(v);
-    if se.is_nan() {
-        format!("{v:.d$}")
+    if se.is_finite() {
+        format!("{v:.d$}{sep}{se:.d$}")
     } else {
-        format!("{v:.d$}±{se:.d$}")
+        format!("{v:.d$}")
     }
 }
 

@@ -11,19 +11,9 @@ use super::{heading, Material};
 use crate::analysis::Analysis;
 use crate::report::heat::{ELASTICITY_CUTS, SHARE_CUTS};
 
-use crate::report::analysis::decimals;
-
 /// A value with about three significant digits and its standard error, or a dot when missing.
 fn value_se(v: f64, se: f64) -> String {
-    if v.is_nan() {
-        return "·".to_string();
-    }
-    let d = decimals(v);
-    if se.is_finite() {
-        format!("{v:.d$} ± {se:.d$}")
-    } else {
-        format!("{v:.d$}")
-    }
+    crate::report::analysis::value_se(v, se, " ± ")
 }
 
 /// A matrix of heat cells: rows × columns, `cell` gives (value, text) or None.

@@ -243,23 +243,7 @@ pub fn shares(m: &Material, charts: &mut Vec<Chart>) -> String {
         name: "shares".into(),
         svg: chart,
     });
-    let rows: Vec<String> = fit
-        .shares
-        .iter()
-        .map(|r| {
-            format!(
-                "{}{}{}",
-                label_cell(&r.alternative),
-                num_cell(&format!("{:.4}", r.observed)),
-                num_cell(&format!("{:.4}", r.predicted))
-            )
-        })
-        .collect();
-    s.push_str(&table(
-        "shares",
-        &["alternative", "observed", "predicted"],
-        &rows,
-    ));
+    s.push_str(&share_table("shares", "alternative", &fit.shares));
     match m.analysis {
         Some(a) => s.push_str(&validation(a)),
         None => s.push_str(&not_applicable(
@@ -282,23 +266,7 @@ fn validation(a: &crate::analysis::Analysis) -> String {
             "<p>Hold-out: {} situations scored by a fit on the other {}; log-likelihood {:.4} (zero model {:.4}).</p>",
             h.situations, h.estimation_situations, h.log_likelihood, h.null_log_likelihood
         );
-        let rows: Vec<String> = h
-            .shares
-            .iter()
-            .map(|r| {
-                format!(
-                    "{}{}{}",
-                    label_cell(&r.alternative),
-                    num_cell(&format!("{:.4}", r.observed)),
-                    num_cell(&format!("{:.4}", r.predicted))
-                )
-            })
-            .collect();
-        s.push_str(&table(
-            "holdout",
-            &["alternative (hold-out)", "observed", "predicted"],
-            &rows,
-        ));
+        s.push_str(&share_table("holdout", "alternative (hold-out)", &h.shares));
     }
     s
 }
@@ -345,4 +313,20 @@ fn capitalised(s: &str) -> String {
         Some(f) => f.to_uppercase().chain(c).collect(),
         None => String::new(),
     }
+}
+
+/// Observed against predicted shares, one row per alternative.
+fn share_table(class: &str, first: &str, shares: &[crate::estimate::ShareRow]) -> String {
+    let rows: Vec<String> = shares
+        .iter()
+        .map(|r| {
+            format!(
+                "{}{}{}",
+                label_cell(&r.alternative),
+                num_cell(&format!("{:.4}", r.observed)),
+                num_cell(&format!("{:.4}", r.predicted))
+            )
+        })
+        .collect();
+    table(class, &[first, "observed", "predicted"], &rows)
 }

@@ -25,7 +25,8 @@ pub fn family_reduction(spec: &Spec, fit: &Fit) -> Result<Option<ChiTest>> {
         .enumerate()
         .filter(|(k, p)| matches!(p.term, crate::spec::Term::Family(_)) && fit.free.contains(k))
         .map(|(k, p)| Restriction {
-            text: format!("{} = {}", p.name, p.null),
+            // Six decimals are plenty to name the value (0.866025 for sqrt(3)/2).
+            text: format!("{} = {}", p.name, (p.null * 1e6).round() / 1e6),
             coefficients: vec![(k, 1.0)],
             constant: p.null,
         })

@@ -86,6 +86,10 @@ pub struct Analysis {
     /// Families with random coefficients: each one's implied distribution.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub random_coefficients: Vec<random::RandomRow>,
+    /// Figures the family derives from its parameters (the multinomial
+    /// probit's error covariance and correlations), with delta-method errors.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub derived: Vec<DerivedRow>,
     pub diversion: Vec<DiversionRow>,
     pub price_diversion: Vec<PriceDiversionRow>,
     pub segments: Vec<SegmentShareRow>,
@@ -103,6 +107,40 @@ pub struct Analysis {
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub expected_category: Vec<ExpectedCategoryRow>,
     pub warnings: Vec<String>,
+}
+
+/// A figure the family derives from its parameters, with its delta-method error.
+#[derive(Clone, Debug, Serialize)]
+pub struct DerivedRow {
+    pub group: String,
+    pub name: String,
+    pub value: f64,
+    pub std_error: f64,
+}
+
+/// The family's derived figures at the estimates with delta-method errors.
+pub fn derived(spec: &Spec, fit: &Fit) -> Vec<DerivedRow> {
+    let rows = fit.family.derived(spec, &fit.beta);
+    if rows.is_empty() {
+        return Vec::new();
+    }
+    let f = |b: &[f64]| -> Vec<f64> {
+        fit.family
+            .derived(spec, b)
+            .into_iter()
+            .map(|r| r.value)
+            .collect()
+    };
+    let se = delta::delta_se(fit, &f);
+    rows.into_iter()
+        .zip(se)
+        .map(|(r, std_error)| DerivedRow {
+            group: r.group,
+            name: r.name,
+            value: r.value,
+            std_error,
+        })
+        .collect()
 }
 
 /// d E[category] / dz for a characteristic z, E[category] = sum_k k P_k.
@@ -363,6 +401,7 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
         flag_effects,
         ratios,
         random_coefficients: random::rows(fit),
+        derived: derived(spec, fit),
         diversion,
         price_diversion,
         segments,

@@ -22,13 +22,16 @@ pub enum BenchModel {
     /// alternatives, 3 fixed constants and 4 random attributes, --draws Halton
     /// draws; side by side with a plain numpy pass (bench/mixed_peer.py).
     Mixed,
+    /// A multinomial probit: --situations (default 20,000) of 5 alternatives,
+    /// full error covariance (15 parameters), --draws GHK draws (default 500).
+    Probit,
 }
 
 #[derive(Args, Debug)]
 pub struct BenchArgs {
-    /// Number of choice situations to simulate.
-    #[arg(long, default_value_t = 1_000_000)]
-    pub situations: usize,
+    /// Number of choice situations to simulate (default 1,000,000; 20,000 for --model probit).
+    #[arg(long)]
+    pub situations: Option<usize>,
     /// Which model to simulate and fit.
     #[arg(long, value_enum, default_value_t = BenchModel::Full)]
     pub model: BenchModel,
@@ -61,32 +64,53 @@ pub struct BenchArgs {
     /// --model mixed: choice tasks per decision maker.
     #[arg(long, default_value_t = 10)]
     pub tasks: usize,
-    /// --model mixed: Halton draws per decision maker.
-    #[arg(long, default_value_t = 1_000)]
-    pub draws: usize,
+    /// --model mixed: Halton draws per decision maker (default 1,000);
+    /// --model probit: GHK draws per situation (default 500).
+    #[arg(long)]
+    pub draws: Option<usize>,
     /// --model mixed: do not run the numpy peer.
     #[arg(long)]
     pub no_peer: bool,
 }
 
 pub fn run(args: BenchArgs) -> Result<ExitCode> {
+    let draws = args.draws.unwrap_or(if args.model == BenchModel::Probit {
+        500
+    } else {
+        1_000
+    });
+    if draws > crate::model::draws::MAX_DRAWS {
+        return Err(crate::error::Error::Usage(format!(
+            "--draws {draws}: at most {} draws",
+            crate::model::draws::MAX_DRAWS
+        )));
+    }
+    if args.model == BenchModel::Probit {
+        if args.profile.is_some() {
+            return Err(crate::error::Error::Usage(
+                "--profile applies to the logit and nested models".into(),
+            ));
+        }
+        return bench::probit::run(bench::probit::ProbitOptions {
+            situations: args.situations.unwrap_or(20_000),
+            draws,
+            repeats: args.repeats.min(5),
+            keep: args.keep,
+            no_process: args.no_process,
+            json: args.json,
+            write_only: args.write_only,
+        });
+    }
     if args.model == BenchModel::Mixed {
         if args.profile.is_some() {
             return Err(crate::error::Error::Usage(
                 "--profile applies to the logit and nested models; for --model mixed time the passes without it".into(),
             ));
         }
-        if args.draws > crate::model::draws::MAX_DRAWS {
-            return Err(crate::error::Error::Usage(format!(
-                "--draws {}: at most {} draws per decision maker",
-                args.draws,
-                crate::model::draws::MAX_DRAWS
-            )));
-        }
         return bench::mixed::run(bench::mixed::MixedOptions {
             decision_makers: args.decision_makers,
             tasks: args.tasks,
-            draws: args.draws,
+            draws,
             repeats: args.repeats.min(5),
             keep: args.keep,
             no_process: args.no_process,
@@ -96,12 +120,12 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
         });
     }
     bench::run(Options {
-        situations: args.situations,
+        situations: args.situations.unwrap_or(1_000_000),
         model: match args.model {
             BenchModel::Full => bench::Model::Full,
             BenchModel::Characteristics => bench::Model::Characteristics,
             BenchModel::Nested => bench::Model::Nested,
-            BenchModel::Mixed => bench::Model::Full, // handled above
+            BenchModel::Mixed | BenchModel::Probit => bench::Model::Full, // handled above
         },
         keep: args.keep,
         write_only: args.write_only,

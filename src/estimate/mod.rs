@@ -238,14 +238,17 @@ pub fn fit_family(
     let held = family.held_in_first_search();
     let first: Vec<usize> = free.iter().copied().filter(|p| !held.contains(p)).collect();
     let mut first_passes = 0;
-    if first.len() < free.len() && !first.is_empty() {
+    let start_from = family.start_from();
+    if (first.len() < free.len() || start_from.is_some()) && !first.is_empty() {
         // With its own parameters at their null values a family may equal a
-        // simpler one, which then searches faster.
+        // simpler one, which then searches faster; or it starts from a
+        // cheaper family's estimates.
         let at_null = held
             .iter()
             .all(|&p| spec.parameters[p].start == spec.parameters[p].null);
-        let searcher = match (at_null, family.simpler()) {
-            (true, Some(s)) => s,
+        let searcher = match (at_null, family.simpler(), start_from) {
+            (true, Some(s), _) => s,
+            (_, _, Some(s)) => s,
             _ => family.clone(),
         };
         let by_simpler = !Arc::ptr_eq(&searcher, &family);
@@ -311,6 +314,7 @@ pub fn restore(spec: &Spec, obs: Arc<Observations>, doc: &document::FitDocument)
         criterion: f.newton_decrement,
         converged: f.converged,
         note: None,
+        hessian: None,
     };
     let constants_ll = Some(f.constants_log_likelihood).filter(|x| x.is_finite());
     finish(spec, obs, design, family, free, out, started, constants_ll)
@@ -331,8 +335,15 @@ fn finish(
     let k = design.params;
     let names: Vec<String> = spec.parameters.iter().map(|p| p.name.clone()).collect();
     // Covariance.
-    let final_eval = model::hessian::with_hessian(&*family, &design, &out.beta, &free);
-    let a = optimise::negative_free_hessian(final_eval.hess.as_deref().unwrap_or(&[]), k, &free);
+    // A differenced Hessian that confirmed convergence is reused (it sits at
+    // the estimates up to the last tiny Newton step); else one is computed here.
+    let final_hess = match &out.hessian {
+        Some(h) if h.len() == k * k => h.clone(),
+        _ => model::hessian::with_hessian(&*family, &design, &out.beta, &free)
+            .hess
+            .unwrap_or_default(),
+    };
+    let a = optimise::negative_free_hessian(&final_hess, k, &free);
     let flats = inference::flat_directions(&a);
     let mut diagnostics = diagnose::diagnose(spec, &design, &obs, &free, &names, &out, &flats);
     diagnostics.extend(

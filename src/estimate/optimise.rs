@@ -48,6 +48,10 @@ pub struct Outcome {
     pub gradient_norm: f64,
     pub converged: bool,
     pub note: Option<String>,
+    /// For a family without an analytic Hessian: the differenced Hessian (K x K)
+    /// that confirmed convergence, at the estimates up to the last tiny Newton
+    /// step, which the covariance may reuse instead of differencing again.
+    pub hessian: Option<Vec<f64>>,
 }
 
 struct Objective<'a> {
@@ -261,11 +265,18 @@ pub fn maximise(
             gradient_norm: 0.0,
             converged: true,
             note: None,
+            hessian: None,
         };
     }
-    let e0 = with_hessian(family, d, &beta, free);
+    // The starting metric: the analytic Hessian where the family has one; else
+    // the outer product of the scores (one pass instead of two per parameter).
+    let h0 = if family.abilities().analytic_hessian {
+        let e0 = family.evaluate(d, &beta, true, true);
+        negative_free_hessian(e0.hess.as_deref().unwrap_or(&[]), k, free)
+    } else {
+        crate::model::hessian::outer_product(family, d, &beta, free)
+    };
     passes.fetch_add(1, Ordering::Relaxed);
-    let h0 = negative_free_hessian(e0.hess.as_deref().unwrap_or(&[]), k, free);
     let objective = Objective {
         d,
         family,
@@ -322,11 +333,15 @@ fn newton(
     let mut e = eval(&beta);
     // Whether the reused Hessian was differenced at the current point.
     let mut fresh = false;
+    let last_hessian = std::cell::RefCell::new(None::<Vec<f64>>);
     let refresh = |b: &[f64]| -> DMatrix<f64> {
         passes.fetch_add(2 * m, Ordering::Relaxed);
-        let h = with_hessian(family, d, b, free);
-        negative_free_hessian(h.hess.as_deref().unwrap_or(&[]), k, free)
+        let h = with_hessian(family, d, b, free).hess.unwrap_or_default();
+        let a = negative_free_hessian(&h, k, free);
+        *last_hessian.borrow_mut() = Some(h);
+        a
     };
+    let mut confirmed = None;
     for _ in 0..100 {
         let g = DVector::from_iterator(m, free.iter().map(|&i| e.grad[i]));
         let a = match &reuse {
@@ -358,6 +373,9 @@ fn newton(
                 *h = refresh(&beta);
                 fresh = true;
                 continue;
+            }
+            if fresh {
+                confirmed = last_hessian.borrow().clone();
             }
             // Take the last (tiny) step as well: Newton's quadratic convergence then
             // leaves the estimates exact to rounding rather than to the tolerance.
@@ -427,5 +445,6 @@ fn newton(
         gradient_norm,
         converged,
         note,
+        hessian: confirmed,
     }
 }

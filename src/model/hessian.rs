@@ -1,6 +1,7 @@
 //! The Hessian a covariance needs: the family's analytic one where it has it,
 //! else central differences of its analytic gradient with a step chosen per
-//! parameter, made symmetric.
+//! parameter, made symmetric; and the outer product of the scores, a cheap
+//! starting metric for the search of such families.
 
 use super::{Eval, Family};
 use crate::design::Design;
@@ -46,4 +47,35 @@ pub fn differenced(family: &dyn Family, d: &Design, beta: &[f64], free: &[usize]
         }
     }
     h
+}
+
+/// Minus the outer product of the per-situation (or per-decision-maker)
+/// scores over the free parameters, negated back: the information-matrix
+/// approximation of the negative Hessian (Berndt, Hall, Hall and Hausman
+/// 1974), free block only, from one pass of scores.
+pub fn outer_product(
+    family: &dyn Family,
+    d: &Design,
+    beta: &[f64],
+    free: &[usize],
+) -> nalgebra::DMatrix<f64> {
+    let m = free.len();
+    let mut a = nalgebra::DMatrix::<f64>::zeros(m, m);
+    family.for_each_score(d, beta, &mut |_, s| {
+        for x in 0..m {
+            let sx = s[free[x]];
+            if sx == 0.0 {
+                continue;
+            }
+            for y in x..m {
+                a[(x, y)] += sx * s[free[y]];
+            }
+        }
+    });
+    for x in 0..m {
+        for y in 0..x {
+            a[(x, y)] = a[(y, x)];
+        }
+    }
+    a
 }

@@ -17,6 +17,7 @@ pub mod ghk;
 pub mod hessian;
 pub mod logit;
 pub mod mixed;
+pub mod mnp;
 pub mod nested;
 pub mod normal;
 pub mod ordered;
@@ -186,6 +187,14 @@ pub trait Family: Send + Sync + std::fmt::Debug {
         Vec::new()
     }
 
+    /// A cheaper family whose estimates of the shared parameters, turned by
+    /// `after_first_search`, start this one's search when nothing `simpler`
+    /// evaluates it exactly (the multinomial probit starts from the logit,
+    /// rescaled); this family's own parameters are held meanwhile.
+    fn start_from(&self) -> Option<FamilyRef> {
+        None
+    }
+
     /// Turns the estimates of the first search into starting values of the
     /// full search (`by_simpler`: the simpler family ran it, on its own scale).
     fn after_first_search(&self, spec: &Spec, beta: &mut [f64], by_simpler: bool) {
@@ -196,6 +205,14 @@ pub trait Family: Send + Sync + std::fmt::Debug {
     fn conditional(&self, d: &Design, beta: &[f64]) -> Option<Conditional> {
         let _ = (d, beta);
         None
+    }
+
+    /// Figures the family derives from its parameters, reported with
+    /// delta-method errors (the multinomial probit's implied error covariance
+    /// and correlations); the same list, in the same order, at any `beta`.
+    fn derived(&self, spec: &Spec, beta: &[f64]) -> Vec<Derived> {
+        let _ = (spec, beta);
+        Vec::new()
     }
 
     /// Lines describing the model's structure for reports and the workbench
@@ -234,6 +251,15 @@ pub struct Conditional {
     /// Per decision maker, the conditional mean of each random coefficient
     /// (in `random_coefficients` order), `[unit * D + d]`.
     pub means: Vec<f64>,
+}
+
+/// A figure derived from a family's parameters (`Family::derived`).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Derived {
+    /// The table it belongs to ("covariance of the error differences against car").
+    pub group: String,
+    pub name: String,
+    pub value: f64,
 }
 
 /// A family shared by a fit, its analyses and the workbench.

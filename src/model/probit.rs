@@ -1,9 +1,10 @@
 //! Binary probit: P(other) = Phi(V_other - V_base), with its analytic
-//! gradient and Hessian (tail-safe log Phi and inverse Mills ratio). The spec
-//! must have exactly two alternatives.
+//! gradient and Hessian (tail-safe log Phi and inverse Mills ratio): the
+//! probit family with two alternatives (its spec rules, shared with the
+//! multinomial probit, are in `mnp::rules`).
 
 use crate::design::{Design, Feature};
-use crate::spec::{FamilyParameter, FamilyRules, Spec, SpecView};
+use crate::spec::Spec;
 
 use super::logit::{softmax, Compensated};
 use super::{normal, Abilities, Eval, Family};
@@ -12,21 +13,6 @@ use super::{normal, Abilities, Eval, Family};
 #[derive(Clone, Copy, Debug)]
 pub struct Probit {
     pub base: usize,
-}
-
-/// Its spec rules: exactly two alternatives.
-pub struct Rules;
-
-impl FamilyRules for Rules {
-    fn check(&self, spec: &SpecView) -> Result<Vec<FamilyParameter>, String> {
-        if spec.alternatives.len() != 2 {
-            return Err(format!(
-                "[model].family: \"probit\" is binary and needs exactly two alternatives, found {}",
-                spec.alternatives.len()
-            ));
-        }
-        Ok(Vec::new())
-    }
 }
 
 /// Probit sums over situations.

@@ -5,7 +5,7 @@
 use std::path::Path;
 use std::sync::Arc;
 
-use super::{logit, mixed, nested, ordered, probit, FamilyRef};
+use super::{logit, mixed, mnp, nested, ordered, probit, FamilyRef};
 use crate::error::{Error, Result};
 use crate::spec::{Catalog, FamilyRules, Spec};
 
@@ -42,12 +42,23 @@ pub static FAMILIES: &[Entry] = &[
     },
     Entry {
         name: "probit",
-        rules: &probit::Rules,
-        build: |spec| Ok(Arc::new(probit::Probit { base: spec.base })),
+        rules: &mnp::Rules,
+        build: build_probit,
         example_alternatives: 2,
         example_spec: "",
         example_attribute: "",
         example_truth: &[],
+    },
+    // The same family with three or more alternatives (the multinomial
+    // probit), listed again so the shared suite checks that case too.
+    Entry {
+        name: "probit",
+        rules: &mnp::Rules,
+        build: build_probit,
+        example_alternatives: 4,
+        example_spec: "[errors]\nstructure = \"full\"\n[simulation]\ndraws = 200\n",
+        example_attribute: "",
+        example_truth: &[("chol_a2_a1", 0.2), ("chol_a2_a2", 0.9)],
     },
     Entry {
         name: "nested",
@@ -87,6 +98,15 @@ pub static FAMILIES: &[Entry] = &[
     },
 ];
 
+/// The probit: binary and exact with two alternatives, else multinomial (GHK).
+fn build_probit(spec: &Spec) -> Result<FamilyRef> {
+    if spec.alternatives.len() == 2 {
+        Ok(Arc::new(probit::Probit { base: spec.base }))
+    } else {
+        Ok(Arc::new(mnp::Mnp::new(spec)?))
+    }
+}
+
 /// The registry as the spec room sees it.
 pub struct Registry;
 
@@ -95,13 +115,18 @@ impl Catalog for Registry {
         FAMILIES.iter().find(|e| e.name == name).map(|e| e.rules)
     }
     fn names(&self) -> Vec<&'static str> {
-        FAMILIES.iter().map(|e| e.name).collect()
+        let mut names: Vec<&'static str> = FAMILIES.iter().map(|e| e.name).collect();
+        names.dedup();
+        names
     }
-    fn owner_of(&self, section: &str) -> Option<&'static str> {
-        FAMILIES
+    fn owners_of(&self, section: &str) -> Vec<&'static str> {
+        let mut names: Vec<&'static str> = FAMILIES
             .iter()
-            .find(|e| e.rules.sections().contains(&section))
+            .filter(|e| e.rules.sections().contains(&section))
             .map(|e| e.name)
+            .collect();
+        names.dedup();
+        names
     }
 }
 

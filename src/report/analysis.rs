@@ -172,6 +172,7 @@ pub fn sections(spec: &Spec, a: &Analysis) -> String {
         }
     }
     random_coefficients(&mut s, a);
+    derived(&mut s, a);
     if !a.ratios.is_empty() {
         let _ = writeln!(
             s,
@@ -385,6 +386,23 @@ fn per_units(scale: f64, per: &str) -> String {
         format!("one unit {way}")
     } else {
         format!("{} units {way}", scale.abs())
+    }
+}
+
+/// The family's derived figures (the multinomial probit's error covariance),
+/// one block per group.
+fn derived(s: &mut String, a: &Analysis) {
+    let mut group: Option<&str> = None;
+    for r in &a.derived {
+        if group != Some(r.group.as_str()) {
+            let _ = writeln!(
+                s,
+                "\n{} (implied by the estimates; ± delta-method s.e.)",
+                r.group
+            );
+            group = Some(&r.group);
+        }
+        let _ = writeln!(s, "  {:<28} {}", r.name, cell(r.value, r.std_error));
     }
 }
 

@@ -137,7 +137,7 @@ pub fn estimates(spec: &Spec, fit: &Fit) -> String {
         .parameters
         .iter()
         .filter(|r| r.null != 0.0 && !r.fixed)
-        .map(|r| format!("{} against {}", r.name, r.null))
+        .map(|r| format!("{} against {}", r.name, (r.null * 1e6).round() / 1e6))
         .collect();
     if !against.is_empty() {
         let _ = writeln!(

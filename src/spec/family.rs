@@ -75,6 +75,6 @@ pub trait Catalog {
     fn rules(&self, name: &str) -> Option<&dyn FamilyRules>;
     /// Every family name, for messages.
     fn names(&self) -> Vec<&'static str>;
-    /// The family whose section `section` is, if any (for messages).
-    fn owner_of(&self, section: &str) -> Option<&'static str>;
+    /// The families that read section `section` (for messages).
+    fn owners_of(&self, section: &str) -> Vec<&'static str>;
 }

@@ -516,9 +516,12 @@ fn family_keys(
     let mut keys = toml::Table::new();
     for (k, v) in &raw.extra {
         let mine = rules.sections().contains(&k.as_str());
-        if let (false, Some(owner)) = (mine, families.owner_of(k)) {
+        let owners = families.owners_of(k);
+        if !mine && !owners.is_empty() {
+            let owners: Vec<String> = owners.iter().map(|o| format!("\"{o}\"")).collect();
             return Err(format!(
-                "`{k}` belongs to family \"{owner}\"; this spec's [model].family is \"{family}\""
+                "`{k}` belongs to family {}; this spec's [model].family is \"{family}\"",
+                owners.join(" or ")
             ));
         }
         if !mine {

@@ -302,6 +302,9 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         ));
     }
     lines.extend(spreads(fit, w.saturating_sub(2), t));
+    if let Some(a) = l.analysis.ready() {
+        lines.extend(derived(&a.derived, t));
+    }
     let height = inner.height as usize;
     let offset = cursor_line.saturating_sub(height.saturating_sub(1));
     let visible: Vec<Line> = if offset > 0 {
@@ -366,6 +369,54 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         }
     }
     Paragraph::new(lines).render(inner, buf);
+}
+
+/// The family's derived figures (the multinomial probit's error covariance
+/// and correlations), one block per group; a correlation gets a bar from -1
+/// to 1 with `┃` at zero.
+fn derived(rows: &[crate::analysis::DerivedRow], t: &super::theme::Theme) -> Vec<Line<'static>> {
+    let mut out = Vec::new();
+    let mut group: Option<&str> = None;
+    let name_w = rows
+        .iter()
+        .map(|r| r.name.chars().count())
+        .max()
+        .unwrap_or(4)
+        + 3;
+    for r in rows {
+        if group != Some(r.group.as_str()) {
+            out.push(Line::from(""));
+            out.push(Line::from(Span::styled(
+                format!("▸ {}", r.group),
+                t.accent(),
+            )));
+            group = Some(&r.group);
+        }
+        let bar = if r.name.starts_with("corr(") && r.value.is_finite() {
+            const W: usize = 21;
+            let at = (((r.value.clamp(-1.0, 1.0) + 1.0) / 2.0) * (W - 1) as f64).round() as usize;
+            (0..W)
+                .map(|k| {
+                    if k == at {
+                        '●'
+                    } else if k == W / 2 {
+                        '┃'
+                    } else {
+                        '·'
+                    }
+                })
+                .collect::<String>()
+        } else {
+            String::new()
+        };
+        out.push(Line::from(format!(
+            "  {}{} ± {}   {bar}",
+            left(&r.name, name_w),
+            right(&fixed(r.value, 4), 9),
+            fixed(r.std_error, 4)
+        )));
+    }
+    out
 }
 
 /// Each random coefficient's distribution across decision makers as a row of

@@ -17,6 +17,7 @@ mod limits;
 mod mixed;
 mod mixed_analysis;
 mod mixed_recovery;
+mod mnp;
 mod nested;
 mod ordered;
 mod recovery;

@@ -202,7 +202,7 @@ fn mixed_spec_errors_name_their_key() {
         (
             base.replace("family = \"mixed\"", "family = \"logit\"")
                 .replace("random_constants = [\"rail\"]", ""),
-            "`simulation` belongs to family \"mixed\"",
+            "`simulation` belongs to family \"probit\" or \"mixed\"",
         ),
         (
             base.replace("draws = 500", "draws = 0"),

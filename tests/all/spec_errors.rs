@@ -41,7 +41,7 @@ fn cases() -> Vec<(&'static str, String, String, String, Vec<&'static str>)> {
         ("base not an alternative", wide_spec("", ATTR).replace("base = \"a\"", "base = \"z\""), w.clone(), l.clone(), vec!["[model].base", "`z`"]),
         ("duplicate alternative", wide_spec("", ATTR).replace("[alternatives.b]", "[alternatives.b]\n[alternatives.a]"), w.clone(), l.clone(), vec!["duplicate", "a"]),
         ("one alternative", "[data]\nfile = \"wide.csv\"\nlayout = \"wide\"\nchoice = \"mode\"\n[model]\nfamily = \"logit\"\nbase = \"a\"\n[alternatives.a]\n".into(), w.clone(), l.clone(), vec!["[alternatives]", "at least two"]),
-        ("probit with three", wide_spec("", ATTR).replace("family = \"logit\"", "family = \"probit\""), w.clone(), l.clone(), vec!["probit", "exactly two"]),
+        ("probit with an unknown error structure", wide_spec("", ATTR).replace("family = \"logit\"", "family = \"probit\"") + "[errors]\nstructure = \"diagonal\"\n", w.clone(), l.clone(), vec!["[errors].structure", "diagonal"]),
         ("columns naming undeclared", wide_spec("", &ATTR.replace("c = \"cost_c\"", "tram = \"cost_c\"")), w.clone(), l.clone(), vec!["[[attribute]] cost", "tram"]),
         ("unknown parameter", wide_spec("", &format!("{ATTR}[parameters]\nprice = {{ start = -1 }}\n")), w.clone(), l.clone(), vec!["[parameters].price"]),
         ("derived syntax error", wide_spec("", &format!("{ATTR}[derived]\nk = \"cost_a * / 2\"\n")), w.clone(), l.clone(), vec!["[derived].k", "at character 10"]),

@@ -880,3 +880,33 @@ fn a_mixed_model_shows_each_random_coefficient_and_simulated_what_ifs() {
         &["simulated: each decision maker's shares average over their draws"],
     );
 }
+
+#[test]
+fn a_multinomial_probit_shows_its_error_structure_in_every_view() {
+    // The overview names the structure; the estimates view lists the implied
+    // correlations with their errors from the library's analysis; the
+    // elasticity, diversion and what-if views open on the family.
+    let mut app = demo(&["specs/express_probit.toml"]);
+    has(
+        &screen(&app, 120, 40),
+        &["probit", "errors: full covariance"],
+    );
+    keys(&mut app, "2");
+    let s = screen(&app, 140, 70);
+    let m = model("specs/express_probit.toml");
+    let a = sharecast::analysis::derived(&m.spec, &m.fit);
+    let corr = a.iter().find(|r| r.name == "corr(rail, coach)").unwrap();
+    has(
+        &s,
+        &[
+            "correlation of the error differences against car",
+            &format!("{:.4}", corr.value),
+        ],
+    );
+    for view in ["3", "4", "5"] {
+        keys(&mut app, view);
+        let s = screen(&app, 120, 40);
+        assert!(!s.contains("panicked"), "{s}");
+    }
+    has(&screen(&app, 120, 40), &["coach", "rail"]);
+}

@@ -56,11 +56,12 @@ pub struct Page {
 }
 
 /// The sections in page order: id and heading (the contents list and the tests use these).
-pub const SECTIONS: [(&str, &str); 12] = [
+pub const SECTIONS: [(&str, &str); 13] = [
     ("fitted", "What was fitted"),
     ("fit-statistics", "How well it fits"),
     ("estimates", "Estimates"),
     ("random-coefficients", "Tastes across decision makers"),
+    ("error-covariance", "Shared unobserved traits"),
     ("value-ratios", "Value ratios"),
     ("elasticities", "Elasticities"),
     ("diversion", "Diversion"),
@@ -91,6 +92,7 @@ pub fn page(m: &Material) -> Page {
     body.push_str(&fitted::statistics(m));
     body.push_str(&fitted::estimates(m, &mut charts));
     body.push_str(&random::random_coefficients(m));
+    body.push_str(&random::error_covariance(m));
     body.push_str(&analysis::ratios(m));
     body.push_str(&analysis::elasticities(m));
     body.push_str(&analysis::diversion(m));

@@ -146,7 +146,11 @@ def logistic(y, x, repeats, tol):
     def fit():
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always")
-            m = LogisticRegression(penalty=None, solver="lbfgs", max_iter=10_000, tol=tol)
+            # No penalty: C=inf from scikit-learn 1.8 on (penalty=None is deprecated there).
+            if tuple(int(v) for v in sklearn.__version__.split(".")[:2]) >= (1, 8):
+                m = LogisticRegression(C=np.inf, solver="lbfgs", max_iter=10_000, tol=tol)
+            else:
+                m = LogisticRegression(penalty=None, solver="lbfgs", max_iter=10_000, tol=tol)
             m.fit(z, y)
         m.caught_ = [str(w.message).split("\n")[0] for w in caught]
         return m
@@ -162,7 +166,7 @@ def logistic(y, x, repeats, tol):
         est[f"age_{alt}"] = m.coef_[j][1] - c0[1]
     return {"seconds": s, "ll": ll, "est": est,
             "converged": f"{int(np.max(m.n_iter_))} iterations" +
-                         (f"; warned: {m.caught_[0]}" if m.caught_ else ""),
+                         (f"; warned: {m.caught_[0][:80]}" if m.caught_ else ""),
             "load": f"{before}; after: {load()}"}
 
 

@@ -1,14 +1,18 @@
 #!/usr/bin/env bash
-# Side-by-side timing of `sharecast fit` against statsmodels (MNLogit and
-# ConditionalLogit) on invented data simulated by `sharecast bench`.
+# Side-by-side timing of `sharecast fit` (the whole process, with and without
+# its analysis sections) against statsmodels (MNLogit, ConditionalLogit) and
+# scikit-learn (LogisticRegression) fits run in-process on data already
+# loaded, on invented data simulated by `sharecast bench`. It prints the peers'
+# BLAS and thread settings (threadpoolctl) and the load average beside each figure.
 #
 #   bench/compare.sh                  # 200,000 situations (MNLogit), 20,000 (ConditionalLogit)
 #   bench/compare.sh --condlogit-n 5000  # a smaller ConditionalLogit case (it is slow)
-#   bench/compare.sh --mnl-n 100000 --repeats 5
+#   bench/compare.sh --mnl-n 100000 --repeats 3 --skip-condlogit
 #
 # Everything it makes goes under bench/out/ (git-ignored): the data, a copy of
 # the binary (so that a rebuild while it runs changes nothing), a throwaway
-# virtual environment with statsmodels and pandas, and compare.json.
+# virtual environment with statsmodels, pandas, scikit-learn and
+# threadpoolctl, and compare.json.
 set -euo pipefail
 
 here="$(cd "$(dirname "$0")" && pwd)"
@@ -20,10 +24,10 @@ mkdir -p "$out"
 cp "$root/target/release/sharecast" "$out/sharecast"
 
 venv="$out/venv"
-if [ ! -x "$venv/bin/python" ]; then
+if ! "$venv/bin/python" -c "import statsmodels, pandas, sklearn, threadpoolctl" 2>/dev/null; then
     python3 -m venv "$venv"
     "$venv/bin/pip" install --quiet --upgrade pip
-    "$venv/bin/pip" install --quiet statsmodels pandas
+    "$venv/bin/pip" install --quiet statsmodels pandas scikit-learn threadpoolctl
 fi
 
 echo "machine: $(nproc) cores, $(grep -m1 'model name' /proc/cpuinfo | cut -d: -f2 | xargs), \

@@ -1,5 +1,5 @@
-//! Uncertainty of derived figures: the delta method with a central-difference
-//! Jacobian, and Krinsky-Robb draws of the parameter vector from the
+//! Uncertainty of derived figures: the delta method (with a Jacobian given
+//! analytically or by central differences), and Krinsky-Robb draws of the parameter vector from the
 //! estimated asymptotic normal distribution.
 
 use nalgebra::DMatrix;
@@ -19,6 +19,13 @@ pub fn check_draws(n: usize, params: usize, extra: usize) -> crate::error::Resul
 /// Standard errors of the figures `f(beta)` by the delta method, using the fit's
 /// inference covariance. `f` returns a vector of fixed length.
 pub fn delta_se(fit: &Fit, f: &dyn Fn(&[f64]) -> Vec<f64>) -> Vec<f64> {
+    se_from_jacobian(fit, &numeric_jacobian(fit, f))
+}
+
+/// The central-difference Jacobian of `f` at the estimates (rows: the figures,
+/// columns: the free parameters), each step a thousandth of the parameter's
+/// standard error.
+pub fn numeric_jacobian(fit: &Fit, f: &dyn Fn(&[f64]) -> Vec<f64>) -> Vec<Vec<f64>> {
     let cov = fit.inference_covariance();
     let base = f(&fit.beta);
     let m = base.len();
@@ -41,12 +48,20 @@ pub fn delta_se(fit: &Fit, f: &dyn Fn(&[f64]) -> Vec<f64>) -> Vec<f64> {
             jac[r][x] = (fu[r] - fd[r]) / (2.0 * h);
         }
     }
-    (0..m)
-        .map(|r| {
+    jac
+}
+
+/// Delta-method standard errors sqrt(J V J') of figures whose Jacobian by the
+/// free parameters is `jac` (one row per figure), with the fit's inference covariance.
+pub fn se_from_jacobian(fit: &Fit, jac: &[Vec<f64>]) -> Vec<f64> {
+    let cov = fit.inference_covariance();
+    let free = &fit.free;
+    jac.iter()
+        .map(|row| {
             let mut v = 0.0;
             for (a, &pa) in free.iter().enumerate() {
                 for (b, &pb) in free.iter().enumerate() {
-                    v += jac[r][a] * cov[(pa, pb)] * jac[r][b];
+                    v += row[a] * cov[(pa, pb)] * row[b];
                 }
             }
             v.max(0.0).sqrt()

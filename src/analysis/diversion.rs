@@ -5,7 +5,7 @@
 use serde::Serialize;
 
 use super::sensitivity::Sens;
-use super::simulate::{shares, shares_with};
+use super::simulate::{shares, shares_many, shares_with, EditFn};
 use crate::design::Design;
 use crate::model::{Baseline, Family};
 
@@ -36,16 +36,33 @@ pub fn removal(
     baseline: Option<&Baseline>,
     names: &[String],
 ) -> Vec<DiversionRow> {
-    let base = shares(family, d, beta);
     let j = d.alternatives();
+    // With the cached base, every withdrawal in one pass over it.
+    let (base, withdrawn) = match baseline {
+        Some(b) => {
+            let edits: Vec<Box<EditFn>> = (0..j)
+                .map(|k| {
+                    Box::new(move |_: usize, _: &[f64], v: &mut [f64]| v[k] = f64::NEG_INFINITY)
+                        as Box<EditFn>
+                })
+                .collect();
+            let refs: Vec<&EditFn> = edits.iter().map(|e| &**e).collect();
+            let (base, after) = shares_many(family, d, beta, b, &refs);
+            (base, Some(after))
+        }
+        None => (shares(family, d, beta), None),
+    };
     let mut out = Vec::new();
     for k in 0..j {
         if base[k] <= 0.0 {
             continue;
         }
-        let after = shares_with(family, d, beta, baseline, |_, _, v| {
-            v[k] = f64::NEG_INFINITY
-        });
+        let after = match &withdrawn {
+            Some(w) => w[k].clone(),
+            None => shares_with(family, d, beta, baseline, |_, _, v| {
+                v[k] = f64::NEG_INFINITY
+            }),
+        };
         for to in 0..j {
             if to != k {
                 out.push(DiversionRow {

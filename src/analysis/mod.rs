@@ -2,6 +2,7 @@
 //! diversion, validation and tests between models. Aggregate figures use
 //! sample enumeration over the estimation data with the spec's weights.
 
+pub mod analytic;
 pub mod compare;
 pub mod delta;
 pub mod diversion;
@@ -206,16 +207,23 @@ pub fn sensitivity_rows(
     let d = &fit.design;
     let map = TermMap::new(spec, d);
     let family = &*fit.family;
-    let sens = sensitivity::sensitivities(family, d, &map, &fit.beta);
+    // Analytic derivatives in one pass where the family has them, else differences.
+    let (sens, se) =
+        match analytic::sensitivities_with_jacobian(family, d, &map, &fit.beta, &fit.free) {
+            Some((sens, jac)) => (sens, delta::se_from_jacobian(fit, &jac)),
+            None => (
+                sensitivity::sensitivities(family, d, &map, &fit.beta),
+                delta::delta_se(fit, &|b| {
+                    sensitivity::sensitivities(family, d, &map, b).flat()
+                }),
+            ),
+        };
     let flat = sens.flat();
-    let se = delta::delta_se(fit, &|b| {
-        sensitivity::sensitivities(family, d, &map, b).flat()
-    });
     let j = d.alternatives();
     let na = spec.attributes.len();
     let names = spec.alternative_names();
-    let baseline = Some(fit.baseline());
-    let base_shares = simulate::shares(family, d, &fit.beta);
+    let (base_shares, arcs) = arc_shares(spec, fit, &map, arc_change);
+    let mut next = 0;
     let flag_attr = flags::flag_attributes(d, &map);
     let flag_char = flags::flag_characteristics(d);
     let mut el = Vec::new();
@@ -225,14 +233,11 @@ pub fn sensitivity_rows(
     let off_cm = off_ce + spec.characteristics.len() * j;
     for (a, attr) in spec.attributes.iter().enumerate() {
         for k in 0..j {
-            let Some(param) = map.attribute[a][k] else {
+            if map.attribute[a][k].is_none() {
                 continue;
-            };
-            let arc = simulate::shares_with(family, d, &fit.beta, baseline, |i, b, v| {
-                if v[k].is_finite() {
-                    v[k] += b[param] * d.obs.attributes[a][i * j + k] * arc_change;
-                }
-            });
+            }
+            let arc = &arcs[next];
+            next += 1;
             for jj in 0..j {
                 let idx = (a * j + k) * j + jj;
                 // A 0/1 flag has no elasticity (see `flags`); its derivative is kept.
@@ -257,14 +262,8 @@ pub fn sensitivity_rows(
         }
     }
     for (c, ch) in spec.characteristics.iter().enumerate() {
-        let arc = simulate::shares_with(family, d, &fit.beta, baseline, |i, b, v| {
-            let z = d.obs.characteristics[c][i];
-            for (vl, param) in v.iter_mut().zip(&map.characteristic[c]) {
-                if let (Some(p), true) = (param, vl.is_finite()) {
-                    *vl += b[*p] * z * arc_change;
-                }
-            }
-        });
+        let arc = &arcs[next];
+        next += 1;
         for jj in 0..j {
             let idx = c * j + jj;
             if !flag_char[c] {
@@ -287,6 +286,39 @@ pub fn sensitivity_rows(
         }
     }
     (el, me, sens)
+}
+
+/// Base shares and the shares after each arc step (every attribute of every
+/// alternative it enters, then every characteristic), in one pass over the
+/// fit's cached base.
+fn arc_shares(spec: &Spec, fit: &Fit, map: &TermMap, arc_change: f64) -> (Vec<f64>, Vec<Vec<f64>>) {
+    let d = &fit.design;
+    let j = d.alternatives();
+    let mut edits: Vec<Box<simulate::EditFn>> = Vec::new();
+    for a in 0..spec.attributes.len() {
+        for k in 0..j {
+            let Some(param) = map.attribute[a][k] else {
+                continue;
+            };
+            edits.push(Box::new(move |i: usize, b: &[f64], v: &mut [f64]| {
+                if v[k].is_finite() {
+                    v[k] += b[param] * d.obs.attributes[a][i * j + k] * arc_change;
+                }
+            }));
+        }
+    }
+    for c in 0..spec.characteristics.len() {
+        edits.push(Box::new(move |i: usize, b: &[f64], v: &mut [f64]| {
+            let z = d.obs.characteristics[c][i];
+            for (vl, param) in v.iter_mut().zip(&map.characteristic[c]) {
+                if let (Some(p), true) = (param, vl.is_finite()) {
+                    *vl += b[*p] * z * arc_change;
+                }
+            }
+        }));
+    }
+    let refs: Vec<&simulate::EditFn> = edits.iter().map(|e| &**e).collect();
+    simulate::shares_many(&*fit.family, d, &fit.beta, fit.baseline(), &refs)
 }
 
 /// Which attribute the price diversion ratios use.

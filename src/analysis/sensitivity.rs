@@ -61,68 +61,94 @@ impl Sens {
     }
 }
 
-pub fn sensitivities(family: &dyn Family, d: &Design, map: &TermMap, beta: &[f64]) -> Sens {
-    let j = d.alternatives();
-    let na = map.attribute.len();
-    let nc = map.characteristic.len();
-    let w = &d.obs.weight;
-    // layout of the accumulator: [attr num a,k,j][attr me a,k,j][char num c,j][char me c,j][P sums j]
-    let (o1, o2, o3, o4) = (
-        na * j * j,
-        2 * na * j * j,
-        2 * na * j * j + nc * j,
-        2 * na * j * j + 2 * nc * j,
-    );
-    let width = o4 + j;
-    // Over every coefficient point of every situation (one for fixed
-    // coefficients): dP/dx through a coefficient is its point's dP/dV times
-    // the point's coefficient, averaged with the point's weight.
-    let parts = Enumeration::new(family, d, beta).points(
-        |_| (vec![0.0; width], vec![0.0; j * j]),
-        |(acc, dp), pt| {
-            let (i, v, p, coef) = (pt.i, pt.v, pt.p, pt.coefficients);
-            family.dprob(coef, v, p, dp);
-            let wi = w[i] * pt.weight;
-            for a in 0..na {
-                for k in 0..j {
-                    let Some(param) = map.attribute[a][k] else {
-                        continue;
-                    };
-                    if !d.available(i, k) {
-                        continue;
-                    }
-                    let b = coef[param];
-                    let x = d.obs.attributes[a][i * j + k];
-                    for jj in 0..j {
-                        let dpk = dp[jj * j + k];
-                        acc[(a * j + k) * j + jj] += wi * b * x * dpk;
-                        acc[o1 + (a * j + k) * j + jj] += wi * b * dpk;
-                    }
-                }
-            }
-            for c in 0..nc {
-                let z = d.obs.characteristics[c][i];
-                for jj in 0..j {
-                    let mut sum = 0.0;
-                    for l in 0..j {
-                        if let Some(param) = map.characteristic[c][l] {
-                            sum += dp[jj * j + l] * coef[param];
-                        }
-                    }
-                    acc[o2 + c * j + jj] += wi * z * sum;
-                    acc[o3 + c * j + jj] += wi * sum;
-                }
-            }
-            for jj in 0..j {
-                acc[o4 + jj] += wi * p[jj];
-            }
-        },
-    );
-    let mut sums = vec![0.0; width];
-    for (part, _) in parts {
-        sums.iter_mut().zip(&part).for_each(|(a, b)| *a += b);
+/// Where each group of sums sits in the accumulator of `sensitivities`:
+/// `[attr num a,k,j][attr me a,k,j][char num c,j][char me c,j][P sums j]`.
+#[derive(Clone, Copy, Debug)]
+pub(crate) struct Layout {
+    pub j: usize,
+    pub na: usize,
+    pub nc: usize,
+}
+
+impl Layout {
+    pub fn new(d: &Design, map: &TermMap) -> Layout {
+        Layout {
+            j: d.alternatives(),
+            na: map.attribute.len(),
+            nc: map.characteristic.len(),
+        }
     }
-    let tw = d.total_weight();
+    /// Offsets of the attribute marginal effects, characteristic numerators,
+    /// characteristic marginal effects and probability sums; the width.
+    pub fn offsets(&self) -> (usize, usize, usize, usize, usize) {
+        let (j, na, nc) = (self.j, self.na, self.nc);
+        let o4 = 2 * na * j * j + 2 * nc * j;
+        (
+            na * j * j,
+            2 * na * j * j,
+            2 * na * j * j + nc * j,
+            o4,
+            o4 + j,
+        )
+    }
+}
+
+/// Adds one coefficient point of situation `i` (its weight `wi` times the
+/// situation's) to the sums: dP/dx through a coefficient is the point's dP/dV
+/// (`dp`) times the point's coefficient.
+#[allow(clippy::too_many_arguments)]
+pub(crate) fn add_point(
+    d: &Design,
+    map: &TermMap,
+    lay: Layout,
+    i: usize,
+    wi: f64,
+    coef: &[f64],
+    p: &[f64],
+    dp: &[f64],
+    acc: &mut [f64],
+) {
+    let (j, na, nc) = (lay.j, lay.na, lay.nc);
+    let (o1, o2, o3, o4, _) = lay.offsets();
+    for a in 0..na {
+        for k in 0..j {
+            let Some(param) = map.attribute[a][k] else {
+                continue;
+            };
+            if !d.available(i, k) {
+                continue;
+            }
+            let b = coef[param];
+            let x = d.obs.attributes[a][i * j + k];
+            for jj in 0..j {
+                let dpk = dp[jj * j + k];
+                acc[(a * j + k) * j + jj] += wi * b * x * dpk;
+                acc[o1 + (a * j + k) * j + jj] += wi * b * dpk;
+            }
+        }
+    }
+    for c in 0..nc {
+        let z = d.obs.characteristics[c][i];
+        for jj in 0..j {
+            let mut sum = 0.0;
+            for l in 0..j {
+                if let Some(param) = map.characteristic[c][l] {
+                    sum += dp[jj * j + l] * coef[param];
+                }
+            }
+            acc[o2 + c * j + jj] += wi * z * sum;
+            acc[o3 + c * j + jj] += wi * sum;
+        }
+    }
+    for jj in 0..j {
+        acc[o4 + jj] += wi * p[jj];
+    }
+}
+
+/// The aggregate figures from the summed accumulator (`tw`: total weight).
+pub(crate) fn finish(lay: Layout, sums: &[f64], tw: f64) -> Sens {
+    let (j, na, nc) = (lay.j, lay.na, lay.nc);
+    let (o1, o2, o3, o4, _) = lay.offsets();
     let psum = &sums[o4..o4 + j];
     let ratio = |num: f64, jj: usize| {
         if psum[jj] > 0.0 {
@@ -151,6 +177,28 @@ pub fn sensitivities(family: &dyn Family, d: &Design, map: &TermMap, beta: &[f64
         char_elast,
         char_me,
     }
+}
+
+/// The aggregate figures at `beta`, one pass over every coefficient point of
+/// every situation (one for fixed coefficients), each weighted by its point's weight.
+pub fn sensitivities(family: &dyn Family, d: &Design, map: &TermMap, beta: &[f64]) -> Sens {
+    let lay = Layout::new(d, map);
+    let j = lay.j;
+    let width = lay.offsets().4;
+    let w = &d.obs.weight;
+    let parts = Enumeration::new(family, d, beta).points(
+        |_| (vec![0.0; width], vec![0.0; j * j]),
+        |(acc, dp), pt| {
+            family.dprob(pt.coefficients, pt.v, pt.p, dp);
+            let wi = w[pt.i] * pt.weight;
+            add_point(d, map, lay, pt.i, wi, pt.coefficients, pt.p, dp, acc);
+        },
+    );
+    let mut sums = vec![0.0; width];
+    for (part, _) in parts {
+        sums.iter_mut().zip(&part).for_each(|(a, b)| *a += b);
+    }
+    finish(lay, &sums, d.total_weight())
 }
 
 /// One reported elasticity (JSON contract: variable, changed, affected, value, std_error).

@@ -119,6 +119,18 @@ pub trait Family: Send + Sync + std::fmt::Debug {
     /// dP_j/dV_k of one situation into `dp` (J x J row-major, row = affected j).
     fn dprob(&self, beta: &[f64], v: &[f64], p: &[f64], dp: &mut [f64]);
 
+    /// Second derivatives d²P_j/(dV_k dV_m) of one situation into `d2p`
+    /// (J x J x J row-major, `[(j * J + k) * J + m]`; zero where an alternative
+    /// is unavailable), for a family whose probabilities depend on the
+    /// parameters only through the utilities (no parameters of its own, one
+    /// coefficient point). The analyses then differentiate aggregate figures by
+    /// the parameters analytically, in one pass. `false` (the default): the
+    /// family has none, and they are differenced numerically.
+    fn d2prob(&self, v: &[f64], p: &[f64], dp: &[f64], d2p: &mut [f64]) -> bool {
+        let _ = (v, p, dp, d2p);
+        false
+    }
+
     /// The family's sentence for the report's cautions, if it has one.
     fn caution(&self, spec: &Spec) -> Option<String>;
 

@@ -178,6 +178,25 @@ impl Family for Probit {
         }
     }
 
+    /// With t = V_other − V_base: dφ(t)/dV_other = −t φ(t), dφ(t)/dV_base = t φ(t).
+    fn d2prob(&self, v: &[f64], _p: &[f64], _dp: &[f64], d2p: &mut [f64]) -> bool {
+        let n = v.len();
+        d2p.iter_mut().for_each(|x| *x = 0.0);
+        let (b, o) = (self.base, 1 - self.base);
+        if v[b].is_finite() && v[o].is_finite() {
+            let t = v[o] - v[b];
+            let g = -t * normal::pdf(t); // d phi / dV_other
+            for (j, sj) in [(o, 1.0), (b, -1.0)] {
+                for (k, sk) in [(o, 1.0), (b, -1.0)] {
+                    for (m, sm) in [(o, 1.0), (b, -1.0)] {
+                        d2p[(j * n + k) * n + m] = sj * sk * sm * g;
+                    }
+                }
+            }
+        }
+        true
+    }
+
     fn caution(&self, _spec: &Spec) -> Option<String> {
         None
     }

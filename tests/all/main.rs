@@ -2,6 +2,7 @@
 //! one room against an outside reference or a fact of the method.
 
 mod analysis;
+mod analytic;
 mod catalogue;
 mod common;
 mod demo_specs;

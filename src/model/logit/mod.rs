@@ -164,6 +164,21 @@ impl Family for Logit {
         }
     }
 
+    /// d/dV_m of P_j (δ_jk − P_k): D_jm (δ_jk − P_k) − P_j D_km, with D = dP/dV.
+    fn d2prob(&self, _v: &[f64], p: &[f64], dp: &[f64], d2p: &mut [f64]) -> bool {
+        let n = p.len();
+        for j in 0..n {
+            for k in 0..n {
+                let c = ((j == k) as u8 as f64) - p[k];
+                let row = &mut d2p[(j * n + k) * n..(j * n + k + 1) * n];
+                for (m, out) in row.iter_mut().enumerate() {
+                    *out = dp[j * n + m] * c - p[j] * dp[k * n + m];
+                }
+            }
+        }
+        true
+    }
+
     fn caution(&self, spec: &Spec) -> Option<String> {
         (spec.alternatives.len() > 2).then(|| {
             "Logit assumes independence from irrelevant alternatives (IIA): a changed or removed option draws share from all others in proportion to their shares.".to_string()

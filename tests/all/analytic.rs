@@ -1,0 +1,136 @@
+//! The one-pass analytic derivatives of the aggregate elasticities and
+//! marginal effects (`analysis::analytic`), checked for every registered
+//! family that gives second derivatives of its probabilities: the figures
+//! equal the generic per-situation computation (`sensitivity::sensitivities`,
+//! kept as the reference and for the other families), and their Jacobian by
+//! the parameters equals central finite differences of that computation
+//! (common practice for checking analytic derivatives). The families' second
+//! derivatives themselves are checked against finite differences of their
+//! first derivatives (the same practice).
+
+use sharecast::analysis::analytic::sensitivities_with_jacobian;
+use sharecast::analysis::sensitivity::{sensitivities, TermMap};
+use sharecast::model::registry::FAMILIES;
+
+use super::families::setup;
+
+#[test]
+fn second_derivatives_of_probabilities_match_finite_differences() {
+    let mut checked = 0;
+    for e in FAMILIES {
+        let (_, family, beta, d) = setup(e, 60, 17);
+        let j = d.alternatives();
+        let (mut v, mut p, mut dp) = (vec![0.0; j], vec![0.0; j], vec![0.0; j * j]);
+        let mut d2p = vec![0.0; j * j * j];
+        let (mut pu, mut dpu, mut pd, mut dpd) = (
+            vec![0.0; j],
+            vec![0.0; j * j],
+            vec![0.0; j],
+            vec![0.0; j * j],
+        );
+        for i in 0..d.situations() {
+            d.utilities(&beta, i, &mut v);
+            family.probabilities(&beta, &v, &mut p);
+            family.dprob(&beta, &v, &p, &mut dp);
+            if !family.d2prob(&v, &p, &dp, &mut d2p) {
+                break;
+            }
+            checked += 1;
+            for m in 0..j {
+                if !v[m].is_finite() {
+                    // An unavailable alternative: every derivative by it is zero.
+                    for jk in 0..j * j {
+                        assert_eq!(d2p[jk * j + m], 0.0, "{}: by unavailable {m}", e.name);
+                    }
+                    continue;
+                }
+                let h = 1e-5;
+                let (mut vu, mut vd) = (v.clone(), v.clone());
+                vu[m] += h;
+                vd[m] -= h;
+                family.probabilities(&beta, &vu, &mut pu);
+                family.dprob(&beta, &vu, &pu, &mut dpu);
+                family.probabilities(&beta, &vd, &mut pd);
+                family.dprob(&beta, &vd, &pd, &mut dpd);
+                for jk in 0..j * j {
+                    let fd = (dpu[jk] - dpd[jk]) / (2.0 * h);
+                    let an = d2p[jk * j + m];
+                    assert!(
+                        (fd - an).abs() < 1e-8,
+                        "{}: d2P/dV dV ({jk}, {m}) at situation {i}: {an} vs numeric {fd}",
+                        e.name
+                    );
+                }
+            }
+        }
+    }
+    assert!(checked > 0, "no family gives second derivatives");
+}
+
+#[test]
+fn one_pass_figures_and_jacobian_match_the_generic_computation() {
+    let mut applied = Vec::new();
+    for e in FAMILIES {
+        let (spec, family, beta, d) = setup(e, 3_000, 23);
+        let map = TermMap::new(&spec, &d);
+        let free: Vec<usize> = (0..beta.len()).collect();
+        let Some((sens, jac)) = sensitivities_with_jacobian(&*family, &d, &map, &beta, &free)
+        else {
+            continue;
+        };
+        applied.push(e.name);
+        // The same figures as the generic pass (the reference), to rounding.
+        let reference = sensitivities(&*family, &d, &map, &beta).flat();
+        let fast = sens.flat();
+        assert_eq!(reference.len(), fast.len());
+        assert_eq!(jac.len(), fast.len());
+        for (r, (a, b)) in reference.iter().zip(&fast).enumerate() {
+            assert!(
+                (a - b).abs() <= 1e-12 * a.abs().max(1e-300) || (a.is_nan() && b.is_nan()),
+                "{}: figure {r}: generic {a} vs one pass {b}",
+                e.name
+            );
+        }
+        // Each column against central differences of the generic pass.
+        for (q, &param) in free.iter().enumerate() {
+            let h = 1e-5 * beta[param].abs().max(0.1);
+            let (mut up, mut dn) = (beta.clone(), beta.clone());
+            up[param] += h;
+            dn[param] -= h;
+            let fu = sensitivities(&*family, &d, &map, &up).flat();
+            let fd = sensitivities(&*family, &d, &map, &dn).flat();
+            for r in 0..fast.len() {
+                let numeric = (fu[r] - fd[r]) / (2.0 * h);
+                let scale = numeric.abs().max(fast[r].abs()).max(1e-3);
+                assert!(
+                    (numeric - jac[r][q]).abs() <= 1e-6 * scale,
+                    "{}: d figure {r} / d {}: analytic {} vs numeric {numeric}",
+                    e.name,
+                    spec.parameters[param].name,
+                    jac[r][q]
+                );
+            }
+        }
+    }
+    // Families whose probabilities depend on the parameters only through the
+    // utilities offer it (a fact of the families: no own parameters).
+    assert!(applied.contains(&"logit"), "applied to {applied:?}");
+    assert!(applied.contains(&"probit"), "applied to {applied:?}");
+}
+
+#[test]
+fn families_with_parameters_of_their_own_keep_the_differenced_jacobian() {
+    for e in FAMILIES {
+        let (spec, family, beta, d) = setup(e, 200, 29);
+        let own = spec
+            .parameters
+            .iter()
+            .any(|p| matches!(p.term, sharecast::spec::Term::Family(_)));
+        let map = TermMap::new(&spec, &d);
+        let free: Vec<usize> = (0..beta.len()).collect();
+        let fast = sensitivities_with_jacobian(&*family, &d, &map, &beta, &free);
+        if own || family.mixture(&d).is_some() {
+            assert!(fast.is_none(), "{}: has parameters of its own", e.name);
+        }
+    }
+}

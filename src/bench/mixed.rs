@@ -260,15 +260,7 @@ pub fn run(o: MixedOptions) -> Result<ExitCode> {
     }
     crate::error::check_count("--decision-makers", o.decision_makers, 1_000_000, 0)?;
     crate::error::check_count("--tasks", o.tasks, 1_000, 0)?;
-    let temp = o.keep.is_none();
-    let dir = o.keep.clone().unwrap_or_else(|| {
-        std::env::temp_dir().join(format!("sharecast-bench-mixed-{}", std::process::id()))
-    });
-    let result = measure(&o, &dir);
-    if temp {
-        let _ = std::fs::remove_dir_all(&dir);
-    }
-    result
+    super::in_folder(o.keep.as_deref(), "mixed", |dir| measure(&o, dir))
 }
 
 fn measure(o: &MixedOptions, dir: &Path) -> Result<ExitCode> {

@@ -344,6 +344,23 @@ pub fn peak_memory() -> Option<u64> {
     status_bytes(&s, "VmHWM")
 }
 
+/// Runs `f` on the folder `keep`, or on a temporary one named after `name`
+/// that is removed afterwards.
+pub(crate) fn in_folder(
+    keep: Option<&Path>,
+    name: &str,
+    f: impl FnOnce(&Path) -> Result<ExitCode>,
+) -> Result<ExitCode> {
+    let dir = keep.map(Path::to_path_buf).unwrap_or_else(|| {
+        std::env::temp_dir().join(format!("sharecast-bench-{name}-{}", std::process::id()))
+    });
+    let result = f(&dir);
+    if keep.is_none() {
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+    result
+}
+
 pub(crate) fn median(mut v: Vec<f64>) -> f64 {
     if v.is_empty() {
         return f64::NAN;

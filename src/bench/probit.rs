@@ -127,15 +127,7 @@ pub fn run(o: ProbitOptions) -> Result<ExitCode> {
         ));
     }
     crate::error::check_count("--situations", o.situations, 10_000_000, 0)?;
-    let temp = o.keep.is_none();
-    let dir = o.keep.clone().unwrap_or_else(|| {
-        std::env::temp_dir().join(format!("sharecast-bench-probit-{}", std::process::id()))
-    });
-    let result = measure(&o, &dir);
-    if temp {
-        let _ = std::fs::remove_dir_all(&dir);
-    }
-    result
+    super::in_folder(o.keep.as_deref(), "probit", |dir| measure(&o, dir))
 }
 
 fn measure(o: &ProbitOptions, dir: &Path) -> Result<ExitCode> {

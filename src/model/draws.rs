@@ -279,3 +279,45 @@ pub fn seed_of(spec: &crate::spec::Spec) -> u64 {
         .unwrap_or_default()
         .seed
 }
+
+/// Values a simulating family builds once per data set (its draws), found
+/// again by the data set's observations; entries of dropped data sets go.
+#[derive(Debug)]
+pub struct PerData<T>(
+    std::sync::Mutex<
+        Vec<(
+            std::sync::Weak<crate::data::Observations>,
+            std::sync::Arc<T>,
+        )>,
+    >,
+);
+
+impl<T> Default for PerData<T> {
+    fn default() -> Self {
+        PerData(std::sync::Mutex::new(Vec::new()))
+    }
+}
+
+impl<T> PerData<T> {
+    /// The value for `obs`, built by `build` the first time.
+    pub fn get_or_build(
+        &self,
+        obs: &std::sync::Arc<crate::data::Observations>,
+        build: impl FnOnce() -> T,
+    ) -> std::sync::Arc<T> {
+        let mut cache = match self.0.lock() {
+            Ok(c) => c,
+            Err(poisoned) => poisoned.into_inner(),
+        };
+        cache.retain(|(w, _)| w.strong_count() > 0);
+        if let Some((_, p)) = cache
+            .iter()
+            .find(|(w, _)| w.upgrade().is_some_and(|o| std::sync::Arc::ptr_eq(&o, obs)))
+        {
+            return p.clone();
+        }
+        let p = std::sync::Arc::new(build());
+        cache.push((std::sync::Arc::downgrade(obs), p.clone()));
+        p
+    }
+}

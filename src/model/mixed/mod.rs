@@ -13,21 +13,17 @@ mod panel;
 pub(crate) mod pass;
 mod rules;
 
-use std::sync::{Arc, Mutex, Weak};
+use std::sync::Arc;
 
 use super::distribution::Distribution;
-use super::draws::Simulation;
+use super::draws::{PerData, Simulation};
 use super::logit::{softmax, Logit};
 use super::{Abilities, Conditional, Eval, Family, FamilyRef, Points, RandomCoefficient};
-use crate::data::Observations;
 use crate::design::Design;
 use crate::spec::{Spec, Term};
 
 pub use panel::Panel;
 pub use rules::{constants_of, Rules};
-
-/// Draws built for one data set, found again by its observations.
-type Cached = (Weak<Observations>, Arc<Panel>);
 
 /// The mixed logit built for one spec.
 #[derive(Debug)]
@@ -39,7 +35,7 @@ pub struct Mixed {
     given: Option<Arc<Vec<f64>>>,
     /// Draws built per data set, found again by its observations (shared
     /// with the cheaper family of bands, which uses the first of them).
-    panels: Arc<Mutex<Vec<Cached>>>,
+    panels: Arc<PerData<Panel>>,
     /// The analyses (not the likelihood) use only this many of each decision
     /// maker's draws: the cheaper family of uncertainty bands.
     limit: Option<usize>,
@@ -84,7 +80,7 @@ impl Mixed {
             simulation,
             binary: spec.alternatives.len() == 2,
             given: None,
-            panels: Arc::new(Mutex::new(Vec::new())),
+            panels: Arc::new(PerData::default()),
             limit: None,
         })
     }
@@ -99,30 +95,19 @@ impl Mixed {
 
     /// The decision makers and draws of `d` (built once per data set).
     pub fn panel(&self, d: &Design) -> Arc<Panel> {
-        let mut cache = match self.panels.lock() {
-            Ok(c) => c,
-            Err(poisoned) => poisoned.into_inner(),
-        };
-        cache.retain(|(w, _)| w.strong_count() > 0);
-        if let Some((_, p)) = cache
-            .iter()
-            .find(|(w, _)| w.upgrade().is_some_and(|o| Arc::ptr_eq(&o, &d.obs)))
-        {
-            return p.clone();
-        }
-        let units = match &d.obs.group {
-            Some(_) => d.obs.groups,
-            None => d.obs.situations,
-        };
-        let dims = self.terms.len();
-        let r = self.simulation.draws;
-        let uniforms = match &self.given {
-            Some(u) if u.len() == units * dims * r => u.to_vec(),
-            _ => self.simulation.uniforms(units, dims),
-        };
-        let p = Arc::new(Panel::new(&d.obs, &self.terms, r, uniforms));
-        cache.push((Arc::downgrade(&d.obs), p.clone()));
-        p
+        self.panels.get_or_build(&d.obs, || {
+            let units = match &d.obs.group {
+                Some(_) => d.obs.groups,
+                None => d.obs.situations,
+            };
+            let dims = self.terms.len();
+            let r = self.simulation.draws;
+            let uniforms = match &self.given {
+                Some(u) if u.len() == units * dims * r => u.to_vec(),
+                _ => self.simulation.uniforms(units, dims),
+            };
+            Panel::new(&d.obs, &self.terms, r, uniforms)
+        })
     }
 
     fn logit(&self) -> Logit {

@@ -19,12 +19,11 @@ pub mod vector;
 
 use std::cell::RefCell;
 use std::sync::atomic::{AtomicBool, Ordering};
-use std::sync::{Arc, Mutex, Weak};
+use std::sync::Arc;
 
-use super::draws::{Simulation, BAND_DRAWS};
+use super::draws::{PerData, Simulation, BAND_DRAWS};
 use super::logit::{Compensated, Logit};
 use super::{Abilities, Added, Derived, Eval, Family, FamilyRef, FamilyWarning};
-use crate::data::Observations;
 use crate::design::Design;
 use crate::spec::Spec;
 
@@ -33,9 +32,6 @@ pub use rules::{Kind, Rules, MAX_ALTERNATIVES};
 
 use covariance::{factor, Pattern};
 use pass::Prepared;
-
-/// A data set's prepared patterns and draws, found again by its observations.
-type Cached = (Weak<Observations>, Arc<Prepared>);
 
 /// Below this many draws per situation the fit carries a warning.
 pub const FEW_DRAWS: usize = 100;
@@ -58,7 +54,7 @@ pub struct Mnp {
     analysis_draws: usize,
     /// The analyses' common uniforms, `[dimension][draw]`.
     common: Arc<Vec<f64>>,
-    prepared: Arc<Mutex<Vec<Cached>>>,
+    prepared: Arc<PerData<Prepared>>,
     /// Set when a search met a covariance that was not positive definite.
     singular: Arc<AtomicBool>,
     /// Uniforms given from outside (`[situation][dimension][draw]`) for reference checks.
@@ -132,7 +128,7 @@ impl Mnp {
             simulation: sim,
             analysis_draws: sim.draws,
             common: Arc::new(sim.uniforms(1, dims)),
-            prepared: Arc::new(Mutex::new(Vec::new())),
+            prepared: Arc::new(PerData::default()),
             singular: Arc::new(AtomicBool::new(false)),
             given: None,
         }
@@ -153,25 +149,14 @@ impl Mnp {
 
     /// The patterns and draws of `d` (built once per data set).
     pub(crate) fn prepared(&self, d: &Design) -> Arc<Prepared> {
-        let mut cache = match self.prepared.lock() {
-            Ok(c) => c,
-            Err(poisoned) => poisoned.into_inner(),
-        };
-        cache.retain(|(w, _)| w.strong_count() > 0);
-        if let Some((_, p)) = cache
-            .iter()
-            .find(|(w, _)| w.upgrade().is_some_and(|o| Arc::ptr_eq(&o, &d.obs)))
-        {
-            return p.clone();
-        }
-        let (n, dims, r) = (d.situations(), self.dims(), self.simulation.draws);
-        let uniforms = match &self.given {
-            Some(u) if u.len() == n * dims * r => u.to_vec(),
-            _ => self.simulation.uniforms(n, dims),
-        };
-        let p = Arc::new(Prepared::new(&d.obs, uniforms, dims, r));
-        cache.push((Arc::downgrade(&d.obs), p.clone()));
-        p
+        self.prepared.get_or_build(&d.obs, || {
+            let (n, dims, r) = (d.situations(), self.dims(), self.simulation.draws);
+            let uniforms = match &self.given {
+                Some(u) if u.len() == n * dims * r => u.to_vec(),
+                _ => self.simulation.uniforms(n, dims),
+            };
+            Prepared::new(&d.obs, uniforms, dims, r)
+        })
     }
 
     /// Raw simulated probabilities of every available alternative of one

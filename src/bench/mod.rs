@@ -6,6 +6,7 @@
 //! peak memory. `docs/performance.md` reports the figures.
 
 pub mod mixed;
+pub mod stream;
 
 use std::fmt::Write as _;
 use std::io::Write as _;

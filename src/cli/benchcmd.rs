@@ -22,6 +22,9 @@ pub enum BenchModel {
     /// alternatives, 3 fixed constants and 4 random attributes, --draws Halton
     /// draws; side by side with a plain numpy pass (bench/mixed_peer.py).
     Mixed,
+    /// A forecast over a Parquet population of --situations situations read
+    /// in chunks (`simulate --data`), the full model fitted on a sample.
+    Stream,
 }
 
 #[derive(Args, Debug)]
@@ -67,9 +70,32 @@ pub struct BenchArgs {
     /// --model mixed: do not run the numpy peer.
     #[arg(long)]
     pub no_peer: bool,
+    /// --model stream: rows of the population read at a time.
+    #[arg(long, default_value_t = crate::data::stream::DEFAULT_CHUNK_ROWS)]
+    pub chunk_rows: usize,
+    /// --model stream: parameter draws of the timed run with bands (0: none).
+    #[arg(long, default_value_t = 10)]
+    pub band_draws: usize,
 }
 
 pub fn run(args: BenchArgs) -> Result<ExitCode> {
+    if args.model == BenchModel::Stream {
+        crate::error::check_count("--situations", args.situations, bench::MAX_SITUATIONS, 0)?;
+        if args.chunk_rows == 0 || args.profile.is_some() {
+            return Err(crate::error::Error::Usage(
+                "--model stream: --chunk-rows must be at least 1, and --profile does not apply"
+                    .into(),
+            ));
+        }
+        return bench::stream::run(bench::stream::StreamOptions {
+            situations: args.situations,
+            chunk_rows: args.chunk_rows,
+            band_draws: args.band_draws,
+            keep: args.keep,
+            write_only: args.write_only,
+            json: args.json,
+        });
+    }
     if args.model == BenchModel::Mixed {
         if args.profile.is_some() {
             return Err(crate::error::Error::Usage(
@@ -101,7 +127,7 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
             BenchModel::Full => bench::Model::Full,
             BenchModel::Characteristics => bench::Model::Characteristics,
             BenchModel::Nested => bench::Model::Nested,
-            BenchModel::Mixed => bench::Model::Full, // handled above
+            BenchModel::Mixed | BenchModel::Stream => bench::Model::Full, // handled above
         },
         keep: args.keep,
         write_only: args.write_only,

@@ -7,6 +7,7 @@
 
 pub mod mixed;
 pub mod probit;
+pub mod stream;
 
 use std::fmt::Write as _;
 use std::io::Write as _;

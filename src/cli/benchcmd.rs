@@ -25,6 +25,9 @@ pub enum BenchModel {
     /// A multinomial probit: --situations (default 20,000) of 5 alternatives,
     /// full error covariance (15 parameters), --draws GHK draws (default 500).
     Probit,
+    /// A forecast over a Parquet population of --situations situations read
+    /// in chunks (`simulate --data`), the full model fitted on a sample.
+    Stream,
 }
 
 #[derive(Args, Debug)]
@@ -71,9 +74,33 @@ pub struct BenchArgs {
     /// --model mixed: do not run the numpy peer.
     #[arg(long)]
     pub no_peer: bool,
+    /// --model stream: rows of the population read at a time.
+    #[arg(long, default_value_t = crate::data::stream::DEFAULT_CHUNK_ROWS)]
+    pub chunk_rows: usize,
+    /// --model stream: parameter draws of the timed run with bands (0: none).
+    #[arg(long, default_value_t = 10)]
+    pub band_draws: usize,
 }
 
 pub fn run(args: BenchArgs) -> Result<ExitCode> {
+    if args.model == BenchModel::Stream {
+        let situations = args.situations.unwrap_or(1_000_000);
+        crate::error::check_count("--situations", situations, bench::MAX_SITUATIONS, 0)?;
+        if args.chunk_rows == 0 || args.profile.is_some() {
+            return Err(crate::error::Error::Usage(
+                "--model stream: --chunk-rows must be at least 1, and --profile does not apply"
+                    .into(),
+            ));
+        }
+        return bench::stream::run(bench::stream::StreamOptions {
+            situations,
+            chunk_rows: args.chunk_rows,
+            band_draws: args.band_draws,
+            keep: args.keep,
+            write_only: args.write_only,
+            json: args.json,
+        });
+    }
     let draws = args.draws.unwrap_or(if args.model == BenchModel::Probit {
         500
     } else {
@@ -125,7 +152,7 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
             BenchModel::Full => bench::Model::Full,
             BenchModel::Characteristics => bench::Model::Characteristics,
             BenchModel::Nested => bench::Model::Nested,
-            BenchModel::Mixed | BenchModel::Probit => bench::Model::Full, // handled above
+            BenchModel::Mixed | BenchModel::Probit | BenchModel::Stream => bench::Model::Full, // handled above
         },
         keep: args.keep,
         write_only: args.write_only,

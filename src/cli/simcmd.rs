@@ -45,6 +45,10 @@ pub struct SimulateArgs {
     /// Reuse a fit saved with `fit --save` when spec and data are unchanged.
     #[arg(long, value_name = "FILE.json")]
     pub load: Option<PathBuf>,
+    /// With --data: rows of the file read at a time; a longer file is
+    /// forecast chunk by chunk in bounded memory.
+    #[arg(long, value_name = "N", default_value_t = data::stream::DEFAULT_CHUNK_ROWS)]
+    pub chunk_rows: usize,
 }
 
 #[derive(Args, Debug)]
@@ -110,25 +114,6 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
     if let Some(n) = note {
         crate::errln!("{n}");
     }
-    let (fit, ds) = match &args.data {
-        None => (fit, est),
-        Some(file) => {
-            let other = data::load_file(&spec, file, &extra)?;
-            let design =
-                crate::design::Design::build(&spec, std::sync::Arc::new(other.obs.clone()));
-            fit.family.check_data(&spec, &design).map_err(|m| {
-                crate::error::Error::data(file, format!("forecasting over this file: {m}"))
-            })?;
-            (
-                crate::estimate::Fit {
-                    design,
-                    baseline: Default::default(),
-                    ..fit
-                },
-                other,
-            )
-        }
-    };
     let opts = scenario::Options {
         draws: args.draws,
         seed: args.seed,
@@ -136,16 +121,35 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
         market,
         quick: false,
     };
-    let f = scenario::forecast(&spec, &fit, &ds, &sc, &opts)?;
-    if let Some(out) = &args.out {
-        if args.per_situation {
-            let prep = prepare::prepare(&spec, &fit, &ds.table, &sc)?;
-            let (beta, _) = scenario::base_parameters(&spec, &fit, &sc)?;
-            export::per_situation(out, args.force, &*fit.family, &fit.design, &beta, &prep)?;
-        } else {
-            export::forecast(out, args.force, &f)?;
+    let (f, fit) = match &args.data {
+        None => in_memory(&args, &spec, &sc, &opts, fit, est)?,
+        Some(file) => {
+            if args.chunk_rows == 0 {
+                return Err(Error::Usage(
+                    "--chunk-rows: give a number of rows of at least 1".into(),
+                ));
+            }
+            let mut chunks = data::stream::Chunks::open(&spec, file, &extra, args.chunk_rows)?;
+            if chunks.single() {
+                drop(chunks);
+                let other = data::load_file(&spec, file, &extra)?;
+                let design =
+                    crate::design::Design::build(&spec, std::sync::Arc::new(other.obs.clone()));
+                fit.family.check_data(&spec, &design).map_err(|m| {
+                    crate::error::Error::data(file, format!("forecasting over this file: {m}"))
+                })?;
+                let fit = crate::estimate::Fit {
+                    design,
+                    baseline: Default::default(),
+                    ..fit
+                };
+                in_memory(&args, &spec, &sc, &opts, fit, other)?
+            } else {
+                drop(est);
+                (streamed(&args, &spec, &sc, &opts, &fit, &mut chunks)?, fit)
+            }
         }
-    }
+    };
     if args.json {
         crate::outln!("{}", serde_json::to_string_pretty(&f).unwrap_or_default());
     } else {
@@ -157,6 +161,70 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
         }
     }
     Ok(ExitCode::SUCCESS)
+}
+
+/// The forecast over data held in memory (and its export).
+fn in_memory(
+    args: &SimulateArgs,
+    spec: &crate::spec::Spec,
+    sc: &Scenario,
+    opts: &scenario::Options,
+    fit: crate::estimate::Fit,
+    ds: data::Dataset,
+) -> Result<(scenario::Forecast, crate::estimate::Fit)> {
+    let f = scenario::forecast(spec, &fit, &ds, sc, opts)?;
+    if let Some(out) = &args.out {
+        if args.per_situation {
+            let prep = prepare::prepare(spec, &fit, &ds.table, sc)?;
+            let (beta, _) = scenario::base_parameters(spec, &fit, sc)?;
+            export::per_situation(out, args.force, &*fit.family, &fit.design, &beta, &prep)?;
+        } else {
+            export::forecast(out, args.force, &f)?;
+        }
+    }
+    Ok((f, fit))
+}
+
+/// The forecast over a population read chunk by chunk; per-situation rows
+/// are appended to one file as each chunk is done.
+fn streamed(
+    args: &SimulateArgs,
+    spec: &crate::spec::Spec,
+    sc: &Scenario,
+    opts: &scenario::Options,
+    fit: &crate::estimate::Fit,
+    chunks: &mut data::stream::Chunks,
+) -> Result<scenario::Forecast> {
+    let Some(out) = args.out.as_ref().filter(|_| args.per_situation) else {
+        let f = scenario::stream::forecast(spec, fit, chunks, sc, opts, None)?;
+        if let Some(out) = &args.out {
+            export::forecast(out, args.force, &f)?;
+        }
+        return Ok(f);
+    };
+    // The format is checked before anything is read.
+    export::SituationWriter::new(out)?;
+    let mut result = None;
+    data::write::atomic(out, args.force, |file| {
+        let mut writer = export::SituationWriter::new(out)?;
+        {
+            let mut append = |cf: &crate::estimate::Fit, prep: &prepare::Prepared, beta: &[f64]| {
+                let cols = export::situation_columns(&*cf.family, &cf.design, beta, prep);
+                writer.append(out, file, &cols)
+            };
+            let sink: scenario::stream::Sink = &mut append;
+            result = Some(scenario::stream::forecast(
+                spec,
+                fit,
+                chunks,
+                sc,
+                opts,
+                Some(sink),
+            )?);
+        }
+        writer.finish(out, file)
+    })?;
+    result.ok_or_else(|| Error::Usage("the forecast did not run".into()))
 }
 
 pub fn sweep(args: SweepArgs) -> Result<ExitCode> {

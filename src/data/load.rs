@@ -116,6 +116,22 @@ pub fn readable_columns(path: &Path) -> Result<(Vec<String>, Vec<Unreadable>)> {
 /// Reads `numeric` columns as f64 (unparsable values become NaN) and `text`
 /// columns as strings. A column may be in both lists; it is then kept as text.
 pub fn read(path: &Path, numeric: &[String], text: &[String]) -> Result<Table> {
+    let wanted = wanted_columns(path, numeric, text)?;
+    let is_text = |c: &str| text.iter().any(|t| t == c);
+    let df = match format_of(path)? {
+        Format::Csv => read_csv(path, None, &wanted, &is_text)?,
+        Format::Parquet => read_parquet(path, None, &wanted, &is_text)?,
+    };
+    to_table(path, df, &wanted, numeric, text)
+}
+
+/// The columns to read (text ones first, each once), refused naming the file
+/// and the column when one is not in the file.
+pub(super) fn wanted_columns(
+    path: &Path,
+    numeric: &[String],
+    text: &[String],
+) -> Result<Vec<String>> {
     let names = column_names(path)?;
     let mut wanted: Vec<String> = Vec::new();
     for c in text.iter().chain(numeric) {
@@ -130,36 +146,82 @@ pub fn read(path: &Path, numeric: &[String], text: &[String]) -> Result<Table> {
             wanted.push(c.clone());
         }
     }
-    let is_text = |c: &str| text.iter().any(|t| t == c);
-    let df = match format_of(path)? {
-        Format::Csv => read_csv(path, &wanted, &is_text)?,
-        Format::Parquet => {
-            let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
-            let mut reader = ParquetReader::new(file);
-            let schema = reader.schema().map_err(|e| polars_err(path, e))?;
-            for c in &wanted {
-                if let Some(field) = schema.get(c.as_str()) {
-                    parquet_type_usable(path, c, field.dtype(), is_text(c))?;
-                }
-            }
-            reader
-                .with_columns(Some(wanted.clone()))
-                .finish()
-                .map_err(|e| polars_err(path, e))?
+    Ok(wanted)
+}
+
+/// Whether a data file is Parquet (else CSV; other endings are refused).
+pub(super) fn is_parquet(path: &Path) -> Result<bool> {
+    Ok(format_of(path)? == Format::Parquet)
+}
+
+/// Reads the wanted columns of a Parquet file, or of the rows `slice`
+/// (offset, length) only, reusing `meta` (the file's footer) when given.
+pub(super) fn read_parquet(
+    path: &Path,
+    slice: Option<(
+        usize,
+        usize,
+        &polars::io::parquet::metadata::FileMetadataRef,
+    )>,
+    wanted: &[String],
+    is_text: &dyn Fn(&str) -> bool,
+) -> Result<DataFrame> {
+    let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+    let mut reader = ParquetReader::new(file);
+    if let Some((_, _, meta)) = slice {
+        reader.set_metadata(meta.clone());
+        // By row groups: those outside the slice are skipped, not decoded.
+        reader = reader.read_parallel(ParallelStrategy::RowGroups);
+    }
+    let schema = reader.schema().map_err(|e| polars_err(path, e))?;
+    for c in wanted {
+        if let Some(field) = schema.get(c.as_str()) {
+            parquet_type_usable(path, c, field.dtype(), is_text(c))?;
         }
-    };
+    }
+    reader
+        .with_columns(Some(wanted.to_vec()))
+        .with_slice(slice.map(|(offset, len, _)| (offset, len)))
+        .finish()
+        .map_err(|e| polars_err(path, e))
+}
+
+/// The footer of a Parquet file and its number of rows.
+pub(super) fn parquet_rows(
+    path: &Path,
+) -> Result<(polars::io::parquet::metadata::FileMetadataRef, usize)> {
+    let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+    let mut reader = ParquetReader::new(file);
+    let meta = reader
+        .get_metadata()
+        .map_err(|e| polars_err(path, e))?
+        .clone();
+    let rows = meta.num_rows;
+    Ok((meta, rows))
+}
+
+/// The wanted columns of a frame as a `Table`: numeric ones as f64, text ones
+/// as strings (a column wanted both ways stays numeric when it can).
+pub(super) fn to_table(
+    path: &Path,
+    df: DataFrame,
+    wanted: &[String],
+    numeric: &[String],
+    text: &[String],
+) -> Result<Table> {
+    let is_text = |c: &str| text.iter().any(|t| t == c);
     let nrows = df.height();
     if nrows == 0 {
         return Err(Error::data(path, "the file has a header but no data rows"));
     }
-    for name in &wanted {
+    for name in wanted {
         df.column(name).map_err(|e| polars_err(path, e))?;
     }
     // Columns are taken out of the frame one at a time and dropped once
     // converted, so that the file is not held twice over at its full size.
     let mut columns = df.into_columns();
     let mut table = Table::new(path, nrows);
-    for name in &wanted {
+    for name in wanted {
         let Some(at) = columns.iter().position(|c| c.name().as_str() == name) else {
             return Err(Error::data(
                 path,
@@ -198,7 +260,14 @@ pub fn read(path: &Path, numeric: &[String], text: &[String]) -> Result<Table> {
 /// numbers. Numeric columns with unreadable cells (` 1.5 ` padded with spaces,
 /// which polars does not parse) are read again as text and parsed trimmed;
 /// this second read happens only for such columns.
-fn read_csv(path: &Path, wanted: &[String], is_text: &dyn Fn(&str) -> bool) -> Result<DataFrame> {
+/// With `bytes`, the header and rows are those bytes instead (a chunk of the
+/// file; errors still name `path`).
+pub(super) fn read_csv(
+    path: &Path,
+    bytes: Option<&[u8]>,
+    wanted: &[String],
+    is_text: &dyn Fn(&str) -> bool,
+) -> Result<DataFrame> {
     let read = |cols: &[String], as_text: &dyn Fn(&str) -> bool| {
         let schema: Schema = cols
             .iter()
@@ -212,14 +281,20 @@ fn read_csv(path: &Path, wanted: &[String], is_text: &dyn Fn(&str) -> bool) -> R
             })
             .collect();
         let names: Arc<[PlSmallStr]> = cols.iter().map(|c| PlSmallStr::from(c.as_str())).collect();
-        CsvReadOptions::default()
+        let options = CsvReadOptions::default()
             .with_has_header(true)
             .with_columns(Some(names))
             .with_schema_overwrite(Some(Arc::new(schema)))
-            .with_ignore_errors(true)
-            .try_into_reader_with_file_path(Some(path.to_path_buf()))
-            .and_then(|r| r.finish())
-            .map_err(|e| polars_err(path, e))
+            .with_ignore_errors(true);
+        match bytes {
+            Some(b) => options
+                .into_reader_with_file_handle(std::io::Cursor::new(b))
+                .finish(),
+            None => options
+                .try_into_reader_with_file_path(Some(path.to_path_buf()))
+                .and_then(|r| r.finish()),
+        }
+        .map_err(|e| polars_err(path, e))
     };
     let mut df = read(wanted, is_text)?;
     let gaps: Vec<String> = wanted

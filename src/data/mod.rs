@@ -5,6 +5,7 @@
 mod csvcheck;
 pub mod load;
 mod reshape;
+pub mod stream;
 pub mod table;
 pub mod write;
 
@@ -60,7 +61,13 @@ pub fn load(spec: &Spec, extra: &Extra) -> Result<Dataset> {
 /// Loads another file with the same columns (e.g. `simulate --data`).
 pub fn load_file(spec: &Spec, file: &std::path::Path, extra: &Extra) -> Result<Dataset> {
     let (numeric, text) = needed_columns(spec, extra);
-    let mut table = load::read(file, &numeric, &text)?;
+    let table = load::read(file, &numeric, &text)?;
+    from_table(spec, table)
+}
+
+/// The `Dataset` of the needed columns of a file (or of a chunk of its rows):
+/// `[derived]` columns added, then reshaped.
+fn from_table(spec: &Spec, mut table: Table) -> Result<Dataset> {
     add_derived(spec, &mut table)?;
     let (obs, situation_table) = match &spec.data.layout {
         Layout::Wide { choice } => {

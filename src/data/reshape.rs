@@ -60,7 +60,7 @@ fn raw_weights(spec: &Spec, table: &Table, rows: &[usize]) -> Result<Vec<f64>> {
                     &table.file,
                     format!(
                         "column `{w}` ([data].weight): weights must be positive; row {} has {}",
-                        rows[k] + 1,
+                        table.offset + rows[k] + 1,
                         out[k]
                     ),
                 ));
@@ -96,7 +96,7 @@ fn wide_choices(spec: &Spec, table: &Table, choice: &str) -> Result<Vec<u32>> {
             &table.file,
             format!(
                 "column `{choice}` ([data].choice), row {}: `{k}` is not a declared alternative or code (declared: {})",
-                i + 1,
+                table.offset + i + 1,
                 declared(spec)
             ),
         )
@@ -170,7 +170,7 @@ pub(super) fn wide(spec: &Spec, table: &Table, choice: &str) -> Result<Observati
                 file,
                 format!(
                     "row {}: the chosen alternative `{}` is unavailable there (column `{}` is 0)",
-                    i + 1,
+                    table.offset + i + 1,
                     spec.alternatives[j].name,
                     spec.alternatives[j].available.as_deref().unwrap_or("?")
                 ),
@@ -193,7 +193,7 @@ pub(super) fn wide(spec: &Spec, table: &Table, choice: &str) -> Result<Observati
                 Some(Source::Column(c)) => {
                     let role = format!("attribute {} of {}", a.name, spec.alternatives[j].name);
                     let v = table.numeric_column(c, &role)?;
-                    check_finite(file, c, &role, v, |i| available[i * nalt + j])?;
+                    check_finite(file, table.offset, c, &role, v, |i| available[i * nalt + j])?;
                     for i in 0..n {
                         if available[i * nalt + j] {
                             x[i * nalt + j] = v[i];
@@ -223,7 +223,7 @@ pub(super) fn wide(spec: &Spec, table: &Table, choice: &str) -> Result<Observati
         groups: ngroups,
         attributes,
         characteristics,
-        first_row: rows.iter().map(|r| r + 1).collect(),
+        first_row: rows.iter().map(|r| table.offset + r + 1).collect(),
     })
 }
 
@@ -245,8 +245,8 @@ fn constant_within(
                     format!(
                         "{what} varies within situation `{}` (rows {} and {}: {} vs {}); it must be constant within a situation",
                         sit_keys[s],
-                        rows[0] + 1,
-                        r + 1,
+                        table.offset + rows[0] + 1,
+                        table.offset + r + 1,
                         first,
                         v
                     ),
@@ -283,7 +283,7 @@ pub(super) fn long(
                 file,
                 format!(
                     "column `{alternative}` ([data].alternative), row {}: `{}` is not a declared alternative or code (declared: {})",
-                    r + 1,
+                    table.offset + r + 1,
                     alt_keys[r],
                     declared(spec)
                 ),
@@ -304,8 +304,8 @@ pub(super) fn long(
                     "situation `{}` has two rows for alternative `{}` (rows {} and {})",
                     sit_keys_row[r],
                     spec.alternatives[j].name,
-                    prev + 1,
-                    r + 1
+                    table.offset + prev + 1,
+                    table.offset + r + 1
                 ),
             ));
         }
@@ -319,7 +319,7 @@ pub(super) fn long(
                 file,
                 format!(
                     "column `{chosen_col}` ([data].chosen), row {}: {v} is not 0 or 1",
-                    r + 1
+                    table.offset + r + 1
                 ),
             ));
         }
@@ -342,7 +342,7 @@ pub(super) fn long(
                             file,
                             format!(
                                 "column `{c}` ({role}), row {}: missing or not a number",
-                                r + 1
+                                table.offset + r + 1
                             ),
                         ));
                     }
@@ -362,7 +362,7 @@ pub(super) fn long(
         if picked.len() != 1 {
             let rows = members[s]
                 .iter()
-                .map(|r| (r + 1).to_string())
+                .map(|r| (table.offset + r + 1).to_string())
                 .collect::<Vec<_>>()
                 .join(", ");
             return Err(Error::data(
@@ -381,7 +381,7 @@ pub(super) fn long(
                 format!(
                     "situation `{}`, row {}: the chosen alternative `{}` is marked unavailable",
                     sit_keys[s],
-                    picked[0] + 1,
+                    table.offset + picked[0] + 1,
                     spec.alternatives[j].name
                 ),
             ));
@@ -409,7 +409,7 @@ pub(super) fn long(
                         if !super::table::usable(v) {
                             return Err(Error::data(
                                 file,
-                                format!("column `{c}` ({role}), row {}: missing, non-numeric, infinite or too large", r + 1),
+                                format!("column `{c}` ({role}), row {}: missing, non-numeric, infinite or too large", table.offset + r + 1),
                             ));
                         }
                         v
@@ -453,8 +453,8 @@ pub(super) fn long(
                     format!(
                         "column `{g}` ([data].group) varies within situation `{}` (rows {} and {})",
                         sit_keys[s],
-                        rows[0] + 1,
-                        r + 1
+                        table.offset + rows[0] + 1,
+                        table.offset + r + 1
                     ),
                 ));
             }
@@ -489,7 +489,7 @@ pub(super) fn long(
             groups: ngroups,
             attributes,
             characteristics,
-            first_row: first.iter().map(|r| r + 1).collect(),
+            first_row: first.iter().map(|r| table.offset + r + 1).collect(),
         },
         st,
     ))

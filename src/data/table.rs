@@ -17,6 +17,9 @@ pub enum Column {
 pub struct Table {
     pub file: PathBuf,
     pub nrows: usize,
+    /// Rows of the file before this table's first row (a chunk of a larger
+    /// file): messages name file rows `offset + i + 1`.
+    pub offset: usize,
     pub names: Vec<String>,
     columns: HashMap<String, Column>,
 }
@@ -26,6 +29,7 @@ impl Table {
         Table {
             file: file.to_path_buf(),
             nrows,
+            offset: 0,
             names: Vec::new(),
             columns: HashMap::new(),
         }
@@ -57,7 +61,7 @@ impl Table {
     /// Numbers of a column, every one finite; the error says how many are not and the first row.
     pub fn numbers(&self, name: &str, role: &str) -> Result<&[f64]> {
         let v = self.numeric_column(name, role)?;
-        check_finite(&self.file, name, role, v, |_| true)?;
+        check_finite(&self.file, self.offset, name, role, v, |_| true)?;
         Ok(v)
     }
 
@@ -91,7 +95,7 @@ impl Table {
         };
         let missing = out.iter().filter(|v| v.is_none()).count();
         if missing > 0 {
-            let first = out.iter().position(|v| v.is_none()).unwrap_or(0) + 1;
+            let first = self.offset + out.iter().position(|v| v.is_none()).unwrap_or(0) + 1;
             return Err(Error::data(
                 &self.file,
                 format!(
@@ -115,24 +119,12 @@ impl Table {
                 first.insert(k, labels.len() as u32);
                 labels.push(k);
                 if labels.len() > MAX_SEGMENTS {
-                    return Err(Error::data(
-                        &self.file,
-                        format!(
-                            "column `{name}` ({role}) has more than {MAX_SEGMENTS} distinct values; segments are reported for at most {MAX_SEGMENTS} (is it an identifier? group its values into a coarser column with [derived])"
-                        ),
-                    ));
+                    return Err(too_many_segments(&self.file, name, role));
                 }
             }
         }
         let mut order: Vec<usize> = (0..labels.len()).collect();
-        order.sort_by(
-            |&a, &b| match (labels[a].parse::<f64>(), labels[b].parse::<f64>()) {
-                (Ok(x), Ok(y)) => x.total_cmp(&y),
-                (Ok(_), Err(_)) => std::cmp::Ordering::Less,
-                (Err(_), Ok(_)) => std::cmp::Ordering::Greater,
-                _ => labels[a].cmp(labels[b]),
-            },
-        );
+        order.sort_by(|&a, &b| label_order(labels[a], labels[b]));
         let mut rank = vec![0u32; labels.len()];
         for (r, &o) in order.iter().enumerate() {
             rank[o] = r as u32;
@@ -143,6 +135,74 @@ impl Table {
             .collect();
         let sorted = order.iter().map(|&o| labels[o].to_string()).collect();
         Ok((index, sorted))
+    }
+
+    /// Rows `from..` as a table of their own (its `offset` moved on), leaving
+    /// rows `..from` here.
+    pub fn split_off(&mut self, from: usize) -> Table {
+        let mut tail = Table::new(&self.file, self.nrows - from);
+        tail.offset = self.offset + from;
+        for name in &self.names {
+            let col = match self.columns.get_mut(name) {
+                Some(Column::Num(v)) => Column::Num(v.split_off(from)),
+                Some(Column::Text(v)) => Column::Text(v.split_off(from)),
+                None => continue,
+            };
+            tail.insert(name, col);
+        }
+        self.nrows = from;
+        tail
+    }
+
+    /// Appends the rows of `more` (the same columns; a column numeric in one
+    /// and text in the other becomes text).
+    pub fn append(&mut self, more: Table) {
+        let Table {
+            nrows, mut columns, ..
+        } = more;
+        for name in &self.names {
+            let (Some(mine), Some(theirs)) = (self.columns.get_mut(name), columns.remove(name))
+            else {
+                continue;
+            };
+            let text = |c: Column| match c {
+                Column::Text(v) => v,
+                Column::Num(v) => v
+                    .into_iter()
+                    .map(|x| (!x.is_nan()).then(|| number_key(x)))
+                    .collect(),
+            };
+            match (mine, theirs) {
+                (Column::Num(a), Column::Num(b)) => a.extend(b),
+                (Column::Text(a), b) => a.extend(text(b)),
+                (mine, Column::Text(b)) => {
+                    let mut a = text(std::mem::replace(mine, Column::Num(Vec::new())));
+                    a.extend(b);
+                    *mine = Column::Text(a);
+                }
+            }
+        }
+        self.nrows += nrows;
+    }
+
+    /// Where the last run of equal values of column `name` starts (the rows
+    /// of the last situation or decision maker); 0 when the column is missing.
+    pub fn last_run(&self, name: &str) -> usize {
+        let n = self.nrows;
+        match self.columns.get(name) {
+            Some(Column::Num(v)) if n > 0 => {
+                let last = v[n - 1].to_bits();
+                (0..n)
+                    .rev()
+                    .find(|&i| v[i].to_bits() != last)
+                    .map_or(0, |i| i + 1)
+            }
+            Some(Column::Text(v)) if n > 0 => {
+                let last = &v[n - 1];
+                (0..n).rev().find(|&i| &v[i] != last).map_or(0, |i| i + 1)
+            }
+            _ => 0,
+        }
     }
 
     pub fn unknown(&self, name: &str, role: &str) -> Error {
@@ -158,6 +218,26 @@ impl Table {
             ),
         )
     }
+}
+
+/// The order of segment labels: numbers in numeric order, then text.
+pub fn label_order(a: &str, b: &str) -> std::cmp::Ordering {
+    match (a.parse::<f64>(), b.parse::<f64>()) {
+        (Ok(x), Ok(y)) => x.total_cmp(&y),
+        (Ok(_), Err(_)) => std::cmp::Ordering::Less,
+        (Err(_), Ok(_)) => std::cmp::Ordering::Greater,
+        _ => a.cmp(b),
+    }
+}
+
+/// The refusal of a segment column with too many values.
+pub fn too_many_segments(file: &Path, name: &str, role: &str) -> Error {
+    Error::data(
+        file,
+        format!(
+            "column `{name}` ({role}) has more than {MAX_SEGMENTS} distinct values; segments are reported for at most {MAX_SEGMENTS} (is it an identifier? group its values into a coarser column with [derived])"
+        ),
+    )
 }
 
 /// The most segments a `--by` column may have.
@@ -183,6 +263,7 @@ pub fn usable(x: f64) -> bool {
 /// Errors on the first non-finite (or absurdly large) value among the rows `keep` selects.
 pub fn check_finite(
     file: &Path,
+    offset: usize,
     name: &str,
     role: &str,
     v: &[f64],
@@ -208,7 +289,7 @@ pub fn check_finite(
                 file,
                 format!(
                     "column `{name}` ({role}): {count} row(s) missing, non-numeric, infinite or too large; first at row {} ({what})",
-                    i + 1
+                    offset + i + 1
                 ),
             ))
         }

@@ -18,7 +18,11 @@ pub enum Values {
 }
 
 impl Values {
-    fn len(&self) -> usize {
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+
+    pub fn len(&self) -> usize {
         match self {
             Values::Num(v) => v.len(),
             Values::Int(v) => v.len(),
@@ -128,5 +132,55 @@ pub fn table(path: &Path, force: bool, columns: &[(String, Values)]) -> Result<(
                 .map_err(|e| Error::io(path, e))
         }),
         _ => Err(Error::io(path, "tables are written as .csv or .parquet")),
+    }
+}
+
+/// Writes rows of a table as CSV to an open file: with the header for the
+/// first part, without it for the next (the parts then read as one table).
+pub fn csv_rows(
+    path: &Path,
+    f: &mut std::fs::File,
+    columns: &[(String, Values)],
+    header: bool,
+) -> Result<()> {
+    let mut df = frame(columns)?;
+    CsvWriter::new(f)
+        .include_header(header)
+        .finish(&mut df)
+        .map_err(|e| Error::io(path, e))
+}
+
+/// A Parquet file written part by part (a row group or more per part).
+pub struct ParquetAppender {
+    writer: polars::io::parquet::write::BatchedWriter<std::fs::File>,
+}
+
+impl ParquetAppender {
+    /// Starts a Parquet file on `f` with the schema of `columns`.
+    pub fn new(
+        path: &Path,
+        f: &std::fs::File,
+        columns: &[(String, Values)],
+    ) -> Result<ParquetAppender> {
+        let df = frame(columns)?;
+        let handle = f.try_clone().map_err(|e| Error::io(path, e))?;
+        let writer = ParquetWriter::new(handle)
+            .batched(df.schema())
+            .map_err(|e| Error::io(path, e))?;
+        Ok(ParquetAppender { writer })
+    }
+
+    /// Appends rows with the same columns.
+    pub fn append(&mut self, path: &Path, columns: &[(String, Values)]) -> Result<()> {
+        let df = frame(columns)?;
+        self.writer.write_batch(&df).map_err(|e| Error::io(path, e))
+    }
+
+    /// Writes the footer.
+    pub fn finish(self, path: &Path) -> Result<()> {
+        self.writer
+            .finish()
+            .map(|_| ())
+            .map_err(|e| Error::io(path, e))
     }
 }

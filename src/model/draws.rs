@@ -134,6 +134,14 @@ impl Simulation {
 
     /// Uniform draws in (0, 1), `[unit][dimension][draw]`.
     pub fn uniforms(&self, units: usize, dims: usize) -> Vec<f64> {
+        self.uniforms_from(0, units, dims)
+    }
+
+    /// The draws of units `first..first + units` of a longer run of units:
+    /// the same numbers `uniforms(first + units, dims)` gives them. The Halton
+    /// sequence starts at the unit's place; the others run their generator
+    /// past the earlier units' draws (time in proportion to `first`).
+    pub fn uniforms_from(&self, first: usize, units: usize, dims: usize) -> Vec<f64> {
         let r = self.draws;
         let mut out: Vec<f64>;
         let mut rng = Rng::new(self.seed ^ 0x5eed_d4a3_u64);
@@ -163,7 +171,7 @@ impl Simulation {
                     for (n, unit) in range.zip(chunk.chunks_mut(per_unit.max(1))) {
                         for (d, (base, shift, perm)) in dims_setup.iter().enumerate() {
                             for (k, x) in unit[d * r..(d + 1) * r].iter_mut().enumerate() {
-                                let index = (n * r + k + 1) as u64;
+                                let index = ((first + n) * r + k + 1) as u64;
                                 let h = match perm {
                                     None => halton(*base, index),
                                     Some(p) => scrambled_halton(*base, index, p),
@@ -175,6 +183,10 @@ impl Simulation {
                 });
             }
             Sequence::Mlhs => {
+                let mut skip = vec![0.0; r];
+                for _ in 0..first * dims {
+                    mlhs(&mut rng, &mut skip);
+                }
                 out = vec![0.0; units * dims * r];
                 for n in 0..units {
                     for d in 0..dims {
@@ -184,6 +196,9 @@ impl Simulation {
                 }
             }
             Sequence::Pseudo => {
+                for _ in 0..first * dims * r {
+                    rng.uniform();
+                }
                 out = vec![0.0; units * dims * r];
                 for x in out.iter_mut() {
                     *x = open_unit(rng.uniform());

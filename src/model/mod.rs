@@ -194,6 +194,16 @@ pub trait Family: Send + Sync + std::fmt::Debug {
         None
     }
 
+    /// The same family over a part of a larger data set (a population read
+    /// in chunks) whose first decision maker is the `first`-th (from 0) of
+    /// the whole: a family that gives each decision maker their own simulation
+    /// draws numbers them from there, so that the parts together get the
+    /// draws of the whole. `None` (the default): nothing depends on the position.
+    fn at_unit(&self, first: usize) -> Option<FamilyRef> {
+        let _ = first;
+        None
+    }
+
     /// The coefficients that vary across decision makers.
     fn random_coefficients(&self) -> Vec<RandomCoefficient> {
         Vec::new()

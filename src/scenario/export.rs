@@ -81,6 +81,28 @@ pub fn per_situation(
     beta: &[f64],
     prep: &Prepared,
 ) -> Result<()> {
+    let cols = situation_columns(family, d, beta, prep);
+    match ext(path).as_str() {
+        "csv" | "parquet" => write::table(path, force, &cols),
+        "json" => write::text(
+            path,
+            force,
+            &(serde_json::to_string(&json_rows(&cols)).unwrap_or_default() + "\n"),
+        ),
+        _ => Err(Error::io(
+            path,
+            "exports are written as .csv, .parquet or .json",
+        )),
+    }
+}
+
+/// The per-situation columns: `row`, then `base_<alt>` and `scenario_<alt>`.
+pub fn situation_columns(
+    family: &dyn Family,
+    d: &Design,
+    beta: &[f64],
+    prep: &Prepared,
+) -> Vec<(String, Values)> {
     let m = prep.alternatives();
     let n = d.situations();
     // Each piece's rows, alternative by alternative (base, then scenario).
@@ -117,31 +139,100 @@ pub fn per_situation(
             Values::Num(std::mem::take(&mut scen[a])),
         ));
     }
-    match ext(path).as_str() {
-        "csv" | "parquet" => write::table(path, force, &cols),
-        "json" => {
-            let mut rows = Vec::with_capacity(n);
-            for i in 0..n {
-                let mut o = serde_json::Map::new();
-                for (name, v) in &cols {
-                    let val = match v {
-                        Values::Num(x) => serde_json::json!(x[i]),
-                        Values::Int(x) => serde_json::json!(x[i]),
-                        Values::Text(x) => serde_json::json!(x[i]),
-                    };
-                    o.insert(name.clone(), val);
-                }
-                rows.push(serde_json::Value::Object(o));
-            }
-            write::text(
-                path,
-                force,
-                &(serde_json::to_string(&rows).unwrap_or_default() + "\n"),
-            )
+    cols
+}
+
+/// One JSON object per row of `cols`.
+fn json_rows(cols: &[(String, Values)]) -> Vec<serde_json::Value> {
+    let n = cols.first().map(|c| c.1.len()).unwrap_or(0);
+    let mut rows = Vec::with_capacity(n);
+    for i in 0..n {
+        let mut o = serde_json::Map::new();
+        for (name, v) in cols {
+            let val = match v {
+                Values::Num(x) => serde_json::json!(x[i]),
+                Values::Int(x) => serde_json::json!(x[i]),
+                Values::Text(x) => serde_json::json!(x[i]),
+            };
+            o.insert(name.clone(), val);
         }
-        _ => Err(Error::io(
-            path,
-            "exports are written as .csv, .parquet or .json",
-        )),
+        rows.push(serde_json::Value::Object(o));
+    }
+    rows
+}
+
+/// Writes the per-situation rows of a population chunk by chunk into one
+/// file (inside `write::atomic`'s temporary file): the same bytes as
+/// `per_situation` for CSV and JSON, the same rows (in row groups) for Parquet.
+pub struct SituationWriter {
+    kind: String,
+    chunks: usize,
+    parquet: Option<write::ParquetAppender>,
+}
+
+impl SituationWriter {
+    /// A writer for `path`'s format (.csv, .parquet or .json).
+    pub fn new(path: &Path) -> Result<SituationWriter> {
+        let kind = ext(path);
+        if !matches!(kind.as_str(), "csv" | "parquet" | "json") {
+            return Err(Error::io(
+                path,
+                "exports are written as .csv, .parquet or .json",
+            ));
+        }
+        Ok(SituationWriter {
+            kind,
+            chunks: 0,
+            parquet: None,
+        })
+    }
+
+    /// Appends one chunk's rows.
+    pub fn append(
+        &mut self,
+        path: &Path,
+        f: &mut std::fs::File,
+        cols: &[(String, Values)],
+    ) -> Result<()> {
+        use std::io::Write;
+        let first = self.chunks == 0;
+        self.chunks += 1;
+        match self.kind.as_str() {
+            "csv" => write::csv_rows(path, f, cols, first),
+            "parquet" => {
+                if first {
+                    self.parquet = Some(write::ParquetAppender::new(path, f, cols)?);
+                }
+                match &mut self.parquet {
+                    Some(p) => p.append(path, cols),
+                    None => Ok(()),
+                }
+            }
+            _ => {
+                let rows = json_rows(cols);
+                let mut text = String::new();
+                for r in rows {
+                    text.push(if first && text.is_empty() { '[' } else { ',' });
+                    text.push_str(&serde_json::to_string(&r).unwrap_or_default());
+                }
+                f.write_all(text.as_bytes()).map_err(|e| Error::io(path, e))
+            }
+        }
+    }
+
+    /// Ends the file (after the last chunk).
+    pub fn finish(self, path: &Path, f: &mut std::fs::File) -> Result<()> {
+        use std::io::Write;
+        match self.kind.as_str() {
+            "csv" => Ok(()),
+            "parquet" => match self.parquet {
+                Some(p) => p.finish(path),
+                None => Ok(()),
+            },
+            _ => {
+                let end = if self.chunks == 0 { "[]\n" } else { "]\n" };
+                f.write_all(end.as_bytes()).map_err(|e| Error::io(path, e))
+            }
+        }
     }
 }

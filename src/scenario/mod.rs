@@ -7,6 +7,7 @@ pub mod export;
 pub mod file;
 pub mod prepare;
 pub mod simulate;
+pub mod stream;
 pub mod sweep;
 
 use serde::Serialize;
@@ -156,13 +157,8 @@ pub fn base_parameters(
     }
 }
 
-pub fn forecast(
-    spec: &Spec,
-    fit: &Fit,
-    ds: &Dataset,
-    scenario: &Scenario,
-    opts: &Options,
-) -> Result<Forecast> {
+/// Refuses what a scenario cannot do with this family, and too many draws.
+fn check(spec: &Spec, fit: &Fit, scenario: &Scenario, opts: &Options) -> Result<()> {
     if fit.family.abilities().ordered
         && (!scenario.new_alternatives.is_empty() || !scenario.remove.is_empty())
     {
@@ -188,6 +184,35 @@ pub fn forecast(
             }
         )));
     }
+    Ok(())
+}
+
+/// What a forecast's figures come from, however the situations were passed over.
+struct Figures {
+    names: Vec<String>,
+    point: simulate::Pass,
+    /// Per alternative, the scenario share and the change under each parameter draw.
+    band_scen: Vec<Vec<f64>>,
+    band_change: Vec<Vec<f64>>,
+    /// Per segment and alternative, the scenario share under each draw.
+    band_seg: Vec<Vec<f64>>,
+    labels: Option<Vec<String>>,
+    situations: usize,
+    stranded_situations: usize,
+    lost_share: f64,
+    market: Option<f64>,
+    calibration: Option<calibrate::Calibrated>,
+    warnings: Vec<String>,
+}
+
+pub fn forecast(
+    spec: &Spec,
+    fit: &Fit,
+    ds: &Dataset,
+    scenario: &Scenario,
+    opts: &Options,
+) -> Result<Forecast> {
+    check(spec, fit, scenario, opts)?;
     let d = &fit.design;
     let prep = prepare::prepare(spec, fit, &ds.table, scenario)?;
     let (beta, calibration) = base_parameters(spec, fit, scenario)?;
@@ -212,11 +237,6 @@ pub fn forecast(
     let mut warnings = Vec::new();
     let (stranded_situations, stranded_weight) = prep.stranded(d);
     let lost_share = stranded_weight / d.total_weight().max(1e-300);
-    warnings.extend(stranded_warning(
-        stranded_situations,
-        lost_share,
-        d.situations(),
-    ));
 
     // Bands from draws of the parameters; a calibration shift is carried to every draw.
     let shift: Vec<f64> = beta.iter().zip(&fit.beta).map(|(a, b)| a - b).collect();
@@ -243,18 +263,62 @@ pub fn forecast(
                     }
                 }
             }
-            None => warnings
-                .push("the covariance is not positive definite: no uncertainty bands".into()),
+            None => warnings.push(NO_BANDS.into()),
         }
     }
-    let band = |v: &mut Vec<f64>| {
-        v.sort_by(|a, b| a.total_cmp(b));
-        (quantile(v, 0.025), quantile(v, 0.975))
-    };
     let market = match &opts.market {
         Some(Market::Total(t)) => Some(*t),
         Some(Market::Weights) => Some(d.obs.weight_total),
         None => None,
+    };
+    Ok(assemble(
+        scenario,
+        opts,
+        Figures {
+            names: prep.names.clone(),
+            point,
+            band_scen,
+            band_change,
+            band_seg,
+            labels: seg.map(|s| s.1),
+            situations: d.situations(),
+            stranded_situations,
+            lost_share,
+            market,
+            calibration,
+            warnings,
+        },
+    ))
+}
+
+/// The warning when the parameters cannot be drawn.
+const NO_BANDS: &str = "the covariance is not positive definite: no uncertainty bands";
+
+/// The forecast from its figures: shares with bands, volumes and revenue,
+/// switching, segments and warnings.
+fn assemble(scenario: &Scenario, opts: &Options, fig: Figures) -> Forecast {
+    let Figures {
+        names,
+        point,
+        mut band_scen,
+        mut band_change,
+        mut band_seg,
+        labels,
+        situations,
+        stranded_situations,
+        lost_share,
+        market,
+        calibration,
+        mut warnings,
+    } = fig;
+    let m = names.len();
+    // The stranded warning comes first.
+    if let Some(w) = stranded_warning(stranded_situations, lost_share, situations) {
+        warnings.insert(0, w);
+    }
+    let band = |v: &mut Vec<f64>| {
+        v.sort_by(|a, b| a.total_cmp(b));
+        (quantile(v, 0.025), quantile(v, 0.975))
     };
     let mut shares = Vec::new();
     for a in 0..m {
@@ -262,7 +326,7 @@ pub fn forecast(
         let (change_low, change_high) = band(&mut band_change[a]);
         let (b, s) = (point.base[a], point.scenario[a]);
         shares.push(ShareRow {
-            alternative: prep.names[a].clone(),
+            alternative: names[a].clone(),
             base: b,
             scenario: s,
             change: s - b,
@@ -292,22 +356,22 @@ pub fn forecast(
             let share = point.switching[from * m + to];
             if from != to && share > 0.0 {
                 switching.push(SwitchRow {
-                    from: prep.names[from].clone(),
-                    to: prep.names[to].clone(),
+                    from: names[from].clone(),
+                    to: names[to].clone(),
                     share,
                 });
             }
         }
     }
     let mut segments = Vec::new();
-    if let Some((_, labels)) = &seg {
+    if let Some(labels) = &labels {
         for (s, label) in labels.iter().enumerate() {
             let (b, sc) = &point.segments[s];
             for a in 0..m {
                 let (low, high) = band(&mut band_seg[s * m + a]);
                 segments.push(SegmentRow {
                     segment: label.clone(),
-                    alternative: prep.names[a].clone(),
+                    alternative: names[a].clone(),
                     situations: point.segment_count[s] as usize,
                     base: b[a],
                     scenario: sc[a],
@@ -318,7 +382,7 @@ pub fn forecast(
             }
         }
     }
-    Ok(Forecast {
+    Forecast {
         scenario: scenario.name.clone(),
         draws: if band_scen.first().is_some_and(|v| !v.is_empty()) {
             opts.draws
@@ -326,7 +390,7 @@ pub fn forecast(
             0
         },
         seed: opts.seed,
-        situations: d.situations(),
+        situations,
         shares,
         switching,
         segments,
@@ -336,5 +400,5 @@ pub fn forecast(
         stranded_situations,
         lost_share,
         warnings,
-    })
+    }
 }

@@ -53,7 +53,7 @@ fn eval(table: &Table, key: &str, text: &str, e: &Expr, spec: &Spec) -> Result<V
             &table.file,
             format!(
                 "{key} `{text}` is not a finite number at row {} (missing values in its columns?)",
-                r + 1
+                table.offset + r + 1
             ),
         ));
     }

@@ -56,6 +56,126 @@ pub fn run(
     price: Option<usize>,
     baseline: Option<&Baseline>,
 ) -> Pass {
+    sums(family, d, beta, prep, segments, price, baseline).pass(d.total_weight())
+}
+
+/// The weighted sums of one pass, before they are divided by the weights:
+/// `base m | scenario m | switching m*m | per segment (base m, scenario m,
+/// weight, count) | revenue 2m`. Sums over parts of a population add up.
+#[derive(Clone, Debug)]
+pub struct Sums {
+    pub acc: Vec<f64>,
+    pub m: usize,
+    pub segments: usize,
+    pub price: bool,
+}
+
+impl Sums {
+    /// Zero sums for `m` alternatives and `segments` segments.
+    pub fn zero(m: usize, segments: usize, price: bool) -> Sums {
+        Sums {
+            acc: vec![0.0; 2 * m + m * m + segments * (2 * m + 2) + 2 * m],
+            m,
+            segments,
+            price,
+        }
+    }
+
+    fn o_seg(&self) -> usize {
+        2 * self.m + self.m * self.m
+    }
+
+    fn o_rev(&self) -> usize {
+        self.o_seg() + self.segments * (2 * self.m + 2)
+    }
+
+    /// Segment `s`'s block: base m, scenario m, weight, count.
+    pub fn segment(&self, s: usize) -> &[f64] {
+        let w = 2 * self.m + 2;
+        let at = self.o_seg() + s * w;
+        &self.acc[at..at + w]
+    }
+
+    /// Adds `factor` times the sums of another part whose segment `s` is this
+    /// one's `into[s]` (the whole layout when `into` is `None`).
+    pub fn add(&mut self, other: &Sums, factor: f64, into: Option<&[usize]>) {
+        let scaled = |x: f64| if factor == 1.0 { x } else { x * factor };
+        let core = other.o_seg();
+        for k in 0..core {
+            self.acc[k] += scaled(other.acc[k]);
+        }
+        let (ro, rs) = (other.o_rev(), self.o_rev());
+        for k in 0..2 * self.m {
+            self.acc[rs + k] += scaled(other.acc[ro + k]);
+        }
+        let w = 2 * self.m + 2;
+        for s in 0..other.segments {
+            let to = into.map_or(s, |i| i[s]);
+            let (a, b) = (self.o_seg() + to * w, other.o_seg() + s * w);
+            for k in 0..2 * self.m + 1 {
+                self.acc[a + k] += scaled(other.acc[b + k]);
+            }
+            // The count is a count, not a weight.
+            self.acc[a + 2 * self.m + 1] += other.acc[b + 2 * self.m + 1];
+        }
+    }
+
+    /// One more segment (zero sums) at the end.
+    pub fn push_segment(&mut self) {
+        let at = self.o_rev();
+        let w = 2 * self.m + 2;
+        self.acc.splice(at..at, std::iter::repeat_n(0.0, w));
+        self.segments += 1;
+    }
+
+    /// The shares: sums divided by the total weight `tw` (segments by their own weight).
+    pub fn pass(&self, tw: f64) -> Pass {
+        let (m, ns) = (self.m, self.segments);
+        let acc = &self.acc;
+        let o_sw = 2 * m;
+        let o_seg = self.o_seg();
+        let o_rev = self.o_rev();
+        let scale = |v: &[f64], t: f64| v.iter().map(|x| x / t).collect::<Vec<f64>>();
+        let mut segs = Vec::new();
+        let mut sw = Vec::new();
+        let mut sc = Vec::new();
+        for s in 0..ns {
+            let base = o_seg + s * (2 * m + 2);
+            let wt = acc[base + 2 * m];
+            segs.push((
+                scale(&acc[base..base + m], wt),
+                scale(&acc[base + m..base + 2 * m], wt),
+            ));
+            sw.push(wt);
+            sc.push(acc[base + 2 * m + 1]);
+        }
+        Pass {
+            base: scale(&acc[..m], tw),
+            scenario: scale(&acc[m..2 * m], tw),
+            switching: scale(&acc[o_sw..o_seg], tw),
+            segments: segs,
+            segment_weight: sw,
+            segment_count: sc,
+            revenue: self.price.then(|| {
+                (
+                    scale(&acc[o_rev..o_rev + m], tw),
+                    scale(&acc[o_rev + m..o_rev + 2 * m], tw),
+                )
+            }),
+        }
+    }
+}
+
+/// The sums of a point simulation at `beta` (see `run`).
+pub fn sums(
+    family: &dyn Family,
+    d: &Design,
+    beta: &[f64],
+    prep: &Prepared,
+    segments: Option<(&[u32], usize)>,
+    price: Option<usize>,
+    baseline: Option<&Baseline>,
+) -> Sums {
     let j = d.alternatives();
     let m = prep.alternatives();
     let ns = segments.map(|s| s.1).unwrap_or(0);
@@ -117,34 +237,11 @@ pub fn run(
                 }
             }
         });
-    let tw = d.total_weight();
-    let scale = |v: &[f64], t: f64| v.iter().map(|x| x / t).collect::<Vec<f64>>();
-    let mut segs = Vec::new();
-    let mut sw = Vec::new();
-    let mut sc = Vec::new();
-    for s in 0..ns {
-        let base = o_seg + s * (2 * m + 2);
-        let wt = acc[base + 2 * m];
-        segs.push((
-            scale(&acc[base..base + m], wt),
-            scale(&acc[base + m..base + 2 * m], wt),
-        ));
-        sw.push(wt);
-        sc.push(acc[base + 2 * m + 1]);
-    }
-    Pass {
-        base: scale(&acc[..m], tw),
-        scenario: scale(&acc[m..2 * m], tw),
-        switching: scale(&acc[o_sw..o_seg], tw),
-        segments: segs,
-        segment_weight: sw,
-        segment_count: sc,
-        revenue: price.map(|_| {
-            (
-                scale(&acc[o_rev..o_rev + m], tw),
-                scale(&acc[o_rev + m..o_rev + 2 * m], tw),
-            )
-        }),
+    Sums {
+        acc,
+        m,
+        segments: ns,
+        price: price.is_some(),
     }
 }
 

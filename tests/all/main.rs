@@ -27,5 +27,6 @@ mod report_html;
 mod report_render;
 mod scenarios;
 mod spec_errors;
+mod stream;
 mod tui;
 mod wording;

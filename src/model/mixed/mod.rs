@@ -39,6 +39,9 @@ pub struct Mixed {
     /// The analyses (not the likelihood) use only this many of each decision
     /// maker's draws: the cheaper family of uncertainty bands.
     limit: Option<usize>,
+    /// The position of the data set's first decision maker in a larger one
+    /// (a chunk of a population): the draws start there.
+    first_unit: usize,
 }
 
 pub use super::draws::BAND_DRAWS;
@@ -82,6 +85,7 @@ impl Mixed {
             given: None,
             panels: Arc::new(PerData::default()),
             limit: None,
+            first_unit: 0,
         })
     }
 
@@ -103,8 +107,8 @@ impl Mixed {
             let dims = self.terms.len();
             let r = self.simulation.draws;
             let uniforms = match &self.given {
-                Some(u) if u.len() == units * dims * r => u.to_vec(),
-                _ => self.simulation.uniforms(units, dims),
+                Some(u) if u.len() == units * dims * r && self.first_unit == 0 => u.to_vec(),
+                _ => self.simulation.uniforms_from(self.first_unit, units, dims),
             };
             Panel::new(&d.obs, &self.terms, r, uniforms)
         })
@@ -274,8 +278,21 @@ impl Family for Mixed {
                 given: self.given.clone(),
                 panels: self.panels.clone(),
                 limit: Some(BAND_DRAWS),
+                first_unit: self.first_unit,
             }) as FamilyRef
         })
+    }
+
+    fn at_unit(&self, first: usize) -> Option<FamilyRef> {
+        Some(Arc::new(Mixed {
+            terms: self.terms.clone(),
+            simulation: self.simulation,
+            binary: self.binary,
+            given: self.given.clone(),
+            panels: Arc::new(PerData::default()),
+            limit: self.limit,
+            first_unit: first,
+        }))
     }
 
     fn random_coefficients(&self) -> Vec<RandomCoefficient> {

@@ -59,7 +59,8 @@ pub fn sensitivities_with_jacobian(
         },
     );
     let mut total = Scratch::new(sz);
-    for part in parts {
+    for mut part in parts {
+        part.flush();
         total
             .values
             .iter_mut()
@@ -70,6 +71,7 @@ pub fn sensitivities_with_jacobian(
             .iter_mut()
             .zip(&part.sums)
             .for_each(|(a, b)| *a += b);
+        total.pe.iter_mut().zip(&part.pe).for_each(|(a, b)| *a += b);
     }
     let tw = d.total_weight();
     let sens = finish(lay, &total.values, tw);
@@ -95,55 +97,64 @@ struct Sizes {
     kf: usize,
 }
 
+/// Situations gathered before their products are added to the sums (one
+/// matrix product per changed alternative and block).
+const BLOCK: usize = 128;
+
 impl Sizes {
     fn new(lay: Layout, kf: usize) -> Sizes {
         Sizes { lay, kf }
     }
-    /// Offsets in `Scratch::sums` of
-    /// `[A a,k,j][AG a,k,q,j][BD k,j][BG k,q,j][CD c,l,j][CG c,l,q,j][PE q,j]`
-    /// (A: Σ w x_ak D[j][k]; AG: Σ w x_ak G[j][k][q]; B: the same without x;
-    /// C: the same with the characteristic z_c; PE: Σ w dP_j/dβ_q), and the width.
-    fn offsets(&self) -> [usize; 7] {
-        let Layout { j, na, nc } = self.lay;
-        let jq = j * self.kf * j;
-        let ag = na * j * j;
-        let bd = ag + na * jq;
-        let bg = bd + j * j;
-        let cd = bg + jq;
-        let cg = cd + nc * j * j;
-        let pe = cg + nc * jq;
-        [ag, bd, bg, cd, cg, pe, pe + self.kf * j]
+    /// The multipliers of a changed alternative k: each attribute's value
+    /// (x_ak), 1, each characteristic (z_c); all times the weight.
+    fn rows(&self) -> usize {
+        self.lay.na + 1 + self.lay.nc
+    }
+    /// A block row of a changed alternative k: G[k][q][j] (q over the free
+    /// parameters) then D[j][k].
+    fn width(&self) -> usize {
+        (self.kf + 1) * self.lay.j
     }
 }
 
 /// One piece's sums and the per-situation scratch.
+///
+/// `sums` holds, per changed alternative k, a `rows × width` matrix: row r
+/// (multiplier u_r: x_ak, 1 or z_c, times the weight) and column (q, j) the
+/// sum of u_r G[k][q][j], column (kf, j) the sum of u_r D[j][k]. Situations
+/// are gathered `BLOCK` at a time and added with one matrix product per k.
 struct Scratch {
     sz: Sizes,
     values: Vec<f64>,
     sums: Vec<f64>,
+    /// Σ w dP_j/dβ_q, `[q][j]`.
+    pe: Vec<f64>,
     dp: Vec<f64>,
     d2p: Vec<f64>,
-    /// G[k][q][j] = dD[j][k]/dβ_q of the current situation.
+    /// Gathered multipliers `[k][situation][row]` and rows `[k][situation][column]`.
+    u: Vec<f64>,
     g: Vec<f64>,
-    /// E[q][j] = dP_j/dβ_q of the current situation.
-    e: Vec<f64>,
+    filled: usize,
 }
 
 impl Scratch {
     fn new(sz: Sizes) -> Scratch {
         let j = sz.lay.j;
+        let (rows, width) = (sz.rows(), sz.width());
         Scratch {
             sz,
             values: vec![0.0; sz.lay.offsets().4],
-            sums: vec![0.0; sz.offsets()[6]],
+            sums: vec![0.0; j * rows * width],
+            pe: vec![0.0; sz.kf * j],
             dp: vec![0.0; j * j],
             d2p: vec![0.0; j * j * j],
-            g: vec![0.0; j * sz.kf * j],
-            e: vec![0.0; sz.kf * j],
+            u: vec![0.0; j * BLOCK * rows],
+            g: vec![0.0; j * BLOCK * width],
+            filled: 0,
         }
     }
 
-    /// Adds situation `i`'s derivative sums (weight `wi`), from `dp` and `d2p`.
+    /// Gathers situation `i`'s derivative rows (weight `wi`), from `dp` and `d2p`.
     fn add_derivatives(
         &mut self,
         d: &Design,
@@ -152,12 +163,62 @@ impl Scratch {
         i: usize,
         wi: f64,
     ) {
-        let Layout { j, na, nc } = self.sz.lay;
-        let kf = self.sz.kf;
-        let jq = kf * j;
-        let [ag, bd, bg, cd, cg, pe, _] = self.sz.offsets();
-        self.g.iter_mut().for_each(|x| *x = 0.0);
-        self.e.iter_mut().for_each(|x| *x = 0.0);
+        // The loops over alternatives unrolled for the usual counts.
+        match self.sz.lay.j {
+            2 => self.gather::<2>(d, map, column, i, wi),
+            3 => self.gather::<3>(d, map, column, i, wi),
+            4 => self.gather::<4>(d, map, column, i, wi),
+            5 => self.gather::<5>(d, map, column, i, wi),
+            6 => self.gather::<6>(d, map, column, i, wi),
+            7 => self.gather::<7>(d, map, column, i, wi),
+            8 => self.gather::<8>(d, map, column, i, wi),
+            _ => self.gather::<0>(d, map, column, i, wi),
+        }
+        self.filled += 1;
+        if self.filled == BLOCK {
+            self.flush();
+        }
+    }
+
+    /// `add_derivatives` with `J` alternatives (0: as many as the layout says).
+    #[inline(always)]
+    fn gather<const J: usize>(
+        &mut self,
+        d: &Design,
+        map: &TermMap,
+        column: &[Option<usize>],
+        i: usize,
+        wi: f64,
+    ) {
+        let j = if J == 0 { self.sz.lay.j } else { J };
+        let Layout { na, nc, .. } = self.sz.lay;
+        let (rows, width) = (self.sz.rows(), self.sz.width());
+        let jq = self.sz.kf * j;
+        let b = self.filled;
+        let dp = &self.dp[..j * j];
+        let d2p = &self.d2p[..j * j * j];
+        for k in 0..j {
+            let row = &mut self.g[(k * BLOCK + b) * width..][..width];
+            row[..jq].iter_mut().for_each(|x| *x = 0.0);
+            for jj in 0..j {
+                row[jq + jj] = dp[jj * j + k];
+            }
+            let u = &mut self.u[(k * BLOCK + b) * rows..][..rows];
+            u.iter_mut().for_each(|x| *x = 0.0);
+            if !d.available(i, k) {
+                continue;
+            }
+            for (a, ua) in u[..na].iter_mut().enumerate() {
+                if map.attribute[a][k].is_some() {
+                    *ua = wi * d.obs.attributes[a][i * j + k];
+                }
+            }
+            u[na] = wi;
+            for c in 0..nc {
+                u[na + 1 + c] = wi * d.obs.characteristics[c][i];
+            }
+        }
+        let g = &mut self.g[b * width..];
         for (m, feats) in d.features.iter().enumerate() {
             if !d.available(i, m) {
                 continue;
@@ -165,46 +226,53 @@ impl Scratch {
             for f in feats {
                 let Some(q) = column[f.param] else { continue };
                 let x = d.value(i, m, f.value);
+                let pe = &mut self.pe[q * j..][..j];
                 for jj in 0..j {
-                    self.e[q * j + jj] += self.dp[jj * j + m] * x;
+                    pe[jj] += wi * x * dp[jj * j + m];
                 }
                 for k in 0..j {
-                    let g = &mut self.g[(k * kf + q) * j..(k * kf + q + 1) * j];
-                    for (jj, gj) in g.iter_mut().enumerate() {
-                        *gj += self.d2p[(jj * j + k) * j + m] * x;
+                    let out = &mut g[k * BLOCK * width + q * j..][..j];
+                    for jj in 0..j {
+                        out[jj] += x * d2p[(jj * j + k) * j + m];
                     }
                 }
             }
         }
-        let s = &mut self.sums;
-        for k in 0..j {
-            if !d.available(i, k) {
-                continue;
-            }
-            let gk = &self.g[k * jq..(k + 1) * jq];
-            for a in 0..na {
-                if map.attribute[a][k].is_none() {
-                    continue;
-                }
-                let wx = wi * d.obs.attributes[a][i * j + k];
-                for jj in 0..j {
-                    s[(a * j + k) * j + jj] += wx * self.dp[jj * j + k];
-                }
-                axpy(&mut s[ag + (a * j + k) * jq..][..jq], wx, gk);
-            }
-            for jj in 0..j {
-                s[bd + k * j + jj] += wi * self.dp[jj * j + k];
-            }
-            axpy(&mut s[bg + k * jq..][..jq], wi, gk);
-            for c in 0..nc {
-                let wz = wi * d.obs.characteristics[c][i];
-                for jj in 0..j {
-                    s[cd + (c * j + k) * j + jj] += wz * self.dp[jj * j + k];
-                }
-                axpy(&mut s[cg + (c * j + k) * jq..][..jq], wz, gk);
+    }
+
+    /// Adds the gathered situations' products to the sums.
+    fn flush(&mut self) {
+        let n = self.filled;
+        if n == 0 {
+            return;
+        }
+        let (rows, width) = (self.sz.rows(), self.sz.width());
+        for k in 0..self.sz.lay.j {
+            let u = &self.u[k * BLOCK * rows..][..n * rows];
+            let g = &self.g[k * BLOCK * width..][..n * width];
+            let c = &mut self.sums[k * rows * width..][..rows * width];
+            // SAFETY: u is n × rows (row-major), read as its transpose
+            // rows × n; g is n × width; c is rows × width; all in bounds.
+            unsafe {
+                matrixmultiply::dgemm(
+                    rows,
+                    n,
+                    width,
+                    1.0,
+                    u.as_ptr(),
+                    1,
+                    rows as isize,
+                    g.as_ptr(),
+                    width as isize,
+                    1,
+                    1.0,
+                    c.as_mut_ptr(),
+                    width as isize,
+                    1,
+                );
             }
         }
-        axpy(&mut s[pe..pe + jq], wi, &self.e);
+        self.filled = 0;
     }
 
     /// The Jacobian of `Sens::flat()` by the free parameters from the summed
@@ -212,39 +280,40 @@ impl Scratch {
     fn jacobian(&self, map: &TermMap, beta: &[f64], free: &[usize], tw: f64) -> Vec<Vec<f64>> {
         let Layout { j, na, nc } = self.sz.lay;
         let kf = self.sz.kf;
+        let (rows, width) = (self.sz.rows(), self.sz.width());
         let jq = kf * j;
-        let [ag, bd, bg, cd, cg, pe, _] = self.sz.offsets();
-        let (o1, o2, o3, o4, width) = self.sz.lay.offsets();
-        let (v, s) = (&self.values, &self.sums);
+        let (o1, o2, o3, o4, all) = self.sz.lay.offsets();
+        let (v, pe) = (&self.values, &self.pe);
+        // Row r of changed alternative k: its G sum at (q, j), its D sum at j.
+        let at = |k: usize, r: usize| &self.sums[(k * rows + r) * width..][..width];
         let psum = &v[o4..o4 + j];
-        let mut rows = vec![vec![0.0; kf]; width - j];
+        let mut out = vec![vec![0.0; kf]; all - j];
         // A figure's sum S over P_j's sum: dS/Σw P_j − S Σw dP_j/dβ_q / (Σw P_j)².
         let quotient = |num: f64, dnum: f64, jj: usize, q: usize| {
             if psum[jj] > 0.0 {
-                dnum / psum[jj] - num * s[pe + q * j + jj] / (psum[jj] * psum[jj])
+                dnum / psum[jj] - num * pe[q * j + jj] / (psum[jj] * psum[jj])
             } else {
                 f64::NAN
             }
         };
-        let own = |param: Option<usize>, q: usize| param == Some(free[q]);
+        let own = |param: usize, q: usize| param == free[q];
         for a in 0..na {
             for k in 0..j {
                 let Some(param) = map.attribute[a][k] else {
                     continue;
                 };
                 let b = beta[param];
+                let (ra, rb) = (at(k, a), at(k, na));
                 for jj in 0..j {
                     let idx = (a * j + k) * j + jj;
                     for q in 0..kf {
-                        let at = (k * kf + q) * j + jj;
-                        let (mut dn, mut dm) =
-                            (b * s[ag + (a * j + k) * jq + q * j + jj], b * s[bg + at]);
-                        if own(Some(param), q) {
-                            dn += s[idx];
-                            dm += s[bd + k * j + jj];
+                        let (mut dn, mut dm) = (b * ra[q * j + jj], b * rb[q * j + jj]);
+                        if own(param, q) {
+                            dn += ra[jq + jj];
+                            dm += rb[jq + jj];
                         }
-                        rows[idx][q] = quotient(v[idx], dn, jj, q);
-                        rows[o1 + idx][q] = dm / tw;
+                        out[idx][q] = quotient(v[idx], dn, jj, q);
+                        out[o1 + idx][q] = dm / tw;
                     }
                 }
             }
@@ -259,26 +328,19 @@ impl Scratch {
                             continue;
                         };
                         let b = beta[param];
-                        dn += b * s[cg + (c * j + l) * jq + q * j + jj];
-                        dm += b * s[bg + (l * kf + q) * j + jj];
-                        if own(Some(param), q) {
-                            dn += s[cd + (c * j + l) * j + jj];
-                            dm += s[bd + l * j + jj];
+                        let (rc, rb) = (at(l, na + 1 + c), at(l, na));
+                        dn += b * rc[q * j + jj];
+                        dm += b * rb[q * j + jj];
+                        if own(param, q) {
+                            dn += rc[jq + jj];
+                            dm += rb[jq + jj];
                         }
                     }
-                    rows[o2 + idx][q] = quotient(v[o2 + idx], dn, jj, q);
-                    rows[o3 + idx][q] = dm / tw;
+                    out[o2 + idx][q] = quotient(v[o2 + idx], dn, jj, q);
+                    out[o3 + idx][q] = dm / tw;
                 }
             }
         }
-        rows
-    }
-}
-
-/// y += a x.
-#[inline]
-fn axpy(y: &mut [f64], a: f64, x: &[f64]) {
-    for (yi, xi) in y.iter_mut().zip(x) {
-        *yi += a * xi;
+        out
     }
 }

@@ -85,19 +85,7 @@ pub fn robust(
     free: &[usize],
     a_inv: &DMatrix<f64>,
 ) -> DMatrix<f64> {
-    let m = free.len();
-    let mut b = DMatrix::<f64>::zeros(m, m);
-    let add = |b: &mut DMatrix<f64>, s: &[f64]| {
-        for x in 0..m {
-            let sx = s[free[x]];
-            if sx == 0.0 {
-                continue;
-            }
-            for y in 0..m {
-                b[(x, y)] += sx * s[free[y]];
-            }
-        }
-    };
+    let mut b = Gram::new(free);
     match &d.obs.group {
         Some(groups) => {
             let k = d.params;
@@ -109,12 +97,83 @@ pub fn robust(
                 }
             });
             for g in sums.chunks(k) {
-                add(&mut b, g);
+                b.add(g);
             }
         }
-        None => family.for_each_score(d, beta, &mut |_, s| add(&mut b, s)),
+        None => family.for_each_score(d, beta, &mut |_, s| b.add(s)),
     }
+    let b = b.finish();
     a_inv * b * a_inv
+}
+
+/// The sum of outer products of score vectors (their free entries), gathered
+/// in blocks and added with one matrix product per block.
+struct Gram<'a> {
+    free: &'a [usize],
+    rows: Vec<f64>,
+    filled: usize,
+    sum: Vec<f64>,
+}
+
+/// Score vectors gathered before their outer products are added.
+const GRAM_BLOCK: usize = 256;
+
+impl<'a> Gram<'a> {
+    fn new(free: &'a [usize]) -> Gram<'a> {
+        let m = free.len();
+        Gram {
+            free,
+            rows: vec![0.0; GRAM_BLOCK * m],
+            filled: 0,
+            sum: vec![0.0; m * m],
+        }
+    }
+
+    fn add(&mut self, s: &[f64]) {
+        let m = self.free.len();
+        let row = &mut self.rows[self.filled * m..][..m];
+        for (r, &p) in row.iter_mut().zip(self.free) {
+            *r = s[p];
+        }
+        self.filled += 1;
+        if self.filled == GRAM_BLOCK {
+            self.flush();
+        }
+    }
+
+    fn flush(&mut self) {
+        let (m, n) = (self.free.len(), self.filled);
+        if n == 0 || m == 0 {
+            return;
+        }
+        // SAFETY: rows holds n × m values (row-major), read as its transpose
+        // m × n and as itself; sum is m × m; all in bounds.
+        unsafe {
+            matrixmultiply::dgemm(
+                m,
+                n,
+                m,
+                1.0,
+                self.rows.as_ptr(),
+                1,
+                m as isize,
+                self.rows.as_ptr(),
+                m as isize,
+                1,
+                1.0,
+                self.sum.as_mut_ptr(),
+                m as isize,
+                1,
+            );
+        }
+        self.filled = 0;
+    }
+
+    fn finish(mut self) -> DMatrix<f64> {
+        self.flush();
+        let m = self.free.len();
+        DMatrix::from_row_slice(m, m, &self.sum)
+    }
 }
 
 /// Parameters whose coefficient times the spread of their variable is so large that

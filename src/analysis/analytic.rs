@@ -14,11 +14,12 @@
 
 use super::sensitivity::{add_point, finish, Layout, Sens, TermMap};
 use crate::design::Design;
-use crate::model::enumerate::Enumeration;
+use crate::model::enumerate::{Baseline, Enumeration, Point};
 use crate::model::Family;
 
 /// The figures (as `sensitivity::sensitivities`) and their Jacobian, rows in
-/// `Sens::flat` order and columns over `free`; `None` when the family has no
+/// `Sens::flat` order and columns over `free` (`baseline`, when given, holds
+/// the utilities and probabilities at `beta`); `None` when the family has no
 /// analytic second derivatives or its coefficients vary across decision makers.
 pub fn sensitivities_with_jacobian(
     family: &dyn Family,
@@ -26,6 +27,7 @@ pub fn sensitivities_with_jacobian(
     map: &TermMap,
     beta: &[f64],
     free: &[usize],
+    baseline: Option<&Baseline>,
 ) -> Option<(Sens, Vec<Vec<f64>>)> {
     if family.mixture(d).is_some() || !applies(family, beta, d.alternatives()) {
         return None;
@@ -38,11 +40,10 @@ pub fn sensitivities_with_jacobian(
         column[p] = Some(q);
     }
     let w = &d.obs.weight;
-    let parts = Enumeration::new(family, d, beta).points(
+    let parts = Enumeration::new(family, d, beta).baseline(baseline).points(
         |_| Scratch::new(sz),
         |s, pt| {
             family.dprob(pt.coefficients, pt.v, pt.p, &mut s.dp);
-            family.d2prob(pt.v, pt.p, &s.dp, &mut s.d2p);
             let wi = w[pt.i] * pt.weight;
             add_point(
                 d,
@@ -55,7 +56,7 @@ pub fn sensitivities_with_jacobian(
                 &s.dp,
                 &mut s.values,
             );
-            s.add_derivatives(d, map, &column, pt.i, wi);
+            s.add_derivatives(family, d, map, &column, pt, wi);
         },
     );
     let mut total = Scratch::new(sz);
@@ -130,7 +131,13 @@ struct Scratch {
     /// Σ w dP_j/dβ_q, `[q][j]`.
     pe: Vec<f64>,
     dp: Vec<f64>,
+    /// Scratch for a family's second derivatives.
     d2p: Vec<f64>,
+    /// Of the current situation: x[q][m] = dV_m/dβ_q, e[q][j] = dP_j/dβ_q,
+    /// gs[k][q][j] = Σ_m d²P_j/(dV_k dV_m) x[q][m].
+    x: Vec<f64>,
+    e: Vec<f64>,
+    gs: Vec<f64>,
     /// Gathered multipliers `[k][situation][row]` and rows `[k][situation][column]`.
     u: Vec<f64>,
     g: Vec<f64>,
@@ -148,60 +155,66 @@ impl Scratch {
             pe: vec![0.0; sz.kf * j],
             dp: vec![0.0; j * j],
             d2p: vec![0.0; j * j * j],
+            x: vec![0.0; sz.kf * j],
+            e: vec![0.0; sz.kf * j],
+            gs: vec![0.0; j * sz.kf * j],
             u: vec![0.0; j * BLOCK * rows],
             g: vec![0.0; j * BLOCK * width],
             filled: 0,
         }
     }
 
-    /// Gathers situation `i`'s derivative rows (weight `wi`), from `dp` and `d2p`.
+    /// Gathers situation `pt.i`'s derivative rows (weight `wi`), from `dp`.
     fn add_derivatives(
         &mut self,
+        family: &dyn Family,
         d: &Design,
         map: &TermMap,
         column: &[Option<usize>],
-        i: usize,
+        pt: &Point,
         wi: f64,
     ) {
-        // The loops over alternatives unrolled for the usual counts.
-        match self.sz.lay.j {
-            2 => self.gather::<2>(d, map, column, i, wi),
-            3 => self.gather::<3>(d, map, column, i, wi),
-            4 => self.gather::<4>(d, map, column, i, wi),
-            5 => self.gather::<5>(d, map, column, i, wi),
-            6 => self.gather::<6>(d, map, column, i, wi),
-            7 => self.gather::<7>(d, map, column, i, wi),
-            8 => self.gather::<8>(d, map, column, i, wi),
-            _ => self.gather::<0>(d, map, column, i, wi),
-        }
-        self.filled += 1;
-        if self.filled == BLOCK {
-            self.flush();
-        }
-    }
-
-    /// `add_derivatives` with `J` alternatives (0: as many as the layout says).
-    #[inline(always)]
-    fn gather<const J: usize>(
-        &mut self,
-        d: &Design,
-        map: &TermMap,
-        column: &[Option<usize>],
-        i: usize,
-        wi: f64,
-    ) {
-        let j = if J == 0 { self.sz.lay.j } else { J };
-        let Layout { na, nc, .. } = self.sz.lay;
+        let Layout { j, na, nc } = self.sz.lay;
         let (rows, width) = (self.sz.rows(), self.sz.width());
-        let jq = self.sz.kf * j;
+        let kf = self.sz.kf;
+        let jq = kf * j;
+        let i = pt.i;
+        // x[q][m] = dV_m/dβ_q and e[q][j] = dP_j/dβ_q.
+        self.x.iter_mut().for_each(|v| *v = 0.0);
+        self.e.iter_mut().for_each(|v| *v = 0.0);
+        for (m, feats) in d.features.iter().enumerate() {
+            if !d.available(i, m) {
+                continue;
+            }
+            for f in feats {
+                let Some(q) = column[f.param] else { continue };
+                let x = d.value(i, m, f.value);
+                self.x[q * j + m] += x;
+                let e = &mut self.e[q * j..(q + 1) * j];
+                for (jj, ej) in e.iter_mut().enumerate() {
+                    *ej += self.dp[jj * j + m] * x;
+                }
+            }
+        }
+        for (pe, e) in self.pe.iter_mut().zip(&self.e) {
+            *pe += wi * e;
+        }
+        family.d2prob_along(
+            pt.v,
+            pt.p,
+            &self.dp,
+            &mut self.d2p,
+            &self.x,
+            &self.e,
+            kf,
+            &mut self.gs,
+        );
         let b = self.filled;
-        let dp = &self.dp[..j * j];
-        let d2p = &self.d2p[..j * j * j];
         for k in 0..j {
             let row = &mut self.g[(k * BLOCK + b) * width..][..width];
-            row[..jq].iter_mut().for_each(|x| *x = 0.0);
+            row[..jq].copy_from_slice(&self.gs[k * jq..(k + 1) * jq]);
             for jj in 0..j {
-                row[jq + jj] = dp[jj * j + k];
+                row[jq + jj] = self.dp[jj * j + k];
             }
             let u = &mut self.u[(k * BLOCK + b) * rows..][..rows];
             u.iter_mut().for_each(|x| *x = 0.0);
@@ -218,25 +231,9 @@ impl Scratch {
                 u[na + 1 + c] = wi * d.obs.characteristics[c][i];
             }
         }
-        let g = &mut self.g[b * width..];
-        for (m, feats) in d.features.iter().enumerate() {
-            if !d.available(i, m) {
-                continue;
-            }
-            for f in feats {
-                let Some(q) = column[f.param] else { continue };
-                let x = d.value(i, m, f.value);
-                let pe = &mut self.pe[q * j..][..j];
-                for jj in 0..j {
-                    pe[jj] += wi * x * dp[jj * j + m];
-                }
-                for k in 0..j {
-                    let out = &mut g[k * BLOCK * width + q * j..][..j];
-                    for jj in 0..j {
-                        out[jj] += x * d2p[(jj * j + k) * j + m];
-                    }
-                }
-            }
+        self.filled += 1;
+        if self.filled == BLOCK {
+            self.flush();
         }
     }
 

@@ -208,16 +208,22 @@ pub fn sensitivity_rows(
     let map = TermMap::new(spec, d);
     let family = &*fit.family;
     // Analytic derivatives in one pass where the family has them, else differences.
-    let (sens, se) =
-        match analytic::sensitivities_with_jacobian(family, d, &map, &fit.beta, &fit.free) {
-            Some((sens, jac)) => (sens, delta::se_from_jacobian(fit, &jac)),
-            None => (
-                sensitivity::sensitivities(family, d, &map, &fit.beta),
-                delta::delta_se(fit, &|b| {
-                    sensitivity::sensitivities(family, d, &map, b).flat()
-                }),
-            ),
-        };
+    let (sens, se) = match analytic::sensitivities_with_jacobian(
+        family,
+        d,
+        &map,
+        &fit.beta,
+        &fit.free,
+        Some(fit.baseline()),
+    ) {
+        Some((sens, jac)) => (sens, delta::se_from_jacobian(fit, &jac)),
+        None => (
+            sensitivity::sensitivities(family, d, &map, &fit.beta),
+            delta::delta_se(fit, &|b| {
+                sensitivity::sensitivities(family, d, &map, b).flat()
+            }),
+        ),
+    };
     let flat = sens.flat();
     let j = d.alternatives();
     let na = spec.attributes.len();

@@ -130,21 +130,24 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
             &args.analysis.options(),
         )?)
     };
-    let label = args.spec.display().to_string();
-    let mut doc = report::json::results(&spec, &fit, &label);
-    if let Some(a) = &analysis {
-        add_analysis(&mut doc, a);
-    }
-    if let Some(c) = &draws_check {
-        if let Ok(v) = serde_json::to_value(c) {
-            doc.insert("draws_check".into(), v);
+    // The results document is made only when it is printed or saved.
+    let body = (args.json || args.save.is_some()).then(|| {
+        let label = args.spec.display().to_string();
+        let mut doc = report::json::results(&spec, &fit, &label);
+        if let Some(a) = &analysis {
+            add_analysis(&mut doc, a);
         }
+        if let Some(c) = &draws_check {
+            if let Ok(v) = serde_json::to_value(c) {
+                doc.insert("draws_check".into(), v);
+            }
+        }
+        serde_json::to_string_pretty(&serde_json::Value::Object(doc)).unwrap_or_default()
+    });
+    if let (Some(path), Some(body)) = (&args.save, &body) {
+        crate::data::write::text(path, args.force, body)?;
     }
-    let body = serde_json::to_string_pretty(&serde_json::Value::Object(doc)).unwrap_or_default();
-    if let Some(path) = &args.save {
-        crate::data::write::text(path, args.force, &body)?;
-    }
-    if args.json {
+    if let (true, Some(body)) = (args.json, &body) {
         crate::outln!("{body}");
     } else {
         let colour = report::colour();

@@ -5,6 +5,7 @@ pub mod diagnose;
 pub mod document;
 pub mod inference;
 pub mod optimise;
+mod reference;
 pub mod simcheck;
 
 use std::sync::Arc;
@@ -416,26 +417,7 @@ fn finish(
     } else if (spec.constants || spec.parameters.iter().any(|p| p.in_reference))
         && spec.attributes.len() + spec.characteristics.len() > 0
     {
-        let cspec = spec.constants_only();
-        let cd = Design::build(&cspec, obs.clone());
-        let cfree: Vec<usize> = (0..cd.params)
-            .filter(|&p| cspec.parameters[p].fixed.is_none())
-            .collect();
-        let quiet = |_s: Step| {};
-        let cstart: Vec<f64> = cspec.parameters.iter().map(|p| p.start).collect();
-        // Built for the reduced spec: its own parameters sit at other positions.
-        // They are held at their starting values; at their null values the
-        // simpler family (if any) gives the same likelihood, faster.
-        let cfamily = model::for_spec(&cspec)?;
-        let held_at_null = cspec
-            .parameters
-            .iter()
-            .all(|p| !matches!(p.term, crate::spec::Term::Family(_)) || p.start == p.null);
-        let cfamily = match (held_at_null, cfamily.simpler()) {
-            (true, Some(s)) => s,
-            _ => cfamily,
-        };
-        optimise::maximise(&cd, &*cfamily, &cstart, &cfree, &quiet).ll
+        reference::constants_log_likelihood(spec, obs.clone())?
     } else if spec.constants {
         out.ll
     } else {

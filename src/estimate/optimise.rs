@@ -1,6 +1,8 @@
-//! Maximises the log-likelihood: argmin's BFGS with a More-Thuente line
-//! search (started from the inverse of the Hessian where it is positive
-//! definite), then Newton steps until the Newton decrement g' (-H)^-1 g falls
+//! Maximises the log-likelihood. A family with an analytic Hessian is first
+//! given Newton steps from the start; otherwise (or when those fail) argmin's
+//! BFGS with a More-Thuente line search (started from the inverse of the
+//! Hessian where it is positive definite, else of the outer product of the
+//! scores), then Newton steps until the Newton decrement g' (-H)^-1 g falls
 //! below the tolerance. The Hessian is the family's analytic one where it has
 //! it, else central differences of its analytic gradient (`model::hessian`).
 
@@ -267,6 +269,16 @@ pub fn maximise(
             note: None,
             hessian: None,
         };
+    }
+    // With an analytic Hessian, Newton's method from the start: a logit's
+    // log-likelihood is concave and Newton reaches its maximum in a few
+    // passes. Should it fail (a Hessian not negative definite on the way,
+    // coefficients running off), the quasi-Newton search below starts over.
+    if family.abilities().analytic_hessian {
+        let first = newton(d, family, beta.clone(), free, progress, &passes, None);
+        if first.converged {
+            return first;
+        }
     }
     // The starting metric: the analytic Hessian where the family has one; else
     // the outer product of the scores (one pass instead of two per parameter).

@@ -260,8 +260,9 @@ impl<'a> Enumeration<'a> {
     }
 
     /// Runs `visit(state, point)` over every coefficient point of every
-    /// situation at the base (one per situation for fixed coefficients); one
-    /// state per piece, returned in piece order.
+    /// situation at the base (one per situation for fixed coefficients, read
+    /// from the cached baseline when there is one); one state per piece,
+    /// returned in piece order.
     pub fn points<T: Send>(
         &self,
         init: impl Fn(&Range<usize>) -> T + Sync,
@@ -281,8 +282,16 @@ impl<'a> Enumeration<'a> {
                     None => coefs.copy_from_slice(beta),
                 }
                 for c in coefs.chunks(k) {
-                    d.utilities(c, i, &mut v);
-                    family.probabilities(c, &v, &mut p);
+                    match (self.baseline, &self.mixture) {
+                        (Some(b), None) => {
+                            v.copy_from_slice(&b.utilities[i * j..(i + 1) * j]);
+                            p.copy_from_slice(&b.probabilities[i * j..(i + 1) * j]);
+                        }
+                        _ => {
+                            d.utilities(c, i, &mut v);
+                            family.probabilities(c, &v, &mut p);
+                        }
+                    }
                     let point = Point {
                         i,
                         weight: 1.0 / r as f64,

@@ -131,6 +131,44 @@ pub trait Family: Send + Sync + std::fmt::Debug {
         false
     }
 
+    /// The second derivatives contracted with the utilities' derivatives by
+    /// `kf` parameters: `g[(k * kf + q) * J + j]` = Σ_m d²P_j/(dV_k dV_m) ·
+    /// `x[q * J + m]` (x = dV/dβ), given `e[q * J + j]` = Σ_m dP_j/dV_m ·
+    /// `x[q * J + m]`. The default contracts `d2prob` (written into `d2p`,
+    /// scratch of J³); a family may have a shorter form. `false` when the
+    /// family has no second derivatives.
+    #[allow(clippy::too_many_arguments)]
+    fn d2prob_along(
+        &self,
+        v: &[f64],
+        p: &[f64],
+        dp: &[f64],
+        d2p: &mut [f64],
+        x: &[f64],
+        e: &[f64],
+        kf: usize,
+        g: &mut [f64],
+    ) -> bool {
+        let _ = e;
+        if !self.d2prob(v, p, dp, d2p) {
+            return false;
+        }
+        let j = p.len();
+        for k in 0..j {
+            for q in 0..kf {
+                let xq = &x[q * j..(q + 1) * j];
+                for (jj, out) in g[(k * kf + q) * j..(k * kf + q + 1) * j]
+                    .iter_mut()
+                    .enumerate()
+                {
+                    let t = &d2p[(jj * j + k) * j..(jj * j + k + 1) * j];
+                    *out = t.iter().zip(xq).map(|(a, b)| a * b).sum();
+                }
+            }
+        }
+        true
+    }
+
     /// The family's sentence for the report's cautions, if it has one.
     fn caution(&self, spec: &Spec) -> Option<String>;
 

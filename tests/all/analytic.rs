@@ -10,6 +10,7 @@
 
 use sharecast::analysis::analytic::sensitivities_with_jacobian;
 use sharecast::analysis::sensitivity::{sensitivities, TermMap};
+use sharecast::model::enumerate::Baseline;
 use sharecast::model::registry::FAMILIES;
 
 use super::families::setup;
@@ -67,6 +68,63 @@ fn second_derivatives_of_probabilities_match_finite_differences() {
     assert!(checked > 0, "no family gives second derivatives");
 }
 
+/// A family's contraction of its second derivatives with dV/dβ (its own
+/// shorter form, where it has one) equals the sum over `d2prob` written out.
+#[test]
+fn contracted_second_derivatives_equal_the_full_array_contracted() {
+    let mut checked = 0;
+    for e in FAMILIES {
+        let (_, family, beta, d) = setup(e, 60, 19);
+        let (j, kf) = (d.alternatives(), 4);
+        let (mut v, mut p, mut dp) = (vec![0.0; j], vec![0.0; j], vec![0.0; j * j]);
+        let mut d2p = vec![0.0; j * j * j];
+        let mut g = vec![0.0; j * kf * j];
+        for i in 0..d.situations() {
+            d.utilities(&beta, i, &mut v);
+            family.probabilities(&beta, &v, &mut p);
+            family.dprob(&beta, &v, &p, &mut dp);
+            if !family.d2prob(&v, &p, &dp, &mut d2p) {
+                break;
+            }
+            // Directions: arbitrary values where the alternative is available.
+            let x: Vec<f64> = (0..kf * j)
+                .map(|t| {
+                    if v[t % j].is_finite() {
+                        ((t * 7 + i) % 11) as f64 * 0.3 - 1.4
+                    } else {
+                        0.0
+                    }
+                })
+                .collect();
+            let mut ev = vec![0.0; kf * j];
+            for q in 0..kf {
+                for jj in 0..j {
+                    ev[q * j + jj] = (0..j).map(|m| dp[jj * j + m] * x[q * j + m]).sum();
+                }
+            }
+            let mut scratch = vec![0.0; j * j * j];
+            assert!(family.d2prob_along(&v, &p, &dp, &mut scratch, &x, &ev, kf, &mut g));
+            checked += 1;
+            for k in 0..j {
+                for q in 0..kf {
+                    for jj in 0..j {
+                        let full: f64 = (0..j)
+                            .map(|m| d2p[(jj * j + k) * j + m] * x[q * j + m])
+                            .sum();
+                        let got = g[(k * kf + q) * j + jj];
+                        assert!(
+                            (got - full).abs() <= 1e-14 * full.abs().max(1.0),
+                            "{}: situation {i}, ({k}, {q}, {jj}): {got} vs {full}",
+                            e.name
+                        );
+                    }
+                }
+            }
+        }
+    }
+    assert!(checked > 0, "no family gives second derivatives");
+}
+
 #[test]
 fn one_pass_figures_and_jacobian_match_the_generic_computation() {
     let mut applied = Vec::new();
@@ -74,11 +132,19 @@ fn one_pass_figures_and_jacobian_match_the_generic_computation() {
         let (spec, family, beta, d) = setup(e, 3_000, 23);
         let map = TermMap::new(&spec, &d);
         let free: Vec<usize> = (0..beta.len()).collect();
-        let Some((sens, jac)) = sensitivities_with_jacobian(&*family, &d, &map, &beta, &free)
+        let Some((sens, jac)) = sensitivities_with_jacobian(&*family, &d, &map, &beta, &free, None)
         else {
             continue;
         };
         applied.push(e.name);
+        // Reading the cached base utilities and probabilities changes nothing.
+        let cached = Baseline::new(&*family, &d, &beta);
+        let again = sensitivities_with_jacobian(&*family, &d, &map, &beta, &free, Some(&cached));
+        let Some((sens_cached, jac_cached)) = again else {
+            panic!("{}: no figures with the cached base", e.name);
+        };
+        assert_eq!(sens.flat(), sens_cached.flat(), "{}", e.name);
+        assert_eq!(jac, jac_cached, "{}", e.name);
         // The same figures as the generic pass (the reference), to rounding.
         let reference = sensitivities(&*family, &d, &map, &beta).flat();
         let fast = sens.flat();
@@ -128,7 +194,7 @@ fn families_with_parameters_of_their_own_keep_the_differenced_jacobian() {
             .any(|p| matches!(p.term, sharecast::spec::Term::Family(_)));
         let map = TermMap::new(&spec, &d);
         let free: Vec<usize> = (0..beta.len()).collect();
-        let fast = sensitivities_with_jacobian(&*family, &d, &map, &beta, &free);
+        let fast = sensitivities_with_jacobian(&*family, &d, &map, &beta, &free, None);
         if own || family.mixture(&d).is_some() {
             assert!(fast.is_none(), "{}: has parameters of its own", e.name);
         }

@@ -179,6 +179,32 @@ impl Family for Logit {
         true
     }
 
+    /// With T_jkm = D_jm (δ_jk − P_k) − P_j D_km: Σ_m T_jkm x_qm =
+    /// (δ_jk − P_k) e_qj − P_j e_qk, without the J³ array.
+    fn d2prob_along(
+        &self,
+        _v: &[f64],
+        p: &[f64],
+        _dp: &[f64],
+        _d2p: &mut [f64],
+        _x: &[f64],
+        e: &[f64],
+        kf: usize,
+        g: &mut [f64],
+    ) -> bool {
+        let n = p.len();
+        for (k, (gk, &pk)) in g.chunks_exact_mut(kf * n).zip(p).enumerate() {
+            for (out, eq) in gk.chunks_exact_mut(n).zip(e.chunks_exact(n)) {
+                let ek = eq[k];
+                for ((o, &ej), &pj) in out.iter_mut().zip(eq).zip(p) {
+                    *o = -pk * ej - pj * ek;
+                }
+                out[k] += ek;
+            }
+        }
+        true
+    }
+
     fn caution(&self, spec: &Spec) -> Option<String> {
         (spec.alternatives.len() > 2).then(|| {
             "Logit assumes independence from irrelevant alternatives (IIA): a changed or removed option draws share from all others in proportion to their shares.".to_string()

@@ -333,11 +333,42 @@ fn finish(
     started: Instant,
     saved_constants_ll: Option<f64>,
 ) -> Result<Fit> {
+    let reference_needed = saved_constants_ll.is_none()
+        && (spec.constants || spec.parameters.iter().any(|p| p.in_reference))
+        && spec.attributes.len() + spec.characteristics.len() > 0;
+    // The constants-only reference model is fitted on another thread while
+    // this one computes the covariance and the diagnostics (both deterministic
+    // whatever runs beside them).
+    std::thread::scope(|scope| {
+        let reference = reference_needed.then(|| {
+            let obs = obs.clone();
+            scope.spawn(move || reference::constants_log_likelihood(spec, obs))
+        });
+        let parts = (design, family, free, out, started);
+        finish_with(spec, obs, parts, saved_constants_ll, reference)
+    })
+}
+
+/// `finish` once the reference model is under way.
+fn finish_with(
+    spec: &Spec,
+    obs: Arc<Observations>,
+    (design, family, free, out, started): (
+        Design,
+        FamilyRef,
+        Vec<usize>,
+        optimise::Outcome,
+        Instant,
+    ),
+    saved_constants_ll: Option<f64>,
+    reference: Option<std::thread::ScopedJoinHandle<'_, Result<f64>>>,
+) -> Result<Fit> {
     let k = design.params;
     let names: Vec<String> = spec.parameters.iter().map(|p| p.name.clone()).collect();
     // Covariance.
-    // A differenced Hessian that confirmed convergence is reused (it sits at
-    // the estimates up to the last tiny Newton step); else one is computed here.
+    // The Hessian the search ended with is reused: an analytic one is at the
+    // estimates; a differenced one that confirmed convergence sits there up
+    // to the last tiny Newton step. Else one is computed here.
     let final_hess = match &out.hessian {
         Some(h) if h.len() == k * k => h.clone(),
         _ => model::hessian::with_hessian(&*family, &design, &out.beta, &free)
@@ -412,16 +443,13 @@ fn finish(
 
     // Fit statistics.
     let null_ll = null_log_likelihood(&obs);
-    let constants_ll = if let Some(c) = saved_constants_ll {
-        c
-    } else if (spec.constants || spec.parameters.iter().any(|p| p.in_reference))
-        && spec.attributes.len() + spec.characteristics.len() > 0
-    {
-        reference::constants_log_likelihood(spec, obs.clone())?
-    } else if spec.constants {
-        out.ll
-    } else {
-        null_ll
+    let constants_ll = match (saved_constants_ll, reference) {
+        (Some(c), _) => c,
+        (None, Some(h)) => h.join().map_err(|_| {
+            Error::Estimate("the search of the constants-only reference model failed".into())
+        })??,
+        (None, None) if spec.constants => out.ll,
+        (None, None) => null_ll,
     };
     let kf = free.len() as f64;
     let n = design.situations() as f64;

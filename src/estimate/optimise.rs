@@ -50,9 +50,9 @@ pub struct Outcome {
     pub gradient_norm: f64,
     pub converged: bool,
     pub note: Option<String>,
-    /// For a family without an analytic Hessian: the differenced Hessian (K x K)
-    /// that confirmed convergence, at the estimates up to the last tiny Newton
-    /// step, which the covariance may reuse instead of differencing again.
+    /// The Hessian (K x K) the search ended with, which the covariance reuses:
+    /// an analytic one at the estimates, or the differenced one that confirmed
+    /// convergence, at the estimates up to the last tiny Newton step.
     pub hessian: Option<Vec<f64>>,
 }
 
@@ -396,10 +396,19 @@ fn newton(
                 last[i] += step[s];
             }
             passes.fetch_add(1, Ordering::Relaxed);
-            let el = family.evaluate(d, &last, true, false);
+            // With an analytic Hessian the last point's is taken too: the
+            // covariance then needs no further pass.
+            let el = if reusing {
+                family.evaluate(d, &last, true, false)
+            } else {
+                with_hessian(family, d, &last, free)
+            };
             if el.ll.is_finite() && el.ll >= e.ll - 1e-9 * e.ll.abs().max(1.0) {
                 beta = last;
                 e = el;
+            }
+            if !reusing {
+                confirmed = e.hess.clone();
             }
             converged = true;
             break;

@@ -398,7 +398,8 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
         Some(col) => validation::by_segment(spec, fit, &ds.table, col)?,
         None => Vec::new(),
     };
-    let (hit_rate, mean_chosen_probability) = validation::hits(&*fit.family, d, &fit.beta);
+    let (hit_rate, mean_chosen_probability) =
+        validation::hits(&*fit.family, d, &fit.beta, Some(fit.baseline()));
     let holdout = match validation::holdout_mask(spec, &ds.obs, &ds.table)? {
         Some(mask) => Some(validation::holdout(spec, &ds.obs, &mask)?),
         None => None,

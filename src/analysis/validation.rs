@@ -9,7 +9,7 @@ use crate::data::{Observations, Table};
 use crate::design::Design;
 use crate::error::{Error, Result};
 use crate::estimate::{self, Fit, Step};
-use crate::model::enumerate::Enumeration;
+use crate::model::enumerate::{Baseline, Enumeration};
 use crate::model::Family;
 use crate::rng::Rng;
 use crate::spec::{Holdout, Spec};
@@ -39,16 +39,24 @@ pub struct Validation {
     pub holdout: Option<HoldoutReport>,
 }
 
-/// Weighted hit rate (the most probable alternative was chosen) and mean probability of the choice.
-pub fn hits(family: &dyn Family, d: &Design, beta: &[f64]) -> (f64, f64) {
+/// Weighted hit rate (the most probable alternative was chosen) and mean probability of the choice
+/// (`baseline`, when given, holds the probabilities at `beta`).
+pub fn hits(
+    family: &dyn Family,
+    d: &Design,
+    beta: &[f64],
+    baseline: Option<&Baseline>,
+) -> (f64, f64) {
     let obs = &d.obs;
-    let sums = Enumeration::new(family, d, beta).fold(2, |acc, s| {
-        let (i, p) = (s.i, s.p0);
-        let c = obs.chosen[i] as usize;
-        let best = (0..p.len()).fold(0, |b, j| if p[j] > p[b] { j } else { b });
-        acc[0] += obs.weight[i] * (best == c) as u8 as f64;
-        acc[1] += obs.weight[i] * p[c];
-    });
+    let sums = Enumeration::new(family, d, beta)
+        .baseline(baseline)
+        .fold(2, |acc, s| {
+            let (i, p) = (s.i, s.p0);
+            let c = obs.chosen[i] as usize;
+            let best = (0..p.len()).fold(0, |b, j| if p[j] > p[b] { j } else { b });
+            acc[0] += obs.weight[i] * (best == c) as u8 as f64;
+            acc[1] += obs.weight[i] * p[c];
+        });
     let tw = d.total_weight();
     (sums[0] / tw, sums[1] / tw)
 }

@@ -188,9 +188,21 @@ pub fn null_log_likelihood(obs: &Observations) -> f64 {
 
 /// Weighted observed and predicted shares of each alternative (one pass, nothing stored per situation).
 pub fn shares(spec: &Spec, d: &Design, family: &dyn model::Family, beta: &[f64]) -> Vec<ShareRow> {
+    shares_from(spec, d, family, beta, None)
+}
+
+/// `shares`, reading the probabilities from `baseline` (at `beta`) when given.
+fn shares_from(
+    spec: &Spec,
+    d: &Design,
+    family: &dyn model::Family,
+    beta: &[f64],
+    baseline: Option<&Baseline>,
+) -> Vec<ShareRow> {
     let j = d.alternatives();
     let obs = &d.obs;
-    let sums = model::enumerate::Enumeration::new(family, d, beta).fold(2 * j, |acc, s| {
+    let enumeration = model::enumerate::Enumeration::new(family, d, beta).baseline(baseline);
+    let sums = enumeration.fold(2 * j, |acc, s| {
         let w = obs.weight[s.i];
         acc[obs.chosen[s.i] as usize] += w;
         for (a, p) in acc[j..].iter_mut().zip(s.p0) {
@@ -480,7 +492,10 @@ fn finish_with(
         }
         .to_string(),
     };
-    let shares = shares(spec, &design, &*family, &out.beta);
+    // The base utilities and probabilities at the estimates, which the shares
+    // below and every analysis read (kept with the fit).
+    let baseline = Baseline::new(&*family, &design, &out.beta);
+    let shares = shares_from(spec, &design, &*family, &out.beta, Some(&baseline));
     Ok(Fit {
         design,
         family,
@@ -493,6 +508,6 @@ fn finish_with(
         stats,
         shares,
         diagnostics,
-        baseline: std::sync::OnceLock::new(),
+        baseline: std::sync::OnceLock::from(baseline),
     })
 }

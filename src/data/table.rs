@@ -111,29 +111,58 @@ impl Table {
     /// More than `MAX_SEGMENTS` distinct values is refused: a report by an
     /// identifier column would be as long as the data and say nothing.
     pub fn segments(&self, name: &str, role: &str) -> Result<(Vec<u32>, Vec<String>)> {
-        let keys = self.keys(name, role)?;
-        let mut first: HashMap<&str, u32> = HashMap::new();
-        let mut labels: Vec<&str> = Vec::new();
-        for k in &keys {
-            if !first.contains_key(k.as_str()) {
-                first.insert(k, labels.len() as u32);
-                labels.push(k);
-                if labels.len() > MAX_SEGMENTS {
-                    return Err(too_many_segments(&self.file, name, role));
+        let mut labels: Vec<String> = Vec::new();
+        let too_many = |n: usize| n > MAX_SEGMENTS;
+        let ids: Vec<u32> = match self.columns.get(name) {
+            // Numbers are told apart by their bits and written out once each.
+            Some(Column::Num(v)) if !v.iter().any(|x| x.is_nan()) => {
+                let mut first: HashMap<u64, u32> = HashMap::new();
+                let mut ids = Vec::with_capacity(v.len());
+                for x in v {
+                    let id = match first.get(&x.to_bits()) {
+                        Some(&id) => id,
+                        None => {
+                            first.insert(x.to_bits(), labels.len() as u32);
+                            labels.push(number_key(*x));
+                            if too_many(labels.len()) {
+                                return Err(too_many_segments(&self.file, name, role));
+                            }
+                            labels.len() as u32 - 1
+                        }
+                    };
+                    ids.push(id);
                 }
+                ids
             }
-        }
+            _ => {
+                let keys = self.keys(name, role)?;
+                let mut first: HashMap<&str, u32> = HashMap::new();
+                let mut ids = Vec::with_capacity(keys.len());
+                for k in &keys {
+                    let id = match first.get(k.as_str()) {
+                        Some(&id) => id,
+                        None => {
+                            first.insert(k, labels.len() as u32);
+                            labels.push(k.clone());
+                            if too_many(labels.len()) {
+                                return Err(too_many_segments(&self.file, name, role));
+                            }
+                            labels.len() as u32 - 1
+                        }
+                    };
+                    ids.push(id);
+                }
+                ids
+            }
+        };
         let mut order: Vec<usize> = (0..labels.len()).collect();
-        order.sort_by(|&a, &b| label_order(labels[a], labels[b]));
+        order.sort_by(|&a, &b| label_order(&labels[a], &labels[b]));
         let mut rank = vec![0u32; labels.len()];
         for (r, &o) in order.iter().enumerate() {
             rank[o] = r as u32;
         }
-        let index = keys
-            .iter()
-            .map(|k| rank[first[k.as_str()] as usize])
-            .collect();
-        let sorted = order.iter().map(|&o| labels[o].to_string()).collect();
+        let index = ids.iter().map(|&id| rank[id as usize]).collect();
+        let sorted = order.iter().map(|&o| labels[o].clone()).collect();
         Ok((index, sorted))
     }
 

@@ -3,10 +3,12 @@
 //! draw of the bands, drawn once for the whole file — and its weighted sums
 //! (shares, switching, segments, revenue, stranded demand) are added to the
 //! population's; the shares are the sums divided by the population's weight
-//! at the end. Only one chunk is held at a time.
+//! at the end. The next chunk is read on another thread while one is
+//! forecast: at most two are held at a time.
 
 use std::collections::{HashMap, HashSet};
 use std::hash::{Hash, Hasher};
+use std::path::Path;
 use std::sync::Arc;
 
 use super::prepare::{self, Prepared};
@@ -95,16 +97,32 @@ pub fn forecast(
         units: 0,
         seen: (spec.data.group.is_some() && fit.family.at_unit(0).is_some()).then(HashSet::new),
     };
-    while let Some(chunk) = chunks.next_chunk()? {
-        let draws = parameter_draws.as_ref().and_then(|d| d.as_deref());
-        let (cfit, prep) = one_chunk(
-            spec, fit, &template, chunk, chunks, scenario, opts, draws, &beta, &mut t,
-        )?;
-        if let Some(s) = sink.as_mut() {
-            s(&cfit, &prep, &beta)?;
+    let path = chunks.path().to_path_buf();
+    // The next chunk is read on another thread while this one is forecast
+    // (at most two chunks are held); chunks are still taken in file order.
+    std::thread::scope(|scope| -> Result<()> {
+        let (tx, rx) = std::sync::mpsc::sync_channel::<Result<Chunk>>(0);
+        scope.spawn(move || {
+            while let Some(next) = chunks.next_chunk().transpose() {
+                let failed = next.is_err();
+                // A closed channel: the forecast stopped at an error.
+                if tx.send(next).is_err() || failed {
+                    break;
+                }
+            }
+        });
+        for chunk in rx {
+            let draws = parameter_draws.as_ref().and_then(|d| d.as_deref());
+            let (cfit, prep) = one_chunk(
+                spec, fit, &template, chunk?, &path, scenario, opts, draws, &beta, &mut t,
+            )?;
+            if let Some(s) = sink.as_mut() {
+                s(&cfit, &prep, &beta)?;
+            }
         }
-    }
-    finish(scenario, opts, parameter_draws, t, chunks)
+        Ok(())
+    })?;
+    finish(scenario, opts, parameter_draws, t, &path)
 }
 
 /// Checks that no decision maker of this chunk was met in an earlier one (their
@@ -140,7 +158,7 @@ fn one_chunk(
     fit: &Fit,
     template: &Fit,
     chunk: Chunk,
-    chunks: &Chunks,
+    path: &Path,
     scenario: &Scenario,
     opts: &Options,
     parameter_draws: Option<&[Vec<f64>]>,
@@ -151,7 +169,7 @@ fn one_chunk(
     let Dataset { obs, table } = ds;
     check_groups(spec, &table, t)?;
     let raw_total = obs.weight_total;
-    let (cfit, factor) = chunk_fit(spec, fit, template, obs, chunks, t)?;
+    let (cfit, factor) = chunk_fit(spec, fit, template, obs, path, t)?;
     let prep = prepare::prepare(spec, &cfit, &table, scenario)?;
     let m = prep.alternatives();
     if t.names.is_empty() {
@@ -219,7 +237,7 @@ fn chunk_fit(
     fit: &Fit,
     template: &Fit,
     obs: crate::data::Observations,
-    chunks: &Chunks,
+    path: &Path,
     t: &mut Totals,
 ) -> Result<(Fit, f64)> {
     let units = if obs.group.is_some() {
@@ -237,7 +255,7 @@ fn chunk_fit(
     let design = Design::build(spec, Arc::new(obs));
     family
         .check_data(spec, &design)
-        .map_err(|m| Error::data(chunks.path(), format!("forecasting over this file: {m}")))?;
+        .map_err(|m| Error::data(path, format!("forecasting over this file: {m}")))?;
     let mut cfit = template.clone();
     cfit.design = design;
     cfit.family = family;
@@ -303,13 +321,10 @@ fn finish(
     opts: &Options,
     parameter_draws: Option<Option<Vec<Vec<f64>>>>,
     t: Totals,
-    chunks: &Chunks,
+    path: &Path,
 ) -> Result<Forecast> {
     let Some(total) = t.point else {
-        return Err(Error::data(
-            chunks.path(),
-            "the file has a header but no data rows",
-        ));
+        return Err(Error::data(path, "the file has a header but no data rows"));
     };
     let m = t.names.len();
     // Segments in the order a whole-file pass gives them.

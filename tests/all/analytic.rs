@@ -10,10 +10,36 @@
 
 use sharecast::analysis::analytic::sensitivities_with_jacobian;
 use sharecast::analysis::sensitivity::{sensitivities, TermMap};
+use sharecast::design::Design;
 use sharecast::model::enumerate::Baseline;
 use sharecast::model::registry::FAMILIES;
 
 use super::families::setup;
+
+/// One situation's utilities, probabilities and their first and second
+/// derivatives by the utilities.
+struct Situation<'a> {
+    v: &'a mut [f64],
+    p: &'a mut [f64],
+    dp: &'a mut [f64],
+    d2p: &'a mut [f64],
+}
+
+impl Situation<'_> {
+    /// Fills them for situation `i`; `false` when the family has no second derivatives.
+    fn fill(
+        &mut self,
+        family: &dyn sharecast::model::Family,
+        d: &Design,
+        beta: &[f64],
+        i: usize,
+    ) -> bool {
+        d.utilities(beta, i, self.v);
+        family.probabilities(beta, self.v, self.p);
+        family.dprob(beta, self.v, self.p, self.dp);
+        family.d2prob(self.v, self.p, self.dp, self.d2p)
+    }
+}
 
 #[test]
 fn second_derivatives_of_probabilities_match_finite_differences() {
@@ -30,10 +56,13 @@ fn second_derivatives_of_probabilities_match_finite_differences() {
             vec![0.0; j * j],
         );
         for i in 0..d.situations() {
-            d.utilities(&beta, i, &mut v);
-            family.probabilities(&beta, &v, &mut p);
-            family.dprob(&beta, &v, &p, &mut dp);
-            if !family.d2prob(&v, &p, &dp, &mut d2p) {
+            let mut at = Situation {
+                v: &mut v,
+                p: &mut p,
+                dp: &mut dp,
+                d2p: &mut d2p,
+            };
+            if !at.fill(&*family, &d, &beta, i) {
                 break;
             }
             checked += 1;
@@ -80,10 +109,13 @@ fn contracted_second_derivatives_equal_the_full_array_contracted() {
         let mut d2p = vec![0.0; j * j * j];
         let mut g = vec![0.0; j * kf * j];
         for i in 0..d.situations() {
-            d.utilities(&beta, i, &mut v);
-            family.probabilities(&beta, &v, &mut p);
-            family.dprob(&beta, &v, &p, &mut dp);
-            if !family.d2prob(&v, &p, &dp, &mut d2p) {
+            let mut at = Situation {
+                v: &mut v,
+                p: &mut p,
+                dp: &mut dp,
+                d2p: &mut d2p,
+            };
+            if !at.fill(&*family, &d, &beta, i) {
                 break;
             }
             // Directions: arbitrary values where the alternative is available.

@@ -17,15 +17,24 @@ use sharecast::model::registry::FAMILIES;
 use super::families::setup;
 
 /// One situation's utilities, probabilities and their first and second
-/// derivatives by the utilities.
-struct Situation<'a> {
-    v: &'a mut [f64],
-    p: &'a mut [f64],
-    dp: &'a mut [f64],
-    d2p: &'a mut [f64],
+/// derivatives by the utilities (buffers for J alternatives).
+struct Situation {
+    v: Vec<f64>,
+    p: Vec<f64>,
+    dp: Vec<f64>,
+    d2p: Vec<f64>,
 }
 
-impl Situation<'_> {
+impl Situation {
+    fn new(j: usize) -> Situation {
+        Situation {
+            v: vec![0.0; j],
+            p: vec![0.0; j],
+            dp: vec![0.0; j * j],
+            d2p: vec![0.0; j * j * j],
+        }
+    }
+
     /// Fills them for situation `i`; `false` when the family has no second derivatives.
     fn fill(
         &mut self,
@@ -34,10 +43,10 @@ impl Situation<'_> {
         beta: &[f64],
         i: usize,
     ) -> bool {
-        d.utilities(beta, i, self.v);
-        family.probabilities(beta, self.v, self.p);
-        family.dprob(beta, self.v, self.p, self.dp);
-        family.d2prob(self.v, self.p, self.dp, self.d2p)
+        d.utilities(beta, i, &mut self.v);
+        family.probabilities(beta, &self.v, &mut self.p);
+        family.dprob(beta, &self.v, &self.p, &mut self.dp);
+        family.d2prob(&self.v, &self.p, &self.dp, &mut self.d2p)
     }
 }
 
@@ -47,8 +56,7 @@ fn second_derivatives_of_probabilities_match_finite_differences() {
     for e in FAMILIES {
         let (_, family, beta, d) = setup(e, 60, 17);
         let j = d.alternatives();
-        let (mut v, mut p, mut dp) = (vec![0.0; j], vec![0.0; j], vec![0.0; j * j]);
-        let mut d2p = vec![0.0; j * j * j];
+        let mut at = Situation::new(j);
         let (mut pu, mut dpu, mut pd, mut dpd) = (
             vec![0.0; j],
             vec![0.0; j * j],
@@ -56,15 +64,10 @@ fn second_derivatives_of_probabilities_match_finite_differences() {
             vec![0.0; j * j],
         );
         for i in 0..d.situations() {
-            let mut at = Situation {
-                v: &mut v,
-                p: &mut p,
-                dp: &mut dp,
-                d2p: &mut d2p,
-            };
             if !at.fill(&*family, &d, &beta, i) {
                 break;
             }
+            let Situation { v, d2p, .. } = &at;
             checked += 1;
             for m in 0..j {
                 if !v[m].is_finite() {
@@ -105,19 +108,13 @@ fn contracted_second_derivatives_equal_the_full_array_contracted() {
     for e in FAMILIES {
         let (_, family, beta, d) = setup(e, 60, 19);
         let (j, kf) = (d.alternatives(), 4);
-        let (mut v, mut p, mut dp) = (vec![0.0; j], vec![0.0; j], vec![0.0; j * j]);
-        let mut d2p = vec![0.0; j * j * j];
+        let mut at = Situation::new(j);
         let mut g = vec![0.0; j * kf * j];
         for i in 0..d.situations() {
-            let mut at = Situation {
-                v: &mut v,
-                p: &mut p,
-                dp: &mut dp,
-                d2p: &mut d2p,
-            };
             if !at.fill(&*family, &d, &beta, i) {
                 break;
             }
+            let Situation { v, p, dp, d2p } = &at;
             // Directions: arbitrary values where the alternative is available.
             let x: Vec<f64> = (0..kf * j)
                 .map(|t| {
@@ -135,7 +132,7 @@ fn contracted_second_derivatives_equal_the_full_array_contracted() {
                 }
             }
             let mut scratch = vec![0.0; j * j * j];
-            assert!(family.d2prob_along(&v, &p, &dp, &mut scratch, &x, &ev, kf, &mut g));
+            assert!(family.d2prob_along(v, p, dp, &mut scratch, &x, &ev, kf, &mut g));
             checked += 1;
             for k in 0..j {
                 for q in 0..kf {

@@ -179,28 +179,28 @@ pub fn factor(
     Some(Factor { m, c, dc })
 }
 
+/// Solves C z = b by forward substitution (C lower triangular, m x m
+/// row-major), the i-th entry of z and b at `at(i)` of their arrays.
+fn forward_solve(c: &[f64], m: usize, b: &[f64], z: &mut [f64], at: impl Fn(usize) -> usize) {
+    for i in 0..m {
+        let mut s = b[at(i)];
+        for k in 0..i {
+            s -= c[i * m + k] * z[at(k)];
+        }
+        z[at(i)] = s / c[i * m + i];
+    }
+}
+
 /// dC for a change dS of C C' (both m x m row-major): C Phi(C^-1 dS C^-T).
 fn cholesky_derivative(c: &[f64], ds: &[f64], m: usize, y: &mut [f64]) -> Vec<f64> {
-    // y = C^-1 dS (column by column, forward substitution).
+    // y = C^-1 dS (column by column).
     for col in 0..m {
-        for i in 0..m {
-            let mut s = ds[i * m + col];
-            for k in 0..i {
-                s -= c[i * m + k] * y[k * m + col];
-            }
-            y[i * m + col] = s / c[i * m + i];
-        }
+        forward_solve(c, m, ds, y, |i| i * m + col);
     }
     // x = y C^-T, i.e. x' = C^-1 y': row by row of y.
     let mut x = vec![0.0; m * m];
     for row in 0..m {
-        for i in 0..m {
-            let mut s = y[row * m + i];
-            for k in 0..i {
-                s -= c[i * m + k] * x[row * m + k];
-            }
-            x[row * m + i] = s / c[i * m + i];
-        }
+        forward_solve(c, m, y, &mut x, |i| row * m + i);
     }
     // Phi: lower triangle, half the diagonal; then C Phi.
     let mut out = vec![0.0; m * m];

@@ -1,30 +1,27 @@
 //! The workbench's state, the messages that change it, and `update`: the one
-//! entry point for every change (keys and worker results alike). Views keep
-//! their own small updates beside their rendering and are called from here.
+//! entry point for every change (keys and worker results alike). The app
+//! keeps only what the views share (the opened models and their analyses,
+//! the prompt, the message line, which view is shown); each view keeps its
+//! own state and is reached through the `View` trait alone.
 
 use std::path::PathBuf;
 
 use ratatui::crossterm::event::KeyEvent;
 
 use super::keys::{self, Action, Context};
-pub use super::screen::View;
+use super::part::{Answer, Ctx, Reply, View};
+pub use super::part::{Prompt, Status, Tone};
 use super::theme::Theme;
 use super::worker::Job;
 pub use super::worker::{Model, Pending};
-use super::{curve, estimates, whatif};
-use crate::analysis::compare::{self, Comparison};
 use crate::analysis::Analysis;
-use crate::estimate::{Fit, Step};
-use crate::scenario::sweep::Sweep;
-use crate::scenario::Forecast;
+use crate::estimate::Step;
 
-/// One opened model and the per-model state of the views that depend on its spec.
+/// One opened model and its analysis (which several views read).
 #[derive(Clone, Debug)]
 pub struct Loaded {
     pub model: Model,
     pub analysis: Pending<Analysis>,
-    pub whatif: whatif::WhatIf,
-    pub curve: curve::Curve,
 }
 
 /// While a spec is loaded and fitted.
@@ -43,65 +40,22 @@ pub enum Stage {
     Ready,
 }
 
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum Ask {
-    /// A change for the what-if lever.
-    Value,
-    /// Where to save the what-if as a scenario file.
-    Save,
-    /// Where to export the forecast.
-    Export,
-}
-
-#[derive(Clone, Debug, PartialEq)]
-pub enum Prompt {
-    Line {
-        ask: Ask,
-        text: String,
-    },
-    /// The file exists: y replaces it.
-    Overwrite {
-        ask: Ask,
-        path: PathBuf,
-    },
-}
-
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum Tone {
-    Info,
-    Good,
-    Bad,
-}
-
-#[derive(Clone, Debug)]
-pub struct Status {
-    pub text: String,
-    pub tone: Tone,
-}
-
 /// Everything on screen comes from here.
-#[derive(Clone, Debug)]
 pub struct App {
     pub paths: Vec<PathBuf>,
     pub stage: Stage,
     pub models: Vec<Loaded>,
     pub current: usize,
-    pub view: View,
+    /// The views, in the order of the tabs and the number keys (`views::all`).
+    pub views: Vec<Box<dyn View>>,
+    /// The view shown: an index into `views`.
+    pub view: usize,
     pub help: bool,
     pub help_scroll: u16,
     pub prompt: Option<Prompt>,
     pub status: Option<Status>,
     pub quit: bool,
     pub theme: Theme,
-    pub estimates: estimates::State,
-    /// Elasticities: which variable, and arc rather than point values.
-    pub variable: usize,
-    pub arc: bool,
-    /// Vertical scroll of the overview, diversion and compare views.
-    pub scroll: [u16; 7],
-    pub comparison: Option<Comparison>,
-    /// Bumped for every background request; results carrying an older one are dropped.
-    pub generation: u64,
 }
 
 /// What the workbench reacts to.
@@ -126,15 +80,12 @@ pub enum Msg {
         index: usize,
         result: Result<Box<Analysis>, String>,
     },
-    Band {
+    /// A view's job finished.
+    Done {
+        view: &'static str,
         index: usize,
         generation: u64,
-        result: Result<Box<Forecast>, String>,
-    },
-    Curve {
-        index: usize,
-        generation: u64,
-        result: Result<Box<Sweep>, String>,
+        result: Result<Box<dyn std::any::Any + Send>, String>,
     },
 }
 
@@ -151,19 +102,14 @@ impl App {
             paths,
             models: Vec::new(),
             current: 0,
-            view: View::Overview,
+            views: super::views::all(),
+            view: 0,
             help: false,
             help_scroll: 0,
             prompt: None,
             status: None,
             quit: false,
             theme,
-            estimates: estimates::State::default(),
-            variable: 0,
-            arc: false,
-            scroll: [0; 7],
-            comparison: None,
-            generation: 0,
         }
     }
 
@@ -190,13 +136,31 @@ impl App {
         self.models.get(self.current)
     }
 
-    pub fn loaded_mut(&mut self) -> Option<&mut Loaded> {
-        self.models.get_mut(self.current)
+    /// What the views read.
+    pub fn ctx(&self) -> Ctx<'_> {
+        Ctx {
+            models: &self.models,
+            current: self.current,
+            paths: &self.paths,
+            theme: &self.theme,
+        }
     }
 
-    pub fn next_generation(&mut self) -> u64 {
-        self.generation += 1;
-        self.generation
+    /// The view shown.
+    pub fn shown(&self) -> &dyn View {
+        self.views[self.view].as_ref()
+    }
+
+    /// The view of type `T`, for tests and callers that read a view's state.
+    pub fn part<T: View>(&self) -> Option<&T> {
+        self.views
+            .iter()
+            .find_map(|v| v.as_any().downcast_ref::<T>())
+    }
+
+    /// The position of the view titled `title`.
+    pub fn view_index(&self, title: &str) -> Option<usize> {
+        self.views.iter().position(|v| v.title() == title)
     }
 
     pub fn say(&mut self, tone: Tone, text: impl Into<String>) {
@@ -207,15 +171,29 @@ impl App {
     }
 
     /// The context keys are read in.
-    pub fn context(&self) -> Context {
+    pub fn context(&self) -> Context<'_> {
         match (&self.prompt, self.help, &self.stage) {
             (Some(Prompt::Line { .. }), _, _) => Context::Typing,
             (Some(Prompt::Overwrite { .. }), _, _) => Context::Confirm,
             (None, true, _) => Context::Help,
-            (None, false, Stage::Ready) => Context::View(self.view),
+            (None, false, Stage::Ready) => Context::View {
+                keys: self.shown().keys(),
+                views: self.views.len(),
+            },
             _ => Context::Waiting,
         }
     }
+}
+
+/// What the views read, beside the views themselves (to call one mutably).
+fn parts(app: &mut App) -> (Ctx<'_>, &mut [Box<dyn View>]) {
+    let ctx = Ctx {
+        models: &app.models,
+        current: app.current,
+        paths: &app.paths,
+        theme: &app.theme,
+    };
+    (ctx, &mut app.views)
 }
 
 /// Applies one message; returns the jobs for the worker.
@@ -260,23 +238,14 @@ pub fn update(app: &mut App, msg: Msg) -> Vec<Job> {
             }
             Vec::new()
         }
-        Msg::Band {
+        Msg::Done {
+            view,
             index,
             generation,
             result,
         } => {
-            if let Some(l) = app.models.get_mut(index) {
-                l.whatif.banded(generation, result);
-            }
-            Vec::new()
-        }
-        Msg::Curve {
-            index,
-            generation,
-            result,
-        } => {
-            if let Some(l) = app.models.get_mut(index) {
-                l.curve.arrived(generation, result);
+            if let Some(v) = app.views.iter_mut().find(|v| v.title() == view) {
+                v.arrived(index, generation, result);
             }
             Vec::new()
         }
@@ -287,24 +256,17 @@ fn opened(app: &mut App, index: usize, model: Model) -> Vec<Job> {
     if index != app.models.len() {
         return Vec::new();
     }
-    let mut l = Loaded {
-        whatif: whatif::WhatIf::new(&model.spec),
-        curve: curve::Curve::new(&model.spec),
+    app.models.push(Loaded {
         analysis: Pending::Waiting,
         model: model.clone(),
-    };
-    let mut jobs = vec![Job::Analyse { index, model }];
-    let g = app.next_generation();
-    jobs.extend(l.whatif.refresh(index, &l.model, g));
-    let g = app.next_generation();
-    jobs.extend(l.curve.request(index, &l.model, g));
-    app.models.push(l);
+    });
     if app.models.len() == app.paths.len() {
         app.stage = Stage::Ready;
-        if app.models.len() > 1 {
-            let fits: Vec<&Fit> = app.models.iter().map(|l| l.model.fit.as_ref()).collect();
-            app.comparison = Some(compare::compare(&fits));
-        }
+    }
+    let mut jobs = vec![Job::Analyse { index, model }];
+    let (ctx, views) = parts(app);
+    for v in views.iter_mut() {
+        jobs.extend(v.opened(&ctx, index));
     }
     jobs
 }
@@ -330,7 +292,7 @@ fn act(app: &mut App, a: Action) -> Vec<Job> {
         _ => {}
     }
     if app.prompt.is_some() {
-        return super::prompt::on(app, a);
+        return on_prompt(app, a);
     }
     if app.help {
         match a {
@@ -340,29 +302,13 @@ fn act(app: &mut App, a: Action) -> Vec<Job> {
         }
         return Vec::new();
     }
-    let n = View::ALL.len();
+    let n = app.views.len();
     let before = app.view;
     match a {
-        Action::NextView => app.view = View::ALL[(app.view.index() + 1) % n],
-        Action::PrevView => app.view = View::ALL[(app.view.index() + n - 1) % n],
-        Action::GoTo(v) => app.view = v,
-        Action::NextModel => {
-            if app.models.len() > 1 {
-                app.current = (app.current + 1) % app.models.len();
-                let text = format!(
-                    "{} of {} models: {}",
-                    crate::analysis::compare::model_id(app.current),
-                    app.models.len(),
-                    app.paths[app.current].display()
-                );
-                app.say(Tone::Info, text);
-            } else {
-                app.say(
-                    Tone::Info,
-                    "one model is open: pass several specs to switch",
-                );
-            }
-        }
+        Action::NextView => app.view = (app.view + 1) % n,
+        Action::PrevView => app.view = (app.view + n - 1) % n,
+        Action::GoTo(v) if v < n => app.view = v,
+        Action::NextModel => next_model(app),
         _ => return on_view(app, a),
     }
     // A message belongs to the view it was said on: it goes when the view changes.
@@ -372,37 +318,125 @@ fn act(app: &mut App, a: Action) -> Vec<Job> {
     Vec::new()
 }
 
+fn next_model(app: &mut App) {
+    if app.models.len() > 1 {
+        app.current = (app.current + 1) % app.models.len();
+        let text = format!(
+            "{} of {} models: {}",
+            crate::analysis::compare::model_id(app.current),
+            app.models.len(),
+            app.paths[app.current].display()
+        );
+        app.say(Tone::Info, text);
+    } else {
+        app.say(
+            Tone::Info,
+            "one model is open: pass several specs to switch",
+        );
+    }
+}
+
+/// An action for the view shown; a view that does not apply to the model takes none.
 fn on_view(app: &mut App, a: Action) -> Vec<Job> {
-    let v = app.view.index();
-    let scroll = |app: &mut App| {
-        let most = match app.view {
-            View::Overview => super::overview::findings_height(app),
-            View::Compare => super::compare::height(app),
-            _ => 0,
+    let applies = app
+        .loaded()
+        .is_some_and(|l| app.shown().applies(&l.model).is_ok());
+    if !applies {
+        return Vec::new();
+    }
+    let mut reply = Reply::default();
+    let shown = app.view;
+    let (ctx, views) = parts(app);
+    views[shown].act(&ctx, a, &mut reply);
+    follow(app, shown, reply)
+}
+
+/// Carries out what a view asked for.
+fn follow(app: &mut App, from: usize, reply: Reply) -> Vec<Job> {
+    let Reply {
+        mut jobs,
+        status,
+        ask,
+        go,
+    } = reply;
+    if let Some(s) = status {
+        app.status = Some(s);
+    }
+    if let Some((ask, question, text)) = ask {
+        app.prompt = Some(Prompt::Line {
+            view: from,
+            ask,
+            question,
+            text,
+        });
+    }
+    if let Some((title, focus)) = go {
+        if let Some(to) = app.view_index(title) {
+            app.view = to;
+            let mut more = Reply::default();
+            let (ctx, views) = parts(app);
+            views[to].focus(&ctx, &focus, &mut more);
+            jobs.extend(follow(app, to, more));
         }
-        .saturating_sub(1) as u16;
-        match a {
-            Action::Up => app.scroll[v] = app.scroll[v].saturating_sub(1),
-            Action::Down => app.scroll[v] = (app.scroll[v] + 1).min(most),
-            Action::Top => app.scroll[v] = 0,
-            Action::Bottom => app.scroll[v] = most,
-            _ => {}
-        }
+    }
+    jobs
+}
+
+/// Keys while a prompt is open: typing, accepting, and the explicit `y`.
+fn on_prompt(app: &mut App, a: Action) -> Vec<Job> {
+    let Some(prompt) = app.prompt.clone() else {
+        return Vec::new();
     };
-    match app.view {
-        View::Estimates => estimates::on(app, a),
-        View::Elasticities => {
-            let count = super::elasticities::variables(app).len().max(1);
+    match prompt {
+        Prompt::Line {
+            view,
+            ask,
+            question,
+            mut text,
+        } => {
             match a {
-                Action::Right | Action::BigRight => app.variable = (app.variable + 1) % count,
-                Action::Left | Action::BigLeft => app.variable = (app.variable + count - 1) % count,
-                Action::Alternate => app.arc = !app.arc,
+                Action::Char(c) => text.push(c),
+                Action::Backspace => {
+                    text.pop();
+                }
+                Action::Enter => return accept(app, view, ask, &text),
                 _ => {}
             }
+            app.prompt = Some(Prompt::Line {
+                view,
+                ask,
+                question,
+                text,
+            });
+            Vec::new()
         }
-        View::WhatIf => return whatif::on(app, a),
-        View::Curve => return curve::on(app, a),
-        View::Overview | View::Diversion | View::Compare => scroll(app),
+        Prompt::Overwrite { view, ask, path } => {
+            app.prompt = None;
+            if a != Action::Yes {
+                app.say(Tone::Info, format!("kept {} as it was", path.display()));
+                return Vec::new();
+            }
+            let mut reply = Reply::default();
+            let (ctx, views) = parts(app);
+            if let Some(v) = views.get_mut(view) {
+                v.confirmed(&ctx, ask, &path, &mut reply);
+            }
+            follow(app, view, reply)
+        }
     }
-    Vec::new()
+}
+
+fn accept(app: &mut App, view: usize, ask: u8, text: &str) -> Vec<Job> {
+    let mut reply = Reply::default();
+    let (ctx, views) = parts(app);
+    let Some(v) = views.get_mut(view) else {
+        app.prompt = None;
+        return Vec::new();
+    };
+    match v.answered(&ctx, ask, text, &mut reply) {
+        Answer::Done => app.prompt = None,
+        Answer::Again => {}
+        Answer::Overwrite(path) => app.prompt = Some(Prompt::Overwrite { view, ask, path }),
+    }
+    follow(app, view, reply)
 }

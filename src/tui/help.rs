@@ -1,4 +1,5 @@
-//! The help overlay: every key from the key map's table, in two columns when
+//! The help overlay: every key from the key map's table (the shared keys and
+//! each registered view's own), in two columns when
 //! the terminal is wide enough, scrolled with ↑↓ when it is not tall enough.
 
 use ratatui::buffer::Buffer;
@@ -7,13 +8,13 @@ use ratatui::text::{Line, Span};
 use ratatui::widgets::{Clear, Paragraph, Widget};
 
 use super::app::App;
-use super::keys::HELP;
+use super::keys::{help, HelpSection};
 use super::theme::Theme;
 use super::widgets::{left, panel};
 
-fn section_lines(from: usize, to: usize, kw: usize, t: &Theme) -> Vec<Line<'static>> {
+fn section_lines(sections: &[HelpSection], kw: usize, t: &Theme) -> Vec<Line<'static>> {
     let mut lines = Vec::new();
-    for (n, (name, keys)) in HELP[from..to].iter().enumerate() {
+    for (n, (name, keys)) in sections.iter().enumerate() {
         if n > 0 {
             lines.push(Line::from(""));
         }
@@ -28,10 +29,22 @@ fn section_lines(from: usize, to: usize, kw: usize, t: &Theme) -> Vec<Line<'stat
     lines
 }
 
+/// Where to start the second column: the split that makes the taller column shortest.
+fn halfway(sections: &[HelpSection]) -> usize {
+    let heights: Vec<usize> = sections.iter().map(|(_, k)| k.len() + 2).collect();
+    let total: usize = heights.iter().sum();
+    (1..sections.len())
+        .min_by_key(|&i| {
+            let first: usize = heights[..i].iter().sum();
+            first.max(total - first)
+        })
+        .unwrap_or(sections.len())
+}
+
 pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let t = &app.theme;
     let w = area.width.min(100);
-    let h = area.height.min(24);
+    let h = area.height.min(40);
     let popup = Rect {
         x: area.x + (area.width - w) / 2,
         y: area.y + (area.height - h) / 2,
@@ -43,19 +56,20 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let inner = block.inner(popup);
     block.render(popup, buf);
     let kw = 14;
+    let sections = help(&app.views);
     let scroll = (app.help_scroll, 0);
     if inner.width >= 70 {
         let [a, b] = Layout::horizontal([Constraint::Percentage(50), Constraint::Percentage(50)])
             .areas(inner);
-        let split = 3;
-        Paragraph::new(section_lines(0, split, kw, t))
+        let split = halfway(&sections);
+        Paragraph::new(section_lines(&sections[..split], kw, t))
             .scroll(scroll)
             .render(a, buf);
-        Paragraph::new(section_lines(split, HELP.len(), kw, t))
+        Paragraph::new(section_lines(&sections[split..], kw, t))
             .scroll(scroll)
             .render(b, buf);
     } else {
-        Paragraph::new(section_lines(0, HELP.len(), kw, t))
+        Paragraph::new(section_lines(&sections, kw, t))
             .scroll(scroll)
             .render(inner, buf);
     }

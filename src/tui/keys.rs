@@ -1,17 +1,20 @@
-//! The key map: which key does what in which context, and the help table that
-//! lists every key (the help overlay and docs/workbench.md are written from it).
+//! The key map: which key does what in which context (the shared keys, and
+//! the shown view's own from its `View::keys`), and the help table that lists
+//! every key (the help overlay and docs/workbench.md are written from it).
 
 use ratatui::crossterm::event::{KeyCode, KeyEvent, KeyEventKind, KeyModifiers};
 
-use super::app::View;
+use super::part::{Key, View};
 
-/// What a key asks for; `app::update` carries it out.
+/// What a key asks for; `app::update` carries it out, passing what it does
+/// not handle itself to the view shown.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Action {
     Quit,
     NextView,
     PrevView,
-    GoTo(View),
+    /// Show the view at this position in the list.
+    GoTo(usize),
     ToggleHelp,
     Close,
     NextModel,
@@ -23,25 +26,8 @@ pub enum Action {
     BigRight,
     Top,
     Bottom,
-    /// Estimates: classical or robust errors.
-    ToggleErrors,
-    /// Estimates: next sort order.
-    CycleSort,
-    /// Estimates: group rows by spec term or not.
-    ToggleGrouping,
-    /// Elasticities: point or arc; curve: the alternative whose share is drawn.
-    Alternate,
-    /// What-if: type a value for the lever.
-    Edit,
-    ResetLever,
-    ResetAll,
-    Withdraw,
-    Save,
-    Export,
-    /// What-if: open the demand curve of the lever.
-    CurveOfLever,
-    Wider,
-    Narrower,
+    /// One of the view's own keys (`part::Key::chars`).
+    Command(char),
     Char(char),
     Backspace,
     Enter,
@@ -51,7 +37,7 @@ pub enum Action {
 
 /// The context a key is read in.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum Context {
+pub enum Context<'a> {
     /// Fitting, or the fit failed: only quitting and help.
     Waiting,
     Help,
@@ -59,7 +45,11 @@ pub enum Context {
     Typing,
     /// "overwrite?" — y or anything else.
     Confirm,
-    View(View),
+    /// A view is shown: its own keys, and how many views there are.
+    View {
+        keys: &'a [Key],
+        views: usize,
+    },
 }
 
 /// Maps a key press to an action in a context; `None` for keys with no meaning there.
@@ -68,54 +58,55 @@ pub fn action(ctx: Context, key: KeyEvent) -> Option<Action> {
         return None;
     }
     let ctrl = key.modifiers.contains(KeyModifiers::CONTROL);
-    let shift = key.modifiers.contains(KeyModifiers::SHIFT);
     if ctrl && matches!(key.code, KeyCode::Char('c') | KeyCode::Char('C')) {
         return Some(Action::Quit);
     }
     match ctx {
-        Context::Typing => {
-            return match key.code {
-                KeyCode::Enter => Some(Action::Enter),
+        Context::Typing => typing(key.code, ctrl),
+        Context::Confirm => match key.code {
+            KeyCode::Char('y') | KeyCode::Char('Y') => Some(Action::Yes),
+            _ => Some(Action::Close),
+        },
+        _ => {
+            let global = match key.code {
+                KeyCode::Char('q') => Some(Action::Quit),
+                KeyCode::Char('?') => Some(Action::ToggleHelp),
                 KeyCode::Esc => Some(Action::Close),
-                KeyCode::Backspace => Some(Action::Backspace),
-                KeyCode::Char(c) if !ctrl => Some(Action::Char(c)),
                 _ => None,
-            }
+            };
+            global.or_else(|| match ctx {
+                Context::View { keys, views } => on_view(key, keys, views),
+                Context::Help => match key.code {
+                    KeyCode::Up | KeyCode::Char('k') => Some(Action::Up),
+                    KeyCode::Down | KeyCode::Char('j') => Some(Action::Down),
+                    _ => None,
+                },
+                _ => None,
+            })
         }
-        Context::Confirm => {
-            return match key.code {
-                KeyCode::Char('y') | KeyCode::Char('Y') => Some(Action::Yes),
-                _ => Some(Action::Close),
-            }
-        }
-        _ => {}
     }
-    let global = match key.code {
-        KeyCode::Char('q') => Some(Action::Quit),
-        KeyCode::Char('?') => Some(Action::ToggleHelp),
+}
+
+fn typing(code: KeyCode, ctrl: bool) -> Option<Action> {
+    match code {
+        KeyCode::Enter => Some(Action::Enter),
         KeyCode::Esc => Some(Action::Close),
+        KeyCode::Backspace => Some(Action::Backspace),
+        KeyCode::Char(c) if !ctrl => Some(Action::Char(c)),
         _ => None,
-    };
-    if global.is_some() {
-        return global;
     }
-    let view = match ctx {
-        Context::View(v) => v,
-        Context::Help => {
-            return match key.code {
-                KeyCode::Up | KeyCode::Char('k') => Some(Action::Up),
-                KeyCode::Down | KeyCode::Char('j') => Some(Action::Down),
-                _ => None,
-            }
-        }
-        _ => return None,
-    };
-    let common = match key.code {
+}
+
+/// Keys on a view: the shared ones first, then the view's own commands.
+fn on_view(key: KeyEvent, keys: &[Key], views: usize) -> Option<Action> {
+    let shift = key.modifiers.contains(KeyModifiers::SHIFT);
+    let shared = match key.code {
         KeyCode::Tab => Some(Action::NextView),
         KeyCode::BackTab => Some(Action::PrevView),
-        KeyCode::Char(c @ '1'..='7') => View::ALL
-            .get(c as usize - '1' as usize)
-            .map(|v| Action::GoTo(*v)),
+        KeyCode::Char(c @ '1'..='9') => {
+            let at = c as usize - '1' as usize;
+            (at < views).then_some(Action::GoTo(at))
+        }
         KeyCode::Char('m') => Some(Action::NextModel),
         KeyCode::Up | KeyCode::Char('k') => Some(Action::Up),
         KeyCode::Down | KeyCode::Char('j') => Some(Action::Down),
@@ -132,91 +123,66 @@ pub fn action(ctx: Context, key: KeyEvent) -> Option<Action> {
         KeyCode::Enter => Some(Action::Enter),
         _ => None,
     };
-    if common.is_some() {
-        return common;
+    if shared.is_some() {
+        return shared;
     }
     let KeyCode::Char(c) = key.code else {
         return None;
     };
-    match (view, c) {
-        (View::Estimates, 'e') => Some(Action::ToggleErrors),
-        (View::Estimates, 's') => Some(Action::CycleSort),
-        (View::Estimates, 't') => Some(Action::ToggleGrouping),
-        (View::Elasticities, 'a') => Some(Action::Alternate),
-        (View::WhatIf, 'e') => Some(Action::Edit),
-        (View::WhatIf, 'r') => Some(Action::ResetLever),
-        (View::WhatIf, 'R') => Some(Action::ResetAll),
-        (View::WhatIf, 'w') => Some(Action::Withdraw),
-        (View::WhatIf, 's') => Some(Action::Save),
-        (View::WhatIf, 'x') => Some(Action::Export),
-        (View::WhatIf, 'c') => Some(Action::CurveOfLever),
-        (View::Curve, 'a') => Some(Action::Alternate),
-        (View::Curve, '+' | '=') => Some(Action::Wider),
-        (View::Curve, '-') => Some(Action::Narrower),
-        _ => None,
-    }
+    keys.iter()
+        .any(|k| k.chars.contains(c))
+        .then_some(Action::Command(c))
 }
 
-/// Every key, by context: (section, [(keys, what they do)]).
-pub const HELP: &[(&str, &[(&str, &str)])] = &[
-    (
-        "everywhere",
-        &[
+/// One section of the help: its name and (keys, what they do) lines.
+pub type HelpSection = (String, Vec<(String, String)>);
+
+/// Every key, by context: the shared keys, each view's own (from its
+/// `View::keys`, in the order of the views), and the prompts. The help
+/// overlay and docs/workbench.md are written from this.
+pub fn help(views: &[Box<dyn View>]) -> Vec<HelpSection> {
+    let own = |lines: &[(&str, &str)]| {
+        lines
+            .iter()
+            .map(|(k, w)| (k.to_string(), w.to_string()))
+            .collect::<Vec<_>>()
+    };
+    let go_to = format!("1 … {}", views.len());
+    let mut out = vec![(
+        "everywhere".to_string(),
+        own(&[
             ("Tab  ⇧Tab", "next / previous view"),
-            ("1 … 7", "go to a view"),
+            (&go_to, "go to a view"),
             ("m", "next model (specs)"),
             ("?", "help; ? or Esc closes"),
             ("Esc", "close help or prompt"),
             ("q  Ctrl-C", "quit"),
             ("↑↓  j k", "move or scroll"),
             ("g G", "first / last (Home End)"),
-        ],
-    ),
-    (
-        "estimates",
-        &[
-            ("e", "Hessian/clustered s.e."),
-            ("s", "sort: spec, |t|, name"),
-            ("t", "group by spec term"),
-        ],
-    ),
-    (
-        "elasticities",
-        &[
-            ("←→  h l", "previous / next variable"),
-            ("a", "point or arc values"),
-        ],
-    ),
-    (
-        "what-if",
-        &[
-            ("↑↓  j k", "choose a lever"),
-            ("←→  h l", "step −/+ 1% (or 0.1)"),
-            ("⇧←→  H L", "step −/+ 10% (or 1)"),
-            ("Enter  e", "type +10% x1.2 +2 =3.5"),
-            ("r  R", "reset lever / all"),
-            ("w", "withdraw / restore alt."),
-            ("s", "save as scenario TOML"),
-            ("x", "export csv/json/parquet"),
-            ("c", "demand curve of lever"),
-        ],
-    ),
-    (
-        "curve",
-        &[
-            ("↑↓  j k", "attribute to sweep"),
-            ("←→  h l", "move the marker"),
-            ("⇧←→  H L", "move it 5 points"),
-            ("a", "alternative drawn"),
-            ("+  -", "widen / narrow range"),
-        ],
-    ),
-    (
-        "prompts",
-        &[
+        ]),
+    )];
+    out.push((
+        "views".to_string(),
+        views
+            .iter()
+            .enumerate()
+            .map(|(i, v)| (format!("{}  {}", i + 1, v.title()), v.about().to_string()))
+            .collect(),
+    ));
+    for v in views {
+        let keys = v.keys();
+        if !keys.is_empty() {
+            let lines = keys.iter().map(|k| (k.label, k.help)).collect::<Vec<_>>();
+            out.push((v.title().to_string(), own(&lines)));
+        }
+    }
+    out.push((
+        "prompts".to_string(),
+        own(&[
             ("Enter", "accept"),
             ("Esc", "cancel"),
             ("y", "replace existing file"),
-        ],
-    ),
-];
+        ]),
+    ));
+    out
+}

@@ -1,25 +1,22 @@
 //! `sharecast explore`: the interactive terminal workbench. This module owns
 //! the run loop and the terminal: raw mode and the alternate screen on entry,
-//! restored on every way out (return, error, panic); `app` holds the state and
-//! `update`, `worker` the background jobs, the view files their drawing.
+//! restored on every way out (return, error, panic); `app` holds the shared
+//! state and `update`, `part` what a view is, `views` the list of views (each
+//! owning its state and drawing), `worker` the background jobs.
 
 pub mod app;
-pub mod compare;
-pub mod curve;
 mod cutaxis;
-pub mod diversion;
-pub mod elasticities;
-pub mod estimates;
 pub mod help;
 pub mod keys;
-pub mod levers;
-pub mod overview;
-pub mod prompt;
+pub mod part;
 pub mod screen;
 pub mod theme;
-pub mod whatif;
+pub mod views;
 pub mod widgets;
 pub mod worker;
+
+pub use views::whatif::levers;
+pub use views::{compare, curve, diversion, elasticities, estimates, overview, whatif};
 
 use std::io::{IsTerminal, Stdout};
 use std::path::PathBuf;

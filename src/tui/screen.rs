@@ -1,6 +1,8 @@
-//! The whole screen drawn from `&App`: the view tabs, the current view (or
-//! the fit's progress, or why it failed), the message or prompt line, the
-//! status line, the help overlay, and the "enlarge the terminal" notice.
+//! The whole screen drawn from `&App`: the tabs (one per registered view),
+//! the current view (or the fit's progress, or why it failed, or why the view
+//! does not apply to the model), the message or prompt line, the status line
+//! with the view's hints, the help overlay, and the "enlarge the terminal"
+//! notice.
 
 use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Layout, Rect};
@@ -8,52 +10,12 @@ use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Widget, Wrap};
 
 use super::app::{App, Loading, Prompt, Stage, Tone};
+use super::help;
 use super::widgets::{left, panel, right};
-use super::{compare, curve, diversion, elasticities, estimates, help, overview, prompt, whatif};
 
 /// The smallest terminal the workbench draws in.
 pub const MIN_WIDTH: u16 = 80;
 pub const MIN_HEIGHT: u16 = 24;
-
-/// The views, in the order of the tabs and the number keys.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum View {
-    Overview,
-    Estimates,
-    Elasticities,
-    Diversion,
-    WhatIf,
-    Curve,
-    Compare,
-}
-
-impl View {
-    pub const ALL: [View; 7] = [
-        View::Overview,
-        View::Estimates,
-        View::Elasticities,
-        View::Diversion,
-        View::WhatIf,
-        View::Curve,
-        View::Compare,
-    ];
-
-    pub fn title(self) -> &'static str {
-        match self {
-            View::Overview => "overview",
-            View::Estimates => "estimates",
-            View::Elasticities => "elasticities",
-            View::Diversion => "diversion",
-            View::WhatIf => "what-if",
-            View::Curve => "curve",
-            View::Compare => "compare",
-        }
-    }
-
-    pub fn index(self) -> usize {
-        View::ALL.iter().position(|v| *v == self).unwrap_or(0)
-    }
-}
 
 impl Widget for &App {
     fn render(self, area: Rect, buf: &mut Buffer) {
@@ -101,15 +63,7 @@ impl Widget for &App {
                 .block(panel("could not open", t))
                 .render(body, buf);
             }
-            Stage::Ready => match self.view {
-                View::Overview => overview::render(self, body, buf),
-                View::Estimates => estimates::render(self, body, buf),
-                View::Elasticities => elasticities::render(self, body, buf),
-                View::Diversion => diversion::render(self, body, buf),
-                View::WhatIf => whatif::render(self, body, buf),
-                View::Curve => curve::render(self, body, buf),
-                View::Compare => compare::render(self, body, buf),
-            },
+            Stage::Ready => render_view(self, body, buf),
         }
         render_message(self, message, buf);
         render_status(self, status, buf);
@@ -123,12 +77,15 @@ fn render_tabs(app: &App, area: Rect, buf: &mut Buffer) {
     let t = &app.theme;
     let mut spans = Vec::new();
     let ready = matches!(app.stage, Stage::Ready);
-    for (i, v) in View::ALL.iter().enumerate() {
+    for (i, v) in app.views.iter().enumerate() {
         let label = format!("{} {}", i + 1, v.title());
-        let style = if ready && *v == app.view {
+        let applies = app.loaded().is_none_or(|l| v.applies(&l.model).is_ok());
+        let style = if ready && i == app.view {
             t.selected()
-        } else {
+        } else if applies {
             t.dim()
+        } else {
+            t.dim().add_modifier(ratatui::style::Modifier::CROSSED_OUT)
         };
         spans.push(Span::styled(label, style));
         spans.push(Span::raw(" "));
@@ -142,6 +99,21 @@ fn render_tabs(app: &App, area: Rect, buf: &mut Buffer) {
         spans.push(Span::styled(brand, t.accent()));
     }
     Line::from(spans).render(area, buf);
+}
+
+/// The view shown, or why it does not apply to the model.
+fn render_view(app: &App, area: Rect, buf: &mut Buffer) {
+    let view = app.shown();
+    let Some(l) = app.loaded() else {
+        return;
+    };
+    match view.applies(&l.model) {
+        Ok(()) => view.render(&app.ctx(), area, buf),
+        Err(why) => Paragraph::new(why)
+            .wrap(Wrap { trim: true })
+            .block(panel(view.title(), &app.theme))
+            .render(area, buf),
+    }
 }
 
 fn render_loading(app: &App, l: &Loading, area: Rect, buf: &mut Buffer) {
@@ -201,8 +173,8 @@ fn render_loading(app: &App, l: &Loading, area: Rect, buf: &mut Buffer) {
 fn render_message(app: &App, area: Rect, buf: &mut Buffer) {
     let t = &app.theme;
     let line = match &app.prompt {
-        Some(Prompt::Line { ask, text }) => Line::from(vec![
-            Span::styled(format!("{} ", prompt::question(*ask)), t.accent()),
+        Some(Prompt::Line { question, text, .. }) => Line::from(vec![
+            Span::styled(format!("{question} "), t.accent()),
             Span::styled(format!("{text}▏"), t.bold()),
             Span::styled("  Enter accepts · Esc cancels", t.dim()),
         ]),
@@ -230,7 +202,12 @@ fn render_status(app: &App, area: Rect, buf: &mut Buffer) {
     let left_text = match app.loaded() {
         Some(l) => {
             let s = &l.model.spec;
-            let mut text = format!(" {} · {}", l.model.path.display(), s.family);
+            let mut text = format!(
+                " ‹{}› {} · {}",
+                app.shown().title(),
+                l.model.path.display(),
+                s.family
+            );
             if app.models.len() > 1 {
                 text.push_str(&format!(
                     " · {} of {} models",
@@ -249,12 +226,8 @@ fn render_status(app: &App, area: Rect, buf: &mut Buffer) {
                 .join(", ")
         ),
     };
-    let hints = match (&app.stage, app.view) {
-        (Stage::Ready, View::WhatIf) => "←→ step  Enter type  s save  ? help  q quit ",
-        (Stage::Ready, View::Estimates) => "e errors  s sort  t terms  ? help  q quit ",
-        (Stage::Ready, View::Elasticities) => "←→ variable  a arc  ? help  q quit ",
-        (Stage::Ready, View::Curve) => "↑↓ sweep  ←→ marker  a alt.  ? help  q quit ",
-        (Stage::Ready, _) => "Tab views  ? help  q quit ",
+    let hints = match &app.stage {
+        Stage::Ready => app.shown().hints(),
         _ => "? help  q quit ",
     };
     let w = area.width as usize;

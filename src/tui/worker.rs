@@ -1,8 +1,10 @@
-//! The background worker: fits, analyses, parameter draws and demand curves
-//! run here, one job at a time, and report back as messages over a channel.
-//! A queued band or curve request that a newer one of the same kind replaces
-//! is skipped; a panic inside a job becomes an error message, not a crash.
+//! The background worker: fits, analyses and the views' own jobs (parameter
+//! draws, demand curves) run here, one job at a time, and report back as
+//! messages over a channel. A queued view job that a newer one of the same
+//! view and model replaces is skipped; a panic inside a job becomes an error
+//! message, not a crash.
 
+use std::any::Any;
 use std::collections::VecDeque;
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::path::{Path, PathBuf};
@@ -13,7 +15,6 @@ use super::app::Msg;
 use crate::data::{Dataset, Extra};
 use crate::error::Result;
 use crate::estimate::{Fit, Progress, Step};
-use crate::scenario::{self, sweep, Scenario};
 use crate::spec::Spec;
 
 /// A fitted spec with its data: cheap to clone, shared by the state and the worker.
@@ -49,7 +50,9 @@ pub const DRAWS: usize = 500;
 /// Seed of those draws (the `simulate` command's default).
 pub const SEED: u64 = 7;
 
-#[derive(Debug)]
+/// A view's work for the worker: its result goes back to the view that asked.
+pub type Work = Box<dyn FnOnce() -> Result<Box<dyn Any + Send>> + Send>;
+
 pub enum Job {
     /// Load and fit each spec in turn (restoring from `load` when its fingerprint matches).
     Open {
@@ -60,27 +63,42 @@ pub enum Job {
         index: usize,
         model: Model,
     },
-    /// The what-if forecast with draws, for the band.
-    Band {
+    /// A view's job for model `index`, tagged with the view's generation.
+    Part {
+        view: &'static str,
         index: usize,
         generation: u64,
-        model: Model,
-        scenario: Scenario,
-    },
-    Curve {
-        index: usize,
-        generation: u64,
-        model: Model,
-        request: sweep::Request,
+        work: Work,
     },
 }
 
+impl std::fmt::Debug for Job {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Job::Open { paths, .. } => write!(f, "Open({paths:?})"),
+            Job::Analyse { index, .. } => write!(f, "Analyse({index})"),
+            Job::Part {
+                view,
+                index,
+                generation,
+                ..
+            } => write!(f, "Part({view}, {index}, {generation})"),
+        }
+    }
+}
+
 impl Job {
-    /// Band and curve requests are replaced by newer ones for the same model.
+    /// A view's job is replaced by a newer one of the same view for the same model.
     fn supersedes(&self, older: &Job) -> bool {
         match (self, older) {
-            (Job::Band { index: a, .. }, Job::Band { index: b, .. }) => a == b,
-            (Job::Curve { index: a, .. }, Job::Curve { index: b, .. }) => a == b,
+            (
+                Job::Part {
+                    view: a, index: i, ..
+                },
+                Job::Part {
+                    view: b, index: j, ..
+                },
+            ) => a == b && i == j,
             _ => false,
         }
     }
@@ -149,39 +167,18 @@ pub fn execute(job: Job, send: &(dyn Fn(Msg) + Sync)) {
                 result: result.map(Box::new),
             });
         }
-        Job::Band {
+        Job::Part {
+            view,
             index,
             generation,
-            model,
-            scenario,
+            work,
         } => {
-            let opts = scenario::Options {
-                draws: DRAWS,
-                seed: SEED,
-                by: None,
-                market: None,
-                quick: false,
-            };
-            let result = guarded(|| {
-                scenario::forecast(&model.spec, &model.fit, &model.ds, &scenario, &opts)
-            });
-            send(Msg::Band {
+            let result = guarded(work);
+            send(Msg::Done {
+                view,
                 index,
                 generation,
-                result: result.map(Box::new),
-            });
-        }
-        Job::Curve {
-            index,
-            generation,
-            model,
-            request,
-        } => {
-            let result = guarded(|| sweep::sweep(&model.spec, &model.fit, &model.ds, &request));
-            send(Msg::Curve {
-                index,
-                generation,
-                result: result.map(Box::new),
+                result,
             });
         }
     }

@@ -12,8 +12,11 @@ use ratatui::backend::TestBackend;
 use ratatui::crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
 use ratatui::Terminal;
 use sharecast::scenario::{self, Op, Scenario, Target};
-use sharecast::tui::app::{update, App, Model, Msg, Prompt, Stage, View};
+use sharecast::tui::app::{update, App, Model, Msg, Prompt, Stage};
+use sharecast::tui::compare::Compare;
+use sharecast::tui::curve::{Curve, CurveView};
 use sharecast::tui::theme::{Theme, ELASTICITY_CUTS};
+use sharecast::tui::whatif::{WhatIf, WhatIfView};
 use sharecast::tui::worker::{self, Job};
 use sharecast::tui::{estimates, keys, levers};
 
@@ -100,8 +103,20 @@ fn point(rel: &str, sc: &Scenario) -> scenario::Forecast {
     scenario::forecast(&m.spec, &m.fit, &m.ds, sc, &opts).unwrap()
 }
 
+/// The what-if view's state for the model shown.
+fn whatif(app: &App) -> &WhatIf {
+    let view = app.part::<WhatIfView>().unwrap();
+    view.state(app.current).unwrap()
+}
+
+/// The curve view's state for the model shown.
+fn curve(app: &App) -> &Curve {
+    let view = app.part::<CurveView>().unwrap();
+    view.state(app.current).unwrap()
+}
+
 fn whatif_shares(app: &App) -> Vec<(f64, f64)> {
-    let f = app.loaded().unwrap().whatif.point.as_ref().unwrap();
+    let f = whatif(app).point.as_ref().unwrap();
     f.shares.iter().map(|r| (r.base, r.scenario)).collect()
 }
 
@@ -241,7 +256,7 @@ fn elasticities_and_diversion_show_the_analysis_figures() {
         &s,
         &[
             "elasticities of cost (1/6)",
-            "changed \\ share",
+            "changed ↓  share of →",
             &format!("{:+.3}", own("cost", "rail").value),
         ],
     );
@@ -277,7 +292,7 @@ fn elasticities_and_diversion_show_the_analysis_figures() {
     has(
         &s,
         &[
-            "removed \\ to",
+            "withdrawn ↓  to →",
             &format!("{:.3}", d.share),
             &format!("{:.3}", p.ratio),
             "cost diversion ratios",
@@ -311,7 +326,7 @@ fn stepping_a_fare_gives_the_scenario_and_shares_of_the_library() {
             drain(&mut app, jobs);
         }
         let l = app.loaded().unwrap();
-        let sc = l.whatif.scenario(&l.model.spec);
+        let sc = whatif(&app).scenario(&l.model.spec);
         assert_eq!(sc.changes.len(), 1, "{how}");
         assert_eq!(
             sc.changes[0].target,
@@ -331,7 +346,7 @@ fn stepping_a_fare_gives_the_scenario_and_shares_of_the_library() {
                 "band: 95% of 500 parameter draws",
             ],
         );
-        let band = l.whatif.band.as_ref().unwrap();
+        let band = whatif(&app).band.as_ref().unwrap();
         assert!(band
             .shares
             .iter()
@@ -344,7 +359,7 @@ fn withdrawing_and_resetting_follow_the_library() {
     let mut app = demo(&["specs/commute.toml"]);
     keys(&mut app, "5jjw");
     let l = app.loaded().unwrap();
-    assert_eq!(l.whatif.removed, vec![1]);
+    assert_eq!(whatif(&app).removed, vec![1]);
     let sc =
         Scenario::from_str("remove = [\"bus\"]\n", Path::new("x.toml"), &l.model.spec).unwrap();
     let want: Vec<(f64, f64)> = point("specs/commute.toml", &sc)
@@ -356,10 +371,9 @@ fn withdrawing_and_resetting_follow_the_library() {
     assert_eq!(want[1].1, 0.0);
     has(&screen(&app, 80, 24), &["bus ✕", "bus withdrawn"]);
     keys(&mut app, "lr");
-    assert_eq!(app.loaded().unwrap().whatif.changed(), 0);
+    assert_eq!(whatif(&app).changed(), 0);
     keys(&mut app, "lR");
-    let l = app.loaded().unwrap();
-    assert!(l.whatif.removed.is_empty() && l.whatif.changed() == 0);
+    assert!(whatif(&app).removed.is_empty() && whatif(&app).changed() == 0);
     let base: Vec<(f64, f64)> = whatif_shares(&app);
     assert!(base.iter().all(|(b, s)| b == s));
 }
@@ -371,16 +385,10 @@ fn a_stale_band_is_dropped_and_the_current_one_kept() {
     let old = keys(&mut app, "l");
     let new = keys(&mut app, "l");
     drain(&mut app, old);
-    assert!(
-        app.loaded().unwrap().whatif.band.is_none(),
-        "a stale band was kept"
-    );
+    assert!(whatif(&app).band.is_none(), "a stale band was kept");
     has(&screen(&app, 80, 24), &["drawing 500 parameter sets"]);
     drain(&mut app, new);
-    assert_eq!(
-        app.loaded().unwrap().whatif.band.as_ref().unwrap().draws,
-        worker::DRAWS
-    );
+    assert_eq!(whatif(&app).band.as_ref().unwrap().draws, worker::DRAWS);
 }
 
 #[test]
@@ -426,8 +434,7 @@ fn saving_and_exporting_never_overwrite_without_y() {
     type_path(&mut app, 's', &file);
     let spec = model("specs/commute.toml").spec;
     let back = Scenario::from_file(&file, &spec).unwrap();
-    let l = app.loaded().unwrap();
-    assert_eq!(back.changes, l.whatif.scenario(&spec).changes);
+    assert_eq!(back.changes, whatif(&app).scenario(&spec).changes);
     let first = std::fs::read_to_string(&file).unwrap();
     // simulate reads the saved file
     let (code, out, _) = run(&[
@@ -482,7 +489,7 @@ fn saving_and_exporting_never_overwrite_without_y() {
 fn the_demand_curve_is_the_library_sweep() {
     let mut app = demo(&["specs/commute.toml"]);
     let jobs = keys(&mut app, "5jjjjjjc");
-    assert_eq!(app.view, View::Curve);
+    assert_eq!(app.shown().title(), "curve");
     drain(&mut app, jobs);
     let l = app.loaded().unwrap();
     let m = &l.model;
@@ -494,7 +501,7 @@ fn the_demand_curve_is_the_library_sweep() {
         steps: 21,
     };
     let want = sharecast::scenario::sweep::sweep(&m.spec, &m.fit, &m.ds, &req).unwrap();
-    let got = l.curve.sweep.as_ref().unwrap();
+    let got = curve(&app).sweep.as_ref().unwrap();
     assert_eq!(got.points.len(), 21);
     for (g, w) in got.points.iter().zip(&want.points) {
         assert_eq!(g.shares, w.shares);
@@ -514,10 +521,7 @@ fn the_demand_curve_is_the_library_sweep() {
     let stale = keys(&mut app, "+");
     keys(&mut app, "-");
     drain(&mut app, stale);
-    assert!(
-        app.loaded().unwrap().curve.sweep.is_none(),
-        "a stale curve was kept"
-    );
+    assert!(curve(&app).sweep.is_none(), "a stale curve was kept");
 }
 
 #[test]
@@ -551,12 +555,10 @@ fn compare_sets_two_specs_side_by_side() {
     assert!(!s.contains("<.0001") && !s.contains("[1]"), "{s}");
     has(&s, &["M1 of 2 models"]);
     keys(&mut app, &"j".repeat(200));
-    let most = sharecast::tui::compare::height(&app) as u16;
-    assert!(
-        app.scroll[6] < most && app.scroll[6] > 0,
-        "scrolled to {}",
-        app.scroll[6]
-    );
+    let compare = app.part::<Compare>().unwrap();
+    let most = compare.height(&app.ctx()) as u16;
+    let at = compare.scroll.0;
+    assert!(at < most && at > 0, "scrolled to {at}");
     keys(&mut app, "gm");
     has(
         &screen(&app, 100, 40),
@@ -569,7 +571,8 @@ fn help_lists_every_key_and_small_terminals_are_told_to_grow() {
     let mut app = demo(&["specs/commute.toml"]);
     keys(&mut app, "?");
     let s = screen(&app, 100, 30);
-    for (_, section) in keys::HELP {
+    let help = keys::help(&app.views);
+    for (_, section) in &help {
         for (_, what) in section.iter() {
             has(&s, &[what]);
         }
@@ -577,7 +580,7 @@ fn help_lists_every_key_and_small_terminals_are_told_to_grow() {
     let doc = std::fs::read_to_string(path("docs/workbench.md"))
         .unwrap()
         .replace("\\|", "|");
-    for (name, section) in keys::HELP {
+    for (name, section) in &help {
         for (k, what) in section.iter() {
             assert!(
                 doc.contains(&format!("| `{k}` | {name} | {what} |")),
@@ -729,6 +732,12 @@ fn the_real_binary_runs_in_tmux() {
         &shell,
     ]);
     t.wait("converged", 60);
+    // Every registered view, by its number key: the status line names it.
+    for (i, v) in sharecast::tui::views::all().iter().enumerate() {
+        t.cmd(&["send-keys", "-t", "w", &(i + 1).to_string()]);
+        let s = t.wait(&format!("‹{}›", v.title()), 10);
+        assert!(!s.contains("panicked"), "{s}");
+    }
     t.cmd(&["send-keys", "-t", "w", "2"]);
     t.wait("-0.82712", 10);
     t.cmd(&["send-keys", "-t", "w", "5"]);
@@ -909,4 +918,64 @@ fn a_multinomial_probit_shows_its_error_structure_in_every_view() {
         assert!(!s.contains("panicked"), "{s}");
     }
     has(&screen(&app, 120, 40), &["coach", "rail"]);
+}
+
+#[test]
+fn every_registered_view_has_its_title_help_lines_and_keys() {
+    // A view registered without a title, a line in the help's list of views,
+    // or help for its own keys fails here; so does a command key that a
+    // shared key shadows (it would never reach the view), and a view the
+    // number keys cannot reach.
+    use sharecast::tui::keys::{Action, Context};
+    let app = demo(&["specs/commute.toml"]);
+    let help = keys::help(&app.views);
+    let listed = &help.iter().find(|(n, _)| n == "views").unwrap().1;
+    assert!(app.views.len() <= 9, "the number keys reach nine views");
+    let mut titles = Vec::new();
+    for (i, v) in app.views.iter().enumerate() {
+        assert!(!v.title().is_empty() && !v.about().is_empty(), "view {i}");
+        assert!(
+            !titles.contains(&v.title()),
+            "two views titled {}",
+            v.title()
+        );
+        titles.push(v.title());
+        let line = (format!("{}  {}", i + 1, v.title()), v.about().to_string());
+        assert!(
+            listed.contains(&line),
+            "the help does not list {}",
+            v.title()
+        );
+        let ctx = Context::View {
+            keys: v.keys(),
+            views: app.views.len(),
+        };
+        let digit = char::from_digit(i as u32 + 1, 10).unwrap();
+        let press =
+            |c: char| keys::action(ctx, KeyEvent::new(KeyCode::Char(c), KeyModifiers::NONE));
+        assert_eq!(press(digit), Some(Action::GoTo(i)));
+        for k in v.keys() {
+            assert!(
+                !k.label.is_empty() && !k.help.is_empty(),
+                "{}: {k:?}",
+                v.title()
+            );
+            for c in k.chars.chars() {
+                assert_eq!(
+                    press(c),
+                    Some(Action::Command(c)),
+                    "{}: `{c}` is shadowed",
+                    v.title()
+                );
+            }
+        }
+        if !v.keys().is_empty() {
+            let own = help.iter().find(|(n, _)| n == v.title());
+            assert!(
+                own.is_some_and(|(_, lines)| lines.len() == v.keys().len()),
+                "{}",
+                v.title()
+            );
+        }
+    }
 }

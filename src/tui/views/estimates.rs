@@ -7,11 +7,13 @@ use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Widget};
 
-use super::app::App;
-use super::keys::Action;
-use super::widgets::{fixed, interval_strip, left, panel, right};
 use crate::estimate::{Fit, ParameterRow};
 use crate::report::{num, pval};
+use crate::tui::app::Loaded;
+use crate::tui::keys::Action;
+use crate::tui::part::{Ctx, Key, Reply, View};
+use crate::tui::theme::Theme;
+use crate::tui::widgets::{fixed, interval_strip, left, panel, right};
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
 pub enum Sort {
@@ -132,31 +134,67 @@ pub fn ordered(fit: &Fit, st: &State) -> Vec<(Option<String>, Shown)> {
     out
 }
 
-pub fn on(app: &mut App, a: Action) {
-    let n = app
-        .loaded()
-        .map(|l| l.model.fit.parameters.len())
-        .unwrap_or(0);
-    let robust_now = app
-        .loaded()
-        .map(|l| fit_robust(&l.model.fit))
-        .unwrap_or(false);
-    let st = &mut app.estimates;
-    match a {
-        Action::Up => st.cursor = st.cursor.saturating_sub(1),
-        Action::Down => st.cursor = (st.cursor + 1).min(n.saturating_sub(1)),
-        Action::Top => st.cursor = 0,
-        Action::Bottom => st.cursor = n.saturating_sub(1),
-        Action::ToggleErrors => st.robust = Some(!st.robust.unwrap_or(robust_now)),
-        Action::CycleSort => {
-            st.sort = match st.sort {
-                Sort::Spec => Sort::LargestT,
-                Sort::LargestT => Sort::Name,
-                Sort::Name => Sort::Spec,
+/// The estimates view: the cursor, the errors shown, the order and grouping.
+#[derive(Debug, Default)]
+pub struct Estimates {
+    pub state: State,
+}
+
+/// The view's own keys and what the shared keys do on it.
+const KEYS: &[Key] = &[
+    Key::command("e", "e", "Hessian/clustered s.e."),
+    Key::command("s", "s", "sort: spec, |t|, name"),
+    Key::command("t", "t", "group by spec term"),
+];
+
+impl View for Estimates {
+    fn title(&self) -> &'static str {
+        "estimates"
+    }
+
+    fn about(&self) -> &'static str {
+        "parameters, errors, value ratios"
+    }
+
+    fn keys(&self) -> &'static [Key] {
+        KEYS
+    }
+
+    fn hints(&self) -> &'static str {
+        "e errors  s sort  t terms  ? help  q quit "
+    }
+
+    fn act(&mut self, ctx: &Ctx, a: Action, _reply: &mut Reply) {
+        let Some(l) = ctx.loaded() else {
+            return;
+        };
+        let n = l.model.fit.parameters.len();
+        let robust_now = fit_robust(&l.model.fit);
+        let st = &mut self.state;
+        match a {
+            Action::Up => st.cursor = st.cursor.saturating_sub(1),
+            Action::Down => st.cursor = (st.cursor + 1).min(n.saturating_sub(1)),
+            Action::Top => st.cursor = 0,
+            Action::Bottom => st.cursor = n.saturating_sub(1),
+            Action::Command('e') => st.robust = Some(!st.robust.unwrap_or(robust_now)),
+            Action::Command('s') => {
+                st.sort = match st.sort {
+                    Sort::Spec => Sort::LargestT,
+                    Sort::LargestT => Sort::Name,
+                    Sort::Name => Sort::Spec,
+                }
             }
+            Action::Command('t') => st.grouped = !st.grouped,
+            _ => {}
         }
-        Action::ToggleGrouping => st.grouped = !st.grouped,
-        _ => {}
+    }
+
+    fn render(&self, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
+        render(&self.state, ctx, area, buf);
+    }
+
+    fn as_any(&self) -> &dyn std::any::Any {
+        self
     }
 }
 
@@ -180,13 +218,12 @@ fn short(x: f64) -> String {
     format!("{x:.d$}")
 }
 
-pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
-    let Some(l) = app.loaded() else {
+fn render(st: &State, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
+    let Some(l) = ctx.loaded() else {
         return;
     };
-    let t = &app.theme;
+    let t = ctx.theme;
     let fit = &l.model.fit;
-    let st = &app.estimates;
     let robust = st.robust.unwrap_or_else(|| fit_robust(fit));
     let ratios = l.analysis.ready().map(|a| a.ratios.as_slice());
     let ratio_h = match ratios {
@@ -209,7 +246,88 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let block = panel(title, t);
     let inner = block.inner(table);
     block.render(table, buf);
-    let w = inner.width as usize;
+    let (lines, cursor_line) = table_lines(st, l, inner.width as usize, t);
+    let height = inner.height as usize;
+    let offset = cursor_line.saturating_sub(height.saturating_sub(1));
+    let visible: Vec<Line> = if offset > 0 {
+        std::iter::once(lines[0].clone())
+            .chain(lines.into_iter().skip(offset + 1))
+            .collect()
+    } else {
+        lines
+    };
+    Paragraph::new(visible).render(inner, buf);
+
+    if ratio_h > 0 {
+        ratio_panel(l, ratios, t, bottom, buf);
+    }
+}
+
+/// The value ratios with their delta-method and Krinsky-Robb intervals.
+fn ratio_panel(
+    l: &Loaded,
+    ratios: Option<&[crate::analysis::ratios::RatioRow]>,
+    t: &Theme,
+    bottom: Rect,
+    buf: &mut Buffer,
+) {
+    let block = panel("value ratios", t);
+    let inner = block.inner(bottom);
+    block.render(bottom, buf);
+    let mut lines = vec![Line::from(Span::styled(
+        format!(
+            "{}{}{}{}{}  unit",
+            left("ratio (WTP)", 20),
+            right("value", 10),
+            right("s.e.", 9),
+            right("delta 95%", 18),
+            right("Krinsky-Robb 95%", 19)
+        ),
+        t.header(),
+    ))];
+    match ratios {
+        Some(rs) => {
+            for r in rs {
+                lines.push(Line::from(vec![
+                    Span::raw(format!(
+                        "{}{}{}{}{}",
+                        left(&r.name, 20),
+                        right(&fixed(r.value, 4), 10),
+                        right(&fixed(r.std_error, 4), 9),
+                        right(&format!("{}…{}", short(r.ci_low), short(r.ci_high)), 18),
+                        right(&format!("{}…{}", short(r.kr_low), short(r.kr_high)), 19),
+                    )),
+                    Span::styled(
+                        format!(
+                            "  {}{}",
+                            if r.distribution.is_some() {
+                                "median across decision makers · "
+                            } else {
+                                ""
+                            },
+                            r.unit.as_deref().unwrap_or("")
+                        ),
+                        t.dim(),
+                    ),
+                ]));
+            }
+        }
+        None => {
+            let msg = match &l.analysis {
+                crate::tui::app::Pending::Failed(e) => e.clone(),
+                _ => "computing…".into(),
+            };
+            lines.push(Line::from(Span::styled(msg, t.dim())));
+        }
+    }
+    Paragraph::new(lines).render(inner, buf);
+}
+
+/// The table's header and rows (with group headings), then the cut-point
+/// axis, the random coefficients' spreads and the family's derived figures;
+/// and the line the cursor is on.
+fn table_lines(st: &State, l: &Loaded, w: usize, t: &Theme) -> (Vec<Line<'static>>, usize) {
+    let fit = &l.model.fit;
     let longest = fit
         .parameters
         .iter()
@@ -256,36 +374,59 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         if i == st.cursor {
             cursor_line = lines.len();
         }
-        let value = if r.fixed {
-            format!("{} fixed", num(r.estimate, 0).trim())
-        } else {
-            format!(
-                "{} ± {}",
-                num(r.estimate, 0).trim(),
-                num(r.std_error, 0).trim()
-            )
-        };
-        let interval = format!("{}…{}", short(r.low), short(r.high));
-        let text = format!(
-            "{}{}{}{}{}",
-            left(
-                &format!("{} {}", if i == st.cursor { '›' } else { ' ' }, r.name),
-                nw
-            ),
-            right(&value, ew),
-            right(&fixed(r.t, 2), tw),
-            right(&pval(r.p), pw),
-            right(&interval, iw),
-        );
-        let style = if i == st.cursor {
-            t.selected()
-        } else {
-            Default::default()
-        };
-        let mut spans = vec![Span::styled(text, style), Span::raw("  ")];
-        spans.extend(interval_strip(r.low, r.estimate, r.high, strip_w, t).spans);
-        lines.push(Line::from(spans));
+        lines.push(row_line(
+            r,
+            i == st.cursor,
+            (nw, ew, tw, pw, iw, strip_w),
+            t,
+        ));
     }
+    lines.extend(extras(&rows, l, w, t));
+    (lines, cursor_line)
+}
+
+/// One parameter's row: name, value ± s.e., t, p, interval and its strip.
+fn row_line(
+    r: &Shown,
+    at_cursor: bool,
+    (nw, ew, tw, pw, iw, strip_w): (usize, usize, usize, usize, usize, usize),
+    t: &Theme,
+) -> Line<'static> {
+    let value = if r.fixed {
+        format!("{} fixed", num(r.estimate, 0).trim())
+    } else {
+        format!(
+            "{} ± {}",
+            num(r.estimate, 0).trim(),
+            num(r.std_error, 0).trim()
+        )
+    };
+    let interval = format!("{}…{}", short(r.low), short(r.high));
+    let text = format!(
+        "{}{}{}{}{}",
+        left(
+            &format!("{} {}", if at_cursor { '›' } else { ' ' }, r.name),
+            nw
+        ),
+        right(&value, ew),
+        right(&fixed(r.t, 2), tw),
+        right(&pval(r.p), pw),
+        right(&interval, iw),
+    );
+    let style = if at_cursor {
+        t.selected()
+    } else {
+        Default::default()
+    };
+    let mut spans = vec![Span::styled(text, style), Span::raw("  ")];
+    spans.extend(interval_strip(r.low, r.estimate, r.high, strip_w, t).spans);
+    Line::from(spans)
+}
+
+/// What follows the rows: the cut-point axis, spreads and derived figures.
+fn extras(rows: &[(Option<String>, Shown)], l: &Loaded, w: usize, t: &Theme) -> Vec<Line<'static>> {
+    let fit = &l.model.fit;
+    let mut lines = Vec::new();
     if fit.family.abilities().ordered {
         let cuts: Vec<(f64, f64, f64)> = rows
             .iter()
@@ -295,7 +436,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         let mut cuts = cuts;
         cuts.sort_by(|a, b| a.1.total_cmp(&b.1));
         lines.push(Line::from(""));
-        lines.extend(super::cutaxis::lines(
+        lines.extend(crate::tui::cutaxis::lines(
             &cuts,
             &l.model.spec.alternative_names(),
             w.saturating_sub(2),
@@ -305,76 +446,13 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     if let Some(a) = l.analysis.ready() {
         lines.extend(derived(&a.derived, t));
     }
-    let height = inner.height as usize;
-    let offset = cursor_line.saturating_sub(height.saturating_sub(1));
-    let visible: Vec<Line> = if offset > 0 {
-        std::iter::once(lines[0].clone())
-            .chain(lines.into_iter().skip(offset + 1))
-            .collect()
-    } else {
-        lines
-    };
-    Paragraph::new(visible).render(inner, buf);
-
-    if ratio_h == 0 {
-        return;
-    }
-    let block = panel("value ratios", t);
-    let inner = block.inner(bottom);
-    block.render(bottom, buf);
-    let mut lines = vec![Line::from(Span::styled(
-        format!(
-            "{}{}{}{}{}  unit",
-            left("ratio (WTP)", 20),
-            right("value", 10),
-            right("s.e.", 9),
-            right("delta 95%", 18),
-            right("Krinsky-Robb 95%", 19)
-        ),
-        t.header(),
-    ))];
-    match ratios {
-        Some(rs) => {
-            for r in rs {
-                lines.push(Line::from(vec![
-                    Span::raw(format!(
-                        "{}{}{}{}{}",
-                        left(&r.name, 20),
-                        right(&fixed(r.value, 4), 10),
-                        right(&fixed(r.std_error, 4), 9),
-                        right(&format!("{}…{}", short(r.ci_low), short(r.ci_high)), 18),
-                        right(&format!("{}…{}", short(r.kr_low), short(r.kr_high)), 19),
-                    )),
-                    Span::styled(
-                        format!(
-                            "  {}{}",
-                            if r.distribution.is_some() {
-                                "median across decision makers · "
-                            } else {
-                                ""
-                            },
-                            r.unit.as_deref().unwrap_or("")
-                        ),
-                        t.dim(),
-                    ),
-                ]));
-            }
-        }
-        None => {
-            let msg = match &l.analysis {
-                super::app::Pending::Failed(e) => e.clone(),
-                _ => "computing…".into(),
-            };
-            lines.push(Line::from(Span::styled(msg, t.dim())));
-        }
-    }
-    Paragraph::new(lines).render(inner, buf);
+    lines
 }
 
 /// The family's derived figures (the multinomial probit's error covariance
 /// and correlations), one block per group; a correlation gets a bar from -1
 /// to 1 with `┃` at zero.
-fn derived(rows: &[crate::analysis::DerivedRow], t: &super::theme::Theme) -> Vec<Line<'static>> {
+fn derived(rows: &[crate::analysis::DerivedRow], t: &Theme) -> Vec<Line<'static>> {
     let mut out = Vec::new();
     let mut group: Option<&str> = None;
     let name_w = rows
@@ -422,7 +500,7 @@ fn derived(rows: &[crate::analysis::DerivedRow], t: &super::theme::Theme) -> Vec
 /// Each random coefficient's distribution across decision makers as a row of
 /// bars between its 0.5% and 99.5% points, zero marked `┃` where it falls
 /// inside, and the share below zero.
-fn spreads(fit: &Fit, width: usize, t: &super::theme::Theme) -> Vec<Line<'static>> {
+fn spreads(fit: &Fit, width: usize, t: &Theme) -> Vec<Line<'static>> {
     let terms = fit.family.random_coefficients();
     if terms.is_empty() {
         return Vec::new();

@@ -9,12 +9,15 @@ use ratatui::symbols::Marker;
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Axis, Chart, Dataset as Series, GraphType, Paragraph, Widget};
 
-use super::app::{App, Model};
-use super::keys::Action;
-use super::widgets::{fixed, left, panel, signed};
-use super::worker::Job;
+use std::any::Any;
+
 use crate::scenario::sweep::{Request, Sweep};
 use crate::spec::Spec;
+use crate::tui::keys::Action;
+use crate::tui::part::{Ctx, Focus, Key, PerModel, Reply, View};
+use crate::tui::theme::Theme;
+use crate::tui::widgets::{fixed, left, panel, signed};
+use crate::tui::worker::{Job, Model};
 
 /// Half-widths of the multiplier range around 1.
 pub const WIDTHS: [f64; 4] = [0.25, 0.5, 0.75, 0.9];
@@ -85,17 +88,22 @@ impl Curve {
         self.generation = generation;
         self.sweep = None;
         self.error = None;
-        Some(Job::Curve {
+        let request = Request {
+            attribute: variable(&model.spec, v),
+            alternative: k.map(|k| model.spec.alternatives[k].name.clone()),
+            from,
+            to,
+            steps: STEPS,
+        };
+        let model = model.clone();
+        Some(Job::Part {
+            view: TITLE,
             index,
             generation,
-            model: model.clone(),
-            request: Request {
-                attribute: variable(&model.spec, v),
-                alternative: k.map(|k| model.spec.alternatives[k].name.clone()),
-                from,
-                to,
-                steps: STEPS,
-            },
+            work: Box::new(move || {
+                crate::scenario::sweep::sweep(&model.spec, &model.fit, &model.ds, &request)
+                    .map(|s| Box::new(s) as Box<dyn Any + Send>)
+            }),
         })
     }
 
@@ -119,53 +127,188 @@ fn variable(spec: &Spec, v: usize) -> String {
     }
 }
 
-pub fn on(app: &mut App, a: Action) -> Vec<Job> {
-    let index = app.current;
-    let g = app.next_generation();
-    let Some(l) = app.models.get_mut(index) else {
-        return Vec::new();
-    };
-    let c = &mut l.curve;
-    let n = c.levers.len();
-    let alts = l.model.spec.alternatives.len().max(1);
-    let before = (c.cursor, c.width);
-    match a {
-        Action::Up => c.cursor = c.cursor.saturating_sub(1),
-        Action::Down => c.cursor = (c.cursor + 1).min(n.saturating_sub(1)),
-        Action::Top => c.cursor = 0,
-        Action::Bottom => c.cursor = n.saturating_sub(1),
-        Action::Left => c.marker = c.marker.saturating_sub(1),
-        Action::Right => c.marker = (c.marker + 1).min(STEPS - 1),
-        Action::BigLeft => c.marker = c.marker.saturating_sub(5),
-        Action::BigRight => c.marker = (c.marker + 5).min(STEPS - 1),
-        Action::Alternate => c.shown = (c.shown + 1) % alts,
-        Action::Wider => c.width = (c.width + 1).min(WIDTHS.len() - 1),
-        Action::Narrower => c.width = c.width.saturating_sub(1),
-        _ => {}
-    }
-    if (c.cursor, c.width) != before {
-        if let Some(&(_, Some(k))) = c.levers.get(c.cursor) {
-            if before.0 != c.cursor {
-                c.shown = k;
-            }
-        }
-        return c.request(index, &l.model, g).into_iter().collect();
-    }
-    Vec::new()
+/// The view's title, also the name its jobs carry.
+pub const TITLE: &str = "curve";
+
+/// The demand curve of every opened model, and the generation of its newest request.
+#[derive(Debug, Default)]
+pub struct CurveView {
+    pub models: PerModel<Curve>,
+    pub generation: u64,
 }
 
-pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
-    let Some(l) = app.loaded() else {
+impl CurveView {
+    /// The curve of model `index`.
+    pub fn state(&self, index: usize) -> Option<&Curve> {
+        self.models.get(index)
+    }
+}
+
+/// The view's own keys and what the shared keys do on it.
+const KEYS: &[Key] = &[
+    Key::shared("↑↓  j k", "attribute to sweep"),
+    Key::shared("←→  h l", "move the marker"),
+    Key::shared("⇧←→  H L", "move it 5 points"),
+    Key::command("a", "a", "alternative drawn"),
+    Key::command("+=-", "+  -", "widen / narrow range"),
+];
+
+impl View for CurveView {
+    fn title(&self) -> &'static str {
+        TITLE
+    }
+
+    fn about(&self) -> &'static str {
+        "share against an attribute"
+    }
+
+    fn keys(&self) -> &'static [Key] {
+        KEYS
+    }
+
+    fn hints(&self) -> &'static str {
+        "↑↓ sweep  ←→ marker  a alt.  ? help  q quit "
+    }
+
+    fn opened(&mut self, ctx: &Ctx, index: usize) -> Vec<Job> {
+        let Some(l) = ctx.models.get(index) else {
+            return Vec::new();
+        };
+        let mut c = Curve::new(&l.model.spec);
+        self.generation += 1;
+        let job = c.request(index, &l.model, self.generation);
+        self.models.put(index, c);
+        job.into_iter().collect()
+    }
+
+    fn act(&mut self, ctx: &Ctx, a: Action, reply: &mut Reply) {
+        let index = ctx.current;
+        let (Some(c), Some(l)) = (self.models.get_mut(index), ctx.loaded()) else {
+            return;
+        };
+        if c.on(a, l.model.spec.alternatives.len().max(1)) {
+            self.generation += 1;
+            reply.job(c.request(index, &l.model, self.generation));
+        }
+    }
+
+    fn arrived(
+        &mut self,
+        index: usize,
+        generation: u64,
+        result: Result<Box<dyn Any + Send>, String>,
+    ) {
+        let result = result.and_then(|r| {
+            r.downcast::<Sweep>()
+                .map_err(|_| "internal error: a curve job returned something else".to_string())
+        });
+        if let Some(c) = self.models.get_mut(index) {
+            c.arrived(generation, result);
+        }
+    }
+
+    fn focus(&mut self, ctx: &Ctx, focus: &Focus, reply: &mut Reply) {
+        let index = ctx.current;
+        let (Some(c), Some(l)) = (self.models.get_mut(index), ctx.loaded()) else {
+            return;
+        };
+        let Focus::Attribute {
+            attribute,
+            alternative,
+        } = *focus;
+        c.select(attribute, alternative);
+        self.generation += 1;
+        reply.job(c.request(index, &l.model, self.generation));
+    }
+
+    fn render(&self, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
+        if let Some(c) = self.models.get(ctx.current) {
+            render(c, ctx, area, buf);
+        }
+    }
+
+    fn as_any(&self) -> &dyn Any {
+        self
+    }
+}
+
+impl Curve {
+    /// Applies a key; true when the sweep must be requested again.
+    fn on(&mut self, a: Action, alts: usize) -> bool {
+        let n = self.levers.len();
+        let before = (self.cursor, self.width);
+        match a {
+            Action::Up => self.cursor = self.cursor.saturating_sub(1),
+            Action::Down => self.cursor = (self.cursor + 1).min(n.saturating_sub(1)),
+            Action::Top => self.cursor = 0,
+            Action::Bottom => self.cursor = n.saturating_sub(1),
+            Action::Left => self.marker = self.marker.saturating_sub(1),
+            Action::Right => self.marker = (self.marker + 1).min(STEPS - 1),
+            Action::BigLeft => self.marker = self.marker.saturating_sub(5),
+            Action::BigRight => self.marker = (self.marker + 5).min(STEPS - 1),
+            Action::Command('a') => self.shown = (self.shown + 1) % alts,
+            Action::Command('+' | '=') => self.width = (self.width + 1).min(WIDTHS.len() - 1),
+            Action::Command('-') => self.width = self.width.saturating_sub(1),
+            _ => {}
+        }
+        if (self.cursor, self.width) == before {
+            return false;
+        }
+        if let Some(&(_, Some(k))) = self.levers.get(self.cursor) {
+            if before.0 != self.cursor {
+                self.shown = k;
+            }
+        }
+        true
+    }
+}
+
+fn render(c: &Curve, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
+    let Some(l) = ctx.loaded() else {
         return;
     };
-    let t = &app.theme;
-    let c = &l.curve;
+    let t = ctx.theme;
     let spec = &l.model.spec;
     let [list, right] =
         Layout::horizontal([Constraint::Length(26), Constraint::Min(40)]).areas(area);
+    lever_list(c, spec, t, list, buf);
+    let Some(&(v, k)) = c.levers.get(c.cursor) else {
+        Paragraph::new("the spec has no attribute or characteristic to sweep")
+            .block(panel("demand curve", t))
+            .render(right, buf);
+        return;
+    };
+    let attr = variable(spec, v);
+    let alt = k
+        .map(|k| spec.alternatives[k].name.clone())
+        .unwrap_or_else(|| "everyone".into());
+    let shown = spec
+        .alternatives
+        .get(c.shown)
+        .map(|x| x.name.clone())
+        .unwrap_or_default();
+    let title = format!("share of {shown} · {attr} of {alt} scaled");
+    let [chart_area, readout] =
+        Layout::vertical([Constraint::Min(6), Constraint::Length(5)]).areas(right);
+    let Some(sw) = &c.sweep else {
+        let msg = c
+            .error
+            .clone()
+            .unwrap_or_else(|| "computing the curve…".into());
+        Paragraph::new(msg)
+            .block(panel(title, t))
+            .render(right, buf);
+        return;
+    };
+    chart(c, sw, (&title, &attr, &alt, &shown), t, chart_area, buf);
+    readout_panel(c, sw, &shown, t, readout, buf);
+}
+
+/// The list of what can be swept, the cursor's entry selected.
+fn lever_list(c: &Curve, spec: &Spec, t: &Theme, area: Rect, buf: &mut Buffer) {
     let block = panel("sweep  ↑↓", t);
-    let inner = block.inner(list);
-    block.render(list, buf);
+    let inner = block.inner(area);
+    block.render(area, buf);
     let rows = inner.height as usize;
     let first = c.cursor.saturating_sub(rows.saturating_sub(1));
     let lines: Vec<Line> = c
@@ -196,35 +339,17 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         })
         .collect();
     Paragraph::new(lines).render(inner, buf);
+}
 
-    let Some(&(v, k)) = c.levers.get(c.cursor) else {
-        Paragraph::new("the spec has no attribute or characteristic to sweep")
-            .block(panel("demand curve", t))
-            .render(right, buf);
-        return;
-    };
-    let attr = variable(spec, v);
-    let alt = k
-        .map(|k| spec.alternatives[k].name.clone())
-        .unwrap_or_else(|| "everyone".into());
-    let shown = spec
-        .alternatives
-        .get(c.shown)
-        .map(|x| x.name.clone())
-        .unwrap_or_default();
-    let title = format!("share of {shown} · {attr} of {alt} scaled");
-    let [chart_area, readout] =
-        Layout::vertical([Constraint::Min(6), Constraint::Length(5)]).areas(right);
-    let Some(sw) = &c.sweep else {
-        let msg = c
-            .error
-            .clone()
-            .unwrap_or_else(|| "computing the curve…".into());
-        Paragraph::new(msg)
-            .block(panel(title, t))
-            .render(right, buf);
-        return;
-    };
+/// The share of the drawn alternative against the multiplier, with the base and the marker.
+fn chart(
+    c: &Curve,
+    sw: &Sweep,
+    (title, attr, alt, shown): (&str, &str, &str, &str),
+    t: &Theme,
+    chart_area: Rect,
+    buf: &mut Buffer,
+) {
     let pts: Vec<(f64, f64)> = sw
         .points
         .iter()
@@ -288,7 +413,10 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
                 .labels(y_labels),
         )
         .render(chart_area, buf);
+}
 
+/// The shares at the marker against the base.
+fn readout_panel(c: &Curve, sw: &Sweep, shown: &str, t: &Theme, readout: Rect, buf: &mut Buffer) {
     let mut lines = Vec::new();
     if let (Some(p), Some(b)) = (
         sw.points.get(c.marker),

@@ -7,14 +7,65 @@ use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Widget};
 
-use super::app::{App, Pending};
-use super::theme::{Theme, ELASTICITY_CUTS, GLYPHS};
-use super::widgets::{left, panel, right};
 use crate::report::num;
+use crate::tui::app::Pending;
+use crate::tui::keys::Action;
+use crate::tui::part::{Ctx, Key, Reply, View};
+use crate::tui::theme::{Theme, ELASTICITY_CUTS, GLYPHS};
+use crate::tui::widgets::{left, panel, right};
+
+/// The elasticities view: which variable is shown, and arc rather than point values.
+#[derive(Debug, Default)]
+pub struct Elasticities {
+    pub variable: usize,
+    pub arc: bool,
+}
+
+/// The view's own keys and what the shared keys do on it.
+const KEYS: &[Key] = &[
+    Key::shared("←→  h l", "previous / next variable"),
+    Key::command("a", "a", "point or arc values"),
+];
+
+impl View for Elasticities {
+    fn title(&self) -> &'static str {
+        "elasticities"
+    }
+
+    fn about(&self) -> &'static str {
+        "elasticities, marginal effects"
+    }
+
+    fn keys(&self) -> &'static [Key] {
+        KEYS
+    }
+
+    fn hints(&self) -> &'static str {
+        "←→ variable  a arc  ? help  q quit "
+    }
+
+    fn act(&mut self, ctx: &Ctx, action: Action, _reply: &mut Reply) {
+        let count = variables(ctx).len().max(1);
+        match action {
+            Action::Right | Action::BigRight => self.variable = (self.variable + 1) % count,
+            Action::Left | Action::BigLeft => self.variable = (self.variable + count - 1) % count,
+            Action::Command('a') => self.arc = !self.arc,
+            _ => {}
+        }
+    }
+
+    fn render(&self, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
+        render(self, ctx, area, buf);
+    }
+
+    fn as_any(&self) -> &dyn std::any::Any {
+        self
+    }
+}
 
 /// The variables in spec order: attributes, then characteristics.
-pub fn variables(app: &App) -> Vec<String> {
-    let Some(l) = app.loaded() else {
+pub fn variables(ctx: &Ctx) -> Vec<String> {
+    let Some(l) = ctx.loaded() else {
         return Vec::new();
     };
     let s = &l.model.spec;
@@ -57,7 +108,7 @@ impl Grid {
 }
 
 fn grid_lines(g: &Grid, corner: &str, width: usize, heat: bool, t: &Theme) -> Vec<Line<'static>> {
-    let lw = 16;
+    let lw = (corner.chars().count() + 2).max(16);
     let cw = (width.saturating_sub(lw) / g.cols.len().max(1)).clamp(8, 14);
     let mut head = left(corner, lw);
     for c in &g.cols {
@@ -88,13 +139,13 @@ fn grid_lines(g: &Grid, corner: &str, width: usize, heat: bool, t: &Theme) -> Ve
     lines
 }
 
-pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
-    let Some(l) = app.loaded() else {
+fn render(view: &Elasticities, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
+    let Some(l) = ctx.loaded() else {
         return;
     };
-    let t = &app.theme;
-    let vars = variables(app);
-    let Some(var) = vars.get(app.variable.min(vars.len().saturating_sub(1))) else {
+    let t = ctx.theme;
+    let vars = variables(ctx);
+    let Some(var) = vars.get(view.variable.min(vars.len().saturating_sub(1))) else {
         Paragraph::new("the spec has no variables").render(area, buf);
         return;
     };
@@ -118,7 +169,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let mut el = Grid::new(alts.clone());
     for r in a.elasticities.iter().filter(|r| &r.variable == var) {
         let row = r.changed.clone().unwrap_or_else(|| var.clone());
-        el.put(&row, &r.affected, if app.arc { r.arc } else { r.value });
+        el.put(&row, &r.affected, if view.arc { r.arc } else { r.value });
     }
     // A 0/1 variable has no elasticity: its rows are the change in shares from 0 to 1.
     let flag = a.flag_effects.iter().any(|r| &r.variable == var);
@@ -138,7 +189,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let pos = vars.iter().position(|v| v == var).unwrap_or(0) + 1;
     let kind = if flag {
         "0/1 flag".to_string()
-    } else if app.arc {
+    } else if view.arc {
         format!("arc (+{:.0}%)", a.arc_change * 100.0)
     } else {
         "point".into()
@@ -151,19 +202,19 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let inner = block.inner(top);
     block.render(top, buf);
     let what = if flag && is_attr {
-        format!("{var} of the row's alternative switched from 0 to 1: change in the column's share")
+        format!("{var} switched from 0 to 1: change in share")
     } else if flag {
         format!("{var} switched from 0 to 1 for every decision maker: change in each share")
     } else if is_attr {
-        format!("1% more {var} of the row's alternative: % change in the column's share")
+        format!("% change in share for 1% more {var}")
     } else {
-        format!("1% more {var} of every decision maker: % change in each share")
+        format!("% change in share for 1% more {var} of every decision maker")
     };
     let mut lines = vec![Line::from(Span::styled(what, t.dim()))];
     let corner = if is_attr {
-        "changed \\ share"
+        "changed ↓  share of →"
     } else {
-        "variable"
+        "variable ↓  share of →"
     };
     lines.extend(grid_lines(&el, corner, inner.width as usize, true, t));
     let mut legend = vec![Span::styled("|e| ", t.dim())];

@@ -7,9 +7,12 @@ use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Widget};
 
-use super::app::{App, Pending};
-use super::theme::{Theme, GLYPHS, SHARE_CUTS};
-use super::widgets::{left, panel, right};
+use crate::tui::app::Pending;
+use crate::tui::keys::Action;
+use crate::tui::part::{Ctx, Key, Reply, View};
+use crate::tui::theme::{Theme, GLYPHS, SHARE_CUTS};
+use crate::tui::widgets::{left, panel, right};
+use crate::tui::worker::Model;
 
 /// Rows of (row label, [(column label, value)]) drawn as a shaded matrix.
 fn matrix(
@@ -20,7 +23,7 @@ fn matrix(
     corner: &str,
     t: &Theme,
 ) -> Vec<Line<'static>> {
-    let lw = 16;
+    let lw = (corner.chars().count() + 2).max(16);
     let cw = (width.saturating_sub(lw) / cols.len().max(1)).clamp(8, 14);
     let mut head = left(corner, lw);
     for c in cols {
@@ -47,11 +50,49 @@ fn matrix(
     lines
 }
 
-pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
-    let Some(l) = app.loaded() else {
+/// The diversion view: nothing to choose, nothing to scroll.
+#[derive(Debug, Default)]
+pub struct Diversion;
+
+impl View for Diversion {
+    fn title(&self) -> &'static str {
+        "diversion"
+    }
+
+    fn about(&self) -> &'static str {
+        "where demand goes if withdrawn"
+    }
+
+    fn keys(&self) -> &'static [Key] {
+        &[]
+    }
+
+    fn applies(&self, model: &Model) -> Result<(), String> {
+        if model.fit.family.abilities().ordered {
+            return Err(format!(
+                "diversion does not apply to the {} family: its categories are ratings on one ordered scale, never withdrawn or added. The what-if and elasticities views show how the characteristics move the ratings.",
+                model.fit.family.name()
+            ));
+        }
+        Ok(())
+    }
+
+    fn act(&mut self, _ctx: &Ctx, _action: Action, _reply: &mut Reply) {}
+
+    fn render(&self, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
+        render(ctx, area, buf);
+    }
+
+    fn as_any(&self) -> &dyn std::any::Any {
+        self
+    }
+}
+
+fn render(ctx: &Ctx, area: Rect, buf: &mut Buffer) {
+    let Some(l) = ctx.loaded() else {
         return;
     };
-    let t = &app.theme;
+    let t = ctx.theme;
     let a = match &l.analysis {
         Pending::Ready(a) => a,
         other => {
@@ -65,17 +106,6 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
             return;
         }
     };
-    if l.model.fit.family.abilities().ordered {
-        let msg = format!(
-            "diversion does not apply to the {} family: its categories are ratings on one ordered scale, never withdrawn or added. The what-if and elasticities views show how the characteristics move the ratings.",
-            l.model.fit.family.name()
-        );
-        Paragraph::new(msg)
-            .wrap(ratatui::widgets::Wrap { trim: true })
-            .block(panel("diversion", t))
-            .render(area, buf);
-        return;
-    }
     let alts = l.model.spec.alternative_names();
     let mut removed: Vec<String> = Vec::new();
     for r in &a.diversion {
@@ -94,7 +124,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         Layout::vertical([Constraint::Length(top_h), Constraint::Min(3)]).areas(area);
 
     let block = panel(
-        "diversion on withdrawal: share of the row's demand that moves to each column",
+        "diversion on withdrawal · share of the withdrawn alternative's demand",
         t,
     );
     let inner = block.inner(top);
@@ -110,7 +140,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         &alts,
         &get,
         inner.width as usize,
-        "removed \\ to",
+        "withdrawn ↓  to →",
         t,
     );
     let mut legend = vec![Span::styled("share ", t.dim())];
@@ -129,9 +159,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let title = if attr.is_empty() {
         "price diversion ratios".to_string()
     } else {
-        format!(
-            "{attr} diversion ratios: -(dQ to / d{attr}) / (dQ row / d{attr}) for the row's {attr}"
-        )
+        format!("{attr} diversion ratios · −(dQ to / d{attr}) ÷ (dQ own / d{attr})")
     };
     let block = panel(title, t);
     let inner = block.inner(bottom);
@@ -155,7 +183,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         &alts,
         &get,
         inner.width as usize,
-        "changed \\ to",
+        &format!("{attr} of ↓  to →"),
         t,
     );
     Paragraph::new(lines).render(inner, buf);

@@ -3,10 +3,11 @@
 //! the point forecast (computed at once, no draws) and the band forecast
 //! (with draws, from the worker, kept only if its generation is current).
 
-use super::app::Model;
-use super::worker::{Job, SEED};
+use std::any::Any;
+
 use crate::scenario::{self, Change, Forecast, Op, Scenario, Target};
 use crate::spec::Spec;
+use crate::tui::worker::{Job, Model, SEED};
 
 /// Small and large steps of a multiplier, and of an added or set value.
 pub const STEP_FACTOR: [f64; 2] = [0.01, 0.10];
@@ -219,12 +220,7 @@ impl WhatIf {
             Ok(f) => {
                 self.point = Some(f);
                 self.error = None;
-                Some(Job::Band {
-                    index,
-                    generation,
-                    model: model.clone(),
-                    scenario: sc,
-                })
+                Some(band_job(index, generation, model.clone(), sc))
             }
             Err(e) => {
                 self.point = None;
@@ -263,5 +259,25 @@ impl WhatIf {
 
     pub fn changed(&self) -> usize {
         self.ops.iter().flatten().count()
+    }
+}
+
+/// The what-if forecast with parameter draws, for the band, on the worker.
+fn band_job(index: usize, generation: u64, model: Model, sc: Scenario) -> Job {
+    let opts = scenario::Options {
+        draws: crate::tui::worker::DRAWS,
+        seed: SEED,
+        by: None,
+        market: None,
+        quick: false,
+    };
+    Job::Part {
+        view: super::TITLE,
+        index,
+        generation,
+        work: Box::new(move || {
+            scenario::forecast(&model.spec, &model.fit, &model.ds, &sc, &opts)
+                .map(|f| Box::new(f) as Box<dyn Any + Send>)
+        }),
     }
 }

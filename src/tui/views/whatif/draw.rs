@@ -1,113 +1,25 @@
-//! The what-if view: levers on the left, base against what-if shares as bars
-//! on top (the band fills in when the worker's draws arrive), and the list of
-//! changes; its keys step, type, reset, withdraw, save and export.
+//! The what-if view's drawing: base against what-if shares as bars on top
+//! (the band fills in when the worker's draws arrive), the levers on the
+//! left and the list of changes on the right.
 
 use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Widget, Wrap};
 
-use super::app::{App, Ask, Tone, View};
-use super::keys::Action;
-use super::levers::{describe, stepped};
-use super::prompt;
-use super::widgets::{fixed, left, panel, right, share_bar, share_scale, signed};
-use super::worker::{Job, DRAWS};
-use crate::scenario::Target;
+use super::levers::{describe, WhatIf};
+use crate::spec::Spec;
+use crate::tui::app::Loaded;
+use crate::tui::part::Ctx;
+use crate::tui::theme::Theme;
+use crate::tui::widgets::{fixed, left, panel, right, share_bar, share_scale, signed};
+use crate::tui::worker::DRAWS;
 
-pub use super::levers::WhatIf;
-
-/// Recomputes the current model's point forecast and requests its band.
-pub fn refresh(app: &mut App) -> Vec<Job> {
-    let index = app.current;
-    let g = app.next_generation();
-    match app.models.get_mut(index) {
-        Some(l) => l.whatif.refresh(index, &l.model, g).into_iter().collect(),
-        None => Vec::new(),
-    }
-}
-
-pub fn on(app: &mut App, a: Action) -> Vec<Job> {
-    let Some(l) = app.loaded_mut() else {
-        return Vec::new();
-    };
-    let w = &mut l.whatif;
-    let n = w.levers.len();
-    let c = w.cursor.min(n.saturating_sub(1));
-    match a {
-        Action::Up => w.cursor = c.saturating_sub(1),
-        Action::Down => w.cursor = (c + 1).min(n.saturating_sub(1)),
-        Action::Top => w.cursor = 0,
-        Action::Bottom => w.cursor = n.saturating_sub(1),
-        Action::Left | Action::Right | Action::BigLeft | Action::BigRight if n > 0 => {
-            let up = matches!(a, Action::Right | Action::BigRight);
-            let big = matches!(a, Action::BigLeft | Action::BigRight);
-            w.ops[c] = stepped(w.ops[c], up, big);
-            return refresh(app);
-        }
-        Action::Enter | Action::Edit if n > 0 => prompt::open(app, Ask::Value, ""),
-        Action::ResetLever if n > 0 => {
-            w.ops[c] = None;
-            return refresh(app);
-        }
-        Action::ResetAll => {
-            w.ops.iter_mut().for_each(|o| *o = None);
-            w.removed.clear();
-            app.say(Tone::Info, "back to the base: every change withdrawn");
-            return refresh(app);
-        }
-        Action::Withdraw => {
-            let Some(k) = w.lever().and_then(|l| l.alternative) else {
-                app.say(Tone::Info, "this lever belongs to no alternative");
-                return Vec::new();
-            };
-            if let Some(p) = w.removed.iter().position(|&r| r == k) {
-                w.removed.remove(p);
-            } else if w.removed.len() + 2 > l.model.spec.alternatives.len() {
-                app.say(
-                    Tone::Bad,
-                    "one alternative must stay: nothing left to choose",
-                );
-                return Vec::new();
-            } else {
-                w.removed.push(k);
-                w.removed.sort_unstable();
-            }
-            return refresh(app);
-        }
-        Action::Save => prompt::open(app, Ask::Save, "whatif.toml"),
-        Action::Export => prompt::open(app, Ask::Export, "whatif.csv"),
-        Action::CurveOfLever => {
-            if let Some(Target::Attribute {
-                attribute,
-                alternative,
-            }) = w.lever().map(|l| l.target.clone())
-            {
-                let index = app.current;
-                let g = app.next_generation();
-                app.view = View::Curve;
-                if let Some(l) = app.models.get_mut(index) {
-                    l.curve.select(attribute, alternative);
-                    return l.curve.request(index, &l.model, g).into_iter().collect();
-                }
-            } else {
-                app.say(
-                    Tone::Info,
-                    "a demand curve sweeps an attribute of an alternative",
-                );
-            }
-        }
-        _ => {}
-    }
-    Vec::new()
-}
-
-pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
-    let Some(l) = app.loaded() else {
+pub fn render(w: &WhatIf, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
+    let Some(l) = ctx.loaded() else {
         return;
     };
-    let t = &app.theme;
-    let w = &l.whatif;
+    let t = ctx.theme;
     let spec = &l.model.spec;
     let j = w
         .best()
@@ -123,7 +35,14 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let [levers, changes] =
         Layout::horizontal([Constraint::Percentage(50), Constraint::Percentage(50)]).areas(bottom);
 
-    // Shares.
+    shares_panel(w, l, t, top, buf);
+    levers_panel(w, spec, t, levers, buf);
+    changes_panel(w, spec, t, changes, buf);
+}
+
+/// Base against what-if shares as bars, with the band and its notes.
+fn shares_panel(w: &WhatIf, l: &Loaded, t: &Theme, top: Rect, buf: &mut Buffer) {
+    let spec = &l.model.spec;
     let block = panel("shares: base ┃ and what-if █, 95% band ▓░", t);
     let inner = block.inner(top);
     block.render(top, buf);
@@ -176,43 +95,16 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
                 spans.push(Span::styled(right(&band_text, 16), t.band()));
                 lines.push(Line::from(spans));
             }
-            let note = match (&w.band, &w.band_error) {
-                (Some(b), _) if b.draws > 0 => {
-                    format!("band: 95% of {} parameter draws (seed {})", b.draws, b.seed)
-                }
-                (Some(_), _) => "no band: the covariance is not positive definite".into(),
-                (None, Some(e)) => format!("no band: {e}"),
-                (None, None) => format!("drawing {DRAWS} parameter sets for the band…"),
-            };
-            lines.push(Line::from(Span::styled(note, t.dim())));
-            if w.quick {
-                lines.push(Line::from(Span::styled(
-                    format!(
-                        "quick figures from the first {} simulation draws of each decision maker; the full forecast fills in from the worker",
-                        crate::model::draws::BAND_DRAWS
-                    ),
-                    t.warn(),
-                )));
-            } else if l.model.fit.family.abilities().simulation_draws {
-                lines.push(Line::from(Span::styled(
-                    format!(
-                        "simulated: each decision maker's shares average over their draws; the band's parameter draws use the first {} of them",
-                        crate::model::draws::BAND_DRAWS
-                    ),
-                    t.dim(),
-                )));
-            }
-            // e.g. situations a withdrawal leaves with nothing to choose
-            for warning in &f.warnings {
-                lines.push(Line::from(Span::styled(format!("! {warning}"), t.warn())));
-            }
+            lines.extend(notes(w, l, f, t));
         }
         (None, Some(e)) => lines.push(Line::from(Span::styled(e.clone(), t.warn()))),
         (None, None) => lines.push(Line::from("computing…")),
     }
     Paragraph::new(lines).render(inner, buf);
+}
 
-    // Levers.
+/// The levers, the cursor's selected.
+fn levers_panel(w: &WhatIf, spec: &Spec, t: &Theme, levers: Rect, buf: &mut Buffer) {
     let block = panel("levers · ↑↓ choose · ←→ step", t);
     let inner = block.inner(levers);
     block.render(levers, buf);
@@ -260,8 +152,10 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
         lines.push(Line::from(Span::styled(left(&text, cw), style)));
     }
     Paragraph::new(lines).render(inner, buf);
+}
 
-    // The what-if in words.
+/// The what-if in words.
+fn changes_panel(w: &WhatIf, spec: &Spec, t: &Theme, changes: Rect, buf: &mut Buffer) {
     let block = panel("this what-if", t);
     let inner = block.inner(changes);
     block.render(changes, buf);
@@ -307,4 +201,41 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     Paragraph::new(lines)
         .wrap(Wrap { trim: true })
         .render(inner, buf);
+}
+
+/// Under the shares: where the band stands, whether the figures are
+/// simulated or quick, and the forecast's warnings.
+fn notes(w: &WhatIf, l: &Loaded, f: &crate::scenario::Forecast, t: &Theme) -> Vec<Line<'static>> {
+    let mut lines = Vec::new();
+    let note = match (&w.band, &w.band_error) {
+        (Some(b), _) if b.draws > 0 => {
+            format!("band: 95% of {} parameter draws (seed {})", b.draws, b.seed)
+        }
+        (Some(_), _) => "no band: the covariance is not positive definite".into(),
+        (None, Some(e)) => format!("no band: {e}"),
+        (None, None) => format!("drawing {DRAWS} parameter sets for the band…"),
+    };
+    lines.push(Line::from(Span::styled(note, t.dim())));
+    if w.quick {
+        lines.push(Line::from(Span::styled(
+            format!(
+                "quick figures from the first {} simulation draws of each decision maker; the full forecast fills in from the worker",
+                crate::model::draws::BAND_DRAWS
+            ),
+            t.warn(),
+        )));
+    } else if l.model.fit.family.abilities().simulation_draws {
+        lines.push(Line::from(Span::styled(
+            format!(
+                "simulated: each decision maker's shares average over their draws; the band's parameter draws use the first {} of them",
+                crate::model::draws::BAND_DRAWS
+            ),
+            t.dim(),
+        )));
+    }
+    // e.g. situations a withdrawal leaves with nothing to choose
+    for warning in &f.warnings {
+        lines.push(Line::from(Span::styled(format!("! {warning}"), t.warn())));
+    }
+    lines
 }

@@ -8,27 +8,72 @@ use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Widget, Wrap};
 
-use super::app::{App, Pending};
-use super::widgets::{fixed, left, panel, right};
 use crate::spec::Layout as DataLayout;
+use crate::tui::app::{Loaded, Pending};
+use crate::tui::keys::Action;
+use crate::tui::part::{Ctx, Key, Reply, Scroll, View};
+use crate::tui::theme::Theme;
+use crate::tui::widgets::{fixed, left, panel, right};
 
-pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
-    let Some(l) = app.loaded() else {
+/// The overview: it scrolls its findings.
+#[derive(Debug, Default)]
+pub struct Overview {
+    pub scroll: Scroll,
+}
+
+impl View for Overview {
+    fn title(&self) -> &'static str {
+        "overview"
+    }
+
+    fn about(&self) -> &'static str {
+        "data, fit and findings"
+    }
+
+    fn keys(&self) -> &'static [Key] {
+        &[]
+    }
+
+    fn act(&mut self, ctx: &Ctx, action: Action, _reply: &mut Reply) {
+        self.scroll.on(action, findings_height(ctx));
+    }
+
+    fn render(&self, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
+        render(ctx, self.scroll.0, area, buf);
+    }
+
+    fn as_any(&self) -> &dyn std::any::Any {
+        self
+    }
+}
+
+fn render(ctx: &Ctx, scroll: u16, area: Rect, buf: &mut Buffer) {
+    let Some(l) = ctx.loaded() else {
         return;
     };
-    let t = &app.theme;
-    let spec = &l.model.spec;
-    let fit = &l.model.fit;
-    let obs = &l.model.ds.obs;
-    let s = &fit.stats;
-    let j = spec.alternatives.len();
+    let t = ctx.theme;
+    let j = l.model.spec.alternatives.len();
     let top_h = ((j + 6).max(11) as u16 + 2).min(area.height.saturating_sub(5));
     let [top, bottom] =
         Layout::vertical([Constraint::Length(top_h), Constraint::Min(3)]).areas(area);
     let [data, stats] =
         Layout::horizontal([Constraint::Percentage(52), Constraint::Percentage(48)]).areas(top);
+    data_panel(l, t, data, buf);
+    fit_panel(l, t, stats, buf);
+    let lines = findings(ctx);
+    Paragraph::new(lines)
+        .wrap(Wrap { trim: true })
+        .scroll((scroll, 0))
+        .block(panel("findings  ↑↓ scroll", t))
+        .render(bottom, buf);
+}
 
-    // Data.
+/// The data: files, situations, decision makers, weights and shares.
+fn data_panel(l: &Loaded, t: &Theme, area: Rect, buf: &mut Buffer) {
+    let spec = &l.model.spec;
+    let fit = &l.model.fit;
+    let obs = &l.model.ds.obs;
+    let s = &fit.stats;
     let layout = match spec.data.layout {
         DataLayout::Wide { .. } => "wide",
         DataLayout::Long { .. } => "long",
@@ -89,9 +134,13 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     }
     Paragraph::new(lines)
         .block(panel("data · ◆ base · weighted shares", t))
-        .render(data, buf);
+        .render(area, buf);
+}
 
-    // Fit.
+/// The fit: statistics, the search, and the hit rate once the analysis is in.
+fn fit_panel(l: &Loaded, t: &Theme, area: Rect, buf: &mut Buffer) {
+    let spec = &l.model.spec;
+    let s = &l.model.fit.stats;
     let row = |label: &str, value: String| {
         Line::from(vec![
             Span::raw(left(label, 20)),
@@ -154,22 +203,15 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     }
     Paragraph::new(lines)
         .block(panel("fit", t))
-        .render(stats, buf);
-
-    let lines = findings(app);
-    Paragraph::new(lines)
-        .wrap(Wrap { trim: true })
-        .scroll((app.scroll[0], 0))
-        .block(panel("findings  ↑↓ scroll", t))
-        .render(bottom, buf);
+        .render(area, buf);
 }
 
 /// The findings: how the fit was obtained, diagnostics, warnings, the cautions.
-fn findings(app: &App) -> Vec<Line<'static>> {
-    let Some(l) = app.loaded() else {
+fn findings(ctx: &Ctx) -> Vec<Line<'static>> {
+    let Some(l) = ctx.loaded() else {
         return Vec::new();
     };
-    let t = &app.theme;
+    let t = ctx.theme;
     let fit = &l.model.fit;
     let mut lines = Vec::new();
     if let Some(n) = &l.model.note {
@@ -219,6 +261,6 @@ fn findings(app: &App) -> Vec<Line<'static>> {
 }
 
 /// Roughly how many screen lines the findings take (for the scroll limit).
-pub fn findings_height(app: &App) -> usize {
-    findings(app).iter().map(|l| l.width() / 60 + 1).sum()
+pub fn findings_height(ctx: &Ctx) -> usize {
+    findings(ctx).iter().map(|l| l.width() / 60 + 1).sum()
 }

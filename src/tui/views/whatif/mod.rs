@@ -1,0 +1,239 @@
+//! The what-if view: levers that change attributes and characteristics,
+//! withdrawn alternatives, the point forecast at once and its band from the
+//! worker. Its keys step, type, reset, withdraw, save and export, and open the
+//! demand curve of a lever; `levers` holds its per-model state, `draw` its
+//! drawing, `files` the scenario and forecast it writes.
+
+mod draw;
+mod files;
+pub mod levers;
+
+use std::any::Any;
+use std::path::Path;
+
+use ratatui::buffer::Buffer;
+use ratatui::layout::Rect;
+
+use crate::scenario::{Forecast, Op, Target};
+use crate::tui::keys::Action;
+use crate::tui::part::{Answer, Ctx, Focus, Key, PerModel, Reply, Tone, View};
+use crate::tui::worker::Job;
+pub use levers::WhatIf;
+use levers::{parse_change, stepped};
+
+/// The view's title, also the name its jobs carry.
+pub const TITLE: &str = "what-if";
+
+/// The prompts the view asks.
+const VALUE: u8 = 0;
+const SAVE: u8 = 1;
+const EXPORT: u8 = 2;
+
+/// The what-if of every opened model, and the generation of its newest band request.
+#[derive(Debug, Default)]
+pub struct WhatIfView {
+    pub models: PerModel<WhatIf>,
+    pub generation: u64,
+}
+
+impl WhatIfView {
+    /// The what-if of model `index`.
+    pub fn state(&self, index: usize) -> Option<&WhatIf> {
+        self.models.get(index)
+    }
+
+    /// Recomputes the current model's point forecast and requests its band.
+    fn refresh(&mut self, ctx: &Ctx, reply: &mut Reply) {
+        let index = ctx.current;
+        self.generation += 1;
+        if let (Some(l), Some(w)) = (ctx.loaded(), self.models.get_mut(index)) {
+            reply.job(w.refresh(index, &l.model, self.generation));
+        }
+    }
+}
+
+/// The view's own keys and what the shared keys do on it.
+const KEYS: &[Key] = &[
+    Key::shared("↑↓  j k", "choose a lever"),
+    Key::shared("←→  h l", "step −/+ 1% (or 0.1)"),
+    Key::shared("⇧←→  H L", "step −/+ 10% (or 1)"),
+    Key::command("e", "Enter  e", "type +10% x1.2 +2 =3.5"),
+    Key::command("rR", "r  R", "reset lever / all"),
+    Key::command("w", "w", "withdraw / restore alt."),
+    Key::command("s", "s", "save as scenario TOML"),
+    Key::command("x", "x", "export csv/json/parquet"),
+    Key::command("c", "c", "demand curve of lever"),
+];
+
+impl View for WhatIfView {
+    fn title(&self) -> &'static str {
+        TITLE
+    }
+
+    fn about(&self) -> &'static str {
+        "levers, shares and band"
+    }
+
+    fn keys(&self) -> &'static [Key] {
+        KEYS
+    }
+
+    fn hints(&self) -> &'static str {
+        "←→ step  Enter type  s save  ? help  q quit "
+    }
+
+    fn opened(&mut self, ctx: &Ctx, index: usize) -> Vec<Job> {
+        let Some(l) = ctx.models.get(index) else {
+            return Vec::new();
+        };
+        let mut w = WhatIf::new(&l.model.spec);
+        self.generation += 1;
+        let job = w.refresh(index, &l.model, self.generation);
+        self.models.put(index, w);
+        job.into_iter().collect()
+    }
+
+    fn act(&mut self, ctx: &Ctx, a: Action, reply: &mut Reply) {
+        let Some(w) = self.models.get_mut(ctx.current) else {
+            return;
+        };
+        let n = w.levers.len();
+        let c = w.cursor.min(n.saturating_sub(1));
+        match a {
+            Action::Up => w.cursor = c.saturating_sub(1),
+            Action::Down => w.cursor = (c + 1).min(n.saturating_sub(1)),
+            Action::Top => w.cursor = 0,
+            Action::Bottom => w.cursor = n.saturating_sub(1),
+            Action::Left | Action::Right | Action::BigLeft | Action::BigRight if n > 0 => {
+                let up = matches!(a, Action::Right | Action::BigRight);
+                let big = matches!(a, Action::BigLeft | Action::BigRight);
+                w.ops[c] = stepped(w.ops[c], up, big);
+                self.refresh(ctx, reply);
+            }
+            Action::Enter | Action::Command('e') if n > 0 => {
+                reply.ask(VALUE, "change (+10%  x1.2  +2  =3.5):", "")
+            }
+            Action::Command('r') if n > 0 => {
+                w.ops[c] = None;
+                self.refresh(ctx, reply);
+            }
+            Action::Command('R') => {
+                w.ops.iter_mut().for_each(|o| *o = None);
+                w.removed.clear();
+                reply.say(Tone::Info, "back to the base: every change withdrawn");
+                self.refresh(ctx, reply);
+            }
+            Action::Command('w') => self.withdraw(ctx, reply),
+            Action::Command('s') => {
+                reply.ask(SAVE, "save the what-if as scenario file:", "whatif.toml")
+            }
+            Action::Command('x') => reply.ask(
+                EXPORT,
+                "export the forecast to (.csv .json .parquet):",
+                "whatif.csv",
+            ),
+            Action::Command('c') => curve_of_lever(w, reply),
+            _ => {}
+        }
+    }
+
+    fn arrived(
+        &mut self,
+        index: usize,
+        generation: u64,
+        result: Result<Box<dyn Any + Send>, String>,
+    ) {
+        let result = result.and_then(|r| {
+            r.downcast::<Forecast>()
+                .map_err(|_| "internal error: a band job returned something else".to_string())
+        });
+        if let Some(w) = self.models.get_mut(index) {
+            w.banded(generation, result);
+        }
+    }
+
+    fn answered(&mut self, ctx: &Ctx, ask: u8, text: &str, reply: &mut Reply) -> Answer {
+        if ask != VALUE {
+            return files::accept(self, ctx, ask == EXPORT, text, reply);
+        }
+        match parse_change(text) {
+            Ok(op) => {
+                let none = matches!(op, Op::Multiply(m) if m == 1.0) || op == Op::Add(0.0);
+                if let Some(w) = self.models.get_mut(ctx.current) {
+                    let c = w.cursor;
+                    if let Some(slot) = w.ops.get_mut(c) {
+                        *slot = (!none).then_some(op);
+                    }
+                }
+                self.refresh(ctx, reply);
+                Answer::Done
+            }
+            Err(e) => {
+                reply.say(Tone::Bad, e);
+                Answer::Again
+            }
+        }
+    }
+
+    fn confirmed(&mut self, ctx: &Ctx, ask: u8, path: &Path, reply: &mut Reply) {
+        files::write(self, ctx, ask == EXPORT, path, true, reply);
+    }
+
+    fn render(&self, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
+        if let Some(w) = self.models.get(ctx.current) {
+            draw::render(w, ctx, area, buf);
+        }
+    }
+
+    fn as_any(&self) -> &dyn Any {
+        self
+    }
+}
+
+impl WhatIfView {
+    /// Withdraws the lever's alternative, or restores it; one must stay.
+    fn withdraw(&mut self, ctx: &Ctx, reply: &mut Reply) {
+        let (Some(w), Some(l)) = (self.models.get_mut(ctx.current), ctx.loaded()) else {
+            return;
+        };
+        let Some(k) = w.lever().and_then(|l| l.alternative) else {
+            reply.say(Tone::Info, "this lever belongs to no alternative");
+            return;
+        };
+        if let Some(p) = w.removed.iter().position(|&r| r == k) {
+            w.removed.remove(p);
+        } else if w.removed.len() + 2 > l.model.spec.alternatives.len() {
+            reply.say(
+                Tone::Bad,
+                "one alternative must stay: nothing left to choose",
+            );
+            return;
+        } else {
+            w.removed.push(k);
+            w.removed.sort_unstable();
+        }
+        self.refresh(ctx, reply);
+    }
+}
+
+/// Asks the curve view for the demand curve of the lever's attribute.
+fn curve_of_lever(w: &WhatIf, reply: &mut Reply) {
+    match w.lever().map(|l| l.target.clone()) {
+        Some(Target::Attribute {
+            attribute,
+            alternative,
+        }) => {
+            reply.go = Some((
+                crate::tui::curve::TITLE,
+                Focus::Attribute {
+                    attribute,
+                    alternative,
+                },
+            ))
+        }
+        _ => reply.say(
+            Tone::Info,
+            "a demand curve sweeps an attribute of an alternative",
+        ),
+    }
+}

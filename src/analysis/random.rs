@@ -13,7 +13,7 @@ use crate::model::RandomCoefficient;
 pub const LEVELS: [f64; 4] = [0.05, 0.25, 0.75, 0.95];
 
 /// A figure with its delta-method standard error.
-#[derive(Clone, Copy, Debug, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
 pub struct Figure {
     pub value: f64,
     pub std_error: f64,
@@ -125,4 +125,19 @@ pub fn histogram(t: &RandomCoefficient, beta: &[f64], bins: usize) -> Histogram 
         shares,
         below_zero: 1.0 - dist.share_positive(m, s),
     }
+}
+
+/// The median of a coefficient whose location is the mean of its logarithm:
+/// exp(m) for a lognormal, -exp(m) for a negative-lognormal one, with its
+/// delta-method error |median| · se(m) (the median depends on the location
+/// alone: d exp(m)/dm = exp(m)); None for other distributions.
+pub fn log_median(t: &RandomCoefficient, location: f64, location_se: f64) -> Option<Figure> {
+    if !t.distribution.is_log() {
+        return None;
+    }
+    let value = t.distribution.coefficient(location, 0.0, 0.0);
+    Some(Figure {
+        value,
+        std_error: value.abs() * location_se,
+    })
 }

@@ -6,31 +6,10 @@ use std::fmt::Write;
 use crate::analysis::Analysis;
 use crate::spec::Spec;
 
-/// Decimals that show about three significant digits of `v` (the text and
-/// HTML reports' matrices).
-pub(crate) fn decimals(v: f64) -> usize {
-    if v == 0.0 || !v.is_finite() {
-        return 3;
-    }
-    (2 - v.abs().log10().floor() as i32).clamp(3, 7) as usize
-}
+use super::value_se;
 
 fn cell(v: f64, se: f64) -> String {
     value_se(v, se, "±")
-}
-
-/// A value with about three significant digits and its standard error after
-/// `sep` (none when the error is not a number), or a dot when the value is missing.
-pub(crate) fn value_se(v: f64, se: f64, sep: &str) -> String {
-    if v.is_nan() {
-        return "·".to_string();
-    }
-    let d = decimals(v);
-    if se.is_finite() {
-        format!("{v:.d$}{sep}{se:.d$}")
-    } else {
-        format!("{v:.d$}")
-    }
 }
 
 /// A matrix with row labels, column labels and pre-formatted cells.

@@ -9,6 +9,7 @@ pub mod heat;
 pub mod html;
 pub mod json;
 pub mod text;
+pub mod walk;
 
 use crate::model::Family;
 use crate::spec::Spec;
@@ -54,6 +55,29 @@ pub fn num(x: f64, width: usize) -> String {
         format!("{x:.5}")
     };
     format!("{s:>width$}")
+}
+
+/// Decimals that show about three significant digits of `v` (the text and
+/// HTML reports' matrices).
+pub fn decimals(v: f64) -> usize {
+    if v == 0.0 || !v.is_finite() {
+        return 3;
+    }
+    (2 - v.abs().log10().floor() as i32).clamp(3, 7) as usize
+}
+
+/// A value with about three significant digits and its standard error after
+/// `sep` (none when the error is not a number), or a dot when the value is missing.
+pub fn value_se(v: f64, se: f64, sep: &str) -> String {
+    if v.is_nan() {
+        return "·".to_string();
+    }
+    let d = decimals(v);
+    if se.is_finite() {
+        format!("{v:.d$}{sep}{se:.d$}")
+    } else {
+        format!("{v:.d$}")
+    }
 }
 
 /// The smallest p-value written as a number; below it, `< 1e-12`.

@@ -13,7 +13,7 @@ use crate::report::heat::{ELASTICITY_CUTS, SHARE_CUTS};
 
 /// A value with about three significant digits and its standard error, or a dot when missing.
 fn value_se(v: f64, se: f64) -> String {
-    crate::report::analysis::value_se(v, se, " ± ")
+    crate::report::value_se(v, se, " ± ")
 }
 
 /// A matrix of heat cells: rows × columns, `cell` gives (value, text) or None.

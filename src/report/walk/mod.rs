@@ -1,0 +1,566 @@
+//! One typed walk of a fit's analysis, read by the text report, the HTML
+//! report and the workbench: elasticity, marginal-effect and diversion
+//! matrices with their axes named, value ratios with their units, random
+//! coefficients, the family's derived figures grouped, validation and tests;
+//! and the estimates grouped by term (`estimates`). Pure data with plain-text
+//! words: no markup, no colour, no statistic computed here.
+
+mod estimates;
+mod matrix;
+
+pub use estimates::{estimates, Estimate, Estimates, Term};
+pub use matrix::{Axis, Cell, Holds, Matrix, Measure};
+
+use crate::analysis::random::{Figure, RandomRow};
+use crate::analysis::{Analysis, SegmentShareRow, Validation};
+use crate::estimate::Fit;
+use crate::spec::Spec;
+
+/// Where a variable's value lives.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Role {
+    /// An attribute of each alternative (rows: the alternative whose value changes).
+    Attribute,
+    /// A characteristic of the decision maker (one row: the variable).
+    Characteristic,
+}
+
+/// One variable's figures.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Variable {
+    pub name: String,
+    pub role: Role,
+    /// A 0/1 variable: `figures` are the changes in shares from 0 to 1 and
+    /// there is no arc elasticity or marginal effect.
+    pub flag: bool,
+    /// Point elasticities ± s.e. (a flag: the switch from 0 to 1 ± s.e.).
+    pub figures: Matrix,
+    /// Arc elasticities (none for a flag).
+    pub arc: Option<Matrix>,
+    /// Average marginal effects ± s.e., where the analysis gives them.
+    pub marginal: Option<Matrix>,
+}
+
+/// An own elasticity, point and arc.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Own {
+    pub variable: String,
+    pub alternative: String,
+    pub point: f64,
+    pub arc: f64,
+}
+
+/// A labelled figure (a derived figure, an effect on the expected category).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Labelled {
+    pub label: String,
+    pub figure: Figure,
+}
+
+/// Figures the family derives from its parameters, one table per group.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Group {
+    pub name: String,
+    pub rows: Vec<Labelled>,
+}
+
+/// A Krinsky-Robb interval and the draws it came from.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Simulated {
+    pub low: f64,
+    pub high: f64,
+    pub draws: usize,
+    pub seed: u64,
+}
+
+/// A value ratio (willingness to pay) with its unit and what it is for.
+#[derive(Clone, Debug)]
+pub struct Ratio {
+    pub name: String,
+    pub value: Figure,
+    /// The unit the spec gives (`[[ratio]].unit`).
+    pub unit: Option<String>,
+    /// "one unit more", "60 units less".
+    pub per: String,
+    pub numerator: String,
+    pub denominator: String,
+    /// The 95% delta-method interval.
+    pub delta: (f64, f64),
+    /// The 95% Krinsky-Robb interval (none without draws).
+    pub krinsky_robb: Option<Simulated>,
+    /// When a term varies across decision makers: the ratio's distribution
+    /// (`value` is then its median).
+    pub distribution: Option<crate::analysis::ratios::RatioDistribution>,
+}
+
+impl Ratio {
+    /// "one unit more of `time` against `cost`".
+    pub fn for_what(&self) -> String {
+        format!(
+            "{} of `{}` against `{}`",
+            self.per, self.numerator, self.denominator
+        )
+    }
+}
+
+/// A random coefficient's implied distribution and what its location is.
+#[derive(Clone, Debug)]
+pub struct Random {
+    pub row: RandomRow,
+    /// "mean of log" for a (negative-)lognormal coefficient, else "location".
+    pub location_label: &'static str,
+}
+
+/// What a test is beyond its statistic.
+#[derive(Clone, Debug, PartialEq)]
+pub enum TestKind {
+    /// A Wald test (the family's own reduction, the spec's restrictions).
+    Wald,
+    /// Ordered families: likelihood ratio against the unordered logit (a guide).
+    SingleIndex {
+        unordered_log_likelihood: f64,
+        note: String,
+    },
+    /// Hausman-McFadden: the alternative dropped and the coefficients compared.
+    Iia {
+        dropped: String,
+        compared: Vec<String>,
+        note: Option<String>,
+    },
+}
+
+/// A test with its statistic, degrees of freedom and p-value.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Test {
+    pub name: String,
+    pub statistic: f64,
+    pub df: usize,
+    pub p_value: f64,
+    pub kind: TestKind,
+}
+
+/// The analysis walked once.
+#[derive(Clone, Debug)]
+pub struct Walk {
+    /// The alternatives (or ordered categories) in spec order: every matrix's columns.
+    pub alternatives: Vec<String>,
+    /// The change of the arc elasticities, as a fraction (0.10 = +10%).
+    pub arc_change: f64,
+    /// Each variable with figures, in spec order: attributes, then characteristics.
+    pub variables: Vec<Variable>,
+    /// Own elasticities (point and arc), in the analysis's order.
+    pub own: Vec<Own>,
+    /// Ordered families: each characteristic's effect on the expected category.
+    pub expected_category: Vec<Labelled>,
+    /// Diversion on withdrawal.
+    pub withdrawal: Option<Matrix>,
+    /// Diversion ratios for a change in an attribute (named by the rows' axis).
+    pub price_diversion: Option<Matrix>,
+    pub ratios: Vec<Ratio>,
+    pub random: Vec<Random>,
+    pub derived: Vec<Group>,
+    pub validation: Validation,
+    pub segments: Vec<SegmentShareRow>,
+    /// Tests in the order reported: single index, the family's, Wald, IIA.
+    pub tests: Vec<Test>,
+    pub warnings: Vec<String>,
+}
+
+impl Walk {
+    pub fn new(spec: &Spec, fit: &Fit, a: &Analysis) -> Walk {
+        let names = spec.alternative_names();
+        Walk {
+            variables: variables(spec, a, &names),
+            own: a
+                .elasticities
+                .iter()
+                .filter(|e| e.changed.as_deref() == Some(e.affected.as_str()))
+                .map(|e| Own {
+                    variable: e.variable.clone(),
+                    alternative: e.affected.clone(),
+                    point: e.value,
+                    arc: e.arc,
+                })
+                .collect(),
+            expected_category: a
+                .expected_category
+                .iter()
+                .map(|e| labelled(&e.variable, e.value, e.std_error))
+                .collect(),
+            withdrawal: withdrawal(a, &names),
+            price_diversion: price_diversion(a, &names),
+            ratios: a.ratios.iter().map(ratio).collect(),
+            random: random(fit, a),
+            derived: derived(a),
+            validation: a.validation.clone(),
+            segments: a.segments.clone(),
+            tests: tests(a),
+            warnings: a.warnings.clone(),
+            arc_change: a.arc_change,
+            alternatives: names,
+        }
+    }
+
+    /// The elastic (not 0/1) characteristics' elasticities in one matrix.
+    pub fn characteristic_elasticities(&self) -> Option<Matrix> {
+        Matrix::stack(
+            Measure::PointElasticity,
+            Holds::Variable,
+            &self.alternatives,
+            self.elastic_characteristics()
+                .map(|v| (&v.figures, String::new())),
+        )
+    }
+
+    /// The same characteristics' average marginal effects in one matrix
+    /// (cells missing where the analysis gives none).
+    pub fn characteristic_marginal_effects(&self) -> Option<Matrix> {
+        let vars: Vec<&Variable> = self.elastic_characteristics().collect();
+        if vars.is_empty() {
+            return None;
+        }
+        let n = self.alternatives.len();
+        let cells = vars
+            .iter()
+            .flat_map(|v| {
+                (0..n).map(move |c| v.marginal.as_ref().map_or(Cell::Missing, |m| m.cell(0, c)))
+            })
+            .collect();
+        Some(Matrix {
+            measure: Measure::MarginalEffect,
+            rows: Axis {
+                holds: Holds::Variable,
+                labels: vars.iter().map(|v| v.name.clone()).collect(),
+            },
+            columns: shares(&self.alternatives),
+            cells,
+        })
+    }
+
+    /// Every 0/1 variable's switch in one matrix ("promo of own_label" rows).
+    pub fn flags(&self) -> Option<Matrix> {
+        Matrix::stack(
+            Measure::FlagSwitch,
+            Holds::Flag,
+            &self.alternatives,
+            self.variables.iter().filter(|v| v.flag).map(|v| {
+                let prefix = match v.role {
+                    Role::Attribute => v.name.clone(),
+                    Role::Characteristic => String::new(),
+                };
+                (&v.figures, prefix)
+            }),
+        )
+    }
+
+    fn elastic_characteristics(&self) -> impl Iterator<Item = &Variable> {
+        self.variables
+            .iter()
+            .filter(|v| v.role == Role::Characteristic && !v.flag)
+    }
+}
+
+fn labelled(label: &str, value: f64, std_error: f64) -> Labelled {
+    Labelled {
+        label: label.to_string(),
+        figure: Figure { value, std_error },
+    }
+}
+
+fn shares(names: &[String]) -> Axis {
+    Axis {
+        holds: Holds::ShareOf,
+        labels: names.to_vec(),
+    }
+}
+
+fn one_row(name: &str) -> Axis {
+    Axis {
+        holds: Holds::Variable,
+        labels: vec![name.to_string()],
+    }
+}
+
+fn value(value: f64, std_error: f64) -> Cell {
+    Cell::Value(Figure { value, std_error })
+}
+
+/// The rows of a variable: the alternatives whose value changes (in spec
+/// order, those with a figure) for an attribute, the variable itself for a
+/// characteristic.
+fn rows_of(name: &str, role: Role, names: &[String], changed: &[Option<&str>]) -> Axis {
+    match role {
+        Role::Attribute => Axis {
+            holds: Holds::Changed(name.to_string()),
+            labels: names
+                .iter()
+                .filter(|n| changed.contains(&Some(n.as_str())))
+                .cloned()
+                .collect(),
+        },
+        Role::Characteristic => one_row(name),
+    }
+}
+
+/// Each variable with figures, attributes first, in spec order.
+fn variables(spec: &Spec, a: &Analysis, names: &[String]) -> Vec<Variable> {
+    let attributes = spec.attributes.iter().map(|x| (&x.name, Role::Attribute));
+    let characteristics = spec
+        .characteristics
+        .iter()
+        .map(|x| (&x.name, Role::Characteristic));
+    attributes
+        .chain(characteristics)
+        .filter_map(|(name, role)| variable(a, names, name, role))
+        .collect()
+}
+
+/// The key a row of a variable's matrix is found by.
+fn key(role: Role, changed: &Option<String>, row: &str) -> bool {
+    match role {
+        Role::Attribute => changed.as_deref() == Some(row),
+        Role::Characteristic => changed.is_none(),
+    }
+}
+
+fn variable(a: &Analysis, names: &[String], name: &str, role: Role) -> Option<Variable> {
+    let el: Vec<_> = a
+        .elasticities
+        .iter()
+        .filter(|e| e.variable == name)
+        .collect();
+    if el.is_empty() {
+        return flag(a, names, name, role);
+    }
+    let changed: Vec<Option<&str>> = el.iter().map(|e| e.changed.as_deref()).collect();
+    let rows = rows_of(name, role, names, &changed);
+    let find = |r: &str, c: &str| {
+        el.iter()
+            .find(|e| key(role, &e.changed, r) && e.affected == c)
+    };
+    let figures = Matrix::build(
+        Measure::PointElasticity,
+        rows.clone(),
+        shares(names),
+        |r, c| find(r, c).map_or(Cell::Missing, |e| value(e.value, e.std_error)),
+    );
+    let arc = Matrix::build(
+        Measure::ArcElasticity {
+            change: a.arc_change,
+        },
+        rows.clone(),
+        shares(names),
+        |r, c| find(r, c).map_or(Cell::Missing, |e| value(e.arc, f64::NAN)),
+    );
+    let me: Vec<_> = a
+        .marginal_effects
+        .iter()
+        .filter(|e| e.variable == name)
+        .collect();
+    let marginal = (!me.is_empty()).then(|| {
+        Matrix::build(Measure::MarginalEffect, rows, shares(names), |r, c| {
+            me.iter()
+                .find(|e| key(role, &e.changed, r) && e.alternative == c)
+                .map_or(Cell::Missing, |e| value(e.value, e.std_error))
+        })
+    });
+    Some(Variable {
+        name: name.to_string(),
+        role,
+        flag: false,
+        figures,
+        arc: Some(arc),
+        marginal,
+    })
+}
+
+/// A 0/1 variable's switch from 0 to 1, if the analysis treated it as one.
+fn flag(a: &Analysis, names: &[String], name: &str, role: Role) -> Option<Variable> {
+    let rows: Vec<_> = a
+        .flag_effects
+        .iter()
+        .filter(|f| f.variable == name)
+        .collect();
+    if rows.is_empty() {
+        return None;
+    }
+    let changed: Vec<Option<&str>> = rows.iter().map(|f| f.changed.as_deref()).collect();
+    let axis = rows_of(name, role, names, &changed);
+    let figures = Matrix::build(Measure::FlagSwitch, axis, shares(names), |r, c| {
+        rows.iter()
+            .find(|f| key(role, &f.changed, r) && f.affected == c)
+            .map_or(Cell::Missing, |f| value(f.change, f.std_error))
+    });
+    Some(Variable {
+        name: name.to_string(),
+        role,
+        flag: true,
+        figures,
+        arc: None,
+        marginal: None,
+    })
+}
+
+fn withdrawal(a: &Analysis, names: &[String]) -> Option<Matrix> {
+    if a.diversion.is_empty() {
+        return None;
+    }
+    let rows = Axis {
+        holds: Holds::Withdrawn,
+        labels: names
+            .iter()
+            .filter(|n| a.diversion.iter().any(|d| &d.removed == *n))
+            .cloned()
+            .collect(),
+    };
+    Some(Matrix::build(
+        Measure::Withdrawal,
+        rows,
+        moves_to(names),
+        |r, c| {
+            if r == c {
+                return Cell::Same;
+            }
+            a.diversion
+                .iter()
+                .find(|d| d.removed == r && d.to == c)
+                .map_or(Cell::Missing, |d| value(d.share, f64::NAN))
+        },
+    ))
+}
+
+fn moves_to(names: &[String]) -> Axis {
+    Axis {
+        holds: Holds::MovesTo,
+        labels: names.to_vec(),
+    }
+}
+
+fn price_diversion(a: &Analysis, names: &[String]) -> Option<Matrix> {
+    let first = a.price_diversion.first()?;
+    let rows = Axis {
+        holds: Holds::Changed(first.attribute.clone()),
+        labels: names
+            .iter()
+            .filter(|n| a.price_diversion.iter().any(|d| &d.changed == *n))
+            .cloned()
+            .collect(),
+    };
+    Some(Matrix::build(
+        Measure::PriceDiversion,
+        rows,
+        moves_to(names),
+        |r, c| {
+            if r == c {
+                return Cell::Same;
+            }
+            a.price_diversion
+                .iter()
+                .find(|d| d.changed == r && d.to == c)
+                .map_or(Cell::Missing, |d| value(d.ratio, f64::NAN))
+        },
+    ))
+}
+
+/// "one unit more", "60 units less": what a ratio's willingness to pay is for.
+fn per_units(scale: f64, per: &str) -> String {
+    let way = per.strip_prefix("unit ").unwrap_or(per);
+    if scale == 1.0 {
+        format!("one unit {way}")
+    } else {
+        format!("{} units {way}", scale.abs())
+    }
+}
+
+fn ratio(r: &crate::analysis::RatioRow) -> Ratio {
+    Ratio {
+        name: r.name.clone(),
+        value: Figure {
+            value: r.value,
+            std_error: r.std_error,
+        },
+        unit: r.unit.clone(),
+        per: per_units(r.scale, &r.per),
+        numerator: r.numerator.clone(),
+        denominator: r.denominator.clone(),
+        delta: (r.ci_low, r.ci_high),
+        krinsky_robb: (r.draws > 0).then_some(Simulated {
+            low: r.kr_low,
+            high: r.kr_high,
+            draws: r.draws,
+            seed: r.seed,
+        }),
+        distribution: r.distribution.clone(),
+    }
+}
+
+/// The analysis's random coefficients, each told whether its location is the
+/// mean of its logarithm (asked of the family's random coefficients, in the same order).
+fn random(fit: &Fit, a: &Analysis) -> Vec<Random> {
+    let terms = fit.family.random_coefficients();
+    a.random_coefficients
+        .iter()
+        .enumerate()
+        .map(|(k, row)| Random {
+            row: row.clone(),
+            location_label: match terms.get(k) {
+                Some(t) if t.distribution.is_log() => estimates::MEAN_OF_LOG,
+                _ => "location",
+            },
+        })
+        .collect()
+}
+
+fn derived(a: &Analysis) -> Vec<Group> {
+    let mut groups: Vec<Group> = Vec::new();
+    for r in &a.derived {
+        let row = labelled(&r.name, r.value, r.std_error);
+        match groups.iter_mut().find(|g| g.name == r.group) {
+            Some(g) => g.rows.push(row),
+            None => groups.push(Group {
+                name: r.group.clone(),
+                rows: vec![row],
+            }),
+        }
+    }
+    groups
+}
+
+fn tests(a: &Analysis) -> Vec<Test> {
+    let mut out = Vec::new();
+    if let Some(t) = &a.single_index {
+        out.push(Test {
+            name: t.name.clone(),
+            statistic: t.statistic,
+            df: t.df,
+            p_value: t.p_value,
+            kind: TestKind::SingleIndex {
+                unordered_log_likelihood: t.unordered_log_likelihood,
+                note: t.note.clone(),
+            },
+        });
+    }
+    for t in a.family_test.iter().chain(a.wald.iter()) {
+        out.push(Test {
+            name: t.name.clone(),
+            statistic: t.statistic,
+            df: t.df,
+            p_value: t.p_value,
+            kind: TestKind::Wald,
+        });
+    }
+    if let Some(t) = &a.iia {
+        out.push(Test {
+            name: format!("IIA (Hausman-McFadden, `{}` dropped)", t.dropped),
+            statistic: t.statistic,
+            df: t.df,
+            p_value: t.p_value,
+            kind: TestKind::Iia {
+                dropped: t.dropped.clone(),
+                compared: t.compared.clone(),
+                note: t.note.clone(),
+            },
+        });
+    }
+    out
+}

@@ -284,23 +284,7 @@ fn measure(o: &MixedOptions, dir: &Path) -> Result<ExitCode> {
         .map_err(|m| Error::spec(&spec.path, m))?;
     let d = Design::build(&spec, Arc::new(ds.obs));
     let theta: Vec<f64> = spec.parameters.iter().map(|p| truth(&p.name)).collect();
-    let t = Instant::now();
-    let first = family.evaluate(&d, &theta, true, false);
-    let draws_s = t.elapsed().as_secs_f64(); // includes making the draws
-    let mut pass_t = Vec::new();
-    for _ in 0..o.repeats.max(1) {
-        let t = Instant::now();
-        std::hint::black_box(family.evaluate(&d, &theta, true, false).ll);
-        pass_t.push(t.elapsed().as_secs_f64());
-    }
-    let pass_s = median(pass_t);
-    let mut ll_t = Vec::new();
-    for _ in 0..o.repeats.max(1) {
-        let t = Instant::now();
-        std::hint::black_box(family.evaluate(&d, &theta, false, false).ll);
-        ll_t.push(t.elapsed().as_secs_f64());
-    }
-    let ll_only_s = median(ll_t);
+    let (first, draws_s, pass_s, ll_only_s) = time_passes(&*family, &d, &theta, o.repeats);
     let cores = std::thread::available_parallelism()
         .map(|c| c.get())
         .unwrap_or(1);
@@ -346,6 +330,33 @@ fn measure(o: &MixedOptions, dir: &Path) -> Result<ExitCode> {
         },
     )?;
     Ok(ExitCode::SUCCESS)
+}
+
+/// The first pass at `theta` (with its time, which includes making the
+/// draws), then the median times of passes with and without the gradient.
+fn time_passes(
+    family: &dyn crate::model::Family,
+    d: &Design,
+    theta: &[f64],
+    repeats: usize,
+) -> (crate::model::Eval, f64, f64, f64) {
+    let t = Instant::now();
+    let first = family.evaluate(d, theta, true, false);
+    let draws_s = t.elapsed().as_secs_f64(); // includes making the draws
+    let mut pass_t = Vec::new();
+    for _ in 0..repeats.max(1) {
+        let t = Instant::now();
+        std::hint::black_box(family.evaluate(d, theta, true, false).ll);
+        pass_t.push(t.elapsed().as_secs_f64());
+    }
+    let pass_s = median(pass_t);
+    let mut ll_t = Vec::new();
+    for _ in 0..repeats.max(1) {
+        let t = Instant::now();
+        std::hint::black_box(family.evaluate(d, theta, false, false).ll);
+        ll_t.push(t.elapsed().as_secs_f64());
+    }
+    (first, draws_s, pass_s, median(ll_t))
 }
 
 struct Figures {

@@ -84,22 +84,7 @@ pub struct BenchArgs {
 
 pub fn run(args: BenchArgs) -> Result<ExitCode> {
     if args.model == BenchModel::Stream {
-        let situations = args.situations.unwrap_or(1_000_000);
-        crate::error::check_count("--situations", situations, bench::MAX_SITUATIONS, 0)?;
-        if args.chunk_rows == 0 || args.profile.is_some() {
-            return Err(crate::error::Error::Usage(
-                "--model stream: --chunk-rows must be at least 1, and --profile does not apply"
-                    .into(),
-            ));
-        }
-        return bench::stream::run(bench::stream::StreamOptions {
-            situations,
-            chunk_rows: args.chunk_rows,
-            band_draws: args.band_draws,
-            keep: args.keep,
-            write_only: args.write_only,
-            json: args.json,
-        });
+        return stream(args);
     }
     let draws = args.draws.unwrap_or(if args.model == BenchModel::Probit {
         500
@@ -161,5 +146,24 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
         json: args.json,
         profile: args.profile,
         hessian: args.hessian,
+    })
+}
+
+/// `--model stream`: the forecast over a population read in chunks.
+fn stream(args: BenchArgs) -> Result<ExitCode> {
+    let situations = args.situations.unwrap_or(1_000_000);
+    crate::error::check_count("--situations", situations, bench::MAX_SITUATIONS, 0)?;
+    if args.chunk_rows == 0 || args.profile.is_some() {
+        return Err(crate::error::Error::Usage(
+            "--model stream: --chunk-rows must be at least 1, and --profile does not apply".into(),
+        ));
+    }
+    bench::stream::run(bench::stream::StreamOptions {
+        situations,
+        chunk_rows: args.chunk_rows,
+        band_draws: args.band_draws,
+        keep: args.keep,
+        write_only: args.write_only,
+        json: args.json,
     })
 }

@@ -125,118 +125,47 @@ fn pick_nested(rng: &mut Rng, v: &[f64], avail: &[bool], nests: &[(&[usize], f64
     pick(rng, &scaled, &mask)
 }
 
+/// The commute demo's columns, in the file's order (`mode` follows `person_id`).
+const COMMUTE_COLUMNS: [&str; 22] = [
+    "trip_id",
+    "person_id",
+    "district",
+    "income",
+    "age",
+    "has_car",
+    "distance_km",
+    "car_cost",
+    "car_time",
+    "bus_fare",
+    "bus_time",
+    "bus_wait",
+    "bus_access_km",
+    "rail_fare",
+    "rail_time",
+    "rail_wait",
+    "rail_access_km",
+    "bike_time",
+    "walk_time",
+    "bike_ok",
+    "walk_ok",
+    "expansion",
+];
+
 /// Velmora commute trips: 2,000 residents, 3 trips each, wide layout; choices
 /// from a nested logit (transit: bus and rail; active: bike and walk).
 pub fn commute(path: &Path, force: bool) -> Result<()> {
-    let t = |n: &str| truth(COMMUTE_TRUTH, n);
     let mut rng = Rng::new(20_261_201);
     let names = ["car", "bus", "rail", "bike", "walk"];
-    let mut cols: Vec<(&str, Vec<f64>)> = [
-        "trip_id",
-        "person_id",
-        "district",
-        "income",
-        "age",
-        "has_car",
-        "distance_km",
-        "car_cost",
-        "car_time",
-        "bus_fare",
-        "bus_time",
-        "bus_wait",
-        "bus_access_km",
-        "rail_fare",
-        "rail_time",
-        "rail_wait",
-        "rail_access_km",
-        "bike_time",
-        "walk_time",
-        "bike_ok",
-        "walk_ok",
-        "expansion",
-    ]
-    .iter()
-    .map(|n| (*n, Vec::new()))
-    .collect();
+    let mut cols: Vec<(&str, Vec<f64>)> =
+        COMMUTE_COLUMNS.iter().map(|n| (*n, Vec::new())).collect();
     let mut mode = Vec::new();
     let mut trip = 0;
     for person in 1..=2000 {
-        let district = 1 + rng.below(5);
-        let income = round((3.4 + 0.45 * rng.normal()).exp(), 1); // thousands per year
-        let age = 18.0 + rng.below(58) as f64;
-        let has_car = (rng.uniform() < 0.35 + 0.006 * income.min(90.0)) as u8 as f64;
-        let expansion = round(20.0 + 10.0 * rng.uniform() + 4.0 * district as f64, 2);
+        let resident = Resident::draw(&mut rng, person);
         for _ in 0..3 {
             trip += 1;
-            let d = round((1.6 + 0.7 * rng.normal()).exp().clamp(0.4, 40.0), 2);
-            let car_time = round(4.0 + 1.7 * d * (1.0 + 0.2 * rng.uniform()), 1);
-            let car_cost = round(0.22 * d + [1.0, 2.5, 4.0][rng.below(3)], 2);
-            let bus_time = round(3.0 + 2.6 * d * (1.0 + 0.2 * rng.uniform()), 1);
-            let bus_fare = round(1.2 + 0.08 * d, 2);
-            let bus_wait = round(2.0 + 8.0 * rng.uniform(), 1);
-            let bus_access = round(0.1 + 0.8 * rng.uniform(), 2);
-            let rail_time = round(6.0 + 1.2 * d * (1.0 + 0.2 * rng.uniform()), 1);
-            let rail_fare = round(1.8 + 0.12 * d, 2);
-            let rail_wait = round(1.5 + 6.0 * rng.uniform(), 1);
-            let rail_access = round(0.3 + 2.2 * rng.uniform() + 0.2 * district as f64, 2);
-            let bike_time = round(d * 4.0, 1);
-            let walk_time = round(d * 12.0, 1);
-            let bike_ok = (d <= 15.0) as u8 as f64;
-            let walk_ok = (d <= 5.0) as u8 as f64;
-            let avail = [has_car == 1.0, true, true, bike_ok == 1.0, walk_ok == 1.0];
-            let v = [
-                t("cost") * car_cost + t("time") * car_time,
-                t("asc_bus")
-                    + t("cost") * bus_fare
-                    + t("time") * bus_time
-                    + t("wait") * bus_wait
-                    + t("access") * bus_access
-                    + t("income_bus") * income,
-                t("asc_rail")
-                    + t("cost") * rail_fare
-                    + t("time") * rail_time
-                    + t("wait") * rail_wait
-                    + t("access") * rail_access
-                    + t("income_rail") * income,
-                t("asc_bike")
-                    + t("time") * bike_time
-                    + t("income_bike") * income
-                    + t("age_bike") * age,
-                t("asc_walk")
-                    + t("time") * walk_time
-                    + t("income_walk") * income
-                    + t("age_walk") * age,
-            ];
-            let nests: Vec<(&[usize], f64)> = COMMUTE_NESTS
-                .iter()
-                .map(|(alts, scale)| (*alts, if scale.is_empty() { 1.0 } else { t(scale) }))
-                .collect();
-            let c = pick_nested(&mut rng, &v, &avail, &nests);
+            let (row, c) = commute_trip(&mut rng, &resident, trip);
             mode.push(names[c].to_string());
-            let row = [
-                trip as f64,
-                person as f64,
-                district as f64,
-                income,
-                age,
-                has_car,
-                d,
-                car_cost,
-                car_time,
-                bus_fare,
-                bus_time,
-                bus_wait,
-                bus_access,
-                rail_fare,
-                rail_time,
-                rail_wait,
-                rail_access,
-                bike_time,
-                walk_time,
-                bike_ok,
-                walk_ok,
-                expansion,
-            ];
             for (col, x) in cols.iter_mut().zip(row) {
                 col.1.push(x);
             }
@@ -266,94 +195,222 @@ pub fn commute(path: &Path, force: bool) -> Result<()> {
     table(path, force, &out)
 }
 
+/// A commute demo resident: what stays the same across their trips.
+struct Resident {
+    person: i32,
+    district: usize,
+    income: f64,
+    age: f64,
+    has_car: f64,
+    expansion: f64,
+}
+
+impl Resident {
+    fn draw(rng: &mut Rng, person: i32) -> Self {
+        let district = 1 + rng.below(5);
+        let income = round((3.4 + 0.45 * rng.normal()).exp(), 1); // thousands per year
+        let age = 18.0 + rng.below(58) as f64;
+        let has_car = (rng.uniform() < 0.35 + 0.006 * income.min(90.0)) as u8 as f64;
+        let expansion = round(20.0 + 10.0 * rng.uniform() + 4.0 * district as f64, 2);
+        Resident {
+            person,
+            district,
+            income,
+            age,
+            has_car,
+            expansion,
+        }
+    }
+}
+
+/// One commute trip: its row (in `COMMUTE_COLUMNS` order) and the chosen mode.
+fn commute_trip(rng: &mut Rng, r: &Resident, trip: i32) -> ([f64; 22], usize) {
+    let district = r.district;
+    let d = round((1.6 + 0.7 * rng.normal()).exp().clamp(0.4, 40.0), 2);
+    let car_time = round(4.0 + 1.7 * d * (1.0 + 0.2 * rng.uniform()), 1);
+    let car_cost = round(0.22 * d + [1.0, 2.5, 4.0][rng.below(3)], 2);
+    let bus_time = round(3.0 + 2.6 * d * (1.0 + 0.2 * rng.uniform()), 1);
+    let bus_fare = round(1.2 + 0.08 * d, 2);
+    let bus_wait = round(2.0 + 8.0 * rng.uniform(), 1);
+    let bus_access = round(0.1 + 0.8 * rng.uniform(), 2);
+    let rail_time = round(6.0 + 1.2 * d * (1.0 + 0.2 * rng.uniform()), 1);
+    let rail_fare = round(1.8 + 0.12 * d, 2);
+    let rail_wait = round(1.5 + 6.0 * rng.uniform(), 1);
+    let rail_access = round(0.3 + 2.2 * rng.uniform() + 0.2 * district as f64, 2);
+    let bike_time = round(d * 4.0, 1);
+    let walk_time = round(d * 12.0, 1);
+    let bike_ok = (d <= 15.0) as u8 as f64;
+    let walk_ok = (d <= 5.0) as u8 as f64;
+    let row = [
+        trip as f64,
+        r.person as f64,
+        district as f64,
+        r.income,
+        r.age,
+        r.has_car,
+        d,
+        car_cost,
+        car_time,
+        bus_fare,
+        bus_time,
+        bus_wait,
+        bus_access,
+        rail_fare,
+        rail_time,
+        rail_wait,
+        rail_access,
+        bike_time,
+        walk_time,
+        bike_ok,
+        walk_ok,
+        r.expansion,
+    ];
+    let avail = [r.has_car == 1.0, true, true, bike_ok == 1.0, walk_ok == 1.0];
+    let t = |n: &str| truth(COMMUTE_TRUTH, n);
+    let nests: Vec<(&[usize], f64)> = COMMUTE_NESTS
+        .iter()
+        .map(|(alts, scale)| (*alts, if scale.is_empty() { 1.0 } else { t(scale) }))
+        .collect();
+    let c = pick_nested(rng, &commute_utilities(&row), &avail, &nests);
+    (row, c)
+}
+
+/// The true utilities of the five modes on one trip's row.
+fn commute_utilities(row: &[f64; 22]) -> [f64; 5] {
+    let t = |n: &str| truth(COMMUTE_TRUTH, n);
+    let x = |n: &str| {
+        COMMUTE_COLUMNS
+            .iter()
+            .position(|c| *c == n)
+            .map_or(0.0, |i| row[i])
+    };
+    let (income, age) = (x("income"), x("age"));
+    [
+        t("cost") * x("car_cost") + t("time") * x("car_time"),
+        t("asc_bus")
+            + t("cost") * x("bus_fare")
+            + t("time") * x("bus_time")
+            + t("wait") * x("bus_wait")
+            + t("access") * x("bus_access_km")
+            + t("income_bus") * income,
+        t("asc_rail")
+            + t("cost") * x("rail_fare")
+            + t("time") * x("rail_time")
+            + t("wait") * x("rail_wait")
+            + t("access") * x("rail_access_km")
+            + t("income_rail") * income,
+        t("asc_bike")
+            + t("time") * x("bike_time")
+            + t("income_bike") * income
+            + t("age_bike") * age,
+        t("asc_walk")
+            + t("time") * x("walk_time")
+            + t("income_walk") * income
+            + t("age_walk") * age,
+    ]
+}
+
+/// The grocery demo's columns, one row per purchase and available brand.
+#[derive(Default)]
+struct Purchases {
+    purchase: Vec<i64>,
+    household: Vec<i64>,
+    week: Vec<i64>,
+    brand: Vec<String>,
+    price: Vec<f64>,
+    promo: Vec<i64>,
+    eye: Vec<i64>,
+    income: Vec<f64>,
+    size: Vec<i64>,
+    chosen: Vec<i64>,
+}
+
+const BRANDS: [&str; 5] = [
+    "brambleton",
+    "quillfield",
+    "marrowby",
+    "fennick",
+    "own_label",
+];
+
 /// Larkspur Market purchases of one item: 8,000 purchases by 1,600 households, long layout.
 pub fn grocery(path: &Path, force: bool) -> Result<()> {
-    let t = |n: &str| truth(GROCERY_TRUTH, n);
     let mut rng = Rng::new(7_041_990);
-    let brands = [
-        "brambleton",
-        "quillfield",
-        "marrowby",
-        "fennick",
-        "own_label",
-    ];
-    let list_price = [3.20, 3.45, 2.90, 3.80, 2.30];
-    let (mut purchase, mut household, mut week, mut brand) =
-        (Vec::new(), Vec::new(), Vec::new(), Vec::new());
-    let (mut price, mut promo, mut eye, mut income, mut size, mut chosen) = (
-        Vec::new(),
-        Vec::new(),
-        Vec::new(),
-        Vec::new(),
-        Vec::new(),
-        Vec::new(),
-    );
+    let mut rows = Purchases::default();
     let mut id = 0i64;
     for h in 1..=1600i64 {
         let inc = round((3.5 + 0.5 * rng.normal()).exp(), 1);
         let hsize = 1 + rng.below(5) as i64;
         for _ in 0..5 {
             id += 1;
-            let wk = 1 + rng.below(52) as i64;
-            let mut avail = [true; 5];
-            for a in avail.iter_mut() {
-                *a = rng.uniform() > 0.06; // stock-outs
-            }
-            if avail.iter().all(|a| !a) {
-                avail[4] = true;
-            }
-            let mut rows = Vec::new();
-            let mut v = [0.0; 5];
-            for j in 0..5 {
-                let on_promo = (rng.uniform() < 0.15) as u8 as f64;
-                let p = round(
-                    list_price[j] * (1.0 - 0.2 * on_promo) * (0.95 + 0.1 * rng.uniform()),
-                    2,
-                );
-                let e = (rng.uniform() < 0.4) as u8 as f64;
-                let name = brands[j];
-                v[j] = if j == 0 {
-                    0.0
-                } else {
-                    t(&format!("asc_{name}"))
-                } + t("price") * p
-                    + t("promo") * on_promo
-                    + t("eye_level") * e
-                    + t(&format!("income_{name}")) * inc
-                    + t(&format!("size_{name}")) * hsize as f64;
-                rows.push((p, on_promo, e));
-            }
-            let c = pick(&mut rng, &v, &avail);
-            for j in 0..5 {
-                if !avail[j] {
-                    continue; // a stock-out: no row, so the brand is unavailable
-                }
-                purchase.push(id);
-                household.push(h);
-                week.push(wk);
-                brand.push(brands[j].to_string());
-                price.push(rows[j].0);
-                promo.push(rows[j].1 as i64);
-                eye.push(rows[j].2 as i64);
-                income.push(inc);
-                size.push(hsize);
-                chosen.push((j == c) as i64);
-            }
+            purchase(&mut rng, &mut rows, (id, h, inc, hsize));
         }
     }
     let out = vec![
-        ("purchase_id".to_string(), Values::Int(purchase)),
-        ("household_id".to_string(), Values::Int(household)),
-        ("week".to_string(), Values::Int(week)),
-        ("brand".to_string(), Values::Text(brand)),
-        ("price".to_string(), Values::Num(price)),
-        ("promo".to_string(), Values::Int(promo)),
-        ("eye_level".to_string(), Values::Int(eye)),
-        ("income".to_string(), Values::Num(income)),
-        ("household_size".to_string(), Values::Int(size)),
-        ("chosen".to_string(), Values::Int(chosen)),
+        ("purchase_id".to_string(), Values::Int(rows.purchase)),
+        ("household_id".to_string(), Values::Int(rows.household)),
+        ("week".to_string(), Values::Int(rows.week)),
+        ("brand".to_string(), Values::Text(rows.brand)),
+        ("price".to_string(), Values::Num(rows.price)),
+        ("promo".to_string(), Values::Int(rows.promo)),
+        ("eye_level".to_string(), Values::Int(rows.eye)),
+        ("income".to_string(), Values::Num(rows.income)),
+        ("household_size".to_string(), Values::Int(rows.size)),
+        ("chosen".to_string(), Values::Int(rows.chosen)),
     ];
     table(path, force, &out)
+}
+
+/// One purchase (id, household, its income and size): the shelf that week and
+/// the brand bought, a row per brand in stock.
+fn purchase(rng: &mut Rng, out: &mut Purchases, (id, h, inc, hsize): (i64, i64, f64, i64)) {
+    let t = |n: &str| truth(GROCERY_TRUTH, n);
+    let list_price = [3.20, 3.45, 2.90, 3.80, 2.30];
+    let wk = 1 + rng.below(52) as i64;
+    let mut avail = [true; 5];
+    for a in avail.iter_mut() {
+        *a = rng.uniform() > 0.06; // stock-outs
+    }
+    if avail.iter().all(|a| !a) {
+        avail[4] = true;
+    }
+    let mut rows = Vec::new();
+    let mut v = [0.0; 5];
+    for j in 0..5 {
+        let on_promo = (rng.uniform() < 0.15) as u8 as f64;
+        let p = round(
+            list_price[j] * (1.0 - 0.2 * on_promo) * (0.95 + 0.1 * rng.uniform()),
+            2,
+        );
+        let e = (rng.uniform() < 0.4) as u8 as f64;
+        let name = BRANDS[j];
+        v[j] = if j == 0 {
+            0.0
+        } else {
+            t(&format!("asc_{name}"))
+        } + t("price") * p
+            + t("promo") * on_promo
+            + t("eye_level") * e
+            + t(&format!("income_{name}")) * inc
+            + t(&format!("size_{name}")) * hsize as f64;
+        rows.push((p, on_promo, e));
+    }
+    let c = pick(rng, &v, &avail);
+    for j in 0..5 {
+        if !avail[j] {
+            continue; // a stock-out: no row, so the brand is unavailable
+        }
+        out.purchase.push(id);
+        out.household.push(h);
+        out.week.push(wk);
+        out.brand.push(BRANDS[j].to_string());
+        out.price.push(rows[j].0);
+        out.promo.push(rows[j].1 as i64);
+        out.eye.push(rows[j].2 as i64);
+        out.income.push(inc);
+        out.size.push(hsize);
+        out.chosen.push((j == c) as i64);
+    }
 }
 
 /// True parameters of the delivery-ratings demo: the latent satisfaction's

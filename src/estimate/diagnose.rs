@@ -18,75 +18,14 @@ pub fn diagnose(
     out: &Outcome,
     flats: &[Vec<usize>],
 ) -> Vec<Diagnostic> {
-    let k = design.params;
     let mut diagnostics = Vec::new();
     let runaway = inference::runaway(design, &out.beta, free);
-    // Constants of alternatives that are available but never chosen: their own
-    // diagnostic below explains why they run off, so they are reported once.
-    let never_chosen: Vec<usize> = (0..k)
-        .filter(|&p| {
-            let par = &spec.parameters[p];
-            par.term == crate::spec::Term::Constant
-                && par.alternative.is_some_and(|a| {
-                    !obs.chosen.iter().any(|&c| c as usize == a)
-                        && (0..design.situations()).any(|i| design.available(i, a))
-                })
-        })
-        .collect();
+    let never_chosen = never_chosen(spec, design, obs);
     for group in flats {
         if group.len() == 1 && never_chosen.contains(&free[group[0]]) {
             continue;
         }
-        let params: Vec<String> = group.iter().map(|&x| names[free[x]].clone()).collect();
-        let terms: Vec<String> = group
-            .iter()
-            .map(|&x| spec.term_label(&spec.parameters[free[x]].term))
-            .fold(Vec::new(), |mut v, t| {
-                if !v.contains(&t) {
-                    v.push(t)
-                }
-                v
-            });
-        // A flat direction next to a coefficient that runs off comes from
-        // separation (fitted probabilities of 0 or 1), not from collinearity.
-        let runners: Vec<String> = group
-            .iter()
-            .filter(|&&x| runaway.iter().any(|r| r.0 == free[x]))
-            .map(|&x| format!("`{}`", names[free[x]]))
-            .collect();
-        let listed = params
-            .iter()
-            .map(|p| format!("`{p}`"))
-            .collect::<Vec<_>>()
-            .join(", ");
-        let message = if !runners.is_empty() {
-            let (what, them) = if params.len() == 1 {
-                (format!("parameter {listed} is"), "it")
-            } else {
-                (format!("parameters {listed} are"), "them")
-            };
-            format!(
-                "{what} not identified (from {}): {} runs off, so the fitted probabilities are all but 0 or 1 and the data no longer pin {them} down",
-                terms.join(", "),
-                runners.join(", ")
-            )
-        } else if params.len() == 1 {
-            format!(
-                "parameter `{}` is not identified: the data carry no information on it (from {}); drop the term, fix it in [parameters], or check that its variable varies across alternatives and situations",
-                params[0], terms[0]
-            )
-        } else {
-            format!(
-                "parameters {listed} are not identified together: only a combination of them is estimable (from {}); their variables are collinear, so drop or fix one",
-                terms.join(", ")
-            )
-        };
-        diagnostics.push(Diagnostic {
-            code: None,
-            kind: DiagnosticKind::NotIdentified,
-            parameters: params,
-            message,
-        });
+        diagnostics.push(not_identified(spec, free, names, group, &runaway));
     }
     for (p, spread) in runaway {
         if never_chosen.contains(&p) {
@@ -121,6 +60,111 @@ pub fn diagnose(
             ),
         });
     }
+    let unused = Unused {
+        free,
+        flats,
+        never_chosen: &never_chosen,
+    };
+    alternatives(spec, design, obs, &unused, &mut diagnostics);
+    diagnostics
+}
+
+/// Constants of alternatives that are available but never chosen: their own
+/// diagnostic explains why they run off, so they are reported once.
+fn never_chosen(spec: &Spec, design: &Design, obs: &Observations) -> Vec<usize> {
+    (0..design.params)
+        .filter(|&p| {
+            let par = &spec.parameters[p];
+            par.term == crate::spec::Term::Constant
+                && par.alternative.is_some_and(|a| {
+                    !obs.chosen.iter().any(|&c| c as usize == a)
+                        && (0..design.situations()).any(|i| design.available(i, a))
+                })
+        })
+        .collect()
+}
+
+/// One flat direction of the Hessian: the parameters not identified, and why.
+fn not_identified(
+    spec: &Spec,
+    free: &[usize],
+    names: &[String],
+    group: &[usize],
+    runaway: &[(usize, f64)],
+) -> Diagnostic {
+    let params: Vec<String> = group.iter().map(|&x| names[free[x]].clone()).collect();
+    let terms: Vec<String> = group
+        .iter()
+        .map(|&x| spec.term_label(&spec.parameters[free[x]].term))
+        .fold(Vec::new(), |mut v, t| {
+            if !v.contains(&t) {
+                v.push(t)
+            }
+            v
+        });
+    // A flat direction next to a coefficient that runs off comes from
+    // separation (fitted probabilities of 0 or 1), not from collinearity.
+    let runners: Vec<String> = group
+        .iter()
+        .filter(|&&x| runaway.iter().any(|r| r.0 == free[x]))
+        .map(|&x| format!("`{}`", names[free[x]]))
+        .collect();
+    let listed = params
+        .iter()
+        .map(|p| format!("`{p}`"))
+        .collect::<Vec<_>>()
+        .join(", ");
+    let message = if !runners.is_empty() {
+        let (what, them) = if params.len() == 1 {
+            (format!("parameter {listed} is"), "it")
+        } else {
+            (format!("parameters {listed} are"), "them")
+        };
+        format!(
+            "{what} not identified (from {}): {} runs off, so the fitted probabilities are all but 0 or 1 and the data no longer pin {them} down",
+            terms.join(", "),
+            runners.join(", ")
+        )
+    } else if params.len() == 1 {
+        format!(
+            "parameter `{}` is not identified: the data carry no information on it (from {}); drop the term, fix it in [parameters], or check that its variable varies across alternatives and situations",
+            params[0], terms[0]
+        )
+    } else {
+        format!(
+            "parameters {listed} are not identified together: only a combination of them is estimable (from {}); their variables are collinear, so drop or fix one",
+            terms.join(", ")
+        )
+    };
+    Diagnostic {
+        code: None,
+        kind: DiagnosticKind::NotIdentified,
+        parameters: params,
+        message,
+    }
+}
+
+/// The free positions, the flat directions and the never-chosen constants, for
+/// the alternatives' findings.
+struct Unused<'a> {
+    free: &'a [usize],
+    flats: &'a [Vec<usize>],
+    never_chosen: &'a [usize],
+}
+
+/// Alternatives never available, and alternatives available but never chosen.
+fn alternatives(
+    spec: &Spec,
+    design: &Design,
+    obs: &Observations,
+    unused: &Unused,
+    diagnostics: &mut Vec<Diagnostic>,
+) {
+    let Unused {
+        free,
+        flats,
+        never_chosen,
+    } = *unused;
     for (a, alt) in spec.alternatives.iter().enumerate() {
         let avail = (0..design.situations())
             .filter(|&i| design.available(i, a))
@@ -165,7 +209,6 @@ pub fn diagnose(
             });
         }
     }
-    diagnostics
 }
 
 /// A number for a sentence: four decimals for ordinary sizes, e-notation for huge or tiny ones.

@@ -3,7 +3,9 @@
 
 pub mod diagnose;
 pub mod document;
+mod finish;
 pub mod inference;
+mod newton;
 pub mod optimise;
 mod reference;
 pub mod simcheck;
@@ -279,7 +281,7 @@ pub fn fit_family(
     }
     let mut out = optimise::maximise(&design, &*family, &start, &free, progress);
     out.passes += first_passes;
-    finish(spec, obs, design, family, free, out, started, None)
+    finish::finish(spec, obs, design, family, free, out, started, None)
 }
 
 /// A fit rebuilt from a saved results document (`fit --save`) without searching:
@@ -330,184 +332,5 @@ pub fn restore(spec: &Spec, obs: Arc<Observations>, doc: &document::FitDocument)
         hessian: None,
     };
     let constants_ll = Some(f.constants_log_likelihood).filter(|x| x.is_finite());
-    finish(spec, obs, design, family, free, out, started, constants_ll)
-}
-
-/// Everything after the search: covariance, diagnostics, parameter rows and statistics.
-#[allow(clippy::too_many_arguments)]
-fn finish(
-    spec: &Spec,
-    obs: Arc<Observations>,
-    design: Design,
-    family: FamilyRef,
-    free: Vec<usize>,
-    out: optimise::Outcome,
-    started: Instant,
-    saved_constants_ll: Option<f64>,
-) -> Result<Fit> {
-    let reference_needed = saved_constants_ll.is_none()
-        && (spec.constants || spec.parameters.iter().any(|p| p.in_reference))
-        && spec.attributes.len() + spec.characteristics.len() > 0;
-    // The constants-only reference model is fitted on another thread while
-    // this one computes the covariance and the diagnostics (both deterministic
-    // whatever runs beside them).
-    std::thread::scope(|scope| {
-        let reference = reference_needed.then(|| {
-            let obs = obs.clone();
-            scope.spawn(move || reference::constants_log_likelihood(spec, obs))
-        });
-        let parts = (design, family, free, out, started);
-        finish_with(spec, obs, parts, saved_constants_ll, reference)
-    })
-}
-
-/// `finish` once the reference model is under way.
-fn finish_with(
-    spec: &Spec,
-    obs: Arc<Observations>,
-    (design, family, free, out, started): (
-        Design,
-        FamilyRef,
-        Vec<usize>,
-        optimise::Outcome,
-        Instant,
-    ),
-    saved_constants_ll: Option<f64>,
-    reference: Option<std::thread::ScopedJoinHandle<'_, Result<f64>>>,
-) -> Result<Fit> {
-    let k = design.params;
-    let names: Vec<String> = spec.parameters.iter().map(|p| p.name.clone()).collect();
-    // Covariance.
-    // The Hessian the search ended with is reused: an analytic one is at the
-    // estimates; a differenced one that confirmed convergence sits there up
-    // to the last tiny Newton step. Else one is computed here.
-    let final_hess = match &out.hessian {
-        Some(h) if h.len() == k * k => h.clone(),
-        _ => model::hessian::with_hessian(&*family, &design, &out.beta, &free)
-            .hess
-            .unwrap_or_default(),
-    };
-    let a = optimise::negative_free_hessian(&final_hess, k, &free);
-    let flats = inference::flat_directions(&a);
-    let mut diagnostics = diagnose::diagnose(spec, &design, &obs, &free, &names, &out, &flats);
-    diagnostics.extend(
-        family
-            .warnings(spec, &design, &out.beta)
-            .into_iter()
-            .map(|w| Diagnostic {
-                kind: DiagnosticKind::Family,
-                code: Some(w.code.to_string()),
-                parameters: w.parameters,
-                message: w.message,
-            }),
-    );
-    let m = free.len();
-    let nan = || DMatrix::from_element(k, k, f64::NAN);
-    let (covariance, robust_covariance) = match (flats.is_empty(), inference::invert(&a)) {
-        (true, Some(a_inv)) => {
-            let r = inference::robust(&design, &*family, &out.beta, &free, &a_inv);
-            let mut c = DMatrix::zeros(k, k);
-            let mut rc = DMatrix::zeros(k, k);
-            for x in 0..m {
-                for y in 0..m {
-                    c[(free[x], free[y])] = a_inv[(x, y)];
-                    rc[(free[x], free[y])] = r[(x, y)];
-                }
-            }
-            (c, rc)
-        }
-        _ => (nan(), nan()),
-    };
-
-    // Parameter rows.
-    let robust_inference = obs.group.is_some();
-    let parameters: Vec<ParameterRow> = (0..k)
-        .map(|p| {
-            let fixed = spec.parameters[p].fixed.is_some();
-            let se = if fixed {
-                f64::NAN
-            } else {
-                covariance[(p, p)].sqrt()
-            };
-            let rse = if fixed {
-                f64::NAN
-            } else {
-                robust_covariance[(p, p)].sqrt()
-            };
-            let use_se = if robust_inference { rse } else { se };
-            let est = out.beta[p];
-            let t = (est - spec.parameters[p].null) / use_se;
-            ParameterRow {
-                name: names[p].clone(),
-                term: spec.term_label(&spec.parameters[p].term),
-                estimate: est,
-                std_error: se,
-                robust_std_error: rse,
-                t_stat: t,
-                p_value: normal_p(t),
-                ci_low: est - Z95 * use_se,
-                ci_high: est + Z95 * use_se,
-                fixed,
-                null: spec.parameters[p].null,
-            }
-        })
-        .collect();
-
-    // Fit statistics.
-    let null_ll = null_log_likelihood(&obs);
-    let constants_ll = match (saved_constants_ll, reference) {
-        (Some(c), _) => c,
-        (None, Some(h)) => h.join().map_err(|_| {
-            Error::Estimate("the search of the constants-only reference model failed".into())
-        })??,
-        (None, None) if spec.constants => out.ll,
-        (None, None) => null_ll,
-    };
-    let kf = free.len() as f64;
-    let n = design.situations() as f64;
-    let ll = out.ll;
-    let stats = FitStats {
-        situations: design.situations(),
-        groups: obs.groups,
-        log_likelihood: ll,
-        null_log_likelihood: null_ll,
-        constants_log_likelihood: constants_ll,
-        rho_squared: 1.0 - ll / null_ll,
-        rho_squared_constants: 1.0 - ll / constants_ll,
-        adjusted_rho_squared: 1.0 - (ll - kf) / null_ll,
-        aic: 2.0 * kf - 2.0 * ll,
-        bic: kf * n.ln() - 2.0 * ll,
-        iterations: out.bfgs_iterations,
-        newton_steps: out.newton_steps,
-        passes: out.passes,
-        gradient_norm: out.gradient_norm,
-        newton_decrement: out.criterion,
-        converged: out.converged,
-        seconds: started.elapsed().as_secs_f64(),
-        estimated_parameters: free.len(),
-        inference: if robust_inference {
-            "robust"
-        } else {
-            "classical"
-        }
-        .to_string(),
-    };
-    // The base utilities and probabilities at the estimates, which the shares
-    // below and every analysis read (kept with the fit).
-    let baseline = Baseline::new(&*family, &design, &out.beta);
-    let shares = shares_from(spec, &design, &*family, &out.beta, Some(&baseline));
-    Ok(Fit {
-        design,
-        family,
-        names,
-        beta: out.beta,
-        free,
-        covariance,
-        robust_covariance,
-        parameters,
-        stats,
-        shares,
-        diagnostics,
-        baseline: std::sync::OnceLock::from(baseline),
-    })
+    finish::finish(spec, obs, design, family, free, out, started, constants_ll)
 }

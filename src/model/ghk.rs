@@ -61,51 +61,7 @@ pub fn probability(
         } else {
             &u[r * dims..(r + 1) * dims]
         };
-        let mut logp = 0.0;
-        if want {
-            w.dlogp.iter_mut().for_each(|x| *x = 0.0);
-        }
-        for k in 0..m {
-            let lkk = l[k * m + k];
-            let mut mu = 0.0;
-            for j in 0..k {
-                mu += l[k * m + j] * w.eta[j];
-            }
-            let z = (b[k] - mu) / lkk;
-            let log_phi = normal::log_cdf(z);
-            logp += log_phi;
-            if want {
-                // dz = (db_k - dmu) / L_kk - z dL_kk / L_kk
-                w.dz.iter_mut().for_each(|x| *x = 0.0);
-                w.dz[k] = 1.0 / lkk;
-                for j in 0..k {
-                    w.dz[m + k * m + j] -= w.eta[j] / lkk;
-                    let lkj = l[k * m + j];
-                    for t in 0..p_slots {
-                        w.dz[t] -= lkj * w.deta[j * p_slots + t] / lkk;
-                    }
-                }
-                w.dz[m + k * m + k] -= z / lkk;
-                let lambda = normal::inv_mills(z);
-                for (d, dz) in w.dlogp.iter_mut().zip(&w.dz) {
-                    *d += lambda * dz;
-                }
-            }
-            if k + 1 < m {
-                let uk = ur[k];
-                let target = (uk * log_phi.exp()).clamp(1e-300, 1.0 - 1e-16);
-                let eta = normal::quantile(target);
-                w.eta[k] = eta;
-                if want {
-                    // d eta / d z = u phi(z) / phi(eta), in logs for the tails.
-                    let ratio = uk * (-0.5 * z * z + 0.5 * eta * eta).exp();
-                    for t in 0..p_slots {
-                        w.deta[k * p_slots + t] = ratio * w.dz[t];
-                    }
-                }
-            }
-        }
-        let pr = logp.exp();
+        let pr = draw_log_probability(l, m, b, ur, want, w).exp();
         total += pr;
         if let Some(g) = grad.as_deref_mut() {
             for (g, d) in g.iter_mut().zip(&w.dlogp) {
@@ -118,4 +74,71 @@ pub fn probability(
         g.iter_mut().for_each(|x| *x /= n);
     }
     total / n
+}
+
+/// One draw's log of prod_k Phi(z_k) with the uniforms `ur`; with `want`, its
+/// gradient in `w.dlogp`.
+#[inline]
+fn draw_log_probability(
+    l: &[f64],
+    m: usize,
+    b: &[f64],
+    ur: &[f64],
+    want: bool,
+    w: &mut Work,
+) -> f64 {
+    let p_slots = slots(m);
+    let mut logp = 0.0;
+    if want {
+        w.dlogp.iter_mut().for_each(|x| *x = 0.0);
+    }
+    for k in 0..m {
+        let lkk = l[k * m + k];
+        let mut mu = 0.0;
+        for j in 0..k {
+            mu += l[k * m + j] * w.eta[j];
+        }
+        let z = (b[k] - mu) / lkk;
+        let log_phi = normal::log_cdf(z);
+        logp += log_phi;
+        if want {
+            carry_z(l, m, k, z, w);
+        }
+        if k + 1 < m {
+            let uk = ur[k];
+            let target = (uk * log_phi.exp()).clamp(1e-300, 1.0 - 1e-16);
+            let eta = normal::quantile(target);
+            w.eta[k] = eta;
+            if want {
+                // d eta / d z = u phi(z) / phi(eta), in logs for the tails.
+                let ratio = uk * (-0.5 * z * z + 0.5 * eta * eta).exp();
+                for t in 0..p_slots {
+                    w.deta[k * p_slots + t] = ratio * w.dz[t];
+                }
+            }
+        }
+    }
+    logp
+}
+
+/// The derivatives of z_k into `w.dz`, and lambda(z_k) dz_k added to `w.dlogp`.
+#[inline]
+fn carry_z(l: &[f64], m: usize, k: usize, z: f64, w: &mut Work) {
+    let p_slots = slots(m);
+    let lkk = l[k * m + k];
+    // dz = (db_k - dmu) / L_kk - z dL_kk / L_kk
+    w.dz.iter_mut().for_each(|x| *x = 0.0);
+    w.dz[k] = 1.0 / lkk;
+    for j in 0..k {
+        w.dz[m + k * m + j] -= w.eta[j] / lkk;
+        let lkj = l[k * m + j];
+        for t in 0..p_slots {
+            w.dz[t] -= lkj * w.deta[j * p_slots + t] / lkk;
+        }
+    }
+    w.dz[m + k * m + k] -= z / lkk;
+    let lambda = normal::inv_mills(z);
+    for (d, dz) in w.dlogp.iter_mut().zip(&w.dz) {
+        *d += lambda * dz;
+    }
 }

@@ -100,21 +100,7 @@ fn tokenize(text: &str) -> Result<Vec<(usize, Tok)>, ParseError> {
         let start = i;
         if c.is_ascii_digit() || (c == '.' && chars.get(i + 1).is_some_and(|d| d.is_ascii_digit()))
         {
-            while i < chars.len() && (chars[i].is_ascii_digit() || chars[i] == '.') {
-                i += 1;
-            }
-            if i < chars.len() && (chars[i] == 'e' || chars[i] == 'E') {
-                let mut j = i + 1;
-                if j < chars.len() && (chars[j] == '+' || chars[j] == '-') {
-                    j += 1;
-                }
-                if j < chars.len() && chars[j].is_ascii_digit() {
-                    i = j;
-                    while i < chars.len() && chars[i].is_ascii_digit() {
-                        i += 1;
-                    }
-                }
-            }
+            i = number_end(&chars, i);
             let s: String = chars[start..i].iter().collect();
             let v: f64 = s
                 .parse()
@@ -143,42 +129,63 @@ fn tokenize(text: &str) -> Result<Vec<(usize, Tok)>, ParseError> {
             i += 1;
             continue;
         }
-        let two: String = chars[i..(i + 2).min(chars.len())].iter().collect();
-        let op2 = match two.as_str() {
-            "<=" => Some("<="),
-            ">=" => Some(">="),
-            "==" => Some("=="),
-            "!=" => Some("!="),
-            _ => None,
-        };
-        if let Some(op) = op2 {
-            out.push((start, Tok::Op(op)));
-            i += 2;
-            continue;
-        }
-        let tok = match c {
-            '+' => Tok::Op("+"),
-            '-' => Tok::Op("-"),
-            '*' => Tok::Op("*"),
-            '/' => Tok::Op("/"),
-            '^' => Tok::Op("^"),
-            '<' => Tok::Op("<"),
-            '>' => Tok::Op(">"),
-            '(' => Tok::LParen,
-            ')' => Tok::RParen,
-            ',' => Tok::Comma,
-            '=' => {
-                return Err(err(
-                    start,
-                    "`=` is not an operator (write `==` to compare)".into(),
-                ))
-            }
-            _ => return Err(err(start, format!("unexpected character `{c}`"))),
-        };
+        let (tok, len) = operator(&chars, i).map_err(|m| err(start, m))?;
         out.push((start, tok));
-        i += 1;
+        i += len;
     }
     Ok(out)
+}
+
+/// Where the number starting at `i` ends: digits and points, then an exponent
+/// if digits follow the `e` (and its sign).
+fn number_end(chars: &[char], mut i: usize) -> usize {
+    while i < chars.len() && (chars[i].is_ascii_digit() || chars[i] == '.') {
+        i += 1;
+    }
+    if i < chars.len() && (chars[i] == 'e' || chars[i] == 'E') {
+        let mut j = i + 1;
+        if j < chars.len() && (chars[j] == '+' || chars[j] == '-') {
+            j += 1;
+        }
+        if j < chars.len() && chars[j].is_ascii_digit() {
+            i = j;
+            while i < chars.len() && chars[i].is_ascii_digit() {
+                i += 1;
+            }
+        }
+    }
+    i
+}
+
+/// The operator or punctuation at `i`, and its length in characters.
+fn operator(chars: &[char], i: usize) -> Result<(Tok, usize), String> {
+    let c = chars[i];
+    let two: String = chars[i..(i + 2).min(chars.len())].iter().collect();
+    let op2 = match two.as_str() {
+        "<=" => Some("<="),
+        ">=" => Some(">="),
+        "==" => Some("=="),
+        "!=" => Some("!="),
+        _ => None,
+    };
+    if let Some(op) = op2 {
+        return Ok((Tok::Op(op), 2));
+    }
+    let tok = match c {
+        '+' => Tok::Op("+"),
+        '-' => Tok::Op("-"),
+        '*' => Tok::Op("*"),
+        '/' => Tok::Op("/"),
+        '^' => Tok::Op("^"),
+        '<' => Tok::Op("<"),
+        '>' => Tok::Op(">"),
+        '(' => Tok::LParen,
+        ')' => Tok::RParen,
+        ',' => Tok::Comma,
+        '=' => return Err("`=` is not an operator (write `==` to compare)".into()),
+        _ => return Err(format!("unexpected character `{c}`")),
+    };
+    Ok((tok, 1))
 }
 
 /// The longest expression text accepted, in characters: long enough for any

@@ -28,9 +28,11 @@ use crate::spec::{FamilyParameter, FamilyRules, Spec, SpecView};
 use super::{Abilities, Eval, Family};
 
 pub(crate) mod block;
+pub(crate) mod chunk;
 pub mod fastmath;
 
 use block::*;
+use chunk::*;
 pub(crate) use fastmath::Compensated;
 use fastmath::*;
 

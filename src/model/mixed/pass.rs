@@ -204,8 +204,20 @@ fn block<const F: bool>(
     nb: usize,
     grad: bool,
 ) {
+    utilities::<F>(w, t, j, dims, r0, nb);
+    exponentials::<F>(w, t, j, r0, nb);
+    if !grad {
+        return;
+    }
+    probabilities(w, t, j, nb);
+    gradient::<F>(w, t, r0, nb);
+}
+
+/// The utility rows of situation `t`'s available alternatives over the
+/// block's draws, and their largest value per draw in `mx`.
+#[inline(always)]
+fn utilities<const F: bool>(w: &mut Work, t: usize, j: usize, dims: usize, r0: usize, nb: usize) {
     let r = w.r;
-    let chosen = w.chosen[t];
     let mx = &mut w.mx[..nb];
     mx.fill(f64::NEG_INFINITY);
     for a in 0..j {
@@ -227,6 +239,14 @@ fn block<const F: bool>(
             *m = m.max(*v);
         }
     }
+}
+
+/// The utility rows turned into exponentials (less the largest), their sums
+/// in `s`, and the chosen alternative's log-probability added to `logl`.
+#[inline(always)]
+fn exponentials<const F: bool>(w: &mut Work, t: usize, j: usize, r0: usize, nb: usize) {
+    let chosen = w.chosen[t];
+    let mx = &w.mx[..nb];
     let s = &mut w.s[..nb];
     s.fill(0.0);
     let logl = &mut w.logl[r0..r0 + nb];
@@ -249,9 +269,12 @@ fn block<const F: bool>(
     for (l, s) in logl.iter_mut().zip(s.iter()) {
         *l -= ln_positive::<F>(*s);
     }
-    if !grad {
-        return;
-    }
+}
+
+/// The exponential rows divided by their sums: the probabilities.
+#[inline(always)]
+fn probabilities(w: &mut Work, t: usize, j: usize, nb: usize) {
+    let s = &mut w.s[..nb];
     for s in s.iter_mut() {
         *s = 1.0 / *s;
     }
@@ -263,6 +286,14 @@ fn block<const F: bool>(
             }
         }
     }
+}
+
+/// Adds situation `t`'s residuals x_chosen - sum_a P_a x_a to the gradient
+/// rows of each parameter its features enter.
+#[inline(always)]
+fn gradient<const F: bool>(w: &mut Work, t: usize, r0: usize, nb: usize) {
+    let r = w.r;
+    let chosen = w.chosen[t];
     let feats = &w.feats[w.feats_at[t]..w.feats_at[t + 1]];
     let mut start = 0;
     while start < feats.len() {

@@ -14,6 +14,7 @@
 pub mod covariance;
 pub mod kernel;
 pub(crate) mod pass;
+mod report;
 pub mod rules;
 pub mod vector;
 
@@ -404,7 +405,7 @@ impl Family for Mnp {
     }
 
     fn warnings(&self, _spec: &Spec, _d: &Design, beta: &[f64]) -> Vec<FamilyWarning> {
-        warnings(self, beta)
+        report::warnings(self, beta)
     }
 
     fn for_bands(&self) -> Option<FamilyRef> {
@@ -413,101 +414,10 @@ impl Family for Mnp {
     }
 
     fn derived(&self, spec: &Spec, beta: &[f64]) -> Vec<Derived> {
-        if self.kind != Kind::Full {
-            return Vec::new();
-        }
-        let n = self.j - 1;
-        let l = self.structure.factor(n, beta);
-        let names = rules::non_base(spec.alternatives.iter().map(|a| a.name.as_str()), self.base);
-        let base = &spec.alternatives[self.base].name;
-        let s = |a: usize, b: usize| -> f64 { (0..n).map(|k| l[a * n + k] * l[b * n + k]).sum() };
-        let mut out = Vec::new();
-        let cov = format!("covariance of the error differences against {base}");
-        let cor = format!("correlation of the error differences against {base}");
-        for a in 0..n {
-            for b in 0..=a {
-                let name = if a == b {
-                    format!("var({})", names[a])
-                } else {
-                    format!("cov({}, {})", names[a], names[b])
-                };
-                out.push(Derived {
-                    group: cov.clone(),
-                    name,
-                    value: s(a, b),
-                });
-            }
-        }
-        for a in 0..n {
-            for b in 0..a {
-                out.push(Derived {
-                    group: cor.clone(),
-                    name: format!("corr({}, {})", names[a], names[b]),
-                    value: s(a, b) / (s(a, a) * s(b, b)).sqrt(),
-                });
-            }
-        }
-        out
+        report::derived(self, spec, beta)
     }
 
     fn structure(&self, spec: &Spec) -> Vec<String> {
-        let base = &spec.alternatives[self.base].name;
-        let errors = match self.kind {
-            Kind::Independent => format!(
-                "errors: independent normal (each difference against {base} has variance 1)"
-            ),
-            Kind::Full => format!(
-                "errors: full covariance of the utility differences against {base}, estimated as its Cholesky factor (chol_*; the first difference's variance fixed at 1)"
-            ),
-        };
-        vec![
-            errors,
-            format!(
-                "probabilities: GHK simulator, {} {} draws per situation (seed {})",
-                self.simulation.draws,
-                self.simulation.sequence.name(),
-                self.simulation.seed
-            ),
-        ]
+        report::structure(self, spec)
     }
-}
-
-/// The family's warnings at `beta`.
-fn warnings(f: &Mnp, beta: &[f64]) -> Vec<FamilyWarning> {
-    let mut out = Vec::new();
-    if f.simulation.draws < FEW_DRAWS {
-        out.push(FamilyWarning {
-            code: "few_draws",
-            parameters: Vec::new(),
-            message: format!(
-                "only {} draws per situation: simulated probabilities (and so the estimates) carry noticeable simulation error; {FEW_DRAWS} or more are usual",
-                f.simulation.draws
-            ),
-        });
-    }
-    if f.singular.load(Ordering::Relaxed) {
-        out.push(FamilyWarning {
-            code: "covariance_singular_in_search",
-            parameters: Vec::new(),
-            message: "the search met error covariances that were not positive definite; those points were rejected and the search went on".into(),
-        });
-    }
-    if let Structure::Full { .. } = f.structure {
-        let n = f.j - 1;
-        let l = f.structure.factor(n, beta);
-        let diag: Vec<f64> = (0..n).map(|k| l[k * n + k].abs()).collect();
-        let (lo, hi) = diag.iter().fold((f64::INFINITY, 0.0f64), |(lo, hi), &x| {
-            (lo.min(x), hi.max(x))
-        });
-        if lo < 1e-3 * hi {
-            out.push(FamilyWarning {
-                code: "covariance_near_singular",
-                parameters: Vec::new(),
-                message: format!(
-                    "the estimated error covariance is close to singular (smallest Cholesky diagonal {lo:.2e} against largest {hi:.2e}): some utility differences are almost perfectly correlated, and their covariance entries are poorly determined"
-                ),
-            });
-        }
-    }
-    out
 }

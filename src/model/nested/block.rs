@@ -47,82 +47,109 @@ impl Rows {
 /// The nest quantities of a block from its utility rows `blk.rows`.
 #[inline(always)]
 fn nests<const F: bool>(m: &Nested, lam: &[f64], blk: &Block, r: &mut Rows, nb: usize) {
-    let v = &blk.rows;
+    let v = &blk.rows[..];
     let mut top = [f64::NEG_INFINITY; BLOCK];
     for (g, alts) in m.members.iter().enumerate() {
         if let [a] = alts[..] {
-            // An alternative alone (scale 1): its nest quantities are its own.
-            for b in 0..nb {
-                let on = v[a][b] > f64::NEG_INFINITY;
-                r.max[g][b] = v[a][b];
-                r.cond[a][b] = if on { 1.0 } else { 0.0 };
-                r.vbar[g][b] = if on { v[a][b] } else { 0.0 };
-                r.lns[g][b] = 0.0;
-                r.a[g][b] = v[a][b];
-                top[b] = if v[a][b] > top[b] { v[a][b] } else { top[b] };
-            }
-            continue;
-        }
-        let inv = 1.0 / lam[g];
-        let mx = &mut r.max[g];
-        mx[..nb].iter_mut().for_each(|x| *x = f64::NEG_INFINITY);
-        for &a in alts {
-            for (x, v) in mx[..nb].iter_mut().zip(&v[a][..nb]) {
-                *x = if *v > *x { *v } else { *x };
-            }
-        }
-        let mut sum = [0.0; BLOCK];
-        for &a in alts {
-            let c = &mut r.cond[a];
-            for ((e, v), mxb) in c[..nb].iter_mut().zip(&v[a][..nb]).zip(&mx[..nb]) {
-                // An empty group (max -inf) gives 0, not NaN.
-                let d = if *v > f64::NEG_INFINITY {
-                    (v - mxb) * inv
-                } else {
-                    f64::NEG_INFINITY
-                };
-                *e = exp_nonpositive::<F>(d);
-            }
-            for (s, e) in sum[..nb].iter_mut().zip(&c[..nb]) {
-                *s += e;
-            }
-        }
-        let vbar = &mut r.vbar[g];
-        vbar[..nb].iter_mut().for_each(|x| *x = 0.0);
-        let mut inv_sum = [0.0; BLOCK];
-        for (i, s) in inv_sum[..nb].iter_mut().zip(&sum[..nb]) {
-            *i = if *s > 0.0 { 1.0 / s } else { 0.0 };
-        }
-        for &a in alts {
-            let c = &mut r.cond[a];
-            for (((e, s), vb), v) in c[..nb]
-                .iter_mut()
-                .zip(&inv_sum[..nb])
-                .zip(vbar[..nb].iter_mut())
-                .zip(&v[a][..nb])
-            {
-                *e *= s;
-                *vb += if *e > 0.0 { *e * v } else { 0.0 };
-            }
-        }
-        for b in 0..nb {
-            let empty = sum[b] <= 0.0;
-            let lns = if empty { 0.0 } else { ln_positive::<F>(sum[b]) };
-            r.lns[g][b] = lns;
-            r.a[g][b] = if empty {
-                f64::NEG_INFINITY
-            } else {
-                madd::<F>(lam[g], lns, mx[b])
-            };
-            top[b] = if r.a[g][b] > top[b] {
-                r.a[g][b]
-            } else {
-                top[b]
-            };
+            alone(v, r, g, a, nb, &mut top);
+        } else {
+            nest::<F>(v, alts, lam[g], r, g, nb, &mut top);
         }
     }
-    // Nest shares: Q_g = exp(a_g - top) / sum_m exp(a_m - top), one exp per nest.
-    let groups = m.members.len();
+    shares::<F>(r, m.members.len(), &top, nb);
+}
+
+/// Group `g`, alternative `a` alone (scale 1): its nest quantities are its own.
+#[inline(always)]
+fn alone(v: &[[f64; BLOCK]], r: &mut Rows, g: usize, a: usize, nb: usize, top: &mut [f64; BLOCK]) {
+    for b in 0..nb {
+        let on = v[a][b] > f64::NEG_INFINITY;
+        r.max[g][b] = v[a][b];
+        r.cond[a][b] = if on { 1.0 } else { 0.0 };
+        r.vbar[g][b] = if on { v[a][b] } else { 0.0 };
+        r.lns[g][b] = 0.0;
+        r.a[g][b] = v[a][b];
+        top[b] = if v[a][b] > top[b] { v[a][b] } else { top[b] };
+    }
+}
+
+/// Group `g` of alternatives `alts` with scale `lam`: the conditional shares
+/// within it, its mean utility, the log of its sum and its inclusive value
+/// `a`; `top` keeps the largest inclusive value.
+#[inline(always)]
+fn nest<const F: bool>(
+    v: &[[f64; BLOCK]],
+    alts: &[usize],
+    lam: f64,
+    r: &mut Rows,
+    g: usize,
+    nb: usize,
+    top: &mut [f64; BLOCK],
+) {
+    let inv = 1.0 / lam;
+    let mx = &mut r.max[g];
+    mx[..nb].iter_mut().for_each(|x| *x = f64::NEG_INFINITY);
+    for &a in alts {
+        for (x, v) in mx[..nb].iter_mut().zip(&v[a][..nb]) {
+            *x = if *v > *x { *v } else { *x };
+        }
+    }
+    let mut sum = [0.0; BLOCK];
+    for &a in alts {
+        let c = &mut r.cond[a];
+        for ((e, v), mxb) in c[..nb].iter_mut().zip(&v[a][..nb]).zip(&mx[..nb]) {
+            // An empty group (max -inf) gives 0, not NaN.
+            let d = if *v > f64::NEG_INFINITY {
+                (v - mxb) * inv
+            } else {
+                f64::NEG_INFINITY
+            };
+            *e = exp_nonpositive::<F>(d);
+        }
+        for (s, e) in sum[..nb].iter_mut().zip(&c[..nb]) {
+            *s += e;
+        }
+    }
+    let vbar = &mut r.vbar[g];
+    vbar[..nb].iter_mut().for_each(|x| *x = 0.0);
+    let mut inv_sum = [0.0; BLOCK];
+    for (i, s) in inv_sum[..nb].iter_mut().zip(&sum[..nb]) {
+        *i = if *s > 0.0 { 1.0 / s } else { 0.0 };
+    }
+    for &a in alts {
+        let c = &mut r.cond[a];
+        for (((e, s), vb), v) in c[..nb]
+            .iter_mut()
+            .zip(&inv_sum[..nb])
+            .zip(vbar[..nb].iter_mut())
+            .zip(&v[a][..nb])
+        {
+            *e *= s;
+            *vb += if *e > 0.0 { *e * v } else { 0.0 };
+        }
+    }
+    let mx = &r.max[g];
+    for b in 0..nb {
+        let empty = sum[b] <= 0.0;
+        let lns = if empty { 0.0 } else { ln_positive::<F>(sum[b]) };
+        r.lns[g][b] = lns;
+        r.a[g][b] = if empty {
+            f64::NEG_INFINITY
+        } else {
+            madd::<F>(lam, lns, mx[b])
+        };
+        top[b] = if r.a[g][b] > top[b] {
+            r.a[g][b]
+        } else {
+            top[b]
+        };
+    }
+}
+
+/// Nest shares: Q_g = exp(a_g - top) / sum_m exp(a_m - top), one exp per nest,
+/// and the log of the denominator.
+#[inline(always)]
+fn shares<const F: bool>(r: &mut Rows, groups: usize, top: &[f64; BLOCK], nb: usize) {
     let mut d = [0.0; BLOCK];
     for (ag, qg) in r.a.iter().zip(r.q.iter_mut()).take(groups) {
         for (((db, q), a), t) in d[..nb]

@@ -16,12 +16,15 @@ use super::worker::Job;
 pub use super::worker::{Model, Pending};
 use crate::analysis::Analysis;
 use crate::estimate::Step;
+use crate::report::walk::Walk;
 
-/// One opened model and its analysis (which several views read).
+/// One opened model, its analysis and the analysis walked once for display
+/// (which several views read).
 #[derive(Clone, Debug)]
 pub struct Loaded {
     pub model: Model,
     pub analysis: Pending<Analysis>,
+    pub walk: Option<Box<Walk>>,
 }
 
 /// While a spec is loaded and fitted.
@@ -231,6 +234,11 @@ pub fn update(app: &mut App, msg: Msg) -> Vec<Job> {
         }
         Msg::Analysed { index, result } => {
             if let Some(l) = app.models.get_mut(index) {
+                let m = &l.model;
+                l.walk = result
+                    .as_ref()
+                    .ok()
+                    .map(|a| Box::new(Walk::new(&m.spec, &m.fit, a)));
                 l.analysis = match result {
                     Ok(a) => Pending::Ready(a),
                     Err(e) => Pending::Failed(e),
@@ -258,6 +266,7 @@ fn opened(app: &mut App, index: usize, model: Model) -> Vec<Job> {
     }
     app.models.push(Loaded {
         analysis: Pending::Waiting,
+        walk: None,
         model: model.clone(),
     });
     if app.models.len() == app.paths.len() {

@@ -6,6 +6,7 @@
 
 pub mod app;
 mod cutaxis;
+pub mod grid;
 pub mod help;
 pub mod keys;
 pub mod part;

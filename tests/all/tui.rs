@@ -256,7 +256,7 @@ fn elasticities_and_diversion_show_the_analysis_figures() {
         &s,
         &[
             "elasticities of cost (1/6)",
-            "changed ↓  share of →",
+            "cost of ↓ / share of →",
             &format!("{:+.3}", own("cost", "rail").value),
         ],
     );
@@ -292,7 +292,7 @@ fn elasticities_and_diversion_show_the_analysis_figures() {
     has(
         &s,
         &[
-            "withdrawn ↓  to →",
+            "withdrawn ↓ / moves to →",
             &format!("{:.3}", d.share),
             &format!("{:.3}", p.ratio),
             "cost diversion ratios",
@@ -881,6 +881,21 @@ fn a_mixed_model_shows_each_random_coefficient_and_simulated_what_ifs() {
     assert!(time_line.contains('┃'), "{time_line}");
     let cost_line = s.lines().find(|l| l.contains("below 0: 100.0%")).unwrap();
     assert!(!cost_line.contains('┃'), "{cost_line}");
+    // The negative-lognormal cost's location is labelled as the mean of its
+    // logarithm, with the coefficient's median (-exp(location), a fact of the
+    // distribution) beside it.
+    let k = m.fit.names.iter().position(|n| n == "cost").unwrap();
+    let median = -m.fit.beta[k].exp();
+    has(
+        &s,
+        &[
+            "cost (mean of log)",
+            &format!(
+                "median across decision makers {}",
+                sharecast::report::num(median, 0).trim()
+            ),
+        ],
+    );
     keys(&mut app, "5j");
     let jobs = press(&mut app, KeyCode::Char('L'));
     drain(&mut app, jobs);

@@ -8,7 +8,7 @@
 mod estimates;
 mod matrix;
 
-pub use estimates::{estimates, Estimate, Estimates, Term};
+pub use estimates::{estimates, Estimate, Estimates, Term, MEAN_OF_LOG};
 pub use matrix::{Axis, Cell, Holds, Matrix, Measure};
 
 use crate::analysis::random::{Figure, RandomRow};

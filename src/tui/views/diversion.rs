@@ -7,48 +7,14 @@ use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Widget};
 
+use crate::report::walk::{Holds, Matrix};
 use crate::tui::app::Pending;
+use crate::tui::grid::{self, Shade};
 use crate::tui::keys::Action;
 use crate::tui::part::{Ctx, Key, Reply, View};
-use crate::tui::theme::{Theme, GLYPHS, SHARE_CUTS};
-use crate::tui::widgets::{left, panel, right};
+use crate::tui::theme::{Theme, SHARE_CUTS};
+use crate::tui::widgets::panel;
 use crate::tui::worker::Model;
-
-/// Rows of (row label, [(column label, value)]) drawn as a shaded matrix.
-fn matrix(
-    rows: &[String],
-    cols: &[String],
-    value: &dyn Fn(&str, &str) -> Option<f64>,
-    width: usize,
-    corner: &str,
-    t: &Theme,
-) -> Vec<Line<'static>> {
-    let lw = (corner.chars().count() + 2).max(16);
-    let cw = (width.saturating_sub(lw) / cols.len().max(1)).clamp(8, 14);
-    let mut head = left(corner, lw);
-    for c in cols {
-        head.push_str(&right(c, cw));
-    }
-    let mut lines = vec![Line::from(Span::styled(head, t.header()))];
-    for r in rows {
-        let mut spans = vec![Span::styled(left(r, lw), t.bold())];
-        for c in cols {
-            spans.push(Span::raw(" "));
-            match value(r, c) {
-                Some(v) if r != c => {
-                    let g = Theme::glyph(v, &SHARE_CUTS);
-                    spans.push(Span::styled(
-                        right(&format!("{v:.3} {g}"), cw - 1),
-                        t.heat(v, &SHARE_CUTS),
-                    ));
-                }
-                _ => spans.push(Span::styled(right("—", cw - 1), t.dim())),
-            }
-        }
-        lines.push(Line::from(spans));
-    }
-    lines
-}
 
 /// The diversion view: nothing to choose, nothing to scroll.
 #[derive(Debug, Default)]
@@ -93,9 +59,9 @@ fn render(ctx: &Ctx, area: Rect, buf: &mut Buffer) {
         return;
     };
     let t = ctx.theme;
-    let a = match &l.analysis {
-        Pending::Ready(a) => a,
-        other => {
+    let walk = match (&l.analysis, &l.walk) {
+        (_, Some(w)) => w,
+        (other, None) => {
             let msg = match other {
                 Pending::Failed(e) => e.clone(),
                 _ => "computing the diversion ratios…".into(),
@@ -106,85 +72,47 @@ fn render(ctx: &Ctx, area: Rect, buf: &mut Buffer) {
             return;
         }
     };
-    let alts = l.model.spec.alternative_names();
-    let mut removed: Vec<String> = Vec::new();
-    for r in &a.diversion {
-        if !removed.contains(&r.removed) {
-            removed.push(r.removed.clone());
-        }
-    }
-    let mut changed: Vec<String> = Vec::new();
-    for r in &a.price_diversion {
-        if !changed.contains(&r.changed) {
-            changed.push(r.changed.clone());
-        }
-    }
-    let top_h = removed.len() as u16 + 4;
+    let rows = walk.withdrawal.as_ref().map_or(0, |m| m.rows.labels.len());
     let [top, bottom] =
-        Layout::vertical([Constraint::Length(top_h), Constraint::Min(3)]).areas(area);
-
+        Layout::vertical([Constraint::Length(rows as u16 + 4), Constraint::Min(3)]).areas(area);
     let block = panel(
         "diversion on withdrawal · share of the withdrawn alternative's demand",
         t,
     );
     let inner = block.inner(top);
     block.render(top, buf);
-    let get = |r: &str, c: &str| {
-        a.diversion
-            .iter()
-            .find(|d| d.removed == r && d.to == c)
-            .map(|d| d.share)
+    let mut lines = match &walk.withdrawal {
+        Some(m) => grid::lines(m, Shade::Share(&SHARE_CUTS), inner.width as usize, t),
+        None => vec![Line::from(Span::styled("no withdrawal figures", t.dim()))],
     };
-    let mut lines = matrix(
-        &removed,
-        &alts,
-        &get,
-        inner.width as usize,
-        "withdrawn ↓  to →",
-        t,
-    );
-    let mut legend = vec![Span::styled("share ", t.dim())];
-    for (g, c) in GLYPHS.iter().skip(1).zip(SHARE_CUTS) {
-        legend.push(Span::styled(format!(" {g}"), t.heat(c, &SHARE_CUTS)));
-        legend.push(Span::styled(format!("≥{c} "), t.dim()));
-    }
-    lines.push(Line::from(legend));
+    lines.push(Line::from(grid::legend("share", &SHARE_CUTS, false, t)));
     Paragraph::new(lines).render(inner, buf);
+    price_panel(walk.price_diversion.as_ref(), t, bottom, buf);
+}
 
-    let attr = a
-        .price_diversion
-        .first()
-        .map(|r| r.attribute.clone())
-        .unwrap_or_default();
-    let title = if attr.is_empty() {
-        "price diversion ratios".to_string()
-    } else {
-        format!("{attr} diversion ratios · −(dQ to / d{attr}) ÷ (dQ own / d{attr})")
-    };
-    let block = panel(title, t);
-    let inner = block.inner(bottom);
-    block.render(bottom, buf);
-    if changed.is_empty() {
+/// Diversion ratios for a change in the price attribute, or why there are none.
+fn price_panel(m: Option<&Matrix>, t: &Theme, area: Rect, buf: &mut Buffer) {
+    let Some(m) = m else {
+        let block = panel("price diversion ratios", t);
+        let inner = block.inner(area);
+        block.render(area, buf);
         Paragraph::new(Span::styled(
             "no shared attribute to read as a price: the spec has none",
             t.dim(),
         ))
         .render(inner, buf);
         return;
-    }
-    let get = |r: &str, c: &str| {
-        a.price_diversion
-            .iter()
-            .find(|d| d.changed == r && d.to == c)
-            .map(|d| d.ratio)
     };
-    let lines = matrix(
-        &changed,
-        &alts,
-        &get,
-        inner.width as usize,
-        &format!("{attr} of ↓  to →"),
+    let attr = match &m.rows.holds {
+        Holds::Changed(a) => a.clone(),
+        _ => "price".into(),
+    };
+    let block = panel(
+        format!("{attr} diversion ratios · −(dQ to / d{attr}) ÷ (dQ own / d{attr})"),
         t,
     );
+    let inner = block.inner(area);
+    block.render(area, buf);
+    let lines = grid::lines(m, Shade::Share(&SHARE_CUTS), inner.width as usize, t);
     Paragraph::new(lines).render(inner, buf);
 }

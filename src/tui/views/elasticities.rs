@@ -7,12 +7,13 @@ use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Widget};
 
-use crate::report::num;
+use crate::report::walk::{Matrix, Measure, Role, Variable};
 use crate::tui::app::Pending;
+use crate::tui::grid::{self, Shade};
 use crate::tui::keys::Action;
 use crate::tui::part::{Ctx, Key, Reply, View};
-use crate::tui::theme::{Theme, ELASTICITY_CUTS, GLYPHS};
-use crate::tui::widgets::{left, panel, right};
+use crate::tui::theme::{Theme, ELASTICITY_CUTS};
+use crate::tui::widgets::panel;
 
 /// The elasticities view: which variable is shown, and arc rather than point values.
 #[derive(Debug, Default)]
@@ -63,80 +64,29 @@ impl View for Elasticities {
     }
 }
 
-/// The variables in spec order: attributes, then characteristics.
+/// The variables with figures, in spec order: attributes, then characteristics.
 pub fn variables(ctx: &Ctx) -> Vec<String> {
-    let Some(l) = ctx.loaded() else {
-        return Vec::new();
+    ctx.loaded()
+        .and_then(|l| l.walk.as_ref())
+        .map(|w| w.variables.iter().map(|v| v.name.clone()).collect())
+        .unwrap_or_default()
+}
+
+/// What the cells of a matrix of `var` are, in words.
+fn what(m: &Matrix, var: &str, role: Role) -> String {
+    let whose = match role {
+        Role::Attribute => String::new(),
+        Role::Characteristic => " of every decision maker".into(),
     };
-    let s = &l.model.spec;
-    s.attributes
-        .iter()
-        .map(|a| a.name.clone())
-        .chain(s.characteristics.iter().map(|c| c.name.clone()))
-        .collect()
-}
-
-/// One matrix: row labels, column labels, and values by (row, column).
-struct Grid {
-    rows: Vec<String>,
-    cols: Vec<String>,
-    cells: Vec<Vec<f64>>,
-}
-
-impl Grid {
-    fn new(cols: Vec<String>) -> Grid {
-        Grid {
-            rows: Vec::new(),
-            cols,
-            cells: Vec::new(),
-        }
+    match m.measure {
+        Measure::PointElasticity => format!("% change in share for 1% more {var}{whose}"),
+        Measure::ArcElasticity { change } => format!(
+            "% change in share for {:+.0}% {var}{whose}, simulated again",
+            change * 100.0
+        ),
+        Measure::FlagSwitch => format!("change in share when {var}{whose} switches from 0 to 1"),
+        _ => format!("change in share per unit more of {var}{whose}"),
     }
-
-    fn put(&mut self, row: &str, col: &str, v: f64) {
-        let r = match self.rows.iter().position(|x| x == row) {
-            Some(r) => r,
-            None => {
-                self.rows.push(row.to_string());
-                self.cells.push(vec![f64::NAN; self.cols.len()]);
-                self.rows.len() - 1
-            }
-        };
-        if let Some(c) = self.cols.iter().position(|x| x == col) {
-            self.cells[r][c] = v;
-        }
-    }
-}
-
-fn grid_lines(g: &Grid, corner: &str, width: usize, heat: bool, t: &Theme) -> Vec<Line<'static>> {
-    let lw = (corner.chars().count() + 2).max(16);
-    let cw = (width.saturating_sub(lw) / g.cols.len().max(1)).clamp(8, 14);
-    let mut head = left(corner, lw);
-    for c in &g.cols {
-        head.push_str(&right(c, cw));
-    }
-    let mut lines = vec![Line::from(Span::styled(head, t.header()))];
-    for (r, name) in g.rows.iter().enumerate() {
-        let mut spans = vec![Span::styled(left(name, lw), t.bold())];
-        for v in &g.cells[r] {
-            if heat {
-                let text = if v.is_finite() {
-                    format!("{v:+.3}")
-                } else {
-                    "—".into()
-                };
-                let glyph = Theme::glyph(*v, &ELASTICITY_CUTS);
-                spans.push(Span::raw(" "));
-                spans.push(Span::styled(
-                    right(&format!("{text} {glyph}"), cw - 1),
-                    t.heat(*v, &ELASTICITY_CUTS),
-                ));
-            } else {
-                spans.push(Span::raw(right(num(*v, 0).trim(), cw)));
-            }
-        }
-        lines.push(Line::from(spans));
-    }
-    lines
 }
 
 fn render(view: &Elasticities, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
@@ -144,104 +94,86 @@ fn render(view: &Elasticities, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
         return;
     };
     let t = ctx.theme;
-    let vars = variables(ctx);
-    let Some(var) = vars.get(view.variable.min(vars.len().saturating_sub(1))) else {
-        Paragraph::new("the spec has no variables").render(area, buf);
-        return;
-    };
-    let a = match &l.analysis {
-        Pending::Ready(a) => a,
-        Pending::Waiting => {
-            Paragraph::new("computing the elasticities…")
-                .block(panel("elasticities", t))
-                .render(area, buf);
-            return;
-        }
-        Pending::Failed(e) => {
+    let walk = match (&l.analysis, &l.walk) {
+        (_, Some(w)) => w,
+        (Pending::Failed(e), None) => {
             Paragraph::new(e.clone())
                 .block(panel("elasticities", t))
                 .render(area, buf);
             return;
         }
+        _ => {
+            Paragraph::new("computing the elasticities…")
+                .block(panel("elasticities", t))
+                .render(area, buf);
+            return;
+        }
     };
-    let alts = l.model.spec.alternative_names();
-    let is_attr = l.model.spec.attributes.iter().any(|x| &x.name == var);
-    let mut el = Grid::new(alts.clone());
-    for r in a.elasticities.iter().filter(|r| &r.variable == var) {
-        let row = r.changed.clone().unwrap_or_else(|| var.clone());
-        el.put(&row, &r.affected, if view.arc { r.arc } else { r.value });
-    }
-    // A 0/1 variable has no elasticity: its rows are the change in shares from 0 to 1.
-    let flag = a.flag_effects.iter().any(|r| &r.variable == var);
-    for r in a.flag_effects.iter().filter(|r| &r.variable == var) {
-        let row = r.changed.clone().unwrap_or_else(|| var.clone());
-        el.put(&row, &r.affected, r.change);
-    }
-    let mut me = Grid::new(alts);
-    for r in a.marginal_effects.iter().filter(|r| &r.variable == var) {
-        let row = r.changed.clone().unwrap_or_else(|| var.clone());
-        me.put(&row, &r.alternative, r.value);
-    }
-    let el_h = el.rows.len() as u16 + 5;
+    let n = walk.variables.len();
+    let Some(v) = walk.variables.get(view.variable.min(n.saturating_sub(1))) else {
+        Paragraph::new("the spec has no variables").render(area, buf);
+        return;
+    };
+    let shown = match (&v.arc, view.arc) {
+        (Some(arc), true) => arc,
+        _ => &v.figures,
+    };
+    let el_h = shown.rows.labels.len() as u16 + 5;
     let [top, bottom] =
         Layout::vertical([Constraint::Length(el_h), Constraint::Min(3)]).areas(area);
-
-    let pos = vars.iter().position(|v| v == var).unwrap_or(0) + 1;
-    let kind = if flag {
-        "0/1 flag".to_string()
-    } else if view.arc {
-        format!("arc (+{:.0}%)", a.arc_change * 100.0)
-    } else {
-        "point".into()
+    let pos = view.variable.min(n.saturating_sub(1)) + 1;
+    let kind = match shown.measure {
+        Measure::FlagSwitch => "0/1 flag".to_string(),
+        Measure::ArcElasticity { change } => format!("arc (+{:.0}%)", change * 100.0),
+        _ => "point".into(),
     };
     let title = format!(
-        "elasticities of {var} ({pos}/{}) · {kind} · ←→ variable  a point/arc",
-        vars.len()
+        "elasticities of {} ({pos}/{n}) · {kind} · ←→ variable  a point/arc",
+        v.name
     );
     let block = panel(title, t);
     let inner = block.inner(top);
     block.render(top, buf);
-    let what = if flag && is_attr {
-        format!("{var} switched from 0 to 1: change in share")
-    } else if flag {
-        format!("{var} switched from 0 to 1 for every decision maker: change in each share")
-    } else if is_attr {
-        format!("% change in share for 1% more {var}")
-    } else {
-        format!("% change in share for 1% more {var} of every decision maker")
-    };
-    let mut lines = vec![Line::from(Span::styled(what, t.dim()))];
-    let corner = if is_attr {
-        "changed ↓  share of →"
-    } else {
-        "variable ↓  share of →"
-    };
-    lines.extend(grid_lines(&el, corner, inner.width as usize, true, t));
-    let mut legend = vec![Span::styled("|e| ", t.dim())];
-    for (g, c) in GLYPHS.iter().skip(1).zip(ELASTICITY_CUTS) {
-        legend.push(Span::styled(format!(" {g}"), t.heat(-c, &ELASTICITY_CUTS)));
-        legend.push(Span::styled(format!("≥{c} "), t.dim()));
-    }
+    let mut lines = vec![Line::from(Span::styled(
+        what(shown, &v.name, v.role),
+        t.dim(),
+    ))];
+    let width = inner.width as usize;
+    lines.extend(grid::lines(
+        shown,
+        Shade::Signed(&ELASTICITY_CUTS),
+        width,
+        t,
+    ));
+    let mut legend = grid::legend("|e|", &ELASTICITY_CUTS, true, t);
     legend.push(Span::styled(
         " · warm: share falls · cool: share rises",
         t.dim(),
     ));
     lines.push(Line::from(legend));
     Paragraph::new(lines).render(inner, buf);
+    marginal_panel(v, t, bottom, buf);
+}
 
+/// The average marginal effects of the variable, or why a 0/1 flag has none.
+fn marginal_panel(v: &Variable, t: &Theme, area: Rect, buf: &mut Buffer) {
+    let var = &v.name;
     let block = panel(
         format!("average marginal effects · change in share per unit more of {var}"),
         t,
     );
-    let inner = block.inner(bottom);
-    block.render(bottom, buf);
-    let lines = if flag {
-        vec![Line::from(Span::styled(
+    let inner = block.inner(area);
+    block.render(area, buf);
+    let lines = match (&v.marginal, v.flag) {
+        (_, true) => vec![Line::from(Span::styled(
             format!("{var} is a 0/1 flag: its effect is the switch from 0 to 1 above, not a marginal effect"),
             t.dim(),
-        ))]
-    } else {
-        grid_lines(&me, corner, inner.width as usize, false, t)
+        ))],
+        (Some(m), false) => grid::lines(m, Shade::Plain, inner.width as usize, t),
+        (None, false) => vec![Line::from(Span::styled(
+            "no marginal effects for this variable",
+            t.dim(),
+        ))],
     };
     Paragraph::new(lines).render(inner, buf);
 }

@@ -7,7 +7,9 @@ use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Widget};
 
+use crate::analysis::random::{log_median, Figure};
 use crate::estimate::{Fit, ParameterRow};
+use crate::report::walk::MEAN_OF_LOG;
 use crate::report::{num, pval};
 use crate::tui::app::Loaded;
 use crate::tui::keys::Action;
@@ -67,6 +69,9 @@ pub struct Shown {
     pub fixed: bool,
     /// The value t and p test against (1 for a nest scale).
     pub null: f64,
+    /// Where the value is the mean of the logarithm of a (negative-)lognormal
+    /// coefficient: the coefficient's median across decision makers ± s.e.
+    pub median: Option<Figure>,
 }
 
 /// Whether the fit's own t, p and intervals use robust errors.
@@ -94,16 +99,27 @@ pub fn shown(r: &ParameterRow, robust: bool, fit_is_robust: bool) -> Shown {
         high,
         fixed: r.fixed,
         null: r.null,
+        median: None,
     }
 }
 
 /// The rows in display order: (group heading, row) where a heading starts a group.
 pub fn ordered(fit: &Fit, st: &State) -> Vec<(Option<String>, Shown)> {
     let robust = st.robust.unwrap_or_else(|| fit_robust(fit));
+    let logs = fit.family.random_coefficients();
     let rows: Vec<Shown> = fit
         .parameters
         .iter()
-        .map(|r| shown(r, robust, fit_robust(fit)))
+        .enumerate()
+        .map(|(k, r)| {
+            let mut s = shown(r, robust, fit_robust(fit));
+            let log = logs.iter().find(|t| t.location == k);
+            s.median = log.and_then(|t| log_median(t, s.estimate, s.std_error));
+            if s.median.is_some() {
+                s.name = format!("{} ({MEAN_OF_LOG})", s.name);
+            }
+            s
+        })
         .collect();
     let mut terms: Vec<String> = Vec::new();
     for r in &rows {
@@ -328,10 +344,10 @@ fn ratio_panel(
 /// and the line the cursor is on.
 fn table_lines(st: &State, l: &Loaded, w: usize, t: &Theme) -> (Vec<Line<'static>>, usize) {
     let fit = &l.model.fit;
-    let longest = fit
-        .parameters
+    let rows = ordered(fit, st);
+    let longest = rows
         .iter()
-        .map(|r| r.name.chars().count())
+        .map(|(_, r)| r.name.chars().count())
         .max()
         .unwrap_or(0);
     let (nw, ew, tw, pw, iw) = ((longest + 3).clamp(15, 26), 19, 7, 8, 16);
@@ -357,7 +373,6 @@ fn table_lines(st: &State, l: &Loaded, w: usize, t: &Theme) -> (Vec<Line<'static
         ),
         t.header(),
     ))];
-    let rows = ordered(fit, st);
     let mut cursor_line = 0;
     for (i, (head, r)) in rows.iter().enumerate() {
         if let Some(h) = head {
@@ -380,6 +395,15 @@ fn table_lines(st: &State, l: &Loaded, w: usize, t: &Theme) -> (Vec<Line<'static
             (nw, ew, tw, pw, iw, strip_w),
             t,
         ));
+        if let Some(m) = r.median {
+            lines.push(Line::from(Span::styled(
+                format!(
+                    "    ↳ median across decision makers {}",
+                    crate::report::plus_minus(m.value, m.std_error)
+                ),
+                t.dim(),
+            )));
+        }
     }
     lines.extend(extras(&rows, l, w, t));
     (lines, cursor_line)

@@ -18,12 +18,8 @@ fn capitalised(s: &str) -> String {
 }
 
 impl Section for Cautions {
-    fn id(&self) -> &'static str {
-        "cautions"
-    }
-
-    fn heading(&self) -> &'static str {
-        "Cautions"
+    fn names(&self) -> (&'static str, &'static str) {
+        ("cautions", "Cautions")
     }
 
     fn html(&self, input: &Input, _charts: &mut Vec<Chart>) -> String {

@@ -12,23 +12,17 @@ use crate::report::html::Chart;
 pub struct ErrorCovariance;
 
 impl Section for ErrorCovariance {
-    fn id(&self) -> &'static str {
-        "error-covariance"
-    }
-
-    fn heading(&self) -> &'static str {
-        "Shared unobserved traits"
+    fn names(&self) -> (&'static str, &'static str) {
+        ("error-covariance", "Shared unobserved traits")
     }
 
     fn applies(&self, input: &Input) -> Applies {
-        match &input.walk {
-            None => input.analysed(),
-            Some(w) if w.derived.is_empty() => Applies::No(format!(
+        input.analysed_unless(|w| {
+            w.derived.is_empty().then(|| format!(
                 "The {} model as specified estimates no covariance between the alternatives' unobserved parts; a multinomial probit with [errors].structure = \"full\" does.",
                 input.m.fit.family.name()
-            )),
-            Some(_) => Applies::Yes,
-        }
+            ))
+        })
     }
 
     fn html(&self, input: &Input, _charts: &mut Vec<Chart>) -> String {

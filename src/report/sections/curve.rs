@@ -9,12 +9,8 @@ use crate::report::html::Chart;
 pub struct DemandCurve;
 
 impl Section for DemandCurve {
-    fn id(&self) -> &'static str {
-        "demand-curve"
-    }
-
-    fn heading(&self) -> &'static str {
-        "Demand curve"
+    fn names(&self) -> (&'static str, &'static str) {
+        ("demand-curve", "Demand curve")
     }
 
     fn applies(&self, input: &Input) -> Applies {

@@ -109,12 +109,8 @@ fn test_text(s: &mut String, t: &Test) {
 }
 
 impl Section for Diagnostics {
-    fn id(&self) -> &'static str {
-        "diagnostics"
-    }
-
-    fn heading(&self) -> &'static str {
-        "Diagnostics"
+    fn names(&self) -> (&'static str, &'static str) {
+        ("diagnostics", "Diagnostics")
     }
 
     fn html(&self, input: &Input, _charts: &mut Vec<Chart>) -> String {

@@ -25,22 +25,18 @@ fn price_title(m: &Matrix) -> String {
 }
 
 impl Section for Diversion {
-    fn id(&self) -> &'static str {
-        "diversion"
-    }
-
-    fn heading(&self) -> &'static str {
-        "Diversion"
+    fn names(&self) -> (&'static str, &'static str) {
+        ("diversion", "Diversion")
     }
 
     fn applies(&self, input: &Input) -> Applies {
-        if input.walk.is_some() && input.m.fit.family.abilities().ordered {
-            return Applies::No(format!(
+        let family = &input.m.fit.family;
+        input.analysed_unless(|_| {
+            family.abilities().ordered.then(|| format!(
                 "Does not apply to the {} family: its categories are ordered ratings on one scale, neither withdrawn nor added, so no demand moves between them.",
-                input.m.fit.family.name()
-            ));
-        }
-        input.analysed()
+                family.name()
+            ))
+        })
     }
 
     fn html(&self, input: &Input, _charts: &mut Vec<Chart>) -> String {

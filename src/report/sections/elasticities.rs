@@ -43,12 +43,8 @@ fn expected_title(w: &Walk) -> String {
 }
 
 impl Section for Elasticities {
-    fn id(&self) -> &'static str {
-        "elasticities"
-    }
-
-    fn heading(&self) -> &'static str {
-        "Elasticities"
+    fn names(&self) -> (&'static str, &'static str) {
+        ("elasticities", "Elasticities")
     }
 
     fn applies(&self, input: &Input) -> Applies {

@@ -168,12 +168,8 @@ fn text_row(s: &mut String, e: &Estimates, r: &Estimate) {
 }
 
 impl Section for EstimatesSection {
-    fn id(&self) -> &'static str {
-        "estimates"
-    }
-
-    fn heading(&self) -> &'static str {
-        "Estimates"
+    fn names(&self) -> (&'static str, &'static str) {
+        ("estimates", "Estimates")
     }
 
     fn html(&self, input: &Input, charts: &mut Vec<Chart>) -> String {

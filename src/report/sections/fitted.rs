@@ -24,12 +24,8 @@ fn labelled(line: &str) -> (&str, &str) {
 }
 
 impl Section for Fitted {
-    fn id(&self) -> &'static str {
-        "fitted"
-    }
-
-    fn heading(&self) -> &'static str {
-        "What was fitted"
+    fn names(&self) -> (&'static str, &'static str) {
+        ("fitted", "What was fitted")
     }
 
     fn html(&self, input: &Input, _charts: &mut Vec<Chart>) -> String {

@@ -74,19 +74,32 @@ impl<'a> Input<'a> {
 
     /// `Yes` when the analysis was computed; said in a section's place otherwise.
     pub fn analysed(&self) -> Applies {
-        match self.walk {
-            Some(_) => Applies::Yes,
+        self.analysed_unless(|_| None)
+    }
+
+    /// `Yes` when the analysis was computed and `why_not` finds nothing
+    /// missing in it; otherwise why not.
+    pub fn analysed_unless(&self, why_not: impl FnOnce(&Walk) -> Option<String>) -> Applies {
+        match &self.walk {
             None => Applies::No("The analysis was skipped, so this section is empty.".into()),
+            Some(w) => why_not(w).map_or(Applies::Yes, Applies::No),
         }
     }
 }
 
 /// One section of the reports.
 pub trait Section: Sync {
+    /// The page anchor and the heading on the page and in its contents
+    /// list: `("elasticities", "Elasticities")`.
+    fn names(&self) -> (&'static str, &'static str);
     /// The page anchor (`#elasticities`).
-    fn id(&self) -> &'static str;
-    /// The heading on the page and in its contents list.
-    fn heading(&self) -> &'static str;
+    fn id(&self) -> &'static str {
+        self.names().0
+    }
+    /// The heading.
+    fn heading(&self) -> &'static str {
+        self.names().1
+    }
     /// Whether the section applies, decided from `fit.family.abilities()`,
     /// the family's answers and the material, never from a family's name.
     fn applies(&self, input: &Input) -> Applies {
@@ -115,7 +128,7 @@ pub const SECTIONS: Contents = Contents;
 type Pair = (&'static str, &'static str);
 
 fn pair(s: &&dyn Section) -> Pair {
-    (s.id(), s.heading())
+    s.names()
 }
 
 impl IntoIterator for Contents {

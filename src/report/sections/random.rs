@@ -24,12 +24,8 @@ fn cell(v: f64, se: f64) -> String {
 }
 
 impl Section for Tastes {
-    fn id(&self) -> &'static str {
-        "random-coefficients"
-    }
-
-    fn heading(&self) -> &'static str {
-        "Tastes across decision makers"
+    fn names(&self) -> (&'static str, &'static str) {
+        ("random-coefficients", "Tastes across decision makers")
     }
 
     fn applies(&self, input: &Input) -> Applies {

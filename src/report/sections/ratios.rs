@@ -78,23 +78,16 @@ fn text_ratio(s: &mut String, r: &Ratio) {
 }
 
 impl Section for ValueRatios {
-    fn id(&self) -> &'static str {
-        "value-ratios"
-    }
-
-    fn heading(&self) -> &'static str {
-        "Value ratios"
+    fn names(&self) -> (&'static str, &'static str) {
+        ("value-ratios", "Value ratios")
     }
 
     fn applies(&self, input: &Input) -> Applies {
-        match &input.walk {
-            None => input.analysed(),
-            Some(w) if w.ratios.is_empty() => Applies::No(
-                "The spec declares no [[ratio]], so there is no value ratio (willingness to pay) to show."
-                    .into(),
-            ),
-            Some(_) => Applies::Yes,
-        }
+        input.analysed_unless(|w| {
+            w.ratios.is_empty().then(|| {
+                "The spec declares no [[ratio]], so there is no value ratio (willingness to pay) to show.".to_string()
+            })
+        })
     }
 
     fn html(&self, input: &Input, _charts: &mut Vec<Chart>) -> String {

@@ -12,12 +12,8 @@ use crate::scenario::Forecast;
 pub struct Scenarios;
 
 impl Section for Scenarios {
-    fn id(&self) -> &'static str {
-        "scenarios"
-    }
-
-    fn heading(&self) -> &'static str {
-        "Scenarios"
+    fn names(&self) -> (&'static str, &'static str) {
+        ("scenarios", "Scenarios")
     }
 
     fn applies(&self, input: &Input) -> Applies {
@@ -45,17 +41,10 @@ fn one(k: usize, file: &str, f: &Forecast, charts: &mut Vec<Chart>) -> String {
         "<article class=\"scenario\" id=\"{id}\">\n<h3>{}</h3>\n",
         esc(&f.scenario)
     );
-    let bands = if f.draws > 0 {
-        format!(
-            "95% bands from {} parameter draws (seed {})",
-            f.draws, f.seed
-        )
-    } else {
-        "no uncertainty bands (0 draws)".to_string()
-    };
     s.push_str(&note(&format!(
-        "from {file} · {} situations by sample enumeration · {bands}",
-        f.situations
+        "from {file} · {} situations by sample enumeration · {}",
+        f.situations,
+        crate::report::forecast::bands(f)
     )));
     let pairs: Vec<Pair> = f
         .shares

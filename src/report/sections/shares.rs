@@ -27,6 +27,14 @@ fn share_table(class: &str, first: &str, shares: &[crate::estimate::ShareRow]) -
     table(class, &[first, "observed", "predicted"], &rows)
 }
 
+/// What the hold-out check scored and its log-likelihood.
+fn holdout(h: &crate::analysis::validation::HoldoutReport) -> String {
+    format!(
+        "{} situations scored by a fit on the other {}; log-likelihood {:.4} (zero model {:.4})",
+        h.situations, h.estimation_situations, h.log_likelihood, h.null_log_likelihood
+    )
+}
+
 /// Hit rate and the hold-out check.
 fn validation(w: &Walk) -> String {
     let v = &w.validation;
@@ -35,11 +43,7 @@ fn validation(w: &Walk) -> String {
         v.hit_rate, v.mean_chosen_probability
     );
     if let Some(h) = &v.holdout {
-        let _ = writeln!(
-            s,
-            "<p>Hold-out: {} situations scored by a fit on the other {}; log-likelihood {:.4} (zero model {:.4}).</p>",
-            h.situations, h.estimation_situations, h.log_likelihood, h.null_log_likelihood
-        );
+        let _ = writeln!(s, "<p>Hold-out: {}.</p>", holdout(h));
         s.push_str(&share_table("holdout", "alternative (hold-out)", &h.shares));
     }
     s
@@ -54,11 +58,7 @@ fn validation_text(s: &mut String, w: &Walk) {
         v.hit_rate, v.mean_chosen_probability
     );
     if let Some(h) = &v.holdout {
-        let _ = writeln!(
-            s,
-            "  hold-out: {} situations scored by a fit on the other {}; log-likelihood {:.4} (zero model {:.4})",
-            h.situations, h.estimation_situations, h.log_likelihood, h.null_log_likelihood
-        );
+        let _ = writeln!(s, "  hold-out: {}", holdout(h));
         for r in &h.shares {
             let _ = writeln!(
                 s,
@@ -83,12 +83,8 @@ fn validation_text(s: &mut String, w: &Walk) {
 }
 
 impl Section for Shares {
-    fn id(&self) -> &'static str {
-        "shares"
-    }
-
-    fn heading(&self) -> &'static str {
-        "Observed and predicted shares"
+    fn names(&self) -> (&'static str, &'static str) {
+        ("shares", "Observed and predicted shares")
     }
 
     fn html(&self, input: &Input, charts: &mut Vec<Chart>) -> String {

@@ -12,12 +12,8 @@ const ZERO_MODEL: &str =
     "zero model: every coefficient 0, so each situation's available alternatives are equally likely";
 
 impl Section for Statistics {
-    fn id(&self) -> &'static str {
-        "fit-statistics"
-    }
-
-    fn heading(&self) -> &'static str {
-        "How well it fits"
+    fn names(&self) -> (&'static str, &'static str) {
+        ("fit-statistics", "How well it fits")
     }
 
     fn html(&self, input: &Input, _charts: &mut Vec<Chart>) -> String {

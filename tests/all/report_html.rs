@@ -657,3 +657,86 @@ fn a_page_is_built_for_every_registered_family() {
     }
     let _ = path("specs");
 }
+
+#[test]
+fn the_walk_puts_every_figure_of_the_analysis_in_its_cell() {
+    use sharecast::analysis::random::Figure;
+    use sharecast::report::walk::{Cell, Matrix, Walk};
+    // grocery: a price, two 0/1 attributes (promo, eye_level) and two characteristics.
+    let (spec, ds) = crate::common::load("specs/grocery.toml");
+    let fit = crate::common::fit_spec(&spec, &ds);
+    let options = sharecast::analysis::Options {
+        draws: 100,
+        ..Default::default()
+    };
+    let a = sharecast::analysis::analyse(&spec, &fit, &ds, &options).unwrap();
+    let w = Walk::new(&spec, &fit, &a);
+    let at = |m: &Matrix, r: &str, c: &str| {
+        let ri = m.rows.labels.iter().position(|x| x == r).expect("row");
+        let ci = m
+            .columns
+            .labels
+            .iter()
+            .position(|x| x == c)
+            .expect("column");
+        m.cell(ri, ci)
+    };
+    let values = |m: &Matrix| {
+        m.cells
+            .iter()
+            .filter(|c| matches!(c, Cell::Value(_)))
+            .count()
+    };
+    let var = |name: &str| w.variables.iter().find(|v| v.name == name).unwrap();
+    for e in &a.elasticities {
+        let v = var(&e.variable);
+        let row = e.changed.clone().unwrap_or_else(|| e.variable.clone());
+        let want = Figure {
+            value: e.value,
+            std_error: e.std_error,
+        };
+        assert_eq!(at(&v.figures, &row, &e.affected), Cell::Value(want));
+        assert_eq!(
+            at(v.arc.as_ref().unwrap(), &row, &e.affected).value(),
+            Some(e.arc)
+        );
+    }
+    for f in &a.flag_effects {
+        let v = var(&f.variable);
+        assert!(v.flag && v.arc.is_none());
+        let row = f.changed.clone().unwrap_or_else(|| f.variable.clone());
+        assert_eq!(at(&v.figures, &row, &f.affected).value(), Some(f.change));
+    }
+    // Nothing more: every other cell is missing.
+    let elastic: usize = w
+        .variables
+        .iter()
+        .filter(|v| !v.flag)
+        .map(|v| values(&v.figures))
+        .sum();
+    let flags: usize = w
+        .variables
+        .iter()
+        .filter(|v| v.flag)
+        .map(|v| values(&v.figures))
+        .sum();
+    assert_eq!(
+        (elastic, flags),
+        (a.elasticities.len(), a.flag_effects.len())
+    );
+    assert!(!a.flag_effects.is_empty() && !a.diversion.is_empty());
+    let withdrawal = w.withdrawal.as_ref().unwrap();
+    for d in &a.diversion {
+        assert_eq!(at(withdrawal, &d.removed, &d.to).value(), Some(d.share));
+    }
+    assert_eq!(at(withdrawal, "own_label", "own_label"), Cell::Same);
+    assert_eq!(withdrawal.corner(), "withdrawn ↓ / moves to →");
+    assert_eq!(var("price").figures.corner(), "price of ↓ / share of →");
+    // The stacked tables the reports show: flags labelled by their alternative.
+    let stacked = w.flags().unwrap();
+    assert!(stacked
+        .rows
+        .labels
+        .contains(&"promo of own_label".to_string()));
+    assert_eq!(values(&stacked), a.flag_effects.len());
+}

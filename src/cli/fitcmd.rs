@@ -150,18 +150,14 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
     if let (true, Some(body)) = (args.json, &body) {
         crate::outln!("{body}");
     } else {
-        let colour = report::colour();
-        crate::out!("{}", report::text::fit_report(&spec, &fit, colour));
-        if let Some(a) = &analysis {
-            crate::outln!();
-            crate::out!("{}", report::analysis::sections(&spec, a));
-        }
-        if let Some(c) = &draws_check {
-            crate::outln!();
-            crate::out!("{}", report::text::draws_check(c));
-        }
-        crate::outln!();
-        crate::out!("{}", report::text::closing(&spec, &fit));
+        let text = report::text::report(
+            &spec,
+            &fit,
+            analysis.as_ref(),
+            draws_check.as_ref(),
+            report::colour(),
+        );
+        crate::out!("{text}");
     }
     if !fit.stats.converged && !args.allow_unconverged {
         crate::errln!("error: the fit did not converge (pass --allow-unconverged to accept it)");

@@ -8,7 +8,6 @@ use crate::spec::Spec;
 
 pub fn summary(spec: &Spec, obs: &Observations) -> String {
     let mut s = String::new();
-    let j = obs.alternatives;
     let title = spec.title.as_deref().unwrap_or("(untitled model)");
     let _ = writeln!(s, "spec      {}  —  {title}", spec.path.display());
     let _ = writeln!(
@@ -50,6 +49,15 @@ pub fn summary(spec: &Spec, obs: &Observations) -> String {
         );
     }
     let _ = writeln!(s);
+    alternatives(&mut s, spec, obs);
+    let _ = writeln!(s);
+    parameters(&mut s, spec);
+    s
+}
+
+/// Each alternative's choices, shares (unweighted and weighted) and availability.
+fn alternatives(s: &mut String, spec: &Spec, obs: &Observations) {
+    let j = obs.alternatives;
     let weighted = spec.data.weight.is_some();
     let _ = writeln!(
         s,
@@ -91,7 +99,10 @@ pub fn summary(spec: &Spec, obs: &Observations) -> String {
             ", as in `fit`, which has no weights to apply here"
         }
     );
-    let _ = writeln!(s);
+}
+
+/// The parameters to estimate, with fixed values and starts.
+fn parameters(s: &mut String, spec: &Spec) {
     let _ = writeln!(
         s,
         "parameters to estimate ({}):",
@@ -105,5 +116,4 @@ pub fn summary(spec: &Spec, obs: &Observations) -> String {
         };
         let _ = writeln!(s, "  {:<24} {}{note}", p.name, spec.term_label(&p.term));
     }
-    s
 }

@@ -21,6 +21,14 @@ pub fn text(labels: &[String], fits: &[&Fit], c: &Comparison) -> String {
             super::errors_label(f)
         );
     }
+    estimates(&mut s, fits, c);
+    statistics(&mut s, fits, c);
+    ranking(&mut s, c);
+    s
+}
+
+/// Each parameter as a block, one line per model that has it.
+fn estimates(s: &mut String, fits: &[&Fit], c: &Comparison) {
     let _ = writeln!(
         s,
         "\nestimates: value ± standard error (each model's own errors, named above); a model without the parameter is left out"
@@ -53,6 +61,10 @@ pub fn text(labels: &[String], fits: &[&Fit], c: &Comparison) -> String {
             let _ = writeln!(s, "  {label:<nw$}  {id:<4}{cell}");
         }
     }
+}
+
+/// The fit statistics, one model per line.
+fn statistics(s: &mut String, fits: &[&Fit], c: &Comparison) {
     let _ = writeln!(s, "\nfit (zero model: every coefficient 0, so each situation's available alternatives are equally likely)");
     let _ = writeln!(
         s,
@@ -81,6 +93,10 @@ pub fn text(labels: &[String], fits: &[&Fit], c: &Comparison) -> String {
             if st.converged { "yes" } else { "NO" }
         );
     }
+}
+
+/// The AIC and BIC ranking (or why there is none) and the likelihood-ratio tests.
+fn ranking(s: &mut String, c: &Comparison) {
     let order = |r: &[usize]| {
         r.iter()
             .map(|&i| c.ids[i].clone())
@@ -117,5 +133,4 @@ pub fn text(labels: &[String], fits: &[&Fit], c: &Comparison) -> String {
             super::pval(n.test.p_value)
         );
     }
-    s
 }

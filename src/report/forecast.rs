@@ -17,40 +17,68 @@ fn band(low: f64, high: f64, signed: bool) -> String {
     }
 }
 
-pub fn text(f: &Forecast) -> String {
-    let mut s = String::new();
-    let _ = writeln!(s, "━━ sharecast forecast ━━ {}", f.scenario);
-    let bands = if f.draws > 0 {
+/// Where a forecast's bands come from (the text and HTML reports').
+pub(crate) fn bands(f: &Forecast) -> String {
+    if f.draws > 0 {
         format!(
             "95% bands from {} parameter draws (seed {})",
             f.draws, f.seed
         )
     } else {
         "no uncertainty bands (0 draws)".to_string()
-    };
+    }
+}
+
+pub fn text(f: &Forecast) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "━━ sharecast forecast ━━ {}", f.scenario);
     let _ = writeln!(
         s,
-        "{} situations by sample enumeration · {bands}",
-        f.situations
+        "{} situations by sample enumeration · {}",
+        f.situations,
+        bands(f)
     );
     if let Some(c) = &f.calibration {
-        let _ = writeln!(
-            s,
-            "\nconstants calibrated to target shares in {} iterations (largest gap {:.1e})",
-            c.iterations, c.max_error
-        );
-        let _ = writeln!(
-            s,
-            "  alternative      parameter         target   estimated  calibrated   share before"
-        );
-        for r in &c.rows {
-            let _ = writeln!(
-                s,
-                "  {:<16} {:<16} {:>7.4} {:>11.4} {:>11.4} {:>14.4}",
-                r.alternative, r.parameter, r.target, r.estimated, r.calibrated, r.share_before
-            );
+        calibration(&mut s, c);
+    }
+    shares(&mut s, f);
+    if !f.switching.is_empty() {
+        let _ = writeln!(s, "\nswitching: share of all demand that moves (losses paired with gains within each situation)");
+        for r in &f.switching {
+            if r.share >= 5e-5 {
+                let _ = writeln!(s, "  {:<16} → {:<16} {:>9.4}", r.from, r.to, r.share);
+            }
         }
     }
+    segments(&mut s, f);
+    for w in &f.warnings {
+        let _ = writeln!(s, "  ! {w}");
+    }
+    s
+}
+
+/// The calibrated constants.
+fn calibration(s: &mut String, c: &crate::scenario::calibrate::Calibrated) {
+    let _ = writeln!(
+        s,
+        "\nconstants calibrated to target shares in {} iterations (largest gap {:.1e})",
+        c.iterations, c.max_error
+    );
+    let _ = writeln!(
+        s,
+        "  alternative      parameter         target   estimated  calibrated   share before"
+    );
+    for r in &c.rows {
+        let _ = writeln!(
+            s,
+            "  {:<16} {:<16} {:>7.4} {:>11.4} {:>11.4} {:>14.4}",
+            r.alternative, r.parameter, r.target, r.estimated, r.calibrated, r.share_before
+        );
+    }
+}
+
+/// Base and scenario shares with their bands, volumes and revenue.
+fn shares(s: &mut String, f: &Forecast) {
     let volumes = f.market.is_some();
     let revenue = f.shares.iter().any(|r| r.base_revenue.is_some());
     let _ = writeln!(
@@ -83,14 +111,10 @@ pub fn text(f: &Forecast) -> String {
         }
         let _ = writeln!(s, "{}", line.trim_end());
     }
-    if !f.switching.is_empty() {
-        let _ = writeln!(s, "\nswitching: share of all demand that moves (losses paired with gains within each situation)");
-        for r in &f.switching {
-            if r.share >= 5e-5 {
-                let _ = writeln!(s, "  {:<16} → {:<16} {:>9.4}", r.from, r.to, r.share);
-            }
-        }
-    }
+}
+
+/// Shares by segment.
+fn segments(s: &mut String, f: &Forecast) {
     if !f.segments.is_empty() {
         let _ = writeln!(
             s,
@@ -111,10 +135,6 @@ pub fn text(f: &Forecast) -> String {
             );
         }
     }
-    for w in &f.warnings {
-        let _ = writeln!(s, "  ! {w}");
-    }
-    s
 }
 
 pub fn sweep(sw: &Sweep) -> String {

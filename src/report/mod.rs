@@ -1,13 +1,13 @@
 //! Report: turns fits, analyses and scenarios into text for the terminal and
 //! the JSON results document. Nothing here computes a statistic.
 
-pub mod analysis;
 pub mod check;
 pub mod compare;
 pub mod forecast;
 pub mod heat;
 pub mod html;
 pub mod json;
+pub mod sections;
 pub mod text;
 pub mod walk;
 

@@ -244,7 +244,7 @@ fn commute_report_figures_equal_the_json_results() {
         .iter()
         .find(|e| e["variable"] == "cost" && e["changed"] == "rail" && e["affected"] == "rail")
         .unwrap();
-    let cost_table = matrix_after(&page, "elasticities", "cost of the row's alternative");
+    let cost_table = matrix_after(&page, "elasticities", "cost: ");
     let names: Vec<String> = cost_table.select(&sel("thead th")).map(text_of).collect();
     let col = names.iter().position(|n| n == "rail").unwrap();
     assert_shown(
@@ -372,8 +372,15 @@ fn ordered_and_nested_reports_say_which_sections_do_not_apply() {
         "specs/commute_nested.toml",
         &["specs/scenarios/rail_fare_up.toml"],
     );
-    let facts = text_of(page.select(&sel("section#fitted")).next().unwrap());
-    assert!(facts.contains("nest transit: bus, rail"), "{facts}");
+    // Each structure line under its own label: the nest's name, then its members.
+    assert_eq!(
+        fact(&page, "nest transit")
+            .as_deref()
+            .map(|d| d.starts_with("bus, rail")),
+        Some(true),
+        "{:?}",
+        fact(&page, "nest transit")
+    );
     // The family's reduction test is among the diagnostics, as `fit --json` gives it.
     let fit = json(&["fit", "specs/commute_nested.toml", "--json"]);
     let tests = rows(
@@ -391,6 +398,126 @@ fn ordered_and_nested_reports_say_which_sections_do_not_apply() {
         .select(&sel("section#diversion table.matrix"))
         .next()
         .is_some());
+}
+
+/// The fact of "What was fitted" labelled `label`.
+fn fact(page: &Html, label: &str) -> Option<String> {
+    let dts: Vec<ElementRef> = page.select(&sel("section#fitted dl dt")).collect();
+    let dds: Vec<ElementRef> = page.select(&sel("section#fitted dl dd")).collect();
+    dts.iter()
+        .position(|d| text_of(*d) == label)
+        .and_then(|k| dds.get(k).map(|d| text_of(*d)))
+}
+
+#[test]
+fn every_registered_section_has_a_heading_a_unique_id_and_its_place() {
+    use sharecast::report::sections::{Section, REGISTRY};
+    let mut ids = std::collections::HashSet::new();
+    for s in REGISTRY {
+        let s: &dyn Section = *s;
+        assert!(
+            !s.heading().trim().is_empty(),
+            "section `{}` has no heading",
+            s.id()
+        );
+        assert!(
+            !s.id().is_empty() && s.id().chars().all(|c| c.is_ascii_lowercase() || c == '-'),
+            "section id `{}` is not an anchor",
+            s.id()
+        );
+        assert!(
+            ids.insert(s.id()),
+            "section id `{}` registered twice",
+            s.id()
+        );
+    }
+    let want: Vec<(String, String)> = REGISTRY
+        .iter()
+        .map(|s| (s.id().to_string(), s.heading().to_string()))
+        .collect();
+    let dir = scratch("report-registry");
+    let page = report(&dir, "specs/grocery.toml", &[]);
+    // The page's sections, in order, are the registry's, each with its heading.
+    let shown: Vec<(String, String)> = page
+        .select(&sel("body > section"))
+        .map(|s| {
+            let h2 = s.select(&sel("h2")).next().map(text_of).unwrap_or_default();
+            (s.value().attr("id").unwrap_or("").to_string(), h2)
+        })
+        .collect();
+    assert_eq!(shown, want, "the page's sections differ from the registry");
+    // So is the contents list.
+    let contents: Vec<(String, String)> = page
+        .select(&sel("nav li a"))
+        .map(|a| {
+            let href = a.value().attr("href").unwrap_or("");
+            (href.trim_start_matches('#').to_string(), text_of(a))
+        })
+        .collect();
+    assert_eq!(
+        contents, want,
+        "the contents list differs from the registry"
+    );
+    // And `SECTIONS`, which the other tests read, is the registry's too.
+    let listed: Vec<(String, String)> = sharecast::report::html::SECTIONS
+        .into_iter()
+        .map(|(i, h)| (i.to_string(), h.to_string()))
+        .collect();
+    assert_eq!(listed, want);
+}
+
+#[test]
+fn html_matrices_name_their_axes_structure_has_labels_and_medians_sit_beside_log_locations() {
+    let dir = scratch("report-express");
+    let page = report(&dir, "specs/express_survey.toml", &[]);
+    // Each structure line under its own label (no repeated "structure").
+    for label in ["random coefficients", "simulation", "panel"] {
+        assert!(fact(&page, label).is_some(), "no fact `{label}`");
+    }
+    assert!(fact(&page, "structure").is_none());
+    // Matrices: the corner names both axes; no sentence about rows and columns,
+    // and no terminal shading glyphs (the colour and the legend carry the scale).
+    let corners: Vec<String> = page
+        .select(&sel("table.matrix thead th:first-child"))
+        .map(text_of)
+        .collect();
+    assert!(
+        corners.contains(&"cost of ↓ / share of →".to_string()),
+        "{corners:?}"
+    );
+    assert!(
+        corners.contains(&"withdrawn ↓ / moves to →".to_string()),
+        "{corners:?}"
+    );
+    let body = text_of(page.select(&sel("body")).next().unwrap());
+    for gone in ["row's", "column's", "░", "▒", "▓", "█"] {
+        assert!(!body.contains(gone), "`{gone}` still on the page");
+    }
+    assert!(page
+        .select(&sel("section#elasticities p.note span.swatch"))
+        .next()
+        .is_some());
+    // The negative-lognormal cost: its location is the mean of log, its median
+    // beside it equals the analysis's median (`fit --json`, random_coefficients).
+    let est = rows(page.select(&sel("table.estimates")).next().unwrap());
+    let r = row(&est, "cost (mean of log)");
+    let fit = json(&[
+        "fit",
+        "specs/express_survey.toml",
+        "--json",
+        "--draws",
+        "100",
+    ]);
+    let median = fit["random_coefficients"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["coefficient"] == "cost")
+        .unwrap()["median"]["value"]
+        .as_f64()
+        .unwrap();
+    assert_shown("median of cost", r.last().unwrap(), median);
+    assert!(median < 0.0);
 }
 
 #[test]
@@ -529,4 +656,87 @@ fn a_page_is_built_for_every_registered_family() {
         }
     }
     let _ = path("specs");
+}
+
+#[test]
+fn the_walk_puts_every_figure_of_the_analysis_in_its_cell() {
+    use sharecast::analysis::random::Figure;
+    use sharecast::report::walk::{Cell, Matrix, Walk};
+    // grocery: a price, two 0/1 attributes (promo, eye_level) and two characteristics.
+    let (spec, ds) = crate::common::load("specs/grocery.toml");
+    let fit = crate::common::fit_spec(&spec, &ds);
+    let options = sharecast::analysis::Options {
+        draws: 100,
+        ..Default::default()
+    };
+    let a = sharecast::analysis::analyse(&spec, &fit, &ds, &options).unwrap();
+    let w = Walk::new(&spec, &fit, &a);
+    let at = |m: &Matrix, r: &str, c: &str| {
+        let ri = m.rows.labels.iter().position(|x| x == r).expect("row");
+        let ci = m
+            .columns
+            .labels
+            .iter()
+            .position(|x| x == c)
+            .expect("column");
+        m.cell(ri, ci)
+    };
+    let values = |m: &Matrix| {
+        m.cells
+            .iter()
+            .filter(|c| matches!(c, Cell::Value(_)))
+            .count()
+    };
+    let var = |name: &str| w.variables.iter().find(|v| v.name == name).unwrap();
+    for e in &a.elasticities {
+        let v = var(&e.variable);
+        let row = e.changed.clone().unwrap_or_else(|| e.variable.clone());
+        let want = Figure {
+            value: e.value,
+            std_error: e.std_error,
+        };
+        assert_eq!(at(&v.figures, &row, &e.affected), Cell::Value(want));
+        assert_eq!(
+            at(v.arc.as_ref().unwrap(), &row, &e.affected).value(),
+            Some(e.arc)
+        );
+    }
+    for f in &a.flag_effects {
+        let v = var(&f.variable);
+        assert!(v.flag && v.arc.is_none());
+        let row = f.changed.clone().unwrap_or_else(|| f.variable.clone());
+        assert_eq!(at(&v.figures, &row, &f.affected).value(), Some(f.change));
+    }
+    // Nothing more: every other cell is missing.
+    let elastic: usize = w
+        .variables
+        .iter()
+        .filter(|v| !v.flag)
+        .map(|v| values(&v.figures))
+        .sum();
+    let flags: usize = w
+        .variables
+        .iter()
+        .filter(|v| v.flag)
+        .map(|v| values(&v.figures))
+        .sum();
+    assert_eq!(
+        (elastic, flags),
+        (a.elasticities.len(), a.flag_effects.len())
+    );
+    assert!(!a.flag_effects.is_empty() && !a.diversion.is_empty());
+    let withdrawal = w.withdrawal.as_ref().unwrap();
+    for d in &a.diversion {
+        assert_eq!(at(withdrawal, &d.removed, &d.to).value(), Some(d.share));
+    }
+    assert_eq!(at(withdrawal, "own_label", "own_label"), Cell::Same);
+    assert_eq!(withdrawal.corner(), "withdrawn ↓ / moves to →");
+    assert_eq!(var("price").figures.corner(), "price of ↓ / share of →");
+    // The stacked tables the reports show: flags labelled by their alternative.
+    let stacked = w.flags().unwrap();
+    assert!(stacked
+        .rows
+        .labels
+        .contains(&"promo of own_label".to_string()));
+    assert_eq!(values(&stacked), a.flag_effects.len());
 }

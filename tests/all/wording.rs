@@ -315,3 +315,83 @@ fn the_iia_test_says_what_its_degrees_of_freedom_count() {
     );
     assert!(!out.contains("V_restricted"), "{out}");
 }
+
+#[test]
+fn matrices_name_their_axes_in_their_corners_and_sections_follow_the_registry() {
+    let (code, out, err) = run(&["fit", "specs/commute.toml", "--draws", "100"]);
+    assert_eq!(code, 0, "{err}");
+    for corner in [
+        "cost of ↓ / share of →",
+        "variable ↓ / share of →",
+        "withdrawn ↓ / moves to →",
+        "cost of ↓ / moves to →",
+    ] {
+        assert!(out.contains(corner), "`{corner}` not in:\n{out}");
+    }
+    for gone in ["row's", "column's", "changed \\ share", "removed \\ to"] {
+        assert!(!out.contains(gone), "`{gone}` still in:\n{out}");
+    }
+    // The text report's blocks come in the registry's order (the page's).
+    let blocks = [
+        "━━ sharecast ━━",
+        "how well it fits",
+        "estimates · value",
+        "value ratios:",
+        "elasticities of predicted shares",
+        "diversion on withdrawal",
+        "shares (weighted)",
+        "diagnostics",
+        "Cautions:",
+    ];
+    let at: Vec<usize> = blocks
+        .iter()
+        .map(|b| {
+            out.find(b)
+                .unwrap_or_else(|| panic!("`{b}` not in:\n{out}"))
+        })
+        .collect();
+    assert!(at.windows(2).all(|w| w[0] < w[1]), "{at:?}:\n{out}");
+}
+
+#[test]
+fn a_lognormal_location_reads_as_the_mean_of_log_with_the_median_beside() {
+    // express_survey: cost is negative-lognormal (specs/express_survey.toml).
+    let (code, json, err) = run(&[
+        "fit",
+        "specs/express_survey.toml",
+        "--json",
+        "--no-analysis",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let cost = v["parameters"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|p| p["name"] == "cost")
+        .unwrap();
+    let m = cost["estimate"].as_f64().unwrap();
+    let se = cost["robust_std_error"].as_f64().unwrap();
+    // Fact of the method (common practice): the median of -exp(m + s z) is
+    // -exp(m), its delta-method error exp(m)·se(m).
+    let want = format!(
+        "median {}",
+        sharecast::report::plus_minus(-m.exp(), m.exp() * se)
+    );
+    let (code, out, err) = run(&["fit", "specs/express_survey.toml", "--no-analysis"]);
+    assert_eq!(code, 0, "{err}");
+    let line = out
+        .lines()
+        .find(|l| l.contains("cost (mean of log)"))
+        .unwrap_or_else(|| panic!("no `cost (mean of log)` row:\n{out}"));
+    assert!(
+        line.contains(&want),
+        "`{want}` not beside the location:\n{line}"
+    );
+    // Only the lognormal's location is relabelled.
+    assert!(!out.contains("time (mean of log)"), "{out}");
+    assert!(
+        out.contains("mean of log: the location of a lognormal coefficient"),
+        "{out}"
+    );
+}

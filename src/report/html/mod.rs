@@ -1,13 +1,10 @@
 //! The HTML report (`sharecast report`): one self-contained page laying out
 //! results the library returned — the fit, its analysis, scenario forecasts
-//! and demand curves — with inline hand-made SVG charts. Nothing here
-//! computes a statistic; sections that do not apply to a family say so.
+//! and demand curves — with inline hand-made SVG charts, section by section
+//! from `report::sections::REGISTRY`. Nothing here computes a statistic;
+//! sections that do not apply to a family say so.
 
-mod analysis;
-mod fitted;
 pub mod page;
-mod random;
-mod scenarios;
 pub mod svg;
 
 use crate::analysis::Analysis;
@@ -55,22 +52,9 @@ pub struct Page {
     pub charts: Vec<Chart>,
 }
 
-/// The sections in page order: id and heading (the contents list and the tests use these).
-pub const SECTIONS: [(&str, &str); 13] = [
-    ("fitted", "What was fitted"),
-    ("fit-statistics", "How well it fits"),
-    ("estimates", "Estimates"),
-    ("random-coefficients", "Tastes across decision makers"),
-    ("error-covariance", "Shared unobserved traits"),
-    ("value-ratios", "Value ratios"),
-    ("elasticities", "Elasticities"),
-    ("diversion", "Diversion"),
-    ("shares", "Observed and predicted shares"),
-    ("scenarios", "Scenarios"),
-    ("demand-curve", "Demand curve"),
-    ("diagnostics", "Diagnostics"),
-    ("cautions", "Cautions"),
-];
+/// The sections' ids and headings in page order, from the registry
+/// (the contents list and the tests read these).
+pub use crate::report::sections::SECTIONS;
 
 /// Builds the page.
 pub fn page(m: &Material) -> Page {
@@ -88,19 +72,8 @@ pub fn page(m: &Material) -> Page {
         page::esc(&m.spec_label)
     );
     body.push_str(&contents());
-    body.push_str(&fitted::what_was_fitted(m));
-    body.push_str(&fitted::statistics(m));
-    body.push_str(&fitted::estimates(m, &mut charts));
-    body.push_str(&random::random_coefficients(m));
-    body.push_str(&random::error_covariance(m));
-    body.push_str(&analysis::ratios(m));
-    body.push_str(&analysis::elasticities(m));
-    body.push_str(&analysis::diversion(m));
-    body.push_str(&fitted::shares(m, &mut charts));
-    body.push_str(&scenarios::scenarios(m, &mut charts));
-    body.push_str(&scenarios::demand_curve(m, &mut charts));
-    body.push_str(&fitted::diagnostics(m));
-    body.push_str(&fitted::cautions(m));
+    let input = crate::report::sections::Input::new(m);
+    body.push_str(&crate::report::sections::html(&input, &mut charts));
     body.push_str(&format!(
         "<footer><p class=\"note\">Written by sharecast {}. The page needs no network: its charts are drawn in the page itself.</p></footer>\n",
         env!("CARGO_PKG_VERSION")
@@ -111,21 +84,15 @@ pub fn page(m: &Material) -> Page {
     }
 }
 
-/// The contents list.
+/// The contents list, in the registry's order.
 fn contents() -> String {
     let mut s = String::from("<nav aria-label=\"contents\">\n<ol>\n");
     for (id, heading) in SECTIONS {
-        s.push_str(&format!("<li><a href=\"#{id}\">{heading}</a></li>\n"));
+        s.push_str(&format!(
+            "<li><a href=\"#{id}\">{}</a></li>\n",
+            page::esc(heading)
+        ));
     }
     s.push_str("</ol>\n</nav>\n");
     s
-}
-
-/// The heading of a section by id.
-fn heading(id: &str) -> &'static str {
-    SECTIONS
-        .iter()
-        .find(|(i, _)| *i == id)
-        .map(|(_, h)| *h)
-        .unwrap_or("")
 }

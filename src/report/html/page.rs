@@ -3,7 +3,8 @@
 
 use std::fmt::Write;
 
-use crate::report::heat::{level, GLYPHS};
+use crate::report::heat::{level, ELASTICITY_CUTS, SHARE_CUTS};
+use crate::report::walk::{Cell, Matrix, Measure};
 
 /// Escapes text for HTML and SVG content and attribute values.
 pub fn esc(s: &str) -> String {
@@ -62,7 +63,7 @@ figure svg { max-width: 100%; height: auto; }
 .h3, .h4 { font-weight: 700; }
 .neg.h1 { background: #ffd7d7; } .neg.h2 { background: #ffafaf; } .neg.h3 { background: #ff875f; } .neg.h4 { background: #d70000; color: #fff; }
 .pos.h1 { background: #d7ffff; } .pos.h2 { background: #afd7ff; } .pos.h3 { background: #5fafff; } .pos.h4 { background: #005faf; color: #fff; }
-.glyph { font-family: monospace; margin-left: .25rem; }
+span.swatch { display: inline-block; padding: 0 .45rem; margin-left: .3rem; border: 1px solid var(--rule); }
 ul.warn li, ul.cautions li { margin-bottom: .35rem; }
 .scenario { border-top: 1px solid var(--rule); }
 @media print {
@@ -135,35 +136,71 @@ pub fn num_cell(text: &str) -> String {
 }
 
 /// A heat cell shaded like the workbench's matrices: the level by magnitude
-/// on `cuts`, the sign by hue, and the level's glyph so that it reads without colour.
+/// on `cuts`, the sign by hue (the legend explains both).
 pub fn heat_cell(value: f64, text: &str, cuts: &[f64; 4]) -> String {
     let l = level(value, cuts);
     let sign = if value < 0.0 { "neg" } else { "pos" };
-    let glyph = if l > 0 {
-        format!(
-            "<span class=\"glyph\" aria-hidden=\"true\">{}</span>",
-            GLYPHS[l]
-        )
-    } else {
-        String::new()
-    };
     format!(
-        "<td class=\"num {sign} h{l}\"><span class=\"v\">{}</span>{glyph}</td>",
+        "<td class=\"num {sign} h{l}\"><span class=\"v\">{}</span></td>",
         esc(text)
     )
 }
 
-/// The legend of a heat scale: one cell per level with its lower cut.
+/// The heat scale a matrix's measure is shaded on: elasticities on their
+/// own, shares and changes in shares on the share scale.
+pub fn cuts(measure: Measure) -> &'static [f64; 4] {
+    match measure {
+        Measure::PointElasticity | Measure::ArcElasticity { .. } => &ELASTICITY_CUTS,
+        _ => &SHARE_CUTS,
+    }
+}
+
+/// A matrix of the walk as a table of heat cells: the corner names both
+/// axes, then the column labels; a dash where there is no figure.
+pub fn heat_matrix(m: &Matrix) -> String {
+    let corner = m.corner();
+    let mut header: Vec<&str> = vec![&corner];
+    header.extend(m.columns.labels.iter().map(String::as_str));
+    let body: Vec<String> = m
+        .rows
+        .labels
+        .iter()
+        .enumerate()
+        .map(|(r, label)| {
+            let mut s = label_cell(label);
+            for c in 0..m.columns.labels.len() {
+                match m.cell(r, c) {
+                    Cell::Value(f) => s.push_str(&heat_cell(
+                        f.value,
+                        &m.cell_text(r, c, " ± "),
+                        cuts(m.measure),
+                    )),
+                    Cell::Missing | Cell::Same => s.push_str(&num_cell("—")),
+                }
+            }
+            s
+        })
+        .collect();
+    table("matrix", &header, &body)
+}
+
+/// The legend of a heat scale: a swatch per level with its lower cut (for a
+/// signed scale, a warm and a cool swatch per level).
 pub fn heat_legend(cuts: &[f64; 4], signed: bool) -> String {
     let mut s = String::from("<p class=\"note\">shading by magnitude:");
     for (l, c) in cuts.iter().enumerate() {
-        let sign = "pos";
+        let swatches = if signed {
+            format!(
+                "<span class=\"swatch neg h{0}\">−</span><span class=\"swatch pos h{0}\">+</span>",
+                l + 1
+            )
+        } else {
+            format!("<span class=\"swatch pos h{}\">&nbsp;</span>", l + 1)
+        };
         let _ = write!(
             s,
-            " <span class=\"{sign} h{}\">&nbsp;{}{c}&nbsp;{}&nbsp;</span>",
-            l + 1,
-            if signed { "|x| ≥ " } else { "≥ " },
-            GLYPHS[l + 1]
+            " {swatches}&nbsp;{}{c}",
+            if signed { "|x| ≥ " } else { "≥ " }
         );
     }
     if signed {
@@ -186,10 +223,14 @@ mod tests {
     }
 
     #[test]
-    fn heat_cells_carry_level_sign_and_glyph() {
-        let c = heat_cell(-0.6, "-0.600", &crate::report::heat::ELASTICITY_CUTS);
-        assert!(c.contains("neg h3") && c.contains('▓'), "{c}");
-        let faint = heat_cell(0.01, "0.010", &crate::report::heat::ELASTICITY_CUTS);
-        assert!(faint.contains("h0") && !faint.contains("glyph"), "{faint}");
+    fn heat_cells_carry_level_and_sign_without_glyphs() {
+        let c = heat_cell(-0.6, "-0.600", &ELASTICITY_CUTS);
+        assert!(c.contains("neg h3") && c.contains("-0.600"), "{c}");
+        let faint = heat_cell(0.01, "0.010", &ELASTICITY_CUTS);
+        assert!(faint.contains("pos h0"), "{faint}");
+        // In HTML the colour and the legend carry the scale: no terminal shading glyphs.
+        for g in crate::report::heat::GLYPHS.iter().skip(1) {
+            assert!(!c.contains(g) && !heat_legend(&ELASTICITY_CUTS, true).contains(g));
+        }
     }
 }

@@ -1,28 +1,37 @@
-//! The forecast sections of the HTML report: each scenario's base and
-//! forecast shares with their bands (chart and table), switching and
-//! calibration, and the demand curve over a named price attribute.
+//! "Scenarios": each scenario's base and forecast shares with their bands
+//! (chart and table), calibration, switching and warnings.
 
 use std::fmt::Write;
 
-use super::page::{esc, figure, fixed, label_cell, not_applicable, note, num_cell, table};
-use super::svg::{self, Pair, Series};
-use super::{heading, Chart, Material};
+use super::{Applies, Input, Section};
+use crate::report::html::page::{esc, figure, fixed, label_cell, note, num_cell, table};
+use crate::report::html::svg::{self, Pair};
+use crate::report::html::Chart;
 use crate::scenario::Forecast;
 
-pub fn scenarios(m: &Material, charts: &mut Vec<Chart>) -> String {
-    let mut s = String::new();
-    if m.forecasts.is_empty() {
-        s.push_str(&not_applicable(
-            "No scenario was given (add --scenario FILE, as many as you like).",
-        ));
+pub struct Scenarios;
+
+impl Section for Scenarios {
+    fn names(&self) -> (&'static str, &'static str) {
+        ("scenarios", "Scenarios")
     }
-    for (k, (file, f)) in m.forecasts.iter().enumerate() {
-        s.push_str(&one(k + 1, file, f, charts));
+
+    fn applies(&self, input: &Input) -> Applies {
+        if input.m.forecasts.is_empty() {
+            return Applies::No(
+                "No scenario was given (add --scenario FILE, as many as you like).".into(),
+            );
+        }
+        Applies::Yes
     }
-    format!(
-        "<section id=\"scenarios\">\n<h2>{}</h2>\n{s}</section>\n",
-        heading("scenarios")
-    )
+
+    fn html(&self, input: &Input, charts: &mut Vec<Chart>) -> String {
+        let mut s = String::new();
+        for (k, (file, f)) in input.m.forecasts.iter().enumerate() {
+            s.push_str(&one(k + 1, file, f, charts));
+        }
+        s
+    }
 }
 
 /// One scenario as an article: heading, chart, shares table, calibration, switching, warnings.
@@ -32,17 +41,10 @@ fn one(k: usize, file: &str, f: &Forecast, charts: &mut Vec<Chart>) -> String {
         "<article class=\"scenario\" id=\"{id}\">\n<h3>{}</h3>\n",
         esc(&f.scenario)
     );
-    let bands = if f.draws > 0 {
-        format!(
-            "95% bands from {} parameter draws (seed {})",
-            f.draws, f.seed
-        )
-    } else {
-        "no uncertainty bands (0 draws)".to_string()
-    };
     s.push_str(&note(&format!(
-        "from {file} · {} situations by sample enumeration · {bands}",
-        f.situations
+        "from {file} · {} situations by sample enumeration · {}",
+        f.situations,
+        crate::report::forecast::bands(f)
     )));
     let pairs: Vec<Pair> = f
         .shares
@@ -201,76 +203,4 @@ fn switching(f: &Forecast) -> String {
     let mut s = note("switching: share of all demand that moves (losses paired with gains within each situation)");
     s.push_str(&table("switching", &["from", "to", "share"], &rows));
     s
-}
-
-pub fn demand_curve(m: &Material, charts: &mut Vec<Chart>) -> String {
-    let c = match &m.curves {
-        Ok(c) => c,
-        Err(why) => {
-            let s = not_applicable(why);
-            return format!(
-                "<section id=\"demand-curve\">\n<h2>{}</h2>\n{s}</section>\n",
-                heading("demand-curve")
-            );
-        }
-    };
-    let mut s = note(&format!(
-        "\"{}\" is the price attribute (named by {}). Each line is one alternative's own share as its own {} is multiplied, everything else as in the data.",
-        c.attribute, c.named_by, c.attribute
-    ));
-    let xs: Vec<f64> = c
-        .sweeps
-        .first()
-        .map(|sw| sw.points.iter().map(|p| p.multiplier).collect())
-        .unwrap_or_default();
-    let series: Vec<Series> = c.sweeps.iter().filter_map(own_share).collect();
-    let chart = svg::lines(
-        &format!("Demand curves over {}", c.attribute),
-        &format!("{} multiplied by", c.attribute),
-        "own share",
-        &xs,
-        &series,
-        Some(1.0),
-    );
-    s.push_str(&figure(&chart, "Own share against a multiple of the alternative's own price; the dashed line marks the data as they are (×1)."));
-    charts.push(Chart {
-        name: "demand-curve".into(),
-        svg: chart,
-    });
-    let mut header: Vec<String> = vec!["multiplier".into()];
-    header.extend(series.iter().map(|sr| sr.name.clone()));
-    let rows: Vec<String> = xs
-        .iter()
-        .enumerate()
-        .map(|(i, x)| {
-            let mut r = num_cell(&format!("{x:.4}"));
-            for sr in &series {
-                r.push_str(&num_cell(&fixed(
-                    sr.ys.get(i).copied().unwrap_or(f64::NAN),
-                    4,
-                )));
-            }
-            r
-        })
-        .collect();
-    let header_refs: Vec<&str> = header.iter().map(String::as_str).collect();
-    s.push_str(&table("curve", &header_refs, &rows));
-    format!(
-        "<section id=\"demand-curve\">\n<h2>{}</h2>\n{s}</section>\n",
-        heading("demand-curve")
-    )
-}
-
-/// The swept alternative's own share at each point.
-fn own_share(sw: &crate::scenario::sweep::Sweep) -> Option<Series> {
-    let alt = sw.alternative.as_ref()?;
-    let k = sw.alternatives.iter().position(|a| a == alt)?;
-    Some(Series {
-        name: alt.clone(),
-        ys: sw
-            .points
-            .iter()
-            .map(|p| p.shares.get(k).copied().unwrap_or(f64::NAN))
-            .collect(),
-    })
 }

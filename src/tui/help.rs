@@ -15,6 +15,9 @@ use super::widgets::{left, panel};
 fn section_lines(sections: &[HelpSection], kw: usize, t: &Theme) -> Vec<Line<'static>> {
     let mut lines = Vec::new();
     for (n, (name, keys)) in sections.iter().enumerate() {
+        // A section with long keys (the list of views) gets a wider key column.
+        let longest = keys.iter().map(|(k, _)| k.chars().count() + 3).max();
+        let kw = longest.unwrap_or(0).max(kw);
         if n > 0 {
             lines.push(Line::from(""));
         }

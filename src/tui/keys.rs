@@ -166,7 +166,7 @@ pub fn help(views: &[Box<dyn View>]) -> Vec<HelpSection> {
         views
             .iter()
             .enumerate()
-            .map(|(i, v)| (format!("{}  {}", i + 1, v.title()), v.about().to_string()))
+            .map(|(i, v)| (format!("{} {}", i + 1, v.title()), v.about().to_string()))
             .collect(),
     ));
     for v in views {

@@ -199,33 +199,6 @@ fn render_message(app: &App, area: Rect, buf: &mut Buffer) {
 
 fn render_status(app: &App, area: Rect, buf: &mut Buffer) {
     let t = &app.theme;
-    let left_text = match app.loaded() {
-        Some(l) => {
-            let s = &l.model.spec;
-            let mut text = format!(
-                " ‹{}› {} · {}",
-                app.shown().title(),
-                l.model.path.display(),
-                s.family
-            );
-            if app.models.len() > 1 {
-                text.push_str(&format!(
-                    " · {} of {} models",
-                    crate::analysis::compare::model_id(app.current),
-                    app.models.len()
-                ));
-            }
-            text
-        }
-        None => format!(
-            " {}",
-            app.paths
-                .iter()
-                .map(|p| p.display().to_string())
-                .collect::<Vec<_>>()
-                .join(", ")
-        ),
-    };
     let hints = match &app.stage {
         Stage::Ready => app.shown().hints(),
         _ => "? help  q quit ",
@@ -233,6 +206,32 @@ fn render_status(app: &App, area: Rect, buf: &mut Buffer) {
     let w = area.width as usize;
     let hw = hints.chars().count();
     let lw = w.saturating_sub(hw + 1);
+    let left_text = status_left(app, lw);
     let text = format!("{} {}", left(&left_text, lw), hints);
     Line::from(Span::styled(left(&text, w), t.selected())).render(area, buf);
+}
+
+/// The status line's left part: the view, the spec, the family and which of
+/// several models; on a narrow terminal the family goes first, then the model
+/// count, so that the view and the spec stay readable.
+fn status_left(app: &App, room: usize) -> String {
+    let Some(l) = app.loaded() else {
+        let paths: Vec<String> = app.paths.iter().map(|p| p.display().to_string()).collect();
+        return format!(" {}", paths.join(", "));
+    };
+    let head = format!(" ‹{}› {}", app.shown().title(), l.model.path.display());
+    let family = format!(" · {}", l.model.spec.family);
+    let models = if app.models.len() > 1 {
+        format!(
+            " · {} of {} models",
+            crate::analysis::compare::model_id(app.current),
+            app.models.len()
+        )
+    } else {
+        String::new()
+    };
+    [format!("{head}{family}{models}"), format!("{head}{models}")]
+        .into_iter()
+        .find(|c| c.chars().count() <= room)
+        .unwrap_or(head)
 }

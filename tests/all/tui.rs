@@ -955,7 +955,7 @@ fn every_registered_view_has_its_title_help_lines_and_keys() {
             v.title()
         );
         titles.push(v.title());
-        let line = (format!("{}  {}", i + 1, v.title()), v.about().to_string());
+        let line = (format!("{} {}", i + 1, v.title()), v.about().to_string());
         assert!(
             listed.contains(&line),
             "the help does not list {}",

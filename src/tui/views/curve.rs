@@ -159,7 +159,7 @@ impl View for CurveView {
     }
 
     fn about(&self) -> &'static str {
-        "share against an attribute"
+        "share along a range"
     }
 
     fn keys(&self) -> &'static [Key] {

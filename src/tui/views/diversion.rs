@@ -26,7 +26,7 @@ impl View for Diversion {
     }
 
     fn about(&self) -> &'static str {
-        "where demand goes if withdrawn"
+        "where demand goes"
     }
 
     fn keys(&self) -> &'static [Key] {

@@ -34,7 +34,7 @@ impl View for Elasticities {
     }
 
     fn about(&self) -> &'static str {
-        "elasticities, marginal effects"
+        "share responses"
     }
 
     fn keys(&self) -> &'static [Key] {

@@ -169,7 +169,7 @@ impl View for Estimates {
     }
 
     fn about(&self) -> &'static str {
-        "parameters, errors, value ratios"
+        "parameters, ratios"
     }
 
     fn keys(&self) -> &'static [Key] {

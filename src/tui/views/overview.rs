@@ -27,7 +27,7 @@ impl View for Overview {
     }
 
     fn about(&self) -> &'static str {
-        "data, fit and findings"
+        "data, fit, findings"
     }
 
     fn keys(&self) -> &'static [Key] {

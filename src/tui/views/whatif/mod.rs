@@ -71,7 +71,7 @@ impl View for WhatIfView {
     }
 
     fn about(&self) -> &'static str {
-        "levers, shares and band"
+        "levers, shares, band"
     }
 
     fn keys(&self) -> &'static [Key] {

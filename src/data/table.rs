@@ -22,6 +22,9 @@ pub struct Table {
     pub offset: usize,
     pub names: Vec<String>,
     columns: HashMap<String, Column>,
+    /// Cells of numeric columns that held text other than a missing-value
+    /// marker (read as NaN): per column, each such row (from 0) and its text.
+    text: HashMap<String, Vec<(usize, String)>>,
 }
 
 impl Table {
@@ -32,6 +35,7 @@ impl Table {
             offset: 0,
             names: Vec::new(),
             columns: HashMap::new(),
+            text: HashMap::new(),
         }
     }
 
@@ -39,7 +43,20 @@ impl Table {
         if !self.columns.contains_key(name) {
             self.names.push(name.to_string());
         }
+        self.text.remove(name);
         self.columns.insert(name.to_string(), col);
+    }
+
+    /// Records the cells of numeric column `name` that held text (rows from 0).
+    pub fn note_text(&mut self, name: &str, cells: Vec<(usize, String)>) {
+        if !cells.is_empty() {
+            self.text.insert(name.to_string(), cells);
+        }
+    }
+
+    /// The cells of numeric column `name` that held text: (row from 0, text).
+    pub fn text_cells(&self, name: &str) -> &[(usize, String)] {
+        self.text.get(name).map_or(&[], |v| v.as_slice())
     }
 
     pub fn has(&self, name: &str) -> bool {
@@ -179,6 +196,15 @@ impl Table {
             };
             tail.insert(name, col);
         }
+        for (name, cells) in self.text.iter_mut() {
+            let at = cells.partition_point(|c| c.0 < from);
+            let moved = cells.split_off(at);
+            tail.note_text(
+                name,
+                moved.into_iter().map(|(r, t)| (r - from, t)).collect(),
+            );
+        }
+        self.text.retain(|_, cells| !cells.is_empty());
         self.nrows = from;
         tail
     }
@@ -187,8 +213,15 @@ impl Table {
     /// and text in the other becomes text).
     pub fn append(&mut self, more: Table) {
         let Table {
-            nrows, mut columns, ..
+            nrows,
+            mut columns,
+            text: more_text,
+            ..
         } = more;
+        for (name, cells) in more_text {
+            let shifted = cells.into_iter().map(|(r, t)| (r + self.nrows, t));
+            self.text.entry(name).or_default().extend(shifted);
+        }
         for name in &self.names {
             let (Some(mine), Some(theirs)) = (self.columns.get_mut(name), columns.remove(name))
             else {

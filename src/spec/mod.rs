@@ -215,7 +215,7 @@ impl Spec {
         let raw: raw::RawSpec = toml::from_str(text).map_err(|e| {
             Error::spec(
                 path,
-                format!("not a valid spec: {}", e.to_string().trim_end()),
+                format!("not a valid spec: {}", crate::error::toml_message(text, &e)),
             )
         })?;
         validate::validate(raw, path, families)

@@ -142,7 +142,8 @@ pub fn bounded(message: &str) -> std::borrow::Cow<'_, str> {
 /// (at most `QUOTE_LIMIT` characters of it) with a caret under the column.
 pub fn toml_message(text: &str, e: &toml::de::Error) -> String {
     let what = quote(e.message().trim_end());
-    let Some(span) = e.span() else {
+    // A span over the whole document (a missing top-level key) points nowhere.
+    let Some(span) = e.span().filter(|s| !(s.start == 0 && s.end >= text.len())) else {
         return what;
     };
     let at = span.start.min(text.len());

@@ -77,7 +77,8 @@ impl Ragged {
         Error::data(
             path,
             format!(
-                "row {row} (line {line} of the file) has {fields} fields but the header names {header} columns; {fix}"
+                "row {row} (line {line} of the file) has {fields} field{} but the header names {header} columns; {fix}",
+                if fields == 1 { "" } else { "s" }
             ),
         )
     }

@@ -141,7 +141,10 @@ pub fn bounded(message: &str) -> std::borrow::Cow<'_, str> {
 /// column, the parser's words, and the line of the file around the column
 /// (at most `QUOTE_LIMIT` characters of it) with a caret under the column.
 pub fn toml_message(text: &str, e: &toml::de::Error) -> String {
-    let what = quote(e.message().trim_end());
+    let mut what = quote(e.message().trim_end());
+    if what.contains("expected a sequence") {
+        what.push_str(" (a list in square brackets, such as [\"bus\", \"rail\"])");
+    }
     // A span over the whole document (a missing top-level key) points nowhere.
     let Some(span) = e.span().filter(|s| !(s.start == 0 && s.end >= text.len())) else {
         return what;

@@ -375,8 +375,13 @@ fn parquet_type_usable(path: &Path, name: &str, dt: &ArrowDataType, text: bool) 
     ))
 }
 
-/// A column as numbers (missing or unparsable values are NaN); the cells
-/// that held text other than a missing-value marker are added to `text`.
+/// How many of a numeric column's text cells a read keeps (the first ones,
+/// in row order: messages name the first).
+const TEXT_CELLS_KEPT: usize = 1000;
+
+/// A column as numbers (missing or unparsable values are NaN); the first
+/// `TEXT_CELLS_KEPT` cells that held text other than a missing-value marker
+/// are added to `text`.
 fn numeric_values(s: &Series, text: &mut Vec<(usize, String)>) -> PolarsResult<Vec<f64>> {
     if let DataType::String = s.dtype() {
         let ca = s.str()?;
@@ -386,7 +391,7 @@ fn numeric_values(s: &Series, text: &mut Vec<(usize, String)>) -> PolarsResult<V
             .map(|(i, v)| {
                 let v = v?;
                 let x = v.trim().parse::<f64>().ok();
-                if x.is_none() && !missing_marker(v) {
+                if x.is_none() && text.len() < TEXT_CELLS_KEPT && !missing_marker(v) {
                     text.push((i, crate::error::quote(v)));
                 }
                 x

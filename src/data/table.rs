@@ -23,7 +23,8 @@ pub struct Table {
     pub names: Vec<String>,
     columns: HashMap<String, Column>,
     /// Cells of numeric columns that held text other than a missing-value
-    /// marker (read as NaN): per column, each such row (from 0) and its text.
+    /// marker (read as NaN): per column, such rows (from 0) in order with
+    /// their text; the first ones of each read, so the first is always there.
     text: HashMap<String, Vec<(usize, String)>>,
 }
 

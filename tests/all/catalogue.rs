@@ -116,6 +116,8 @@ fn cases() -> Vec<Case> {
         case("nest alternatives as a string", spec("d.csv", "[[nest]]\nname = \"bc\"\nalternatives = \"b\"\n").replace("\"logit\"", "\"nested\""), CSV, &["[[nest]] bc", "`alternatives` must be a list"]),
         case("nest name not a string", spec("d.csv", "[[nest]]\nname = 3\nalternatives = [\"b\", \"c\"]\n").replace("\"logit\"", "\"nested\""), CSV, &["[[nest]] number 1", "`name` must be a string"]),
         case("alternatives as a list under [model]", ok.replace("base = \"a\"\n", "base = \"a\"\nalternatives = [\"a\", \"b\", \"c\"]\n").replace("[alternatives.a]\n[alternatives.b]\n[alternatives.c]\n", ""), CSV, &["missing field `alternatives`", "[alternatives.bus]"]),
+        case("characteristic alternatives as a string", ok.replace("column = \"inc\"\n", "column = \"inc\"\nalternatives = \"b\"\n"), CSV, &["line 19", "alternatives = \"b\"", "a list in square brackets"]),
+        scen("scenario: remove as a string", "remove = \"b\"\n", &["s.toml", "line 1", "a list in square brackets"]),
         scen("scenario: unknown attribute", "[[change]]\nattribute = \"speed\"\nalternative = \"b\"\nadd = 1\n", &["s.toml", "`speed`"]),
         scen("scenario: two operations", "[[change]]\nattribute = \"cost\"\nalternative = \"b\"\nadd = 1\nset = 2\n", &["s.toml", "exactly one"]),
         scen("scenario: bad where", "[[change]]\nattribute = \"cost\"\nalternative = \"b\"\nadd = 1\nwhere = \"inc >> 3\"\n", &["s.toml", "where", "at character"]),

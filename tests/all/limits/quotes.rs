@@ -49,6 +49,16 @@ fn messages_quoting_huge_input_stay_short_and_name_the_file() {
     let r = run_in(&d, &scenario, 60);
     fails_with(&r, &["d.csv", "characters left out"]);
     assert!(r.2.len() < 1500, "{} bytes:\n{}", r.2.len(), r.2);
+    // A malformed number of 3,000 characters in a [derived] expression.
+    let number = format!("1.{}", "2.".repeat(1500));
+    write(
+        &d,
+        "spec.toml",
+        &spec("d.csv", &format!("[derived]\nk = \"{number}\"\n")),
+    );
+    let r = run_in(&d, &["check", "spec.toml"], 60);
+    fails_with(&r, &["spec.toml", "[derived].k", "characters left out"]);
+    assert!(r.2.len() < 1500, "{} bytes:\n{}", r.2.len(), r.2);
     // A spec naming a column of 50,000 characters.
     let wide_name = spec("d.csv", "").replace(
         "column = \"inc\"",

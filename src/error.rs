@@ -178,3 +178,68 @@ pub fn toml_message(text: &str, e: &toml::de::Error) -> String {
         " ".repeat(caret)
     )
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_long_quote_keeps_its_start_and_says_how_much_is_left_out() {
+        assert_eq!(quote("bus"), "bus");
+        let q = quote(&"z".repeat(100_000));
+        assert!(q.starts_with(&"z".repeat(QUOTE_LIMIT)), "{q}");
+        assert!(q.contains("99800 characters left out"), "{q}");
+        assert!(q.chars().count() < QUOTE_LIMIT + 40, "{q}");
+    }
+
+    #[test]
+    fn a_printed_message_cuts_long_quotes_and_lines_but_keeps_short_ones_whole() {
+        let short = "column `mode` ([data].choice), row 3: `ferry` is not declared";
+        assert_eq!(bounded(short), short);
+        let long = format!("row 7: `{}` is not declared; next", "q".repeat(10_000));
+        let b = bounded(&long);
+        assert!(
+            b.starts_with("row 7: `qqq") && b.ends_with("` is not declared; next"),
+            "{b}"
+        );
+        assert!(b.len() < QUOTE_LIMIT + 100, "{} characters", b.len());
+        let line = format!("at character 9000: {} end", "w ".repeat(5_000));
+        let b = bounded(&line);
+        assert!(
+            b.starts_with("at character 9000") && b.ends_with(" end"),
+            "{b}"
+        );
+        assert!(
+            b.chars().count() < LINE_LIMIT + 40,
+            "{} characters",
+            b.len()
+        );
+        let many = "a line of a message\n".repeat(10_000);
+        assert!(bounded(&many).len() < MESSAGE_LIMIT + 40);
+    }
+
+    #[test]
+    fn a_toml_error_shows_its_line_around_the_column_with_a_caret() {
+        let text = format!("x = 1\ny = {}@\n", "[".repeat(10));
+        let e = toml::from_str::<toml::Table>(&text).unwrap_err();
+        let m = toml_message(&text, &e);
+        let lines: Vec<&str> = m.lines().collect();
+        assert!(lines[0].starts_with("line 2, column "), "{m}");
+        assert_eq!(lines[1], format!("    y = {}@", "[".repeat(10)), "{m}");
+        let caret = lines[2].find('^').unwrap();
+        let column: usize = lines[0]["line 2, column ".len()..]
+            .split(':')
+            .next()
+            .unwrap()
+            .parse()
+            .unwrap();
+        // The caret stands under the column named (after the four-space indent).
+        assert_eq!(caret, 4 + column - 1, "{m}");
+        // On a line of 100,000 characters the window is cut around the column.
+        let wide = format!("z = \"{}", "y".repeat(100_000));
+        let e = toml::from_str::<toml::Table>(&wide).unwrap_err();
+        let m = toml_message(&wide, &e);
+        assert!(m.len() < 3 * QUOTE_LIMIT + 200, "{} bytes", m.len());
+        assert!(m.starts_with("line 1, column "), "{m}");
+    }
+}

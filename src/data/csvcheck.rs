@@ -194,3 +194,55 @@ pub fn ragged_error(path: &Path) -> Option<Error> {
         Err(e) => Some(e),
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn first(bytes: &[u8], fewer: bool) -> Option<Ragged> {
+        let mut c = FieldCount::new(fewer);
+        c.feed(bytes).or_else(|| c.finish())
+    }
+
+    #[test]
+    fn rows_are_counted_as_the_file_reads_them() {
+        // Quoted commas and line ends, CR LF and empty lines do not count.
+        let ok = b"a,b,c\r\n1,\"x, y\",3\r\n\r\n2,\"two\nlines\",4\n";
+        assert_eq!(first(ok, true), None);
+        let long = b"a,b,c\n1,2,3\n\n\"p\nq\",5,6,7\n";
+        assert_eq!(
+            first(long, false),
+            Some(Ragged {
+                row: 2,
+                line: 4,
+                fields: 4,
+                header: 3
+            })
+        );
+        // A short last row without a line end is found only when asked for.
+        let short = b"a,b,c\n1,2,3\n4,5";
+        assert_eq!(first(short, false), None);
+        assert_eq!(
+            first(short, true),
+            Some(Ragged {
+                row: 2,
+                line: 3,
+                fields: 2,
+                header: 3
+            })
+        );
+    }
+
+    #[test]
+    fn bytes_fed_in_pieces_count_as_bytes_fed_at_once() {
+        let text = b"a,b\n1,\"2\n,\"\n3,4,5\n";
+        let whole = first(text, false);
+        let mut c = FieldCount::new(false);
+        let pieces = text
+            .chunks(3)
+            .find_map(|p| c.feed(p))
+            .or_else(|| c.finish());
+        assert_eq!(pieces, whole);
+        assert_eq!(whole.map(|r| (r.row, r.line)), Some((2, 4)));
+    }
+}

@@ -358,3 +358,28 @@ pub fn check_finite(
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn text_cells_follow_their_rows_through_a_split_and_an_append() {
+        let mut t = Table::new(Path::new("d.csv"), 5);
+        t.insert("x", Column::Num(vec![1.0, f64::NAN, 3.0, f64::NAN, 5.0]));
+        t.note_text("x", vec![(1, "late".into()), (3, "soon".into())]);
+        let tail = t.split_off(2);
+        assert_eq!(t.text_cells("x"), &[(1, "late".to_string())]);
+        assert_eq!(tail.text_cells("x"), &[(1, "soon".to_string())]);
+        assert_eq!(tail.offset, 2);
+        let mut head = t;
+        head.append(tail);
+        assert_eq!(
+            head.text_cells("x"),
+            &[(1, "late".to_string()), (3, "soon".to_string())]
+        );
+        // A column replaced loses the cells of the one it replaces.
+        head.insert("x", Column::Num(vec![0.0; 5]));
+        assert!(head.text_cells("x").is_empty());
+    }
+}

@@ -350,16 +350,7 @@ fn errors_in_chunks_name_the_file_the_column_and_the_file_row() {
         );
     }
     // --chunk-rows 0 is refused naming the flag.
-    let (code, _, err) = run(&[
-        "simulate",
-        "specs/commute.toml",
-        "--scenario",
-        "specs/scenarios/rail_fare_up.toml",
-        "--data",
-        "demo-data/commute.csv",
-        "--chunk-rows",
-        "0",
-    ]);
+    let (code, err) = over(Path::new("demo-data/commute.csv"), "0");
     assert_ne!(code, 0);
     assert!(err.contains("--chunk-rows"), "{err}");
 }

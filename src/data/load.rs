@@ -154,7 +154,7 @@ pub(super) fn wanted_columns(
             for n in &names {
                 t.insert(n, TCol::Num(Vec::new()));
             }
-            return Err(t.unknown(c, "named in the spec"));
+            return Err(t.unknown(c, "named in the spec, a scenario or --by"));
         }
         if !wanted.contains(c) {
             wanted.push(c.clone());

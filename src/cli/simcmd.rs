@@ -45,10 +45,10 @@ pub struct SimulateArgs {
     /// Reuse a fit saved with `fit --save` when spec and data are unchanged.
     #[arg(long, value_name = "FILE.json")]
     pub load: Option<PathBuf>,
-    /// With --data: rows of the file read at a time; a longer file is
-    /// forecast chunk by chunk in bounded memory.
-    #[arg(long, value_name = "N", default_value_t = data::stream::DEFAULT_CHUNK_ROWS)]
-    pub chunk_rows: usize,
+    /// With --data: rows of the file read at a time (default 500,000); a
+    /// longer file is forecast chunk by chunk in bounded memory.
+    #[arg(long, value_name = "N")]
+    pub chunk_rows: Option<usize>,
 }
 
 #[derive(Args, Debug)]
@@ -92,7 +92,22 @@ fn market(text: &Option<String>) -> Result<Option<Market>> {
     }
 }
 
+/// The rows of a population file read at a time, refused when zero or
+/// given without a population file.
+fn chunk_rows(args: &SimulateArgs) -> Result<usize> {
+    match (args.chunk_rows, &args.data) {
+        (Some(_), None) => Err(Error::Usage(
+            "--chunk-rows goes with --data: it says how many rows of the population file are read at a time; without --data the forecast runs over the spec's own data, read whole".into(),
+        )),
+        (Some(0), Some(_)) => Err(Error::Usage(
+            "--chunk-rows: give a number of rows of at least 1".into(),
+        )),
+        (rows, _) => Ok(rows.unwrap_or(data::stream::DEFAULT_CHUNK_ROWS)),
+    }
+}
+
 pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
+    let rows = chunk_rows(&args)?;
     let spec = crate::model::read_spec(&args.spec)?;
     let sc = Scenario::from_file(&args.scenario, &spec)?;
     let market = market(&args.market)?;
@@ -124,12 +139,7 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
     let (f, fit) = match &args.data {
         None => in_memory(&args, &spec, &sc, &opts, fit, est)?,
         Some(file) => {
-            if args.chunk_rows == 0 {
-                return Err(Error::Usage(
-                    "--chunk-rows: give a number of rows of at least 1".into(),
-                ));
-            }
-            let mut chunks = data::stream::Chunks::open(&spec, file, &extra, args.chunk_rows)?;
+            let mut chunks = data::stream::Chunks::open(&spec, file, &extra, rows)?;
             if chunks.single() {
                 drop(chunks);
                 let other = data::load_file(&spec, file, &extra)?;

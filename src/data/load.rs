@@ -83,6 +83,20 @@ pub fn column_names(path: &Path) -> Result<Vec<String>> {
     }
 }
 
+/// Refuses a CSV file with a row whose number of fields differs from the
+/// header's, fewer as well as more, naming the row, its line and both counts
+/// (a draft would read a short row's gaps as missing values and guess from
+/// them). Parquet files have no rows of their own length and pass.
+pub fn check_field_counts(path: &Path) -> Result<()> {
+    check_file(path)?;
+    if format_of(path)? == Format::Csv {
+        if let Some(r) = super::csvcheck::ragged_row(path, true)? {
+            return Err(r.error(path));
+        }
+    }
+    Ok(())
+}
+
 /// A column that cannot be read, and why.
 pub type Unreadable = (String, String);
 
@@ -140,7 +154,7 @@ pub(super) fn wanted_columns(
             for n in &names {
                 t.insert(n, TCol::Num(Vec::new()));
             }
-            return Err(t.unknown(c, "named in the spec"));
+            return Err(t.unknown(c, "named in the spec, a scenario or --by"));
         }
         if !wanted.contains(c) {
             wanted.push(c.clone());
@@ -230,6 +244,7 @@ pub(super) fn to_table(
         };
         let series = columns.swap_remove(at).take_materialized_series();
         let series = &series;
+        let mut cells = Vec::new();
         let converted = if is_text(name) {
             let t = text_values(series).map_err(|e| polars_err(path, e))?;
             // A column wanted both ways (a segment that a filter also reads) stays numeric when it can.
@@ -249,9 +264,10 @@ pub(super) fn to_table(
                 None => TCol::Text(t),
             }
         } else {
-            TCol::Num(numeric_values(series).map_err(|e| polars_err(path, e))?)
+            TCol::Num(numeric_values(series, &mut cells).map_err(|e| polars_err(path, e))?)
         };
         table.insert(name, converted);
+        table.note_text(name, cells);
     }
     Ok(table)
 }
@@ -359,15 +375,28 @@ fn parquet_type_usable(path: &Path, name: &str, dt: &ArrowDataType, text: bool) 
     ))
 }
 
-fn numeric_values(s: &Series) -> PolarsResult<Vec<f64>> {
+/// How many of a numeric column's text cells a read keeps (the first ones,
+/// in row order: messages name the first).
+const TEXT_CELLS_KEPT: usize = 1000;
+
+/// A column as numbers (missing or unparsable values are NaN); the first
+/// `TEXT_CELLS_KEPT` cells that held text other than a missing-value marker
+/// are added to `text`.
+fn numeric_values(s: &Series, text: &mut Vec<(usize, String)>) -> PolarsResult<Vec<f64>> {
     if let DataType::String = s.dtype() {
         let ca = s.str()?;
         return Ok(ca
             .iter()
-            .map(|v| {
-                v.and_then(|t| t.trim().parse::<f64>().ok())
-                    .unwrap_or(f64::NAN)
+            .enumerate()
+            .map(|(i, v)| {
+                let v = v?;
+                let x = v.trim().parse::<f64>().ok();
+                if x.is_none() && text.len() < TEXT_CELLS_KEPT && !missing_marker(v) {
+                    text.push((i, crate::error::quote(v)));
+                }
+                x
             })
+            .map(|x| x.unwrap_or(f64::NAN))
             .collect());
     }
     if let DataType::Boolean = s.dtype() {
@@ -382,6 +411,18 @@ fn numeric_values(s: &Series) -> PolarsResult<Vec<f64>> {
     }
     let f = s.cast(&DataType::Float64)?;
     Ok(f64_values(f.f64()?))
+}
+
+/// Whether a cell that is not a number says it is missing (`NA`, `n/a`,
+/// `null`, `.`, ...) rather than holding text.
+pub fn missing_marker(cell: &str) -> bool {
+    let t = cell.trim();
+    t.is_empty()
+        || [
+            "na", "n/a", "#n/a", "nan", "null", "none", "missing", ".", "-", "?",
+        ]
+        .iter()
+        .any(|m| t.eq_ignore_ascii_case(m))
 }
 
 /// Float64 values with missing ones as NaN, copied chunk by chunk.

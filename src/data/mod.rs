@@ -4,6 +4,7 @@
 
 mod csvcheck;
 pub mod load;
+mod placeholder;
 mod reshape;
 pub mod stream;
 pub mod table;
@@ -55,20 +56,47 @@ pub struct Extra {
 
 /// Loads the spec's data file.
 pub fn load(spec: &Spec, extra: &Extra) -> Result<Dataset> {
-    load_file(spec, &spec.data.file, extra)
+    let (numeric, text) = needed_columns(spec, extra);
+    let table = load::read(&spec.data.file, &numeric, &text)?;
+    from_table(spec, table, true)
 }
 
-/// Loads another file with the same columns (e.g. `simulate --data`).
+/// Loads another file with the same columns (e.g. `simulate --data`); the
+/// file may lack the observed choices (see `population_columns`).
 pub fn load_file(spec: &Spec, file: &std::path::Path, extra: &Extra) -> Result<Dataset> {
-    let (numeric, text) = needed_columns(spec, extra);
+    let (numeric, text, choices) = population_columns(spec, file, extra)?;
     let table = load::read(file, &numeric, &text)?;
-    from_table(spec, table)
+    from_table(spec, table, choices)
+}
+
+/// The columns to read of a population file (one to forecast over, not to
+/// fit): those of `needed_columns`, less the observed choices' column
+/// (`[data].choice`, or `[data].chosen` in the long layout) when the file
+/// has none, for a forecast reads no observed choice. The third value says
+/// whether the file has them.
+pub(crate) fn population_columns(
+    spec: &Spec,
+    file: &std::path::Path,
+    extra: &Extra,
+) -> Result<(Vec<String>, Vec<String>, bool)> {
+    let column = match &spec.data.layout {
+        Layout::Wide { choice } => choice,
+        Layout::Long { chosen, .. } => chosen,
+    };
+    let choices = spec.derived_names().contains(&column.as_str())
+        || load::column_names(file)?.contains(column);
+    let (numeric, text) = columns(spec, extra, choices);
+    Ok((numeric, text, choices))
 }
 
 /// The `Dataset` of the needed columns of a file (or of a chunk of its rows):
-/// `[derived]` columns added, then reshaped.
-fn from_table(spec: &Spec, mut table: Table) -> Result<Dataset> {
+/// `[derived]` columns added, then reshaped. Without observed `choices`,
+/// placeholders stand in for them (`placeholder::choices`).
+fn from_table(spec: &Spec, mut table: Table, choices: bool) -> Result<Dataset> {
     add_derived(spec, &mut table)?;
+    if !choices {
+        placeholder::choices(spec, &mut table)?;
+    }
     let (obs, situation_table) = match &spec.data.layout {
         Layout::Wide { choice } => {
             let obs = reshape::wide(spec, &table, choice)?;
@@ -89,6 +117,12 @@ fn from_table(spec: &Spec, mut table: Table) -> Result<Dataset> {
 /// File columns the spec reads: (numeric, text). Derived names are excluded;
 /// the columns their expressions read are included.
 pub fn needed_columns(spec: &Spec, extra: &Extra) -> (Vec<String>, Vec<String>) {
+    columns(spec, extra, true)
+}
+
+/// `needed_columns`, with or without the observed choices' column (it is
+/// still read when something else needs it).
+fn columns(spec: &Spec, extra: &Extra, choices: bool) -> (Vec<String>, Vec<String>) {
     let derived = spec.derived_names();
     let mut numeric: Vec<String> = Vec::new();
     let mut text: Vec<String> = Vec::new();
@@ -98,7 +132,11 @@ pub fn needed_columns(spec: &Spec, extra: &Extra) -> (Vec<String>, Vec<String>) 
         }
     };
     match &spec.data.layout {
-        Layout::Wide { choice } => add(&mut text, choice),
+        Layout::Wide { choice } => {
+            if choices {
+                add(&mut text, choice);
+            }
+        }
         Layout::Long {
             situation,
             alternative,
@@ -106,7 +144,9 @@ pub fn needed_columns(spec: &Spec, extra: &Extra) -> (Vec<String>, Vec<String>) 
         } => {
             add(&mut text, situation);
             add(&mut text, alternative);
-            add(&mut numeric, chosen);
+            if choices {
+                add(&mut numeric, chosen);
+            }
         }
     }
     if let Some(g) = &spec.data.group {
@@ -147,23 +187,30 @@ pub fn needed_columns(spec: &Spec, extra: &Extra) -> (Vec<String>, Vec<String>) 
     (numeric, text)
 }
 
+/// The first cell of column `c` that holds text rather than a number (a
+/// missing-value marker such as `NA` aside): its row (from 0) and text.
+fn first_text(table: &Table, c: &str) -> Option<(usize, String)> {
+    match table.column(c)? {
+        Column::Text(v) => v
+            .iter()
+            .enumerate()
+            .find_map(|(i, x)| {
+                let x = x.as_deref()?;
+                x.trim().parse::<f64>().is_err().then(|| (i, x.to_string()))
+            })
+            .or(Some((0, String::new()))),
+        Column::Num(_) => table.text_cells(c).first().cloned(),
+    }
+}
+
 /// Evaluates `[derived]` columns in order; each may use earlier ones.
 fn add_derived(spec: &Spec, table: &mut Table) -> Result<()> {
     for (name, e) in &spec.derived {
         let n = table.nrows;
         for c in e.columns() {
-            if let Some(Column::Text(v)) = table.column(&c) {
-                let (row, example) = v
-                    .iter()
-                    .enumerate()
-                    .find_map(|(i, x)| {
-                        let x = x.as_deref()?;
-                        x.trim()
-                            .parse::<f64>()
-                            .is_err()
-                            .then(|| (i + 1, x.to_string()))
-                    })
-                    .unwrap_or((1, String::new()));
+            if let Some((i, example)) = first_text(table, &c) {
+                let row = table.offset + i + 1;
+                let example = crate::error::quote(&example);
                 return Err(Error::spec(
                     &spec.path,
                     format!(

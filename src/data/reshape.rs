@@ -12,7 +12,7 @@ mod long;
 pub(super) use long::long;
 
 /// Maps a choice or alternative value to an alternative index: by name first, then by code.
-fn alt_lookup(spec: &Spec) -> impl Fn(&str) -> Option<usize> + '_ {
+pub(super) fn alt_lookup(spec: &Spec) -> impl Fn(&str) -> Option<usize> + '_ {
     move |key: &str| {
         if let Some(j) = spec.alternative_index(key) {
             return Some(j);

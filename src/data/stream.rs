@@ -10,7 +10,8 @@ use std::path::{Path, PathBuf};
 
 use polars::io::parquet::metadata::FileMetadataRef;
 
-use super::{load, needed_columns, Dataset, Extra, Table};
+use super::csvcheck::{FieldCount, Ragged};
+use super::{load, Dataset, Extra, Table};
 use crate::error::{Error, Result};
 use crate::spec::{Layout, Spec};
 
@@ -30,6 +31,9 @@ enum Source {
         /// Inside a quoted field at the reader's position.
         quoted: bool,
         eof: bool,
+        /// The fields of every row read so far, counted as the whole-file
+        /// reader counts them (a row with more fields than the header is refused).
+        fields: FieldCount,
     },
 }
 
@@ -58,13 +62,16 @@ pub struct Chunks<'a> {
     key: Option<String>,
     /// A CSV block read ahead (to know whether the file is one chunk).
     ahead: Option<Vec<u8>>,
+    /// Whether the file holds observed choices (a population may not).
+    choices: bool,
 }
 
 impl<'a> Chunks<'a> {
     /// Opens `file` for chunks of `rows` rows (at least 1), checking that
-    /// every needed column is there (the error names the file and the column).
+    /// every needed column is there (the error names the file and the column);
+    /// the observed choices may be missing, as `load_file` allows.
     pub fn open(spec: &'a Spec, file: &Path, extra: &Extra, rows: usize) -> Result<Chunks<'a>> {
-        let (numeric, text) = needed_columns(spec, extra);
+        let (numeric, text, choices) = super::population_columns(spec, file, extra)?;
         let wanted = load::wanted_columns(file, &numeric, &text)?;
         // A decision maker's rows hold whole situations, so keeping the
         // decision maker together keeps their situations together too.
@@ -87,6 +94,7 @@ impl<'a> Chunks<'a> {
                 header: Vec::new(),
                 quoted: false,
                 eof: false,
+                fields: FieldCount::new(false),
             }
         };
         let mut chunks = Chunks {
@@ -102,6 +110,7 @@ impl<'a> Chunks<'a> {
             carry: None,
             key,
             ahead: None,
+            choices,
         };
         if let Source::Csv { .. } = chunks.source {
             chunks.read_header()?;
@@ -155,7 +164,7 @@ impl<'a> Chunks<'a> {
                 }
             }
             let n_rows = table.nrows;
-            let mut ds = super::from_table(self.spec, table)?;
+            let mut ds = super::from_table(self.spec, table, self.choices)?;
             if let Layout::Long { .. } = self.spec.data.layout {
                 // The situation-level table of a long file counts situations.
                 ds.table.offset = self.situations;
@@ -217,12 +226,16 @@ impl<'a> Chunks<'a> {
             header,
             quoted,
             eof,
+            fields,
         } = &mut self.source
         else {
             return Ok(());
         };
-        scan_rows(reader, header, quoted, eof, 1).map_err(|e| Error::io(&path, e))?;
-        Ok(())
+        match scan_rows(reader, header, quoted, eof, fields, 1) {
+            Ok(None) => Ok(()),
+            Ok(Some(r)) => Err(r.error(&path)),
+            Err(e) => Err(Error::io(&path, e)),
+        }
     }
 
     /// The header and up to `rows` more rows of a CSV file, cut at a row end
@@ -235,6 +248,7 @@ impl<'a> Chunks<'a> {
             header,
             quoted,
             eof,
+            fields,
         } = &mut self.source
         else {
             return Ok(None);
@@ -244,7 +258,11 @@ impl<'a> Chunks<'a> {
         }
         let mut block = header.clone();
         let start = block.len();
-        scan_rows(reader, &mut block, quoted, eof, rows).map_err(|e| Error::io(&path, e))?;
+        match scan_rows(reader, &mut block, quoted, eof, fields, rows) {
+            Ok(None) => {}
+            Ok(Some(r)) => return Err(r.error(&path)),
+            Err(e) => return Err(Error::io(&path, e)),
+        }
         if block[start..].iter().all(|b| b.is_ascii_whitespace()) {
             return Ok(None);
         }
@@ -253,20 +271,23 @@ impl<'a> Chunks<'a> {
 }
 
 /// Appends to `out` up to `rows` rows (ends of line outside double quotes)
-/// from `reader`; sets `eof` when nothing is left after them.
+/// from `reader`; sets `eof` when nothing is left after them. The fields of
+/// each row are counted on the way: the first row with more than the
+/// header's is returned.
 fn scan_rows(
     reader: &mut BufReader<std::fs::File>,
     out: &mut Vec<u8>,
     quoted: &mut bool,
     eof: &mut bool,
+    fields: &mut FieldCount,
     rows: usize,
-) -> std::io::Result<()> {
+) -> std::io::Result<Option<Ragged>> {
     let mut count = 0;
     while count < rows {
         let avail = reader.fill_buf()?;
         if avail.is_empty() {
             *eof = true;
-            return Ok(());
+            return Ok(fields.finish());
         }
         let mut used = avail.len();
         for (k, &b) in avail.iter().enumerate() {
@@ -281,10 +302,15 @@ fn scan_rows(
             }
         }
         out.extend_from_slice(&avail[..used]);
+        let ragged = fields.feed(&avail[..used]);
         reader.consume(used);
+        if ragged.is_some() {
+            return Ok(ragged);
+        }
     }
     if reader.fill_buf()?.is_empty() {
         *eof = true;
+        return Ok(fields.finish());
     }
-    Ok(())
+    Ok(None)
 }

@@ -22,6 +22,10 @@ pub struct Table {
     pub offset: usize,
     pub names: Vec<String>,
     columns: HashMap<String, Column>,
+    /// Cells of numeric columns that held text other than a missing-value
+    /// marker (read as NaN): per column, such rows (from 0) in order with
+    /// their text; the first ones of each read, so the first is always there.
+    text: HashMap<String, Vec<(usize, String)>>,
 }
 
 impl Table {
@@ -32,6 +36,7 @@ impl Table {
             offset: 0,
             names: Vec::new(),
             columns: HashMap::new(),
+            text: HashMap::new(),
         }
     }
 
@@ -39,7 +44,20 @@ impl Table {
         if !self.columns.contains_key(name) {
             self.names.push(name.to_string());
         }
+        self.text.remove(name);
         self.columns.insert(name.to_string(), col);
+    }
+
+    /// Records the cells of numeric column `name` that held text (rows from 0).
+    pub fn note_text(&mut self, name: &str, cells: Vec<(usize, String)>) {
+        if !cells.is_empty() {
+            self.text.insert(name.to_string(), cells);
+        }
+    }
+
+    /// The cells of numeric column `name` that held text: (row from 0, text).
+    pub fn text_cells(&self, name: &str) -> &[(usize, String)] {
+        self.text.get(name).map_or(&[], |v| v.as_slice())
     }
 
     pub fn has(&self, name: &str) -> bool {
@@ -179,6 +197,15 @@ impl Table {
             };
             tail.insert(name, col);
         }
+        for (name, cells) in self.text.iter_mut() {
+            let at = cells.partition_point(|c| c.0 < from);
+            let moved = cells.split_off(at);
+            tail.note_text(
+                name,
+                moved.into_iter().map(|(r, t)| (r - from, t)).collect(),
+            );
+        }
+        self.text.retain(|_, cells| !cells.is_empty());
         self.nrows = from;
         tail
     }
@@ -187,8 +214,15 @@ impl Table {
     /// and text in the other becomes text).
     pub fn append(&mut self, more: Table) {
         let Table {
-            nrows, mut columns, ..
+            nrows,
+            mut columns,
+            text: more_text,
+            ..
         } = more;
+        for (name, cells) in more_text {
+            let shifted = cells.into_iter().map(|(r, t)| (r + self.nrows, t));
+            self.text.entry(name).or_default().extend(shifted);
+        }
         for name in &self.names {
             let (Some(mine), Some(theirs)) = (self.columns.get_mut(name), columns.remove(name))
             else {
@@ -322,5 +356,30 @@ pub fn check_finite(
                 ),
             ))
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn text_cells_follow_their_rows_through_a_split_and_an_append() {
+        let mut t = Table::new(Path::new("d.csv"), 5);
+        t.insert("x", Column::Num(vec![1.0, f64::NAN, 3.0, f64::NAN, 5.0]));
+        t.note_text("x", vec![(1, "late".into()), (3, "soon".into())]);
+        let tail = t.split_off(2);
+        assert_eq!(t.text_cells("x"), &[(1, "late".to_string())]);
+        assert_eq!(tail.text_cells("x"), &[(1, "soon".to_string())]);
+        assert_eq!(tail.offset, 2);
+        let mut head = t;
+        head.append(tail);
+        assert_eq!(
+            head.text_cells("x"),
+            &[(1, "late".to_string()), (3, "soon".to_string())]
+        );
+        // A column replaced loses the cells of the one it replaces.
+        head.insert("x", Column::Num(vec![0.0; 5]));
+        assert!(head.text_cells("x").is_empty());
     }
 }

@@ -73,16 +73,32 @@ pub fn atomic(
     check_overwrite(path, force)?;
     if let Some(dir) = path.parent() {
         if !dir.as_os_str().is_empty() && !dir.exists() {
-            std::fs::create_dir_all(dir).map_err(|e| Error::io(dir, e))?;
+            std::fs::create_dir_all(dir).map_err(|e| {
+                Error::io(
+                    path,
+                    format!("could not create its folder {}: {e}", dir.display()),
+                )
+            })?;
         }
     }
     let tmp = temp_path(path);
+    // Errors name the file asked for; the temporary file is only mentioned.
+    let failed = |e: std::io::Error| {
+        Error::io(
+            path,
+            format!(
+                "could not be written: {e} (while writing the temporary file {} beside it)",
+                tmp.display()
+            ),
+        )
+    };
     let result = (|| {
-        let mut f = std::fs::File::create(&tmp).map_err(|e| Error::io(&tmp, e))?;
+        let mut f = std::fs::File::create(&tmp).map_err(failed)?;
         fill(&mut f)?;
-        f.flush().map_err(|e| Error::io(&tmp, e))?;
-        f.sync_all().map_err(|e| Error::io(&tmp, e))?;
-        std::fs::rename(&tmp, path).map_err(|e| Error::io(path, e))
+        f.flush().map_err(failed)?;
+        f.sync_all().map_err(failed)?;
+        std::fs::rename(&tmp, path)
+            .map_err(|e| Error::io(path, format!("could not be written: {e}")))
     })();
     if result.is_err() {
         let _ = std::fs::remove_file(&tmp);

@@ -331,6 +331,23 @@ fn no_choice_column(p: &[Profile]) -> String {
                 if c.missing == 1 { "" } else { "s" }
             );
         }
+        if c.distinct > LISTED {
+            return format!(
+                "`{}` is named like the chosen alternative but holds {} distinct values, more than the {LISTED} alternatives a draft takes (is it an identifier or a measurement? a choice column holds a few names or whole-number codes)",
+                c.name, c.distinct
+            );
+        }
+        if c.numeric && !c.integer {
+            let example = c
+                .values
+                .iter()
+                .find(|v| v.contains('.'))
+                .map_or("", String::as_str);
+            return format!(
+                "`{}` is named like the chosen alternative but holds numbers that are not whole (`{example}`); a choice column holds names or whole-number codes",
+                c.name
+            );
+        }
         if c.distinct < 2 {
             let only = c.values.first().map(String::as_str).unwrap_or("");
             return format!(
@@ -339,7 +356,11 @@ fn no_choice_column(p: &[Profile]) -> String {
             );
         }
     }
-    let names: Vec<&str> = p.iter().map(|c| c.name.as_str()).take(12).collect();
+    let names: Vec<String> = p
+        .iter()
+        .map(|c| crate::error::quote(&c.name))
+        .take(12)
+        .collect();
     format!(
         "no column looks like the chosen alternative: none holds a few names or whole-number codes (at most {LISTED}) that other columns' names carry (bus_time, time_bus, bus.time) or is named like a choice (choice, mode, rating, ...), and no 0/1 column has exactly one 1 per situation of an id column (columns: {})",
         names.join(", ")

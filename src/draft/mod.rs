@@ -27,6 +27,7 @@ pub struct Draft {
 /// file is named relative to the spec's folder).
 pub fn draft(data: &Path, spec_path: &Path) -> Result<Draft> {
     let (names, unreadable) = crate::data::load::readable_columns(data)?;
+    crate::data::load::check_field_counts(data)?;
     let table = crate::data::load::read(data, &names, &names)?;
     let profiles = profile::profiles(&table);
     let g = layout::guess(&table, &profiles)
@@ -124,13 +125,14 @@ fn listed(what: &str, names: &[&str]) -> String {
 }
 
 /// `data` as the spec at `spec_path` should name it: relative to the spec's
-/// folder when both can be resolved, else as given; always with `/`.
+/// folder (which need not exist yet: writing the spec creates it) when both
+/// can be resolved, else as given; always with `/`.
 fn relative(data: &Path, spec_path: &Path) -> String {
     let dir = spec_path
         .parent()
         .filter(|p| !p.as_os_str().is_empty())
         .unwrap_or(Path::new("."));
-    let (Ok(d), Ok(s)) = (std::fs::canonicalize(data), std::fs::canonicalize(dir)) else {
+    let (Ok(d), Some(s)) = (std::fs::canonicalize(data), resolve(dir)) else {
         return slashes(data);
     };
     let dc: Vec<Component> = d.components().collect();
@@ -148,6 +150,32 @@ fn relative(data: &Path, spec_path: &Path) -> String {
         rel.push(c.as_os_str());
     }
     slashes(&rel)
+}
+
+/// A folder as an absolute path without `.`, `..` or links, whether or not
+/// it exists: its longest existing ancestor resolved, the rest appended.
+fn resolve(dir: &Path) -> Option<PathBuf> {
+    let dir = std::path::absolute(dir).ok()?;
+    let mut missing: Vec<Component> = Vec::new();
+    let mut base = dir.as_path();
+    let mut real = loop {
+        if let Ok(r) = std::fs::canonicalize(base) {
+            break r;
+        }
+        let parent = base.parent()?;
+        missing.extend(base.components().next_back());
+        base = parent;
+    };
+    for c in missing.into_iter().rev() {
+        match c {
+            Component::ParentDir => {
+                real.pop();
+            }
+            Component::Normal(part) => real.push(part),
+            _ => {}
+        }
+    }
+    Some(real)
 }
 
 fn slashes(p: &Path) -> String {

@@ -151,7 +151,7 @@ impl Scenario {
         let raw: RawScenario = toml::from_str(text).map_err(|e| {
             fail(format!(
                 "not a valid scenario: {}",
-                e.to_string().trim_end()
+                crate::error::toml_message(text, &e)
             ))
         })?;
         let alt = |key: &str, name: &str| {

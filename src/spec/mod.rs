@@ -213,10 +213,15 @@ impl Spec {
     /// Validates spec text; `path` names the file in messages and anchors relative paths.
     pub fn from_str(text: &str, path: &Path, families: &dyn Catalog) -> Result<Spec> {
         let raw: raw::RawSpec = toml::from_str(text).map_err(|e| {
-            Error::spec(
-                path,
-                format!("not a valid spec: {}", e.to_string().trim_end()),
-            )
+            // Alternatives written as a list or a string (which then lands in
+            // the table above it) leave none declared: say how they are written.
+            let hint = if e.message().contains("missing field `alternatives`") {
+                "; declare each alternative as a table of its own, such as [alternatives.bus] and [alternatives.rail] (a list or a string of names under another table does not declare them)"
+            } else {
+                ""
+            };
+            let at = crate::error::toml_message(text, &e);
+            Error::spec(path, format!("not a valid spec: {at}{hint}"))
         })?;
         validate::validate(raw, path, families)
     }

@@ -4,6 +4,8 @@
 //! `limits.rs` (crashes, overflows, hangs and silent nonsense found by pushing
 //! limits) and `wording.rs` (the reports' own wording and layout).
 
+mod reading;
+
 use crate::common::*;
 
 const CSV: &str = "id,who,mode,wt,ca,cb,cc,inc\n1,1,a,1.0,1.0,2.0,3.0,10\n2,1,b,1.0,1.5,2.5,3.5,20\n3,2,c,1.0,1.2,2.2,3.2,30\n4,2,a,2.0,1.1,2.1,3.1,40\n5,3,b,1.0,2.1,1.1,3.3,50\n6,3,c,1.0,1.9,2.4,1.3,60\n";
@@ -12,6 +14,29 @@ fn spec(data: &str, extra: &str) -> String {
     format!(
         "[data]\nfile = \"{data}\"\nlayout = \"wide\"\nchoice = \"mode\"\nweight = \"wt\"\ngroup = \"who\"\n[model]\nfamily = \"logit\"\nbase = \"a\"\n[alternatives.a]\n[alternatives.b]\n[alternatives.c]\n[[attribute]]\nname = \"cost\"\ncolumns = {{ a = \"ca\", b = \"cb\", c = \"cc\" }}\n[[characteristic]]\nname = \"income\"\ncolumn = \"inc\"\n{extra}"
     )
+}
+
+/// The CSV without its field number `k` (from 0) in every line.
+fn drop_field(csv: &str, k: usize) -> String {
+    csv.lines()
+        .map(|l| {
+            let mut f: Vec<&str> = l.split(',').collect();
+            f.remove(k);
+            f.join(",") + "\n"
+        })
+        .collect()
+}
+
+/// The catalogue CSV with a `note` column after `id` holding `notes`.
+fn with_note(notes: &[&str]) -> String {
+    CSV.lines()
+        .enumerate()
+        .map(|(i, l)| {
+            let (id, rest) = l.split_once(',').unwrap();
+            let note = if i == 0 { "note" } else { notes[i - 1] };
+            format!("{id},{note},{rest}\n")
+        })
+        .collect()
 }
 
 enum Data {
@@ -84,6 +109,15 @@ fn cases() -> Vec<Case> {
         case("line ends of a carriage return alone", ok.clone(), &CSV.replace('\n', "\r"), &["d.csv", "carriage return"]),
         case("header names a column twice", ok.clone(), &CSV.replace("cc,inc\n", "cc,ca,inc\n").replace(",10\n", ",0,10\n").replace(",20\n", ",0,20\n").replace(",30\n", ",0,30\n").replace(",40\n", ",0,40\n").replace(",50\n", ",0,50\n").replace(",60\n", ",0,60\n"), &["d.csv", "`ca` twice", "positions 5 and 8"]),
         case("derived reads a text column", spec("d.csv", "[derived]\nk = \"mode * 2\"\n").replace("a = \"ca\"", "a = \"k\""), CSV, &["[derived].k", "`mode`", "holds text", "row 1"]),
+        case("no choice column", ok.clone(), &drop_field(CSV, 2), &["d.csv", "`mode`"]),
+        case("derived reads text in a numeric-looking column", spec("d.csv", "[derived]\nk = \"note * 2\"\n").replace("a = \"ca\"", "a = \"k\""), &with_note(&["1", "2", "3", "late", "5", "6"]), &["[derived].k", "`note`", "holds text", "`late`", "row 4"]),
+        case("derived reads a text column as a characteristic", spec("d.csv", "[derived]\nk = \"note / 2\"\n").replace("column = \"inc\"", "column = \"k\""), &with_note(&["x", "y", "z", "u", "v", "w"]), &["[derived].k", "`note`", "holds text", "`x`", "row 1"]),
+        case("derived reads text in the last row", spec("d.csv", "[derived]\nk = \"ca + note\"\n").replace("a = \"ca\"", "a = \"k\""), &with_note(&["1", "NA", "3", "", "5", "six"]), &["[derived].k", "`note`", "`six`", "row 6"]),
+        case("nest alternatives as a string", spec("d.csv", "[[nest]]\nname = \"bc\"\nalternatives = \"b\"\n").replace("\"logit\"", "\"nested\""), CSV, &["[[nest]] bc", "`alternatives` must be a list"]),
+        case("nest name not a string", spec("d.csv", "[[nest]]\nname = 3\nalternatives = [\"b\", \"c\"]\n").replace("\"logit\"", "\"nested\""), CSV, &["[[nest]] number 1", "`name` must be a string"]),
+        case("alternatives as a list under [model]", ok.replace("base = \"a\"\n", "base = \"a\"\nalternatives = [\"a\", \"b\", \"c\"]\n").replace("[alternatives.a]\n[alternatives.b]\n[alternatives.c]\n", ""), CSV, &["missing field `alternatives`", "[alternatives.bus]"]),
+        case("characteristic alternatives as a string", ok.replace("column = \"inc\"\n", "column = \"inc\"\nalternatives = \"b\"\n"), CSV, &["line 19", "alternatives = \"b\"", "a list in square brackets"]),
+        scen("scenario: remove as a string", "remove = \"b\"\n", &["s.toml", "line 1", "a list in square brackets"]),
         scen("scenario: unknown attribute", "[[change]]\nattribute = \"speed\"\nalternative = \"b\"\nadd = 1\n", &["s.toml", "`speed`"]),
         scen("scenario: two operations", "[[change]]\nattribute = \"cost\"\nalternative = \"b\"\nadd = 1\nset = 2\n", &["s.toml", "exactly one"]),
         scen("scenario: bad where", "[[change]]\nattribute = \"cost\"\nalternative = \"b\"\nadd = 1\nwhere = \"inc >> 3\"\n", &["s.toml", "where", "at character"]),

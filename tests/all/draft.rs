@@ -194,7 +194,7 @@ fn files_that_are_not_choices_are_refused_with_the_reason() {
         (
             "notes.csv",
             "Dear all,\nthe notes from Tuesday are attached.\n",
-            "no column looks like the chosen alternative",
+            "row 1 (line 2 of the file) has 1 field but the header names 2 columns",
         ),
         (
             "measures.csv",
@@ -288,4 +288,58 @@ fn codes_carried_by_column_names_make_a_wide_draft() {
     assert!(text.contains("code = 2"), "{text}");
     assert!(text.contains("#   case: a counter"), "{text}");
     assert!(text.contains("column = \"age\""), "{text}");
+}
+
+#[test]
+fn a_draft_into_a_new_nested_folder_names_its_data_from_there() {
+    // `--out` into folders that do not exist yet: they are made, and the data
+    // path written is right from the spec's folder, so `check` of the spec
+    // succeeds from any working directory.
+    let dir = scratch("draft-nested");
+    let data = path("demo-data/commute.csv");
+    for (out, up) in [
+        (dir.join("a/b/c/commute.toml"), 6),
+        (dir.join("x/../y/z/commute.toml"), 5),
+    ] {
+        let (code, _, err) = run(&[
+            "new",
+            data.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+        ]);
+        assert_eq!(code, 0, "{}: {err}", out.display());
+        let text = std::fs::read_to_string(&out).unwrap();
+        let want = format!("file = \"{}demo-data/commute.csv\"", "../".repeat(up));
+        assert!(
+            text.contains(&want),
+            "{}: no {want} in\n{text}",
+            out.display()
+        );
+        for cwd in [dir.clone(), std::env::temp_dir()] {
+            let status = std::process::Command::new(env!("CARGO_BIN_EXE_sharecast"))
+                .args(["check", out.to_str().unwrap()])
+                .current_dir(&cwd)
+                .output()
+                .unwrap();
+            assert!(
+                status.status.success(),
+                "check from {}: {}",
+                cwd.display(),
+                String::from_utf8_lossy(&status.stderr)
+            );
+        }
+    }
+    // A relative --out from another working directory.
+    let (code, _, err) = run(&[
+        "new",
+        "demo-data/commute.csv",
+        "--out",
+        "target/test-scratch/draft-nested/r/s/commute.toml",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let text = std::fs::read_to_string(dir.join("r/s/commute.toml")).unwrap();
+    assert!(
+        text.contains("file = \"../../../../../demo-data/commute.csv\""),
+        "{text}"
+    );
 }

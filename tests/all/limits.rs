@@ -4,6 +4,8 @@
 //! scenarios, stranded situations, out-of-range options). Each must end with a
 //! message and a clean exit, in bounded time.
 
+mod quotes;
+
 use std::io::Read;
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};

@@ -6,6 +6,8 @@
 //! agree to 1e-12 (relative, or absolute for shares below 1) and counts,
 //! labels and per-situation rows agree exactly.
 
+mod checks;
+
 use std::path::Path;
 
 use serde_json::Value;
@@ -293,6 +295,23 @@ fn per_situation_rows_in_chunks_are_the_whole_files_rows() {
     }
 }
 
+/// `simulate` of the rail fare scenario over `data` in chunks of `rows`; (exit code, stderr).
+pub(super) fn over(data: &Path, rows: &str) -> (i32, String) {
+    let (code, _, err) = run(&[
+        "simulate",
+        "specs/commute.toml",
+        "--scenario",
+        "specs/scenarios/rail_fare_up.toml",
+        "--data",
+        data.to_str().unwrap(),
+        "--chunk-rows",
+        rows,
+        "--draws",
+        "0",
+    ]);
+    (code, err)
+}
+
 #[test]
 fn errors_in_chunks_name_the_file_the_column_and_the_file_row() {
     let dir = scratch("stream_errors");
@@ -316,27 +335,14 @@ fn errors_in_chunks_name_the_file_the_column_and_the_file_row() {
     lines[4321] = f.join(",");
     let bad = write(&dir, "bad_row.csv", &(lines.join("\n") + "\n"));
     for rows in ["500", "100000000"] {
-        let go = |data: &Path| {
-            run(&[
-                "simulate",
-                "specs/commute.toml",
-                "--scenario",
-                "specs/scenarios/rail_fare_up.toml",
-                "--data",
-                data.to_str().unwrap(),
-                "--chunk-rows",
-                rows,
-                "--draws",
-                "0",
-            ])
-        };
-        let (code, _, err) = go(&missing);
+        let go = |data: &Path| over(data, rows);
+        let (code, err) = go(&missing);
         assert_ne!(code, 0);
         assert!(
             err.contains("no_rail_fare.csv") && err.contains("`rail_fare`"),
             "{rows}: {err}"
         );
-        let (code, _, err) = go(&bad);
+        let (code, err) = go(&bad);
         assert_ne!(code, 0);
         assert!(
             err.contains("bad_row.csv") && err.contains("rail_fare") && err.contains("4321"),
@@ -344,16 +350,7 @@ fn errors_in_chunks_name_the_file_the_column_and_the_file_row() {
         );
     }
     // --chunk-rows 0 is refused naming the flag.
-    let (code, _, err) = run(&[
-        "simulate",
-        "specs/commute.toml",
-        "--scenario",
-        "specs/scenarios/rail_fare_up.toml",
-        "--data",
-        "demo-data/commute.csv",
-        "--chunk-rows",
-        "0",
-    ]);
+    let (code, err) = over(Path::new("demo-data/commute.csv"), "0");
     assert_ne!(code, 0);
     assert!(err.contains("--chunk-rows"), "{err}");
 }

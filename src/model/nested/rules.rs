@@ -80,10 +80,15 @@ pub fn nests_of(
         }
         let name = match t.get("name") {
             Some(Value::String(s)) => s.clone(),
-            _ => {
+            other => {
                 return Err(format!(
-                    "[[nest]] number {}: `name` (a string) is missing",
-                    n + 1
+                    "[[nest]] number {}: `name` {}",
+                    n + 1,
+                    if other.is_some() {
+                        "must be a string"
+                    } else {
+                        "(a string) is missing"
+                    }
                 ))
             }
         };
@@ -97,9 +102,14 @@ pub fn nests_of(
         }
         let list = match t.get("alternatives") {
             Some(Value::Array(a)) => a,
-            _ => {
+            other => {
                 return Err(format!(
-                    "[[nest]] {name}: `alternatives` (a list of names) is missing"
+                    "[[nest]] {name}: `alternatives` {}",
+                    if other.is_some() {
+                        "must be a list of names, such as [\"bus\", \"rail\"]"
+                    } else {
+                        "(a list of names) is missing"
+                    }
                 ))
             }
         };

@@ -40,23 +40,7 @@ pub fn calibrate(
     max_iterations: usize,
 ) -> Result<Calibrated> {
     let mut b = beta.to_vec();
-    let mut params = Vec::new();
-    for &(j, t) in targets {
-        if j == spec.base {
-            continue;
-        }
-        let p = spec
-            .parameters
-            .iter()
-            .position(|p| p.term == Term::Constant && p.alternative == Some(j))
-            .ok_or_else(|| {
-                Error::Usage(format!(
-                    "calibration: `{}` has no constant to adjust",
-                    spec.alternatives[j].name
-                ))
-            })?;
-        params.push((j, p, t));
-    }
+    let params = constants(spec, targets)?;
     let before = shares(family, d, &b);
     for &(j, _, _) in &params {
         if before[j] <= 0.0 {
@@ -110,4 +94,27 @@ pub fn calibrate(
         rows,
         beta: b,
     })
+}
+
+/// The constant of each target's alternative (the base's is held at 0):
+/// (alternative, parameter, target).
+fn constants(spec: &Spec, targets: &[(usize, f64)]) -> Result<Vec<(usize, usize, f64)>> {
+    let mut params = Vec::new();
+    for &(j, t) in targets {
+        if j == spec.base {
+            continue;
+        }
+        let p = spec
+            .parameters
+            .iter()
+            .position(|p| p.term == Term::Constant && p.alternative == Some(j))
+            .ok_or_else(|| {
+                Error::Usage(format!(
+                    "calibration: `{}` has no constant to adjust",
+                    spec.alternatives[j].name
+                ))
+            })?;
+        params.push((j, p, t));
+    }
+    Ok(params)
 }

@@ -9,6 +9,7 @@ pub mod prepare;
 pub mod simulate;
 pub mod stream;
 pub mod sweep;
+mod written;
 
 use serde::Serialize;
 
@@ -18,6 +19,7 @@ use crate::analysis::delta::{draws, quantile};
 use crate::data::Dataset;
 use crate::error::{Error, Result};
 use crate::estimate::Fit;
+use crate::progress::{Phase, Sink, QUIET};
 use crate::spec::Spec;
 
 /// How shares become volumes.
@@ -212,6 +214,19 @@ pub fn forecast(
     scenario: &Scenario,
     opts: &Options,
 ) -> Result<Forecast> {
+    forecast_with(spec, fit, ds, scenario, opts, QUIET)
+}
+
+/// `forecast`, reporting the phase `forecast bands` (one step per parameter
+/// draw) to `sink`. The figures are the same with any sink.
+pub fn forecast_with(
+    spec: &Spec,
+    fit: &Fit,
+    ds: &Dataset,
+    scenario: &Scenario,
+    opts: &Options,
+    sink: Sink,
+) -> Result<Forecast> {
     check(spec, fit, scenario, opts)?;
     let d = &fit.design;
     let prep = prepare::prepare(spec, fit, &ds.table, scenario)?;
@@ -224,48 +239,21 @@ pub fn forecast(
     // The cached baseline applies when the parameters are the estimates (no calibration).
     let quick = opts.quick.then(|| fit.family.for_bands()).flatten();
     let baseline = (beta == fit.beta && quick.is_none()).then(|| fit.baseline());
-    let point = simulate::run(
-        quick.as_deref().unwrap_or(&*fit.family),
-        d,
-        &beta,
-        &prep,
-        seg_arg,
-        scenario.price,
-        baseline,
-    );
-    let m = prep.alternatives();
+    let family = quick.as_deref().unwrap_or(&*fit.family);
+    let point = simulate::run(family, d, &beta, &prep, seg_arg, scenario.price, baseline);
     let mut warnings = Vec::new();
     let (stranded_situations, stranded_weight) = prep.stranded(d);
     let lost_share = stranded_weight / d.total_weight().max(1e-300);
-
-    // Bands from draws of the parameters; a calibration shift is carried to every draw.
-    let shift: Vec<f64> = beta.iter().zip(&fit.beta).map(|(a, b)| a - b).collect();
-    let mut band_scen = vec![Vec::new(); m];
-    let mut band_change = vec![Vec::new(); m];
-    let nseg = seg.as_ref().map(|s| s.1.len()).unwrap_or(0);
-    let mut band_seg = vec![Vec::new(); nseg * m];
-    if opts.draws > 0 {
-        match draws(fit, opts.draws, opts.seed) {
-            Some(all) => {
-                // A family that simulates may use fewer draws per parameter draw.
-                let family = fit.family.for_bands().unwrap_or_else(|| fit.family.clone());
-                for b in all {
-                    let b: Vec<f64> = b.iter().zip(&shift).map(|(x, s)| x + s).collect();
-                    let (base, scen, segs) = simulate::shares_only(&*family, d, &b, &prep, seg_arg);
-                    for a in 0..m {
-                        band_scen[a].push(scen[a]);
-                        band_change[a].push(scen[a] - base[a]);
-                    }
-                    for (s, (_, sc)) in segs.iter().enumerate() {
-                        for a in 0..m {
-                            band_seg[s * m + a].push(sc[a]);
-                        }
-                    }
-                }
-            }
-            None => warnings.push(NO_BANDS.into()),
-        }
-    }
+    let run = BandRun {
+        fit,
+        beta: &beta,
+        prep: &prep,
+        seg: seg_arg,
+    };
+    let bands = run.bands(opts, sink).unwrap_or_else(|| {
+        warnings.push(NO_BANDS.into());
+        Bands::empty(prep.alternatives(), seg_arg.map_or(0, |s| s.1))
+    });
     let market = match &opts.market {
         Some(Market::Total(t)) => Some(*t),
         Some(Market::Weights) => Some(d.obs.weight_total),
@@ -277,9 +265,9 @@ pub fn forecast(
         Figures {
             names: prep.names.clone(),
             point,
-            band_scen,
-            band_change,
-            band_seg,
+            band_scen: bands.scen,
+            band_change: bands.change,
+            band_seg: bands.seg,
             labels: seg.map(|s| s.1),
             situations: d.situations(),
             stranded_situations,
@@ -289,6 +277,72 @@ pub fn forecast(
             warnings,
         },
     ))
+}
+
+/// The shares under each parameter draw: per alternative the scenario share
+/// and the change, per segment and alternative the scenario share.
+struct Bands {
+    scen: Vec<Vec<f64>>,
+    change: Vec<Vec<f64>>,
+    seg: Vec<Vec<f64>>,
+}
+
+impl Bands {
+    fn empty(m: usize, nseg: usize) -> Bands {
+        Bands {
+            scen: vec![Vec::new(); m],
+            change: vec![Vec::new(); m],
+            seg: vec![Vec::new(); nseg * m],
+        }
+    }
+}
+
+/// What the bands are drawn around: the fit, the parameters used (calibrated
+/// or not), the prepared scenario and the segments.
+struct BandRun<'a> {
+    fit: &'a Fit,
+    beta: &'a [f64],
+    prep: &'a prepare::Prepared,
+    seg: Option<(&'a [u32], usize)>,
+}
+
+impl BandRun<'_> {
+    /// Bands from draws of the parameters (none without draws), a calibration
+    /// shift carried to every draw; `None` when the parameters cannot be drawn.
+    fn bands(&self, opts: &Options, sink: Sink) -> Option<Bands> {
+        let (fit, m) = (self.fit, self.prep.alternatives());
+        let mut out = Bands::empty(m, self.seg.map_or(0, |s| s.1));
+        if opts.draws == 0 {
+            return Some(out);
+        }
+        let all = draws(fit, opts.draws, opts.seed)?;
+        let shift: Vec<f64> = self
+            .beta
+            .iter()
+            .zip(&fit.beta)
+            .map(|(a, b)| a - b)
+            .collect();
+        // A family that simulates may use fewer draws per parameter draw.
+        let family = fit.family.for_bands().unwrap_or_else(|| fit.family.clone());
+        let phase = Phase::start(sink, "forecast bands", all.len());
+        for b in all {
+            let b: Vec<f64> = b.iter().zip(&shift).map(|(x, s)| x + s).collect();
+            let (base, scen, segs) =
+                simulate::shares_only(&*family, &fit.design, &b, self.prep, self.seg);
+            for a in 0..m {
+                out.scen[a].push(scen[a]);
+                out.change[a].push(scen[a] - base[a]);
+            }
+            for (s, (_, sc)) in segs.iter().enumerate() {
+                for (a, x) in sc.iter().enumerate().take(m) {
+                    out.seg[s * m + a].push(*x);
+                }
+            }
+            phase.step();
+        }
+        phase.finish();
+        Some(out)
+    }
 }
 
 /// The warning when the parameters cannot be drawn.
@@ -311,22 +365,67 @@ fn assemble(scenario: &Scenario, opts: &Options, fig: Figures) -> Forecast {
         calibration,
         mut warnings,
     } = fig;
-    let m = names.len();
     // The stranded warning comes first.
     if let Some(w) = stranded_warning(stranded_situations, lost_share, situations) {
         warnings.insert(0, w);
     }
-    let band = |v: &mut Vec<f64>| {
-        v.sort_by(|a, b| a.total_cmp(b));
-        (quantile(v, 0.025), quantile(v, 0.975))
+    let shares = share_rows(&names, &point, market, &mut band_scen, &mut band_change);
+    if point.revenue.is_some() && market.is_none() {
+        warnings.push("a price attribute is named but no market size is given (--market), so no revenue is shown".into());
+    }
+    let segments = match &labels {
+        Some(labels) => segment_rows(labels, &names, &point, &mut band_seg),
+        None => Vec::new(),
+    };
+    Forecast {
+        scenario: scenario.name.clone(),
+        draws: if band_scen.first().is_some_and(|v| !v.is_empty()) {
+            opts.draws
+        } else {
+            0
+        },
+        seed: opts.seed,
+        situations,
+        shares,
+        switching: switch_rows(&names, &point),
+        segments,
+        segment_column: opts.by.clone(),
+        market,
+        calibration,
+        stranded_situations,
+        lost_share,
+        warnings,
+    }
+}
+
+/// The 2.5% and 97.5% points of draws (sorted in place).
+fn band(v: &mut [f64]) -> (f64, f64) {
+    v.sort_by(|a, b| a.total_cmp(b));
+    (quantile(v, 0.025), quantile(v, 0.975))
+}
+
+/// Each alternative's base and scenario share with bands, volumes and revenue.
+fn share_rows(
+    names: &[String],
+    point: &simulate::Pass,
+    market: Option<f64>,
+    band_scen: &mut [Vec<f64>],
+    band_change: &mut [Vec<f64>],
+) -> Vec<ShareRow> {
+    // Alternative a's revenue in the base (false) or the scenario (true).
+    let revenue = |a: usize, scenario: bool| {
+        point
+            .revenue
+            .as_ref()
+            .and_then(|(base, scen)| market.map(|t| t * if scenario { scen[a] } else { base[a] }))
     };
     let mut shares = Vec::new();
-    for a in 0..m {
+    for (a, name) in names.iter().enumerate() {
         let (low, high) = band(&mut band_scen[a]);
         let (change_low, change_high) = band(&mut band_change[a]);
         let (b, s) = (point.base[a], point.scenario[a]);
         shares.push(ShareRow {
-            alternative: names[a].clone(),
+            alternative: name.clone(),
             base: b,
             scenario: s,
             change: s - b,
@@ -337,19 +436,16 @@ fn assemble(scenario: &Scenario, opts: &Options, fig: Figures) -> Forecast {
             change_high,
             base_volume: market.map(|t| t * b),
             scenario_volume: market.map(|t| t * s),
-            base_revenue: point
-                .revenue
-                .as_ref()
-                .and_then(|r| market.map(|t| t * r.0[a])),
-            scenario_revenue: point
-                .revenue
-                .as_ref()
-                .and_then(|r| market.map(|t| t * r.1[a])),
+            base_revenue: revenue(a, false),
+            scenario_revenue: revenue(a, true),
         });
     }
-    if point.revenue.is_some() && market.is_none() {
-        warnings.push("a price attribute is named but no market size is given (--market), so no revenue is shown".into());
-    }
+    shares
+}
+
+/// The shares that switch from one alternative to another.
+fn switch_rows(names: &[String], point: &simulate::Pass) -> Vec<SwitchRow> {
+    let m = names.len();
     let mut switching = Vec::new();
     for from in 0..m {
         for to in 0..m {
@@ -363,42 +459,33 @@ fn assemble(scenario: &Scenario, opts: &Options, fig: Figures) -> Forecast {
             }
         }
     }
+    switching
+}
+
+/// Each segment's base and scenario shares with bands.
+fn segment_rows(
+    labels: &[String],
+    names: &[String],
+    point: &simulate::Pass,
+    band_seg: &mut [Vec<f64>],
+) -> Vec<SegmentRow> {
+    let m = names.len();
     let mut segments = Vec::new();
-    if let Some(labels) = &labels {
-        for (s, label) in labels.iter().enumerate() {
-            let (b, sc) = &point.segments[s];
-            for a in 0..m {
-                let (low, high) = band(&mut band_seg[s * m + a]);
-                segments.push(SegmentRow {
-                    segment: label.clone(),
-                    alternative: names[a].clone(),
-                    situations: point.segment_count[s] as usize,
-                    base: b[a],
-                    scenario: sc[a],
-                    change: sc[a] - b[a],
-                    low,
-                    high,
-                });
-            }
+    for (s, label) in labels.iter().enumerate() {
+        let (b, sc) = &point.segments[s];
+        for a in 0..m {
+            let (low, high) = band(&mut band_seg[s * m + a]);
+            segments.push(SegmentRow {
+                segment: label.clone(),
+                alternative: names[a].clone(),
+                situations: point.segment_count[s] as usize,
+                base: b[a],
+                scenario: sc[a],
+                change: sc[a] - b[a],
+                low,
+                high,
+            });
         }
     }
-    Forecast {
-        scenario: scenario.name.clone(),
-        draws: if band_scen.first().is_some_and(|v| !v.is_empty()) {
-            opts.draws
-        } else {
-            0
-        },
-        seed: opts.seed,
-        situations,
-        shares,
-        switching,
-        segments,
-        segment_column: opts.by.clone(),
-        market,
-        calibration,
-        stranded_situations,
-        lost_share,
-        warnings,
-    }
+    segments
 }

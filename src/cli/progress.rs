@@ -2,7 +2,8 @@
 //! iteration, log-likelihood, gradient) and the ticks of every other long
 //! phase (phase, done of total), each with the seconds its phase has run. It
 //! speaks only to a terminal, only once the command has run a second, at most
-//! ten times a second, and is cleared when the work is done.
+//! ten times a second within a phase (a phase beginning is shown at once), and
+//! is cleared when the work is done.
 
 use std::io::IsTerminal;
 use std::sync::Mutex;
@@ -47,8 +48,10 @@ impl Line {
         }
     }
 
-    /// Shows `what` of `phase` with the seconds the phase has run.
-    fn show(&self, phase: &'static str, what: &str) {
+    /// Shows `what` of `phase` with the seconds the phase has run; a phase
+    /// other than the last one shown, or one that `begins` again, restarts the
+    /// clock and is shown at once.
+    fn show(&self, phase: &'static str, begins: bool, what: &str) {
         if !self.tty {
             return;
         }
@@ -56,11 +59,12 @@ impl Line {
             return;
         };
         let now = Instant::now();
-        if shown.phase != phase {
+        let fresh = begins || shown.phase != phase;
+        if fresh {
             shown.phase = phase;
             shown.since = now;
         }
-        let due = shown.at.is_none_or(|t| now - t >= EVERY);
+        let due = fresh || shown.at.is_none_or(|t| now - t >= EVERY);
         if now - self.start < QUIET_FOR || !due {
             return;
         }
@@ -74,6 +78,7 @@ impl Line {
     pub fn step(&self, s: Step) {
         self.show(
             s.phase,
+            false,
             &format!(
                 "iteration {:>4}  log-likelihood {:>16.6}  gradient {:>10.3e}",
                 s.iteration, s.log_likelihood, s.gradient_norm
@@ -83,7 +88,7 @@ impl Line {
 
     /// A tick of any other phase.
     pub fn tick(&self, t: Tick) {
-        self.show(t.phase, &done_of(t));
+        self.show(t.phase, t.done == 0, &done_of(t));
     }
 
     /// Clears the line, if one was shown.
@@ -98,8 +103,9 @@ impl Line {
 /// `done/total`, with the percentage for long phases.
 fn done_of(t: Tick) -> String {
     if t.total >= 100 {
-        let pct = 100.0 * t.done as f64 / t.total as f64;
-        format!("{}/{} ({pct:.0}%)", t.done, t.total)
+        // Rounded down: 100% only when every step is done.
+        let pct = 100 * t.done.min(t.total) as u128 / t.total as u128;
+        format!("{}/{} ({pct}%)", t.done, t.total)
     } else {
         format!("{}/{}", t.done, t.total)
     }

@@ -132,6 +132,16 @@ pub fn base_parameters(
     fit: &Fit,
     scenario: &Scenario,
 ) -> Result<(Vec<f64>, Option<calibrate::Calibrated>)> {
+    base_parameters_with(spec, fit, scenario, QUIET)
+}
+
+/// `base_parameters`, reporting a calibration's phase to `sink`.
+pub fn base_parameters_with(
+    spec: &Spec,
+    fit: &Fit,
+    scenario: &Scenario,
+    sink: Sink,
+) -> Result<(Vec<f64>, Option<calibrate::Calibrated>)> {
     let targets = scenario
         .calibration
         .clone()
@@ -144,8 +154,8 @@ pub fn base_parameters(
     match targets {
         None => Ok((fit.beta.clone(), None)),
         Some(t) => {
-            let c =
-                calibrate::calibrate(spec, &fit.design, &*fit.family, &fit.beta, &t, tol, max_it)?;
+            let (d, family) = (&fit.design, &*fit.family);
+            let c = calibrate::calibrate_with(spec, d, family, &fit.beta, &t, (tol, max_it), sink)?;
             Ok((c.beta.clone(), Some(c)))
         }
     }
@@ -191,8 +201,9 @@ pub fn forecast(
     forecast_with(spec, fit, ds, scenario, opts, QUIET)
 }
 
-/// `forecast`, reporting the phase `forecast bands` (one step per parameter
-/// draw) to `sink`. The figures are the same with any sink.
+/// `forecast`, reporting the phases `calibration` (with share targets) and
+/// `forecast bands` (one step per parameter draw) to `sink`. The figures are
+/// the same with any sink.
 pub fn forecast_with(
     spec: &Spec,
     fit: &Fit,
@@ -204,7 +215,7 @@ pub fn forecast_with(
     check(spec, fit, scenario, opts)?;
     let d = &fit.design;
     let prep = prepare::prepare(spec, fit, &ds.table, scenario)?;
-    let (beta, calibration) = base_parameters(spec, fit, scenario)?;
+    let (beta, calibration) = base_parameters_with(spec, fit, scenario, sink)?;
     let seg = match &opts.by {
         Some(c) => Some(segment_index(ds, c)?),
         None => None,

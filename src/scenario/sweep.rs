@@ -4,7 +4,7 @@
 use serde::Serialize;
 
 use super::file::{Change, Op, Scenario, Target};
-use super::{base_parameters, prepare, simulate};
+use super::{base_parameters_with, prepare, simulate};
 use crate::data::Dataset;
 use crate::error::{Error, Result};
 use crate::estimate::Fit;
@@ -90,7 +90,8 @@ pub fn sweep(spec: &Spec, fit: &Fit, ds: &Dataset, req: &Request) -> Result<Swee
     sweep_with(spec, fit, ds, req, QUIET)
 }
 
-/// `sweep`, reporting the phase `demand curve` (one step per point) to `sink`.
+/// `sweep`, reporting the phases `calibration` (with the spec's share
+/// targets) and `demand curve` (one step per point) to `sink`.
 pub fn sweep_with(
     spec: &Spec,
     fit: &Fit,
@@ -117,7 +118,7 @@ pub fn sweep_with(
         MAX_STEPS,
         8 * spec.alternatives.len() + 48,
     )?;
-    let (beta, _) = base_parameters(spec, fit, &Scenario::default())?;
+    let (beta, _) = base_parameters_with(spec, fit, &Scenario::default(), sink)?;
     let mut points = Vec::with_capacity(steps);
     let phase = Phase::start(sink, "demand curve", steps);
     for s in 0..steps {

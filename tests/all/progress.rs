@@ -159,6 +159,35 @@ fn a_banded_forecast_reports_a_step_per_draw_and_its_figures_do_not_change() {
 }
 
 #[test]
+fn a_calibrated_forecast_reports_its_iterations_before_the_bands() {
+    let (spec, ds) = load("specs/commute.toml");
+    let fit = fit_spec(&spec, &ds);
+    let sc = Scenario::from_file(&path("specs/scenarios/calibrated_walk_ban.toml"), &spec).unwrap();
+    let opts = Options {
+        draws: 20,
+        ..Options::default()
+    };
+    let quiet = scenario::forecast(&spec, &fit, &ds, &sc, &opts).unwrap();
+    let c = Collect::default();
+    let watched = scenario::forecast_with(&spec, &fit, &ds, &sc, &opts, &c.sink()).unwrap();
+    assert_eq!(c.phases(), vec!["calibration", "forecast bands"]);
+    let iterations = quiet.calibration.as_ref().unwrap().iterations;
+    let steps =
+        c.0.lock()
+            .unwrap()
+            .iter()
+            .filter(|t| t.phase == "calibration")
+            .count();
+    // A tick before, one per iteration (short of the limit) and the closing one.
+    assert!(iterations > 0);
+    assert_eq!(steps, iterations + 2);
+    assert_eq!(
+        serde_json::to_string(&quiet).unwrap(),
+        serde_json::to_string(&watched).unwrap()
+    );
+}
+
+#[test]
 fn a_streamed_forecast_reports_the_file_read_and_its_figures_do_not_change() {
     let spec = sharecast::model::read_spec(&path("specs/commute.toml")).unwrap();
     let sc = scenario_file(&spec);

@@ -19,11 +19,11 @@ const QUIET_FOR: Duration = Duration::from_secs(1);
 /// The least time between two lines.
 const EVERY: Duration = Duration::from_millis(100);
 
-/// What the line last showed.
+/// What the line last showed, and when each phase began.
 struct Shown {
     phase: &'static str,
-    since: Instant,
     at: Option<Instant>,
+    began: Vec<(&'static str, Instant)>,
 }
 
 /// The progress line of one command.
@@ -42,15 +42,15 @@ impl Line {
             tty: std::io::stderr().is_terminal(),
             shown: Mutex::new(Shown {
                 phase: "",
-                since: start,
                 at: None,
+                began: Vec::new(),
             }),
         }
     }
 
-    /// Shows `what` of `phase` with the seconds the phase has run; a phase
-    /// other than the last one shown, or one that `begins` again, restarts the
-    /// clock and is shown at once.
+    /// Shows `what` of `phase` with the seconds since the phase began (first
+    /// met, or met again with `begins`); a phase other than the last one
+    /// shown, or one that begins, is shown at once.
     fn show(&self, phase: &'static str, begins: bool, what: &str) {
         if !self.tty {
             return;
@@ -59,17 +59,26 @@ impl Line {
             return;
         };
         let now = Instant::now();
+        let since = match shown.began.iter_mut().find(|b| b.0 == phase) {
+            Some(b) => {
+                if begins {
+                    b.1 = now;
+                }
+                b.1
+            }
+            None => {
+                shown.began.push((phase, now));
+                now
+            }
+        };
         let fresh = begins || shown.phase != phase;
-        if fresh {
-            shown.phase = phase;
-            shown.since = now;
-        }
+        shown.phase = phase;
         let due = fresh || shown.at.is_none_or(|t| now - t >= EVERY);
         if now - self.start < QUIET_FOR || !due {
             return;
         }
         shown.at = Some(now);
-        let secs = (now - shown.since).as_secs_f64();
+        let secs = (now - since).as_secs_f64();
         let text = format!("  {phase}  {what}  {secs:.0} s");
         crate::report::note(&format!("\r{text:WIDTH$}"));
     }

@@ -13,6 +13,7 @@ pub mod draft;
 pub mod error;
 pub mod estimate;
 pub mod model;
+pub mod progress;
 pub mod report;
 pub mod rng;
 pub mod scenario;

@@ -10,6 +10,7 @@ use crate::data::{self, Dataset, Extra, Observations};
 use crate::error::{Error, Result};
 use crate::estimate::document::{fingerprint, FitDocument};
 use crate::estimate::{self, Fit, Progress};
+use crate::progress::Sink;
 use crate::spec::Spec;
 
 /// Reads and validates a spec and loads its data (with extra columns, e.g. for segments).
@@ -87,12 +88,15 @@ impl ReportResults {
 pub const FORECAST_DRAWS: usize = 1000;
 pub const FORECAST_SEED: u64 = 7;
 
-/// Opens the spec, reads the scenarios, fits or restores, analyses and forecasts.
+/// Opens the spec, reads the scenarios, fits or restores, analyses and
+/// forecasts; the fit reports its steps to `progress`, the rest its phases to
+/// `ticks` (the analysis's, `forecast bands` per scenario, `demand curve` per curve).
 pub fn report_results(
     spec_path: &Path,
     scenarios: &[std::path::PathBuf],
     load: Option<&Path>,
     progress: Progress,
+    ticks: Sink,
 ) -> Result<ReportResults> {
     use crate::scenario::{self, Scenario};
     let spec = crate::model::read_spec(spec_path)?;
@@ -112,8 +116,8 @@ pub fn report_results(
     };
     let ds = data::load(&spec, &extra)?;
     let (fit, note) = fit_or_restore(&spec, Arc::new(ds.obs.clone()), load, progress)?;
-    let analysis =
-        crate::analysis::analyse(&spec, &fit, &ds, &crate::analysis::Options::default())?;
+    let options = crate::analysis::Options::default();
+    let analysis = crate::analysis::analyse_with(&spec, &fit, &ds, &options, ticks)?;
     let opts = scenario::Options {
         draws: FORECAST_DRAWS,
         seed: FORECAST_SEED,
@@ -125,12 +129,12 @@ pub fn report_results(
     for (file, sc) in &read {
         forecasts.push((
             file.clone(),
-            scenario::forecast(&spec, &fit, &ds, sc, &opts)?,
+            scenario::forecast_with(&spec, &fit, &ds, sc, &opts, ticks)?,
         ));
     }
     let scs: Vec<&Scenario> = read.iter().map(|(_, sc)| sc).collect();
     let curves = match price_attribute(&spec, &scs) {
-        Ok((a, named_by)) => Ok(curves(&spec, &fit, &ds, a, named_by)?),
+        Ok((a, named_by)) => Ok(curves(&spec, &fit, &ds, (a, named_by), ticks)?),
         Err(why) => Err(why),
     };
     Ok(ReportResults {
@@ -176,8 +180,8 @@ fn curves(
     spec: &Spec,
     fit: &Fit,
     ds: &Dataset,
-    a: usize,
-    named_by: String,
+    (a, named_by): (usize, String),
+    ticks: Sink,
 ) -> Result<crate::report::html::Curves> {
     use crate::scenario::sweep;
     let mut sweeps = Vec::new();
@@ -195,7 +199,7 @@ fn curves(
             to: 1.5,
             steps: 11,
         };
-        sweeps.push(sweep::sweep(spec, fit, ds, &req)?);
+        sweeps.push(sweep::sweep_with(spec, fit, ds, &req, ticks)?);
     }
     Ok(crate::report::html::Curves {
         attribute: spec.attributes[a].name.clone(),

@@ -19,15 +19,31 @@ pub fn check_draws(n: usize, params: usize, extra: usize) -> crate::error::Resul
 /// Standard errors of the figures `f(beta)` by the delta method, using the fit's
 /// inference covariance. `f` returns a vector of fixed length.
 pub fn delta_se(fit: &Fit, f: &dyn Fn(&[f64]) -> Vec<f64>) -> Vec<f64> {
-    se_from_jacobian(fit, &numeric_jacobian(fit, f))
+    delta_se_with(fit, f, &|| {})
+}
+
+/// `delta_se`, calling `each` after the figures at the estimates and after
+/// each free parameter's pair of differences (1 + free parameters calls).
+pub fn delta_se_with(fit: &Fit, f: &dyn Fn(&[f64]) -> Vec<f64>, each: &dyn Fn()) -> Vec<f64> {
+    se_from_jacobian(fit, &numeric_jacobian_with(fit, f, each))
 }
 
 /// The central-difference Jacobian of `f` at the estimates (rows: the figures,
 /// columns: the free parameters), each step a thousandth of the parameter's
 /// standard error.
 pub fn numeric_jacobian(fit: &Fit, f: &dyn Fn(&[f64]) -> Vec<f64>) -> Vec<Vec<f64>> {
+    numeric_jacobian_with(fit, f, &|| {})
+}
+
+/// `numeric_jacobian`, calling `each` as `delta_se_with` does.
+pub fn numeric_jacobian_with(
+    fit: &Fit,
+    f: &dyn Fn(&[f64]) -> Vec<f64>,
+    each: &dyn Fn(),
+) -> Vec<Vec<f64>> {
     let cov = fit.inference_covariance();
     let base = f(&fit.beta);
+    each();
     let m = base.len();
     let free = &fit.free;
     let mut jac = vec![vec![0.0; free.len()]; m];
@@ -47,6 +63,7 @@ pub fn numeric_jacobian(fit: &Fit, f: &dyn Fn(&[f64]) -> Vec<f64>) -> Vec<Vec<f6
         for r in 0..m {
             jac[r][x] = (fu[r] - fd[r]) / (2.0 * h);
         }
+        each();
     }
     jac
 }

@@ -7,7 +7,7 @@
 
 use serde::Serialize;
 
-use super::delta::delta_se;
+use super::delta::delta_se_with;
 use super::sensitivity::TermMap;
 use super::simulate::shares_with;
 use crate::design::Design;
@@ -104,6 +104,17 @@ fn shares_at(
 
 /// The flag rows of every 0/1 attribute and characteristic of the spec.
 pub fn flag_rows(spec: &Spec, fit: &Fit, map: &TermMap) -> Vec<FlagRow> {
+    flag_rows_with(spec, fit, map, crate::progress::QUIET)
+}
+
+/// `flag_rows`, reporting the phase `flag effects` (the shares at the
+/// estimates, then each free parameter's differences) to `sink` when there is a flag.
+pub fn flag_rows_with(
+    spec: &Spec,
+    fit: &Fit,
+    map: &TermMap,
+    sink: crate::progress::Sink,
+) -> Vec<FlagRow> {
     let d = &fit.design;
     let family = &*fit.family;
     let names = spec.alternative_names();
@@ -139,14 +150,18 @@ pub fn flag_rows(spec: &Spec, fit: &Fit, map: &TermMap) -> Vec<FlagRow> {
             .flat_map(|(_, _, s)| shares_at(family, d, map, beta, *s, to))
             .collect()
     };
+    let phase = crate::progress::Phase::start(sink, "flag effects", fit.free.len() + 2);
     let (s0, s1) = (at(&fit.beta, 0.0), at(&fit.beta, 1.0));
-    let se = delta_se(fit, &|b| {
+    phase.step();
+    let change = |b: &[f64]| -> Vec<f64> {
         at(b, 1.0)
             .iter()
             .zip(at(b, 0.0))
             .map(|(x, y)| x - y)
             .collect()
-    });
+    };
+    let se = delta_se_with(fit, &change, &|| phase.step());
+    phase.finish();
     let j = d.alternatives();
     let mut out = Vec::new();
     for (n, (variable, changed, _)) in switches.iter().enumerate() {

@@ -10,6 +10,7 @@ pub mod flags;
 pub mod hypothesis;
 pub mod random;
 pub mod ratios;
+pub mod rows;
 pub mod sensitivity;
 pub mod simulate;
 pub mod single_index;
@@ -20,12 +21,14 @@ use serde::Serialize;
 use crate::data::Dataset;
 use crate::error::{Error, Result};
 use crate::estimate::Fit;
+use crate::progress::{self, Phase, Sink, QUIET};
 use crate::spec::{Coefficient, Restriction, Spec};
 
 pub use diversion::{DiversionRow, PriceDiversionRow};
 pub use flags::FlagRow;
 pub use hypothesis::{ChiTest, IiaTest};
 pub use ratios::RatioRow;
+pub use rows::{sensitivity_rows, sensitivity_rows_with};
 pub use sensitivity::{ElasticityRow, MarginalRow, Sens, TermMap};
 pub use validation::{SegmentShareRow, Validation};
 
@@ -198,135 +201,6 @@ pub fn attribute_present(spec: &Spec, a: usize) -> Vec<bool> {
         .collect()
 }
 
-/// Elasticity and marginal-effect rows with delta-method errors and arc elasticities.
-pub fn sensitivity_rows(
-    spec: &Spec,
-    fit: &Fit,
-    arc_change: f64,
-) -> (Vec<ElasticityRow>, Vec<MarginalRow>, Sens) {
-    let d = &fit.design;
-    let map = TermMap::new(spec, d);
-    let family = &*fit.family;
-    // Analytic derivatives in one pass where the family has them, else differences.
-    let (sens, se) = match analytic::sensitivities_with_jacobian(
-        family,
-        d,
-        &map,
-        &fit.beta,
-        &fit.free,
-        Some(fit.baseline()),
-    ) {
-        Some((sens, jac)) => (sens, delta::se_from_jacobian(fit, &jac)),
-        None => (
-            sensitivity::sensitivities(family, d, &map, &fit.beta),
-            delta::delta_se(fit, &|b| {
-                sensitivity::sensitivities(family, d, &map, b).flat()
-            }),
-        ),
-    };
-    let flat = sens.flat();
-    let j = d.alternatives();
-    let na = spec.attributes.len();
-    let names = spec.alternative_names();
-    let (base_shares, arcs) = arc_shares(spec, fit, &map, arc_change);
-    let mut next = 0;
-    let flag_attr = flags::flag_attributes(d, &map);
-    let flag_char = flags::flag_characteristics(d);
-    let mut el = Vec::new();
-    let mut me = Vec::new();
-    let off_me = na * j * j;
-    let off_ce = 2 * na * j * j;
-    let off_cm = off_ce + spec.characteristics.len() * j;
-    for (a, attr) in spec.attributes.iter().enumerate() {
-        for k in 0..j {
-            if map.attribute[a][k].is_none() {
-                continue;
-            }
-            let arc = &arcs[next];
-            next += 1;
-            for jj in 0..j {
-                let idx = (a * j + k) * j + jj;
-                // A 0/1 flag has no elasticity (see `flags`); its derivative is kept.
-                if !flag_attr[a] {
-                    el.push(ElasticityRow {
-                        variable: attr.name.clone(),
-                        changed: Some(names[k].clone()),
-                        affected: names[jj].clone(),
-                        value: flat[idx],
-                        std_error: se[idx],
-                        arc: (arc[jj] / base_shares[jj] - 1.0) / arc_change,
-                    });
-                }
-                me.push(MarginalRow {
-                    variable: attr.name.clone(),
-                    changed: Some(names[k].clone()),
-                    alternative: names[jj].clone(),
-                    value: flat[off_me + idx],
-                    std_error: se[off_me + idx],
-                });
-            }
-        }
-    }
-    for (c, ch) in spec.characteristics.iter().enumerate() {
-        let arc = &arcs[next];
-        next += 1;
-        for jj in 0..j {
-            let idx = c * j + jj;
-            if !flag_char[c] {
-                el.push(ElasticityRow {
-                    variable: ch.name.clone(),
-                    changed: None,
-                    affected: names[jj].clone(),
-                    value: flat[off_ce + idx],
-                    std_error: se[off_ce + idx],
-                    arc: (arc[jj] / base_shares[jj] - 1.0) / arc_change,
-                });
-            }
-            me.push(MarginalRow {
-                variable: ch.name.clone(),
-                changed: None,
-                alternative: names[jj].clone(),
-                value: flat[off_cm + idx],
-                std_error: se[off_cm + idx],
-            });
-        }
-    }
-    (el, me, sens)
-}
-
-/// Base shares and the shares after each arc step (every attribute of every
-/// alternative it enters, then every characteristic), in one pass over the
-/// fit's cached base.
-fn arc_shares(spec: &Spec, fit: &Fit, map: &TermMap, arc_change: f64) -> (Vec<f64>, Vec<Vec<f64>>) {
-    let d = &fit.design;
-    let j = d.alternatives();
-    let mut edits: Vec<Box<simulate::EditFn>> = Vec::new();
-    for a in 0..spec.attributes.len() {
-        for k in 0..j {
-            let Some(param) = map.attribute[a][k] else {
-                continue;
-            };
-            edits.push(Box::new(move |i: usize, b: &[f64], v: &mut [f64]| {
-                if v[k].is_finite() {
-                    v[k] += b[param] * d.obs.attributes[a][i * j + k] * arc_change;
-                }
-            }));
-        }
-    }
-    for c in 0..spec.characteristics.len() {
-        edits.push(Box::new(move |i: usize, b: &[f64], v: &mut [f64]| {
-            let z = d.obs.characteristics[c][i];
-            for (vl, param) in v.iter_mut().zip(&map.characteristic[c]) {
-                if let (Some(p), true) = (param, vl.is_finite()) {
-                    *vl += b[*p] * z * arc_change;
-                }
-            }
-        }));
-    }
-    let refs: Vec<&simulate::EditFn> = edits.iter().map(|e| &**e).collect();
-    simulate::shares_many(&*fit.family, d, &fit.beta, fit.baseline(), &refs)
-}
-
 /// Which attribute the price diversion ratios use.
 pub fn diversion_attribute(spec: &Spec, requested: Option<&str>) -> Result<Option<usize>> {
     match requested {
@@ -348,13 +222,69 @@ pub fn diversion_attribute(spec: &Spec, requested: Option<&str>) -> Result<Optio
 }
 
 pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<Analysis> {
-    opts.check(fit.beta.len())?;
-    let d = &fit.design;
-    let names = spec.alternative_names();
-    let mut warnings = Vec::new();
-    let (elasticities, marginal_effects, sens) = sensitivity_rows(spec, fit, opts.arc_change);
-    let flag_effects = flags::flag_rows(spec, fit, &TermMap::new(spec, d));
+    analyse_with(spec, fit, ds, opts, QUIET)
+}
 
+/// `analyse`, reporting each section as a phase to `sink`: `elasticities`,
+/// `flag effects` (with 0/1 variables), `value ratios` and `Krinsky-Robb
+/// draws` (with ratios), `diversion`, `validation`, `tests`, `derived figures`.
+/// The figures are the same with any sink.
+pub fn analyse_with(
+    spec: &Spec,
+    fit: &Fit,
+    ds: &Dataset,
+    opts: &Options,
+    sink: Sink,
+) -> Result<Analysis> {
+    opts.check(fit.beta.len())?;
+    let (elasticities, marginal_effects, sens) =
+        sensitivity_rows_with(spec, fit, opts.arc_change, sink);
+    let flag_effects = flags::flag_rows_with(spec, fit, &TermMap::new(spec, &fit.design), sink);
+    let (ratios, warnings) = ratio_section(spec, fit, opts, sink);
+    let phase = Phase::start(sink, "diversion", 1);
+    let (diversion, price_diversion) = diversion_section(spec, fit, opts, &sens)?;
+    phase.finish();
+    let validation = progress::one(sink, "validation", || {
+        validation_section(spec, fit, ds, opts)
+    });
+    let (segments, validation) = validation?;
+    let tests = tests_section(spec, fit, ds, opts, sink)?;
+    let phase = Phase::start(sink, "derived figures", 3);
+    let random_coefficients = random::rows(fit);
+    phase.step();
+    let derived = derived(spec, fit);
+    phase.step();
+    let expected_category = expected_category(spec, fit);
+    phase.finish();
+    Ok(Analysis {
+        arc_change: opts.arc_change,
+        elasticities,
+        marginal_effects,
+        flag_effects,
+        ratios,
+        random_coefficients,
+        derived,
+        diversion,
+        price_diversion,
+        segments,
+        validation,
+        wald: tests.wald,
+        family_test: tests.family_test,
+        single_index: tests.single_index,
+        expected_category,
+        iia: tests.iia,
+        warnings,
+    })
+}
+
+/// The value ratios with their Krinsky-Robb intervals, and the warnings they raise.
+fn ratio_section(
+    spec: &Spec,
+    fit: &Fit,
+    opts: &Options,
+    sink: Sink,
+) -> (Vec<RatioRow>, Vec<String>) {
+    let mut warnings = Vec::new();
     let draws = if spec.ratios.is_empty() || opts.draws == 0 {
         None
     } else {
@@ -370,22 +300,38 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
             "the covariance is not positive definite, so no Krinsky-Robb draws were made".into(),
         );
     }
-    let ratios = ratios::ratios(fit, &spec.ratios, draws.as_deref(), opts.seed);
+    let ratios = ratios::ratios_with(fit, &spec.ratios, draws.as_deref(), opts.seed, sink);
     warnings.extend(
         ratios
             .iter()
             .filter_map(|r| r.warning.as_ref().map(|w| format!("{}: {w}", r.name))),
     );
+    (ratios, warnings)
+}
 
+/// Diversion on withdrawal and price diversion ratios.
+fn diversion_section(
+    spec: &Spec,
+    fit: &Fit,
+    opts: &Options,
+    sens: &Sens,
+) -> Result<(Vec<DiversionRow>, Vec<PriceDiversionRow>)> {
+    let names = spec.alternative_names();
     // Ordered categories are not withdrawn: no diversion between them.
     let diversion = if fit.family.abilities().ordered {
         Vec::new()
     } else {
-        diversion::removal(&*fit.family, d, &fit.beta, Some(fit.baseline()), &names)
+        diversion::removal(
+            &*fit.family,
+            &fit.design,
+            &fit.beta,
+            Some(fit.baseline()),
+            &names,
+        )
     };
     let price_diversion = match diversion_attribute(spec, opts.diversion_attribute.as_deref())? {
         Some(a) => diversion::price(
-            &sens,
+            sens,
             a,
             &spec.attributes[a].name,
             &attribute_present(spec, a),
@@ -393,18 +339,54 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
         ),
         None => Vec::new(),
     };
+    Ok((diversion, price_diversion))
+}
 
+/// Observed and predicted shares by segment, the hit rate and the holdout.
+fn validation_section(
+    spec: &Spec,
+    fit: &Fit,
+    ds: &Dataset,
+    opts: &Options,
+) -> Result<(Vec<SegmentShareRow>, Validation)> {
     let segments = match &opts.by {
         Some(col) => validation::by_segment(spec, fit, &ds.table, col)?,
         None => Vec::new(),
     };
     let (hit_rate, mean_chosen_probability) =
-        validation::hits(&*fit.family, d, &fit.beta, Some(fit.baseline()));
+        validation::hits(&*fit.family, &fit.design, &fit.beta, Some(fit.baseline()));
     let holdout = match validation::holdout_mask(spec, &ds.obs, &ds.table)? {
         Some(mask) => Some(validation::holdout(spec, &ds.obs, &mask)?),
         None => None,
     };
+    Ok((
+        segments,
+        Validation {
+            hit_rate,
+            mean_chosen_probability,
+            holdout,
+        },
+    ))
+}
 
+/// The tests between models.
+struct Tests {
+    wald: Option<ChiTest>,
+    family_test: Option<ChiTest>,
+    single_index: Option<single_index::SingleIndexCheck>,
+    iia: Option<IiaTest>,
+}
+
+/// The Wald test of the restrictions, the family's reduction test, the
+/// single-index check and the IIA test, as the phase `tests` of four steps.
+fn tests_section(
+    spec: &Spec,
+    fit: &Fit,
+    ds: &Dataset,
+    opts: &Options,
+    sink: Sink,
+) -> Result<Tests> {
+    let phase = Phase::start(sink, "tests", 4);
     let mut restrictions: Vec<Restriction> = spec.restrictions.clone();
     for text in &opts.restrictions {
         restrictions.push(
@@ -417,43 +399,33 @@ pub fn analyse(spec: &Spec, fit: &Fit, ds: &Dataset, opts: &Options) -> Result<A
     } else {
         Some(hypothesis::wald(fit, &restrictions)?)
     };
+    phase.step();
     let family_test = hypothesis::family_reduction(spec, fit)?;
+    phase.step();
     let single_index = single_index::check(spec, fit)?;
+    phase.step();
     let iia = match &opts.iia_drop {
-        Some(name) => {
-            let m = spec.alternative_index(name).ok_or_else(|| {
-                Error::Usage(format!("--iia-drop: `{name}` is not an alternative"))
-            })?;
-            if m == spec.base {
-                return Err(Error::Usage(format!(
-                    "--iia-drop: `{name}` is the base alternative, the one every constant and characteristic coefficient is measured from, so the test cannot drop it; drop another alternative, or make another one the base ([model].base) to test this one"
-                )));
-            }
-            Some(hypothesis::hausman_mcfadden(spec, &ds.obs, fit, m)?)
-        }
+        Some(name) => Some(iia_test(spec, fit, ds, name)?),
         None => None,
     };
-    Ok(Analysis {
-        arc_change: opts.arc_change,
-        elasticities,
-        marginal_effects,
-        flag_effects,
-        ratios,
-        random_coefficients: random::rows(fit),
-        derived: derived(spec, fit),
-        diversion,
-        price_diversion,
-        segments,
-        validation: Validation {
-            hit_rate,
-            mean_chosen_probability,
-            holdout,
-        },
+    phase.finish();
+    Ok(Tests {
         wald,
         family_test,
         single_index,
-        expected_category: expected_category(spec, fit),
         iia,
-        warnings,
     })
+}
+
+/// The Hausman-McFadden test dropping alternative `name`.
+fn iia_test(spec: &Spec, fit: &Fit, ds: &Dataset, name: &str) -> Result<IiaTest> {
+    let m = spec
+        .alternative_index(name)
+        .ok_or_else(|| Error::Usage(format!("--iia-drop: `{name}` is not an alternative")))?;
+    if m == spec.base {
+        return Err(Error::Usage(format!(
+            "--iia-drop: `{name}` is the base alternative, the one every constant and characteristic coefficient is measured from, so the test cannot drop it; drop another alternative, or make another one the base ([model].base) to test this one"
+        )));
+    }
+    hypothesis::hausman_mcfadden(spec, &ds.obs, fit, m)
 }

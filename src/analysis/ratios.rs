@@ -11,6 +11,7 @@ use super::delta::{self, quantile};
 use crate::estimate::{Fit, Z95};
 use crate::model::distribution::Distribution;
 use crate::model::RandomCoefficient;
+use crate::progress::{Phase, Sink, QUIET};
 use crate::rng::Rng;
 use crate::spec::Ratio;
 
@@ -75,14 +76,31 @@ pub fn ratios(
     draws: Option<&[Vec<f64>]>,
     seed: u64,
 ) -> Vec<RatioRow> {
+    ratios_with(fit, declared, draws, seed, QUIET)
+}
+
+/// `ratios`, reporting the phase `value ratios` (one step per ratio) to
+/// `sink`, and for a ratio of random terms its `Krinsky-Robb draws`.
+pub fn ratios_with(
+    fit: &Fit,
+    declared: &[Ratio],
+    draws: Option<&[Vec<f64>]>,
+    seed: u64,
+    sink: Sink,
+) -> Vec<RatioRow> {
+    if declared.is_empty() {
+        return Vec::new();
+    }
     let cov = fit.inference_covariance();
     let random = fit.family.random_coefficients();
-    declared
+    let phase = Phase::start(sink, "value ratios", declared.len());
+    let rows = declared
         .iter()
         .map(|r| {
             let (n, d) = (r.numerator, r.denominator);
+            let _step = Step(&phase);
             if random.iter().any(|t| t.location == n || t.location == d) {
-                return simulated(fit, r, &random, draws, seed);
+                return simulated(fit, r, &random, draws, seed, sink);
             }
             let (bn, bd) = (fit.beta[n], fit.beta[d]);
             // The willingness to pay: c * bn / bd with c = -scale for a unit more.
@@ -129,7 +147,18 @@ pub fn ratios(
                 distribution: None,
             }
         })
-        .collect()
+        .collect();
+    phase.finish();
+    rows
+}
+
+/// Counts a step of its phase when dropped (whichever way the step ends).
+struct Step<'a, 'b>(&'a Phase<'b>);
+
+impl Drop for Step<'_, '_> {
+    fn drop(&mut self) {
+        self.0.step();
+    }
 }
 
 /// Coefficient `p` at uniform draw `u`: its distribution's when it is random.
@@ -171,6 +200,7 @@ fn simulated(
     random: &[RandomCoefficient],
     draws: Option<&[Vec<f64>]>,
     seed: u64,
+    sink: Sink,
 ) -> RatioRow {
     let (n, d) = (r.numerator, r.denominator);
     let c = if r.per_less { r.scale } else { -r.scale };
@@ -184,38 +214,12 @@ fn simulated(
     let se = delta::delta_se(fit, &|b: &[f64]| {
         vec![quantile(&sample(random, b, r, c, &uniforms), 0.5)]
     })[0];
-    let (mut kr_low, mut kr_high, mut used) = (f64::NAN, f64::NAN, 0);
-    if let Some(draws) = draws {
-        let few = &uniforms[..RATIO_DRAWS_PER_PARAMETER_DRAW];
-        let mut medians: Vec<f64> = draws
-            .iter()
-            .take(RATIO_PARAMETER_DRAWS)
-            .map(|b| quantile(&sample(random, b, r, c, few), 0.5))
-            .filter(|v| v.is_finite())
-            .collect();
-        medians.sort_by(|a, b| a.total_cmp(b));
-        kr_low = quantile(&medians, 0.025);
-        kr_high = quantile(&medians, 0.975);
-        used = medians.len();
-    }
-    let den = random.iter().find(|t| t.location == d);
-    let warning = den.and_then(|t| {
-        let (m, s) = (fit.beta[t.location], fit.beta[t.spread].abs());
-        let touches_zero = s > 0.0
-            && match t.distribution {
-            Distribution::Normal => true,
-            Distribution::Uniform | Distribution::Triangular => m.abs() <= s,
-            Distribution::Lognormal | Distribution::NegativeLognormal => false,
-        };
-        touches_zero.then(|| {
-            format!(
-                "the denominator `{}` is {} across decision makers and takes values at or near zero, so the ratio has no finite mean or variance: read its median and quantiles, or make `{}` lognormal (negative-lognormal for a price)",
-                fit.names[d],
-                t.distribution.name(),
-                fit.names[d]
-            )
-        })
-    });
+    let few = &uniforms[..RATIO_DRAWS_PER_PARAMETER_DRAW];
+    let medians = draws.map(|all| kr_medians(random, all, r, c, few, sink));
+    let (kr_low, kr_high, used) = match &medians {
+        Some(m) => (quantile(m, 0.025), quantile(m, 0.975), m.len()),
+        None => (f64::NAN, f64::NAN, 0),
+    };
     let positive = vals.iter().filter(|v| **v > 0.0).count() as f64 / vals.len().max(1) as f64;
     RatioRow {
         name: r.name.clone(),
@@ -232,7 +236,7 @@ fn simulated(
         kr_high,
         draws: used,
         seed,
-        warning,
+        warning: near_zero_warning(fit, random, d),
         distribution: Some(RatioDistribution {
             median,
             quantiles: super::random::LEVELS
@@ -247,4 +251,53 @@ fn simulated(
             seed,
         }),
     }
+}
+
+/// The sorted finite medians of the ratio under the first
+/// `RATIO_PARAMETER_DRAWS` parameter draws, reported as the phase
+/// `Krinsky-Robb draws` in blocks of a hundredth.
+fn kr_medians(
+    random: &[RandomCoefficient],
+    all: &[Vec<f64>],
+    r: &Ratio,
+    c: f64,
+    few: &[(f64, f64)],
+    sink: Sink,
+) -> Vec<f64> {
+    let used = &all[..all.len().min(RATIO_PARAMETER_DRAWS)];
+    let block = used.len().div_ceil(100).max(1);
+    let phase = Phase::start(sink, "Krinsky-Robb draws", used.len());
+    let mut medians = Vec::with_capacity(used.len());
+    for part in used.chunks(block) {
+        medians.extend(
+            part.iter()
+                .map(|b| quantile(&sample(random, b, r, c, few), 0.5))
+                .filter(|v| v.is_finite()),
+        );
+        phase.advance(part.len());
+    }
+    phase.finish();
+    medians.sort_by(|a, b| a.total_cmp(b));
+    medians
+}
+
+/// The warning when the denominator, random across decision makers, takes
+/// values at or near zero.
+fn near_zero_warning(fit: &Fit, random: &[RandomCoefficient], d: usize) -> Option<String> {
+    let t = random.iter().find(|t| t.location == d)?;
+    let (m, s) = (fit.beta[t.location], fit.beta[t.spread].abs());
+    let touches_zero = s > 0.0
+        && match t.distribution {
+            Distribution::Normal => true,
+            Distribution::Uniform | Distribution::Triangular => m.abs() <= s,
+            Distribution::Lognormal | Distribution::NegativeLognormal => false,
+        };
+    touches_zero.then(|| {
+        format!(
+            "the denominator `{}` is {} across decision makers and takes values at or near zero, so the ratio has no finite mean or variance: read its median and quantiles, or make `{}` lognormal (negative-lognormal for a price)",
+            fit.names[d],
+            t.distribution.name(),
+            fit.names[d]
+        )
+    })
 }

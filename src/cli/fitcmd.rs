@@ -109,11 +109,10 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
     }
     let fit = super::fit_quietly(&spec, &ds)?;
     let draws_check = if args.draws_check {
-        let progress = super::stderr_progress();
-        let check =
-            crate::estimate::simcheck::draws_check(&spec, ds.obs.clone().into(), &fit, &progress);
-        super::clear_progress();
-        Some(check?)
+        let obs = ds.obs.clone().into();
+        Some(super::with_line(|line| {
+            crate::estimate::simcheck::draws_check(&spec, obs, &fit, &|s| line.step(s))
+        })?)
     } else {
         None
     };
@@ -123,12 +122,10 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
     let analysis = if args.analysis.no_analysis {
         None
     } else {
-        Some(analysis::analyse(
-            &spec,
-            &fit,
-            &ds,
-            &args.analysis.options(),
-        )?)
+        let opts = args.analysis.options();
+        Some(super::with_line(|line| {
+            analysis::analyse_with(&spec, &fit, &ds, &opts, &|t| line.tick(t))
+        })?)
     };
     // The results document is made only when it is printed or saved.
     let body = (args.json || args.save.is_some()).then(|| {

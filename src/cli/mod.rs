@@ -5,20 +5,18 @@ mod benchcmd;
 mod comparecmd;
 mod fitcmd;
 mod newcmd;
+mod progress;
 mod reportcmd;
 mod simcmd;
 
-use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 use std::sync::Arc;
-use std::time::Instant;
 
 use clap::{Parser, Subcommand};
 
 use crate::data::{Dataset, Extra, Observations};
 use crate::error::Result;
-use crate::estimate::Step;
 use crate::spec::Spec;
 
 #[derive(Parser, Debug)]
@@ -77,18 +75,14 @@ pub fn open(spec_path: &Path, extra: &Extra) -> Result<(Spec, Dataset)> {
     crate::workspace::open(spec_path, extra)
 }
 
-/// A progress printer for stderr that speaks only after a second and only to a terminal.
-pub fn stderr_progress() -> impl Fn(Step) + Sync {
-    let start = Instant::now();
-    let tty = std::io::stderr().is_terminal();
-    move |s: Step| {
-        if tty && start.elapsed().as_secs_f64() > 1.0 {
-            crate::report::note(&format!(
-                "\r  {} iteration {:>4}  log-likelihood {:>16.6}  gradient {:>10.3e}   ",
-                s.phase, s.iteration, s.log_likelihood, s.gradient_norm
-            ));
-        }
-    }
+pub use progress::Line;
+
+/// Runs `work` with the stderr progress line, cleared when it returns.
+pub fn with_line<T>(work: impl FnOnce(&Line) -> T) -> T {
+    let line = Line::stderr();
+    let out = work(&line);
+    line.clear();
+    out
 }
 
 pub fn run(cli: Cli) -> Result<ExitCode> {
@@ -160,27 +154,17 @@ pub fn fit_or_restore(
     let Some(path) = load else {
         return Ok((fit_quietly(spec, ds)?, None));
     };
-    let progress = stderr_progress();
-    let out =
-        crate::workspace::fit_or_restore(spec, Arc::new(ds.obs.clone()), Some(path), &progress);
-    clear_progress();
-    out
+    with_line(|line| {
+        let obs = Arc::new(ds.obs.clone());
+        crate::workspace::fit_or_restore(spec, obs, Some(path), &|s| line.step(s))
+    })
 }
 
 /// Shared by commands that fit: fits with the stderr progress line. Pass the
 /// dataset by value when it is not needed afterwards, to avoid a copy.
 pub fn fit_quietly(spec: &Spec, ds: impl IntoObservations) -> Result<crate::estimate::Fit> {
-    let progress = stderr_progress();
-    let fit = crate::estimate::fit(spec, ds.into_observations(), &progress);
-    clear_progress();
-    fit
-}
-
-/// Clears the progress line, if one was printed.
-pub(crate) fn clear_progress() {
-    if std::io::stderr().is_terminal() {
-        crate::report::note(&format!("\r{:100}\r", ""));
-    }
+    let obs = ds.into_observations();
+    with_line(|line| crate::estimate::fit(spec, obs, &|s| line.step(s)))
 }
 
 pub fn main() -> ExitCode {

@@ -37,15 +37,15 @@ pub fn run(args: ReportArgs) -> Result<ExitCode> {
             return Err(Error::io(dir, "--charts: exists and is not a folder"));
         }
     }
-    let progress = super::stderr_progress();
-    let results = crate::workspace::report_results(
-        &args.spec,
-        &args.scenarios,
-        args.load.as_deref(),
-        &progress,
-    );
-    super::clear_progress();
-    let results = results?;
+    let results = super::with_line(|line| {
+        crate::workspace::report_results(
+            &args.spec,
+            &args.scenarios,
+            args.load.as_deref(),
+            &|s| line.step(s),
+            &|t| line.tick(t),
+        )
+    })?;
     for n in &results.notes {
         crate::errln!("{n}");
     }

@@ -182,7 +182,9 @@ fn in_memory(
     fit: crate::estimate::Fit,
     ds: data::Dataset,
 ) -> Result<(scenario::Forecast, crate::estimate::Fit)> {
-    let f = scenario::forecast(spec, &fit, &ds, sc, opts)?;
+    let f = super::with_line(|line| {
+        scenario::forecast_with(spec, &fit, &ds, sc, opts, &|t| line.tick(t))
+    })?;
     if let Some(out) = &args.out {
         if args.per_situation {
             let prep = prepare::prepare(spec, &fit, &ds.table, sc)?;
@@ -206,7 +208,9 @@ fn streamed(
     chunks: &mut data::stream::Chunks,
 ) -> Result<scenario::Forecast> {
     let Some(out) = args.out.as_ref().filter(|_| args.per_situation) else {
-        let f = scenario::stream::forecast(spec, fit, chunks, sc, opts, None)?;
+        let f = super::with_line(|line| {
+            scenario::stream::forecast_with(spec, fit, chunks, sc, opts, None, &|t| line.tick(t))
+        })?;
         if let Some(out) = &args.out {
             export::forecast(out, args.force, &f)?;
         }
@@ -223,14 +227,10 @@ fn streamed(
                 writer.append(out, file, &cols)
             };
             let sink: scenario::stream::Sink = &mut append;
-            result = Some(scenario::stream::forecast(
-                spec,
-                fit,
-                chunks,
-                sc,
-                opts,
-                Some(sink),
-            )?);
+            result = Some(super::with_line(|line| {
+                let ticks = |t| line.tick(t);
+                scenario::stream::forecast_with(spec, fit, chunks, sc, opts, Some(sink), &ticks)
+            })?);
         }
         writer.finish(out, file)
     })?;
@@ -256,7 +256,9 @@ pub fn sweep(args: SweepArgs) -> Result<ExitCode> {
         to: args.to,
         steps: args.steps,
     };
-    let sw = scenario::sweep::sweep(&spec, &fit, &ds, &req)?;
+    let sw = super::with_line(|line| {
+        scenario::sweep::sweep_with(&spec, &fit, &ds, &req, &|t| line.tick(t))
+    })?;
     if args.json {
         crate::outln!("{}", serde_json::to_string_pretty(&sw).unwrap_or_default());
     } else {

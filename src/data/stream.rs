@@ -132,6 +132,25 @@ impl<'a> Chunks<'a> {
         &self.path
     }
 
+    /// How far reading has gone, as (done, total): rows of a Parquet file,
+    /// bytes of a CSV file (for progress reports).
+    pub fn position(&self) -> (u64, u64) {
+        match &self.source {
+            Source::Parquet { total, next, .. } => (*next as u64, *total as u64),
+            Source::Csv { reader, eof, .. } => {
+                let total = reader.get_ref().metadata().map_or(0, |m| m.len());
+                let held = reader.buffer().len() + self.ahead.as_ref().map_or(0, |a| a.len());
+                let at = std::io::Seek::stream_position(&mut reader.get_ref()).unwrap_or(0);
+                let done = if *eof && self.ahead.is_none() {
+                    total
+                } else {
+                    at.saturating_sub(held as u64)
+                };
+                (done.min(total), total)
+            }
+        }
+    }
+
     fn exhausted(&self) -> bool {
         match &self.source {
             Source::Parquet { total, next, .. } => next >= total,

@@ -8,6 +8,7 @@ use crate::analysis::simulate::shares;
 use crate::design::Design;
 use crate::error::{Error, Result};
 use crate::model::Family;
+use crate::progress::{Phase, Sink, QUIET};
 use crate::spec::{Spec, Term};
 
 #[derive(Clone, Debug, Serialize)]
@@ -39,24 +40,23 @@ pub fn calibrate(
     tol: f64,
     max_iterations: usize,
 ) -> Result<Calibrated> {
+    let limits = (tol, max_iterations);
+    calibrate_with(spec, d, family, beta, targets, limits, QUIET)
+}
+
+/// `calibrate` within `(tol, max_iterations)`, reporting the phase
+/// `calibration` (one step per iteration, of at most `max_iterations`) to `sink`.
+pub fn calibrate_with(
+    spec: &Spec,
+    d: &Design,
+    family: &dyn Family,
+    beta: &[f64],
+    targets: &[(usize, f64)],
+    (tol, max_iterations): (f64, usize),
+    sink: Sink,
+) -> Result<Calibrated> {
     let mut b = beta.to_vec();
-    let mut params = Vec::new();
-    for &(j, t) in targets {
-        if j == spec.base {
-            continue;
-        }
-        let p = spec
-            .parameters
-            .iter()
-            .position(|p| p.term == Term::Constant && p.alternative == Some(j))
-            .ok_or_else(|| {
-                Error::Usage(format!(
-                    "calibration: `{}` has no constant to adjust",
-                    spec.alternatives[j].name
-                ))
-            })?;
-        params.push((j, p, t));
-    }
+    let params = constants(spec, targets)?;
     let before = shares(family, d, &b);
     for &(j, _, _) in &params {
         if before[j] <= 0.0 {
@@ -66,6 +66,7 @@ pub fn calibrate(
             )));
         }
     }
+    let phase = Phase::start(sink, "calibration", max_iterations);
     let mut iterations = 0;
     let mut s = before.clone();
     let err = |s: &[f64]| {
@@ -86,7 +87,9 @@ pub fn calibrate(
         }
         s = shares(family, d, &b);
         iterations += 1;
+        phase.step();
     }
+    phase.finish();
     let rows = targets
         .iter()
         .map(|&(j, t)| {
@@ -110,4 +113,27 @@ pub fn calibrate(
         rows,
         beta: b,
     })
+}
+
+/// The constant of each target's alternative (the base's is held at 0):
+/// (alternative, parameter, target).
+fn constants(spec: &Spec, targets: &[(usize, f64)]) -> Result<Vec<(usize, usize, f64)>> {
+    let mut params = Vec::new();
+    for &(j, t) in targets {
+        if j == spec.base {
+            continue;
+        }
+        let p = spec
+            .parameters
+            .iter()
+            .position(|p| p.term == Term::Constant && p.alternative == Some(j))
+            .ok_or_else(|| {
+                Error::Usage(format!(
+                    "calibration: `{}` has no constant to adjust",
+                    spec.alternatives[j].name
+                ))
+            })?;
+        params.push((j, p, t));
+    }
+    Ok(params)
 }

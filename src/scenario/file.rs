@@ -2,7 +2,6 @@
 //! spec (attribute, alternative and expression errors name the key), and
 //! written back out (the workbench saves its what-ifs this way).
 
-use std::fmt::Write;
 use std::path::Path;
 
 use serde::Deserialize;
@@ -147,164 +146,33 @@ impl Scenario {
     }
 
     pub fn from_str(text: &str, path: &Path, spec: &Spec) -> Result<Scenario> {
-        let fail = |m: String| Error::spec(path, m);
+        let r = Reader { spec, path };
         let raw: RawScenario = toml::from_str(text).map_err(|e| {
-            fail(format!(
+            r.fail(format!(
                 "not a valid scenario: {}",
                 crate::error::toml_message(text, &e)
             ))
         })?;
-        let alt = |key: &str, name: &str| {
-            spec.alternative_index(name).ok_or_else(|| {
-                fail(format!(
-                    "{key}: `{name}` is not an alternative of the spec ({})",
-                    spec.alternative_names().join(", ")
-                ))
-            })
-        };
-        let parse_expr =
-            |key: &str, text: &str| Expr::parse(text).map_err(|e| fail(format!("{key}: {e}")));
         let mut changes = Vec::new();
         for (n, c) in raw.change.iter().enumerate() {
-            let key = format!("[[change]] #{} ({})", n + 1, c.attribute);
-            let ops = [
-                c.multiply.map(Op::Multiply),
-                c.add.map(Op::Add),
-                c.set.map(Op::Set),
-            ];
-            let given: Vec<Op> = ops.iter().flatten().copied().collect();
-            if given.len() != 1 {
-                return Err(fail(format!(
-                    "{key}: give exactly one of `multiply`, `add` or `set` (found {})",
-                    given.len()
-                )));
-            }
-            let op = given[0];
-            let (word, v) = match op {
-                Op::Multiply(v) => ("multiply", v),
-                Op::Add(v) => ("add", v),
-                Op::Set(v) => ("set", v),
-            };
-            finite_value(&format!("{key}.{word}"), v).map_err(&fail)?;
-            let target = if let Some(a) = spec.attributes.iter().position(|x| x.name == c.attribute)
-            {
-                let name = c.alternative.as_deref().ok_or_else(|| {
-                    fail(format!("{key}: `{}` is an attribute, so name the `alternative` whose value changes", c.attribute))
-                })?;
-                let k = alt(&format!("{key}.alternative"), name)?;
-                if spec.attributes[a].sources[k].is_none() {
-                    return Err(fail(format!(
-                        "{key}: attribute `{}` does not enter alternative `{name}`",
-                        c.attribute
-                    )));
-                }
-                Target::Attribute {
-                    attribute: a,
-                    alternative: k,
-                }
-            } else if let Some(ci) = spec
-                .characteristics
-                .iter()
-                .position(|x| x.name == c.attribute)
-            {
-                if c.alternative.is_some() {
-                    return Err(fail(format!(
-                        "{key}: `{}` is a characteristic of the decision maker; leave out `alternative`",
-                        c.attribute
-                    )));
-                }
-                Target::Characteristic { characteristic: ci }
-            } else {
-                let known: Vec<&str> = spec
-                    .attributes
-                    .iter()
-                    .map(|a| a.name.as_str())
-                    .chain(spec.characteristics.iter().map(|c| c.name.as_str()))
-                    .collect();
-                return Err(fail(format!(
-                    "{key}.attribute: `{}` is not an attribute or characteristic of the spec ({})",
-                    c.attribute,
-                    known.join(", ")
-                )));
-            };
-            let filter = match &c.filter {
-                Some(t) => Some((t.clone(), parse_expr(&format!("{key}.where"), t)?)),
-                None => None,
-            };
-            changes.push(Change { target, op, filter });
+            changes.push(r.change(n, c)?);
         }
         let mut remove = Vec::new();
-        for r in &raw.remove {
-            let k = alt("remove", r)?;
+        for name in &raw.remove {
+            let k = r.alt("remove", name)?;
             if !remove.contains(&k) {
                 remove.push(k);
             }
         }
         if remove.len() >= spec.alternatives.len() && raw.new_alternative.is_empty() {
-            return Err(fail(
-                "remove: withdrawing every alternative leaves nothing to choose".into(),
-            ));
+            return Err(
+                r.fail("remove: withdrawing every alternative leaves nothing to choose".into())
+            );
         }
         let mut new_alternatives = Vec::new();
         for n in &raw.new_alternative {
-            let key = format!("[[new_alternative]] {}", n.name);
-            if spec.alternative_index(&n.name).is_some()
-                || new_alternatives
-                    .iter()
-                    .any(|x: &NewAlternative| x.name == n.name)
-            {
-                return Err(fail(format!("{key}: the name is taken")));
-            }
-            let like = alt(&format!("{key}.like"), &n.like)?;
-            let mut attributes = Vec::new();
-            for (name, v) in n.attributes.iter() {
-                let a = spec
-                    .attributes
-                    .iter()
-                    .position(|x| &x.name == name)
-                    .ok_or_else(|| {
-                        fail(format!(
-                            "{key}.attributes.{name}: `{name}` is not an attribute of the spec"
-                        ))
-                    })?;
-                if spec.attributes[a].sources[like].is_none() {
-                    return Err(fail(format!(
-                        "{key}.attributes.{name}: `{name}` does not enter `{}`, so the new alternative has no coefficient for it",
-                        n.like
-                    )));
-                }
-                let value = match v {
-                    toml::Value::Integer(i) => NewValue::Number(*i as f64),
-                    toml::Value::Float(f) => NewValue::Number(*f),
-                    toml::Value::String(s) => NewValue::Expression(
-                        s.clone(),
-                        parse_expr(&format!("{key}.attributes.{name}"), s)?,
-                    ),
-                    _ => {
-                        return Err(fail(format!(
-                            "{key}.attributes.{name}: give a number or an expression string"
-                        )))
-                    }
-                };
-                attributes.push((a, value));
-            }
-            if let Some(c) = n.constant {
-                finite_value(&format!("{key}.constant"), c).map_err(&fail)?;
-            }
-            for (a, v) in &attributes {
-                if let NewValue::Number(x) = v {
-                    let name = &spec.attributes[*a].name;
-                    finite_value(&format!("{key}.attributes.{name}"), *x).map_err(&fail)?;
-                }
-            }
-            new_alternatives.push(NewAlternative {
-                name: n.name.clone(),
-                like,
-                nest: n.nest.clone(),
-                constant: n.constant,
-                available: n.available.clone(),
-                attributes,
-            });
+            let na = r.new_alternative(n, &new_alternatives)?;
+            new_alternatives.push(na);
         }
         let calibration = match &raw.calibration {
             Some(c) => Some(
@@ -315,7 +183,7 @@ impl Scenario {
                     spec.constants,
                     "[calibration].targets",
                 )
-                .map_err(fail)?,
+                .map_err(|m| r.fail(m))?,
             ),
             None => None,
         };
@@ -324,7 +192,9 @@ impl Scenario {
                 spec.attributes
                     .iter()
                     .position(|a| &a.name == p)
-                    .ok_or_else(|| fail(format!("price: `{p}` is not an attribute of the spec")))?,
+                    .ok_or_else(|| {
+                        r.fail(format!("price: `{p}` is not an attribute of the spec"))
+                    })?,
             ),
             None => None,
         };
@@ -375,107 +245,181 @@ impl Scenario {
         }
         out
     }
+}
 
-    /// The scenario as a TOML file that `from_str` reads back.
-    pub fn to_toml(&self, spec: &Spec) -> String {
-        let q = |s: &str| toml::Value::String(s.to_string()).to_string();
-        let key = |s: &str| {
-            if !s.is_empty()
-                && s.chars()
-                    .all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-')
-            {
-                s.to_string()
-            } else {
-                q(s)
+/// Reads a scenario's parts against the spec; errors name the scenario file.
+struct Reader<'a> {
+    spec: &'a Spec,
+    path: &'a Path,
+}
+
+impl Reader<'_> {
+    fn fail(&self, message: String) -> Error {
+        Error::spec(self.path, message)
+    }
+
+    /// The alternative `name` given at `key`.
+    fn alt(&self, key: &str, name: &str) -> Result<usize> {
+        self.spec.alternative_index(name).ok_or_else(|| {
+            self.fail(format!(
+                "{key}: `{name}` is not an alternative of the spec ({})",
+                self.spec.alternative_names().join(", ")
+            ))
+        })
+    }
+
+    fn expr(&self, key: &str, text: &str) -> Result<Expr> {
+        Expr::parse(text).map_err(|e| self.fail(format!("{key}: {e}")))
+    }
+
+    /// The `n`-th `[[change]]` (from 0).
+    fn change(&self, n: usize, c: &RawChange) -> Result<Change> {
+        let key = format!("[[change]] #{} ({})", n + 1, c.attribute);
+        let ops = [
+            c.multiply.map(Op::Multiply),
+            c.add.map(Op::Add),
+            c.set.map(Op::Set),
+        ];
+        let given: Vec<Op> = ops.iter().flatten().copied().collect();
+        if given.len() != 1 {
+            return Err(self.fail(format!(
+                "{key}: give exactly one of `multiply`, `add` or `set` (found {})",
+                given.len()
+            )));
+        }
+        let op = given[0];
+        let (word, v) = match op {
+            Op::Multiply(v) => ("multiply", v),
+            Op::Add(v) => ("add", v),
+            Op::Set(v) => ("set", v),
+        };
+        finite_value(&format!("{key}.{word}"), v).map_err(|m| self.fail(m))?;
+        let target = self.target(&key, c)?;
+        let filter = match &c.filter {
+            Some(t) => Some((t.clone(), self.expr(&format!("{key}.where"), t)?)),
+            None => None,
+        };
+        Ok(Change { target, op, filter })
+    }
+
+    /// What a `[[change]]` changes: an attribute of an alternative, or a characteristic.
+    fn target(&self, key: &str, c: &RawChange) -> Result<Target> {
+        let spec = self.spec;
+        if let Some(a) = spec.attributes.iter().position(|x| x.name == c.attribute) {
+            let name = c.alternative.as_deref().ok_or_else(|| {
+                self.fail(format!(
+                    "{key}: `{}` is an attribute, so name the `alternative` whose value changes",
+                    c.attribute
+                ))
+            })?;
+            let k = self.alt(&format!("{key}.alternative"), name)?;
+            if spec.attributes[a].sources[k].is_none() {
+                return Err(self.fail(format!(
+                    "{key}: attribute `{}` does not enter alternative `{name}`",
+                    c.attribute
+                )));
+            }
+            return Ok(Target::Attribute {
+                attribute: a,
+                alternative: k,
+            });
+        }
+        if let Some(ci) = spec
+            .characteristics
+            .iter()
+            .position(|x| x.name == c.attribute)
+        {
+            if c.alternative.is_some() {
+                return Err(self.fail(format!(
+                    "{key}: `{}` is a characteristic of the decision maker; leave out `alternative`",
+                    c.attribute
+                )));
+            }
+            return Ok(Target::Characteristic { characteristic: ci });
+        }
+        let known: Vec<&str> = spec
+            .attributes
+            .iter()
+            .map(|a| a.name.as_str())
+            .chain(spec.characteristics.iter().map(|c| c.name.as_str()))
+            .collect();
+        Err(self.fail(format!(
+            "{key}.attribute: `{}` is not an attribute or characteristic of the spec ({})",
+            c.attribute,
+            known.join(", ")
+        )))
+    }
+
+    /// A `[[new_alternative]]`, after the `earlier` ones.
+    fn new_alternative(&self, n: &RawNew, earlier: &[NewAlternative]) -> Result<NewAlternative> {
+        let key = format!("[[new_alternative]] {}", n.name);
+        if self.spec.alternative_index(&n.name).is_some()
+            || earlier.iter().any(|x| x.name == n.name)
+        {
+            return Err(self.fail(format!("{key}: the name is taken")));
+        }
+        let like = self.alt(&format!("{key}.like"), &n.like)?;
+        let mut attributes = Vec::new();
+        for (name, v) in n.attributes.iter() {
+            attributes.push(self.new_value(&key, n, like, name, v)?);
+        }
+        if let Some(c) = n.constant {
+            finite_value(&format!("{key}.constant"), c).map_err(|m| self.fail(m))?;
+        }
+        for (a, v) in &attributes {
+            if let NewValue::Number(x) = v {
+                let name = &self.spec.attributes[*a].name;
+                finite_value(&format!("{key}.attributes.{name}"), *x).map_err(|m| self.fail(m))?;
+            }
+        }
+        Ok(NewAlternative {
+            name: n.name.clone(),
+            like,
+            nest: n.nest.clone(),
+            constant: n.constant,
+            available: n.available.clone(),
+            attributes,
+        })
+    }
+
+    /// One entry `name = v` of a new alternative's `attributes`.
+    fn new_value(
+        &self,
+        key: &str,
+        n: &RawNew,
+        like: usize,
+        name: &str,
+        v: &toml::Value,
+    ) -> Result<(usize, NewValue)> {
+        let spec = self.spec;
+        let a = spec
+            .attributes
+            .iter()
+            .position(|x| x.name == name)
+            .ok_or_else(|| {
+                self.fail(format!(
+                    "{key}.attributes.{name}: `{name}` is not an attribute of the spec"
+                ))
+            })?;
+        if spec.attributes[a].sources[like].is_none() {
+            return Err(self.fail(format!(
+                "{key}.attributes.{name}: `{name}` does not enter `{}`, so the new alternative has no coefficient for it",
+                n.like
+            )));
+        }
+        let value = match v {
+            toml::Value::Integer(i) => NewValue::Number(*i as f64),
+            toml::Value::Float(f) => NewValue::Number(*f),
+            toml::Value::String(s) => NewValue::Expression(
+                s.clone(),
+                self.expr(&format!("{key}.attributes.{name}"), s)?,
+            ),
+            _ => {
+                return Err(self.fail(format!(
+                    "{key}.attributes.{name}: give a number or an expression string"
+                )))
             }
         };
-        let mut s = String::new();
-        let _ = writeln!(s, "name = {}", q(&self.name));
-        if !self.remove.is_empty() {
-            let names: Vec<String> = self
-                .remove
-                .iter()
-                .map(|&k| q(&spec.alternatives[k].name))
-                .collect();
-            let _ = writeln!(s, "remove = [{}]", names.join(", "));
-        }
-        if let Some(p) = self.price {
-            let _ = writeln!(s, "price = {}", q(&spec.attributes[p].name));
-        }
-        for c in &self.changes {
-            let _ = writeln!(s, "\n[[change]]");
-            match c.target {
-                Target::Attribute {
-                    attribute,
-                    alternative,
-                } => {
-                    let _ = writeln!(s, "attribute = {}", q(&spec.attributes[attribute].name));
-                    let _ = writeln!(
-                        s,
-                        "alternative = {}",
-                        q(&spec.alternatives[alternative].name)
-                    );
-                }
-                Target::Characteristic { characteristic } => {
-                    let _ = writeln!(
-                        s,
-                        "attribute = {}",
-                        q(&spec.characteristics[characteristic].name)
-                    );
-                }
-            }
-            let (key, v) = match c.op {
-                Op::Multiply(v) => ("multiply", v),
-                Op::Add(v) => ("add", v),
-                Op::Set(v) => ("set", v),
-            };
-            let _ = writeln!(s, "{key} = {}", toml::Value::Float(v));
-            if let Some((text, _)) = &c.filter {
-                let _ = writeln!(s, "where = {}", q(text));
-            }
-        }
-        for n in &self.new_alternatives {
-            let _ = writeln!(
-                s,
-                "\n[[new_alternative]]\nname = {}\nlike = {}",
-                q(&n.name),
-                q(&spec.alternatives[n.like].name)
-            );
-            if let Some(g) = &n.nest {
-                let _ = writeln!(s, "nest = {}", q(g));
-            }
-            if let Some(c) = n.constant {
-                let _ = writeln!(s, "constant = {}", toml::Value::Float(c));
-            }
-            if let Some(a) = &n.available {
-                let _ = writeln!(s, "available = {}", q(a));
-            }
-            let parts: Vec<String> = n
-                .attributes
-                .iter()
-                .map(|(a, v)| {
-                    let v = match v {
-                        NewValue::Number(x) => toml::Value::Float(*x).to_string(),
-                        NewValue::Expression(t, _) => q(t),
-                    };
-                    format!("{} = {v}", key(&spec.attributes[*a].name))
-                })
-                .collect();
-            let _ = writeln!(s, "attributes = {{ {} }}", parts.join(", "));
-        }
-        if let Some(t) = &self.calibration {
-            let parts: Vec<String> = t
-                .iter()
-                .map(|(j, v)| {
-                    format!(
-                        "{} = {}",
-                        key(&spec.alternatives[*j].name),
-                        toml::Value::Float(*v)
-                    )
-                })
-                .collect();
-            let _ = writeln!(s, "\n[calibration]\ntargets = {{ {} }}", parts.join(", "));
-        }
-        s
+        Ok((a, value))
     }
 }

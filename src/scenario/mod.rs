@@ -4,20 +4,25 @@
 
 pub mod calibrate;
 pub mod export;
+mod figures;
 pub mod file;
 pub mod prepare;
 pub mod simulate;
 pub mod stream;
 pub mod sweep;
+mod written;
+
+use figures::{assemble, Figures};
 
 use serde::Serialize;
 
 pub use file::{Change, NewAlternative, Op, Scenario, Target};
 
-use crate::analysis::delta::{draws, quantile};
+use crate::analysis::delta::draws;
 use crate::data::Dataset;
 use crate::error::{Error, Result};
 use crate::estimate::Fit;
+use crate::progress::{Phase, Sink, QUIET};
 use crate::spec::Spec;
 
 /// How shares become volumes.
@@ -116,17 +121,6 @@ pub struct Forecast {
     pub warnings: Vec<String>,
 }
 
-/// The warning for situations a withdrawal leaves with nothing to choose.
-fn stranded_warning(count: usize, lost: f64, total: usize) -> Option<String> {
-    (count > 0).then(|| {
-        format!(
-            "{count} of {total} situations have no available alternative left in this scenario; their demand ({:.2}% of the weight) is counted as lost, so the scenario shares add up to {:.4} rather than 1",
-            100.0 * lost,
-            1.0 - lost
-        )
-    })
-}
-
 /// Segment index of every situation and the labels, for a situation-level column.
 pub fn segment_index(ds: &Dataset, column: &str) -> Result<(Vec<u32>, Vec<String>)> {
     ds.table.segments(column, "--by segment column")
@@ -137,6 +131,16 @@ pub fn base_parameters(
     spec: &Spec,
     fit: &Fit,
     scenario: &Scenario,
+) -> Result<(Vec<f64>, Option<calibrate::Calibrated>)> {
+    base_parameters_with(spec, fit, scenario, QUIET)
+}
+
+/// `base_parameters`, reporting a calibration's phase to `sink`.
+pub fn base_parameters_with(
+    spec: &Spec,
+    fit: &Fit,
+    scenario: &Scenario,
+    sink: Sink,
 ) -> Result<(Vec<f64>, Option<calibrate::Calibrated>)> {
     let targets = scenario
         .calibration
@@ -150,8 +154,8 @@ pub fn base_parameters(
     match targets {
         None => Ok((fit.beta.clone(), None)),
         Some(t) => {
-            let c =
-                calibrate::calibrate(spec, &fit.design, &*fit.family, &fit.beta, &t, tol, max_it)?;
+            let (d, family) = (&fit.design, &*fit.family);
+            let c = calibrate::calibrate_with(spec, d, family, &fit.beta, &t, (tol, max_it), sink)?;
             Ok((c.beta.clone(), Some(c)))
         }
     }
@@ -187,24 +191,6 @@ fn check(spec: &Spec, fit: &Fit, scenario: &Scenario, opts: &Options) -> Result<
     Ok(())
 }
 
-/// What a forecast's figures come from, however the situations were passed over.
-struct Figures {
-    names: Vec<String>,
-    point: simulate::Pass,
-    /// Per alternative, the scenario share and the change under each parameter draw.
-    band_scen: Vec<Vec<f64>>,
-    band_change: Vec<Vec<f64>>,
-    /// Per segment and alternative, the scenario share under each draw.
-    band_seg: Vec<Vec<f64>>,
-    labels: Option<Vec<String>>,
-    situations: usize,
-    stranded_situations: usize,
-    lost_share: f64,
-    market: Option<f64>,
-    calibration: Option<calibrate::Calibrated>,
-    warnings: Vec<String>,
-}
-
 pub fn forecast(
     spec: &Spec,
     fit: &Fit,
@@ -212,10 +198,24 @@ pub fn forecast(
     scenario: &Scenario,
     opts: &Options,
 ) -> Result<Forecast> {
+    forecast_with(spec, fit, ds, scenario, opts, QUIET)
+}
+
+/// `forecast`, reporting the phases `calibration` (with share targets) and
+/// `forecast bands` (one step per parameter draw) to `sink`. The figures are
+/// the same with any sink.
+pub fn forecast_with(
+    spec: &Spec,
+    fit: &Fit,
+    ds: &Dataset,
+    scenario: &Scenario,
+    opts: &Options,
+    sink: Sink,
+) -> Result<Forecast> {
     check(spec, fit, scenario, opts)?;
     let d = &fit.design;
     let prep = prepare::prepare(spec, fit, &ds.table, scenario)?;
-    let (beta, calibration) = base_parameters(spec, fit, scenario)?;
+    let (beta, calibration) = base_parameters_with(spec, fit, scenario, sink)?;
     let seg = match &opts.by {
         Some(c) => Some(segment_index(ds, c)?),
         None => None,
@@ -224,48 +224,21 @@ pub fn forecast(
     // The cached baseline applies when the parameters are the estimates (no calibration).
     let quick = opts.quick.then(|| fit.family.for_bands()).flatten();
     let baseline = (beta == fit.beta && quick.is_none()).then(|| fit.baseline());
-    let point = simulate::run(
-        quick.as_deref().unwrap_or(&*fit.family),
-        d,
-        &beta,
-        &prep,
-        seg_arg,
-        scenario.price,
-        baseline,
-    );
-    let m = prep.alternatives();
+    let family = quick.as_deref().unwrap_or(&*fit.family);
+    let point = simulate::run(family, d, &beta, &prep, seg_arg, scenario.price, baseline);
     let mut warnings = Vec::new();
     let (stranded_situations, stranded_weight) = prep.stranded(d);
     let lost_share = stranded_weight / d.total_weight().max(1e-300);
-
-    // Bands from draws of the parameters; a calibration shift is carried to every draw.
-    let shift: Vec<f64> = beta.iter().zip(&fit.beta).map(|(a, b)| a - b).collect();
-    let mut band_scen = vec![Vec::new(); m];
-    let mut band_change = vec![Vec::new(); m];
-    let nseg = seg.as_ref().map(|s| s.1.len()).unwrap_or(0);
-    let mut band_seg = vec![Vec::new(); nseg * m];
-    if opts.draws > 0 {
-        match draws(fit, opts.draws, opts.seed) {
-            Some(all) => {
-                // A family that simulates may use fewer draws per parameter draw.
-                let family = fit.family.for_bands().unwrap_or_else(|| fit.family.clone());
-                for b in all {
-                    let b: Vec<f64> = b.iter().zip(&shift).map(|(x, s)| x + s).collect();
-                    let (base, scen, segs) = simulate::shares_only(&*family, d, &b, &prep, seg_arg);
-                    for a in 0..m {
-                        band_scen[a].push(scen[a]);
-                        band_change[a].push(scen[a] - base[a]);
-                    }
-                    for (s, (_, sc)) in segs.iter().enumerate() {
-                        for a in 0..m {
-                            band_seg[s * m + a].push(sc[a]);
-                        }
-                    }
-                }
-            }
-            None => warnings.push(NO_BANDS.into()),
-        }
-    }
+    let run = BandRun {
+        fit,
+        beta: &beta,
+        prep: &prep,
+        seg: seg_arg,
+    };
+    let bands = run.bands(opts, sink).unwrap_or_else(|| {
+        warnings.push(NO_BANDS.into());
+        Bands::empty(prep.alternatives(), seg_arg.map_or(0, |s| s.1))
+    });
     let market = match &opts.market {
         Some(Market::Total(t)) => Some(*t),
         Some(Market::Weights) => Some(d.obs.weight_total),
@@ -277,9 +250,9 @@ pub fn forecast(
         Figures {
             names: prep.names.clone(),
             point,
-            band_scen,
-            band_change,
-            band_seg,
+            band_scen: bands.scen,
+            band_change: bands.change,
+            band_seg: bands.seg,
             labels: seg.map(|s| s.1),
             situations: d.situations(),
             stranded_situations,
@@ -291,114 +264,71 @@ pub fn forecast(
     ))
 }
 
-/// The warning when the parameters cannot be drawn.
-const NO_BANDS: &str = "the covariance is not positive definite: no uncertainty bands";
+/// The shares under each parameter draw: per alternative the scenario share
+/// and the change, per segment and alternative the scenario share.
+struct Bands {
+    scen: Vec<Vec<f64>>,
+    change: Vec<Vec<f64>>,
+    seg: Vec<Vec<f64>>,
+}
 
-/// The forecast from its figures: shares with bands, volumes and revenue,
-/// switching, segments and warnings.
-fn assemble(scenario: &Scenario, opts: &Options, fig: Figures) -> Forecast {
-    let Figures {
-        names,
-        point,
-        mut band_scen,
-        mut band_change,
-        mut band_seg,
-        labels,
-        situations,
-        stranded_situations,
-        lost_share,
-        market,
-        calibration,
-        mut warnings,
-    } = fig;
-    let m = names.len();
-    // The stranded warning comes first.
-    if let Some(w) = stranded_warning(stranded_situations, lost_share, situations) {
-        warnings.insert(0, w);
-    }
-    let band = |v: &mut Vec<f64>| {
-        v.sort_by(|a, b| a.total_cmp(b));
-        (quantile(v, 0.025), quantile(v, 0.975))
-    };
-    let mut shares = Vec::new();
-    for a in 0..m {
-        let (low, high) = band(&mut band_scen[a]);
-        let (change_low, change_high) = band(&mut band_change[a]);
-        let (b, s) = (point.base[a], point.scenario[a]);
-        shares.push(ShareRow {
-            alternative: names[a].clone(),
-            base: b,
-            scenario: s,
-            change: s - b,
-            relative_change: if b > 0.0 { (s - b) / b } else { f64::NAN },
-            low,
-            high,
-            change_low,
-            change_high,
-            base_volume: market.map(|t| t * b),
-            scenario_volume: market.map(|t| t * s),
-            base_revenue: point
-                .revenue
-                .as_ref()
-                .and_then(|r| market.map(|t| t * r.0[a])),
-            scenario_revenue: point
-                .revenue
-                .as_ref()
-                .and_then(|r| market.map(|t| t * r.1[a])),
-        });
-    }
-    if point.revenue.is_some() && market.is_none() {
-        warnings.push("a price attribute is named but no market size is given (--market), so no revenue is shown".into());
-    }
-    let mut switching = Vec::new();
-    for from in 0..m {
-        for to in 0..m {
-            let share = point.switching[from * m + to];
-            if from != to && share > 0.0 {
-                switching.push(SwitchRow {
-                    from: names[from].clone(),
-                    to: names[to].clone(),
-                    share,
-                });
-            }
+impl Bands {
+    fn empty(m: usize, nseg: usize) -> Bands {
+        Bands {
+            scen: vec![Vec::new(); m],
+            change: vec![Vec::new(); m],
+            seg: vec![Vec::new(); nseg * m],
         }
-    }
-    let mut segments = Vec::new();
-    if let Some(labels) = &labels {
-        for (s, label) in labels.iter().enumerate() {
-            let (b, sc) = &point.segments[s];
-            for a in 0..m {
-                let (low, high) = band(&mut band_seg[s * m + a]);
-                segments.push(SegmentRow {
-                    segment: label.clone(),
-                    alternative: names[a].clone(),
-                    situations: point.segment_count[s] as usize,
-                    base: b[a],
-                    scenario: sc[a],
-                    change: sc[a] - b[a],
-                    low,
-                    high,
-                });
-            }
-        }
-    }
-    Forecast {
-        scenario: scenario.name.clone(),
-        draws: if band_scen.first().is_some_and(|v| !v.is_empty()) {
-            opts.draws
-        } else {
-            0
-        },
-        seed: opts.seed,
-        situations,
-        shares,
-        switching,
-        segments,
-        segment_column: opts.by.clone(),
-        market,
-        calibration,
-        stranded_situations,
-        lost_share,
-        warnings,
     }
 }
+
+/// What the bands are drawn around: the fit, the parameters used (calibrated
+/// or not), the prepared scenario and the segments.
+struct BandRun<'a> {
+    fit: &'a Fit,
+    beta: &'a [f64],
+    prep: &'a prepare::Prepared,
+    seg: Option<(&'a [u32], usize)>,
+}
+
+impl BandRun<'_> {
+    /// Bands from draws of the parameters (none without draws), a calibration
+    /// shift carried to every draw; `None` when the parameters cannot be drawn.
+    fn bands(&self, opts: &Options, sink: Sink) -> Option<Bands> {
+        let (fit, m) = (self.fit, self.prep.alternatives());
+        let mut out = Bands::empty(m, self.seg.map_or(0, |s| s.1));
+        if opts.draws == 0 {
+            return Some(out);
+        }
+        let all = draws(fit, opts.draws, opts.seed)?;
+        let shift: Vec<f64> = self
+            .beta
+            .iter()
+            .zip(&fit.beta)
+            .map(|(a, b)| a - b)
+            .collect();
+        // A family that simulates may use fewer draws per parameter draw.
+        let family = fit.family.for_bands().unwrap_or_else(|| fit.family.clone());
+        let phase = Phase::start(sink, "forecast bands", all.len());
+        for b in all {
+            let b: Vec<f64> = b.iter().zip(&shift).map(|(x, s)| x + s).collect();
+            let (base, scen, segs) =
+                simulate::shares_only(&*family, &fit.design, &b, self.prep, self.seg);
+            for a in 0..m {
+                out.scen[a].push(scen[a]);
+                out.change[a].push(scen[a] - base[a]);
+            }
+            for (s, (_, sc)) in segs.iter().enumerate() {
+                for (a, x) in sc.iter().enumerate().take(m) {
+                    out.seg[s * m + a].push(*x);
+                }
+            }
+            phase.step();
+        }
+        phase.finish();
+        Some(out)
+    }
+}
+
+/// The warning when the parameters cannot be drawn.
+const NO_BANDS: &str = "the covariance is not positive definite: no uncertainty bands";

@@ -4,7 +4,7 @@
 //! values of new alternatives. Utilities at any parameter vector then follow
 //! without copying the design.
 
-use super::file::{NewValue, Scenario, Target};
+use super::file::{NewAlternative, NewValue, Scenario, Target};
 use crate::analysis::TermMap;
 use crate::data::Table;
 use crate::design::Design;
@@ -70,62 +70,7 @@ pub fn prepare(spec: &Spec, fit: &Fit, table: &Table, s: &Scenario) -> Result<Pr
             "the scenario's data table does not match the design".into(),
         ));
     }
-    // Current values of changed attributes, so that successive changes compound.
-    let mut current: Vec<((usize, usize), Vec<f64>)> = Vec::new();
-    let mut chars: Vec<(usize, Vec<f64>)> = Vec::new();
-    for (ci, ch) in s.changes.iter().enumerate() {
-        let mask = match &ch.filter {
-            Some((text, e)) => Some(eval(
-                table,
-                &format!("[[change]] #{} where", ci + 1),
-                text,
-                e,
-                spec,
-            )?),
-            None => None,
-        };
-        let keep = |i: usize| mask.as_ref().is_none_or(|m| m[i] != 0.0);
-        match ch.target {
-            Target::Attribute {
-                attribute,
-                alternative,
-            } => {
-                let pos = match current.iter().position(|c| c.0 == (attribute, alternative)) {
-                    Some(p) => p,
-                    None => {
-                        let x = (0..n)
-                            .map(|i| d.obs.attributes[attribute][i * j + alternative])
-                            .collect();
-                        current.push(((attribute, alternative), x));
-                        current.len() - 1
-                    }
-                };
-                let x = &mut current[pos].1;
-                for (i, xi) in x.iter_mut().enumerate() {
-                    if keep(i) && d.available(i, alternative) {
-                        *xi = ch.op.apply(*xi);
-                    }
-                }
-            }
-            Target::Characteristic { characteristic } => {
-                let pos = match chars.iter().position(|c| c.0 == characteristic) {
-                    Some(p) => p,
-                    None => {
-                        chars.push((
-                            characteristic,
-                            d.obs.characteristics[characteristic].clone(),
-                        ));
-                        chars.len() - 1
-                    }
-                };
-                for (i, zi) in chars[pos].1.iter_mut().enumerate() {
-                    if keep(i) {
-                        *zi = ch.op.apply(*zi);
-                    }
-                }
-            }
-        }
-    }
+    let (current, chars) = changed_values(spec, d, table, s)?;
     let mut attribute_deltas = Vec::new();
     for ((a, k), x) in current {
         let Some(param) = map.attribute[a][k] else {
@@ -160,43 +105,131 @@ pub fn prepare(spec: &Spec, fit: &Fit, table: &Table, s: &Scenario) -> Result<Pr
         .collect();
     let mut new = Vec::new();
     for na in &s.new_alternatives {
-        let available = match &na.available {
-            Some(c) => {
-                let v = table.numbers(c, &format!("[[new_alternative]] {}.available", na.name))?;
-                v.iter().map(|x| *x != 0.0).collect()
-            }
-            None => (0..n).map(|i| d.available(i, na.like)).collect(),
-        };
-        let mut attributes = Vec::new();
-        for (a, attr) in spec.attributes.iter().enumerate() {
-            let Some(param) = map.attribute[a][na.like] else {
-                continue;
-            };
-            let values = match na.attributes.iter().find(|x| x.0 == a) {
-                Some((_, NewValue::Number(v))) => vec![*v; n],
-                Some((_, NewValue::Expression(text, e))) => eval(
-                    table,
-                    &format!("[[new_alternative]] {}.attributes.{}", na.name, attr.name),
-                    text,
-                    e,
-                    spec,
-                )?,
-                None => (0..n)
-                    .map(|i| d.obs.attributes[a][i * j + na.like])
-                    .collect(),
-            };
-            attributes.push((param, values));
-        }
-        new.push(PreparedNew {
-            name: na.name.clone(),
-            like: na.like,
-            constant: na.constant,
-            available,
-            attributes,
-        });
+        new.push(new_alternative(spec, d, &map, table, na)?);
     }
     let mut names = spec.alternative_names();
     names.extend(new.iter().map(|x| x.name.clone()));
+    Ok(Prepared {
+        names,
+        attribute_deltas,
+        characteristic_deltas,
+        removed,
+        new,
+        map,
+        constant_param,
+        family: added_family(spec, fit, s)?,
+    })
+}
+
+/// Changed attribute values per (attribute, alternative) and changed
+/// characteristic values, in the order first changed.
+type Changed = (Vec<((usize, usize), Vec<f64>)>, Vec<(usize, Vec<f64>)>);
+
+/// The values after every change, applied in turn so that successive changes compound.
+fn changed_values(spec: &Spec, d: &Design, table: &Table, s: &Scenario) -> Result<Changed> {
+    let (n, j) = (d.situations(), d.alternatives());
+    let mut current: Vec<((usize, usize), Vec<f64>)> = Vec::new();
+    let mut chars: Vec<(usize, Vec<f64>)> = Vec::new();
+    for (ci, ch) in s.changes.iter().enumerate() {
+        let mask = match &ch.filter {
+            Some((text, e)) => Some(eval(
+                table,
+                &format!("[[change]] #{} where", ci + 1),
+                text,
+                e,
+                spec,
+            )?),
+            None => None,
+        };
+        let keep = |i: usize| mask.as_ref().is_none_or(|m| m[i] != 0.0);
+        match ch.target {
+            Target::Attribute {
+                attribute,
+                alternative,
+            } => {
+                let pos = match current.iter().position(|c| c.0 == (attribute, alternative)) {
+                    Some(p) => p,
+                    None => {
+                        let x = (0..n)
+                            .map(|i| d.obs.attributes[attribute][i * j + alternative])
+                            .collect();
+                        current.push(((attribute, alternative), x));
+                        current.len() - 1
+                    }
+                };
+                for (i, xi) in current[pos].1.iter_mut().enumerate() {
+                    if keep(i) && d.available(i, alternative) {
+                        *xi = ch.op.apply(*xi);
+                    }
+                }
+            }
+            Target::Characteristic { characteristic } => {
+                let pos = match chars.iter().position(|c| c.0 == characteristic) {
+                    Some(p) => p,
+                    None => {
+                        let z = d.obs.characteristics[characteristic].clone();
+                        chars.push((characteristic, z));
+                        chars.len() - 1
+                    }
+                };
+                for (i, zi) in chars[pos].1.iter_mut().enumerate() {
+                    if keep(i) {
+                        *zi = ch.op.apply(*zi);
+                    }
+                }
+            }
+        }
+    }
+    Ok((current, chars))
+}
+
+/// A new alternative's availability and attribute values in every situation.
+fn new_alternative(
+    spec: &Spec,
+    d: &Design,
+    map: &TermMap,
+    table: &Table,
+    na: &NewAlternative,
+) -> Result<PreparedNew> {
+    let (n, j) = (d.situations(), d.alternatives());
+    let available = match &na.available {
+        Some(c) => {
+            let v = table.numbers(c, &format!("[[new_alternative]] {}.available", na.name))?;
+            v.iter().map(|x| *x != 0.0).collect()
+        }
+        None => (0..n).map(|i| d.available(i, na.like)).collect(),
+    };
+    let mut attributes = Vec::new();
+    for (a, attr) in spec.attributes.iter().enumerate() {
+        let Some(param) = map.attribute[a][na.like] else {
+            continue;
+        };
+        let values = match na.attributes.iter().find(|x| x.0 == a) {
+            Some((_, NewValue::Number(v))) => vec![*v; n],
+            Some((_, NewValue::Expression(text, e))) => eval(
+                table,
+                &format!("[[new_alternative]] {}.attributes.{}", na.name, attr.name),
+                text,
+                e,
+                spec,
+            )?,
+            None => (0..n)
+                .map(|i| d.obs.attributes[a][i * j + na.like])
+                .collect(),
+        };
+        attributes.push((param, values));
+    }
+    Ok(PreparedNew {
+        name: na.name.clone(),
+        like: na.like,
+        constant: na.constant,
+        available,
+        attributes,
+    })
+}
+
+/// The family over the scenario's alternatives when it adds any.
+fn added_family(spec: &Spec, fit: &Fit, s: &Scenario) -> Result<Option<crate::model::FamilyRef>> {
     let added: Vec<Added> = s
         .new_alternatives
         .iter()
@@ -206,23 +239,12 @@ pub fn prepare(spec: &Spec, fit: &Fit, table: &Table, s: &Scenario) -> Result<Pr
             group: na.nest.clone(),
         })
         .collect();
-    let family = if added.is_empty() {
-        None
-    } else {
-        fit.family
-            .with_added(spec, &added)
-            .map_err(|m| Error::Usage(format!("scenario `{}`: {m}", s.name)))?
-    };
-    Ok(Prepared {
-        names,
-        attribute_deltas,
-        characteristic_deltas,
-        removed,
-        new,
-        map,
-        constant_param,
-        family,
-    })
+    if added.is_empty() {
+        return Ok(None);
+    }
+    fit.family
+        .with_added(spec, &added)
+        .map_err(|m| Error::Usage(format!("scenario `{}`: {m}", s.name)))
 }
 
 impl Prepared {

@@ -22,7 +22,11 @@ use crate::design::Design;
 use crate::error::{Error, Result};
 use crate::estimate::Fit;
 use crate::model::Family;
+use crate::progress::{self, Phase, QUIET};
 use crate::spec::Spec;
+
+/// The steps of the file's phase: thousandths of the file.
+const PER_FILE: usize = 1000;
 
 /// Called with each chunk's fit (its design and family), prepared scenario and
 /// parameters, in file order: where per-situation rows are written.
@@ -68,7 +72,22 @@ pub fn forecast(
     chunks: &mut Chunks,
     scenario: &Scenario,
     opts: &Options,
+    sink: Option<Sink>,
+) -> Result<Forecast> {
+    forecast_with(spec, fit, chunks, scenario, opts, sink, QUIET)
+}
+
+/// `forecast`, reporting the phase `forecast over the file` to `ticks`: the
+/// thousandths of the file (its rows, or a CSV file's bytes) read and
+/// forecast, a tick per chunk. The figures are the same with any `ticks`.
+pub fn forecast_with(
+    spec: &Spec,
+    fit: &Fit,
+    chunks: &mut Chunks,
+    scenario: &Scenario,
+    opts: &Options,
     mut sink: Option<Sink>,
+    ticks: progress::Sink,
 ) -> Result<Forecast> {
     check(spec, fit, scenario, opts)?;
     if scenario.calibration.is_some() || spec.calibration.is_some() {
@@ -98,20 +117,24 @@ pub fn forecast(
         seen: (spec.data.group.is_some() && fit.family.at_unit(0).is_some()).then(HashSet::new),
     };
     let path = chunks.path().to_path_buf();
+    let phase = Phase::start(ticks, "forecast over the file", PER_FILE);
     // The next chunk is read on another thread while this one is forecast
     // (at most two chunks are held); chunks are still taken in file order.
     std::thread::scope(|scope| -> Result<()> {
-        let (tx, rx) = std::sync::mpsc::sync_channel::<Result<Chunk>>(0);
+        let (tx, rx) = std::sync::mpsc::sync_channel::<(Result<Chunk>, usize)>(0);
         scope.spawn(move || {
             while let Some(next) = chunks.next_chunk().transpose() {
                 let failed = next.is_err();
+                let (at, total) = chunks.position();
+                let done = (PER_FILE as f64 * at as f64 / total.max(1) as f64) as usize;
                 // A closed channel: the forecast stopped at an error.
-                if tx.send(next).is_err() || failed {
+                if tx.send((next, done.min(PER_FILE))).is_err() || failed {
                     break;
                 }
             }
         });
-        for chunk in rx {
+        let mut shown = 0;
+        for (chunk, done) in rx {
             let draws = parameter_draws.as_ref().and_then(|d| d.as_deref());
             let (cfit, prep) = one_chunk(
                 spec, fit, &template, chunk?, &path, scenario, opts, draws, &beta, &mut t,
@@ -119,9 +142,12 @@ pub fn forecast(
             if let Some(s) = sink.as_mut() {
                 s(&cfit, &prep, &beta)?;
             }
+            phase.advance(done.saturating_sub(shown));
+            shown = shown.max(done);
         }
         Ok(())
     })?;
+    phase.finish();
     finish(scenario, opts, parameter_draws, t, &path)
 }
 

@@ -4,10 +4,11 @@
 use serde::Serialize;
 
 use super::file::{Change, Op, Scenario, Target};
-use super::{base_parameters, prepare, simulate};
+use super::{base_parameters_with, prepare, simulate};
 use crate::data::Dataset;
 use crate::error::{Error, Result};
 use crate::estimate::Fit;
+use crate::progress::{Phase, Sink, QUIET};
 use crate::spec::Spec;
 
 #[derive(Clone, Debug, Serialize)]
@@ -86,6 +87,18 @@ fn target(spec: &Spec, attribute: &str, alternative: Option<&str>) -> Result<Tar
 }
 
 pub fn sweep(spec: &Spec, fit: &Fit, ds: &Dataset, req: &Request) -> Result<Sweep> {
+    sweep_with(spec, fit, ds, req, QUIET)
+}
+
+/// `sweep`, reporting the phases `calibration` (with the spec's share
+/// targets) and `demand curve` (one step per point) to `sink`.
+pub fn sweep_with(
+    spec: &Spec,
+    fit: &Fit,
+    ds: &Dataset,
+    req: &Request,
+    sink: Sink,
+) -> Result<Sweep> {
     let (attribute, alternative, from, to, steps) = (
         req.attribute.as_str(),
         req.alternative.as_deref(),
@@ -105,8 +118,9 @@ pub fn sweep(spec: &Spec, fit: &Fit, ds: &Dataset, req: &Request) -> Result<Swee
         MAX_STEPS,
         8 * spec.alternatives.len() + 48,
     )?;
-    let (beta, _) = base_parameters(spec, fit, &Scenario::default())?;
+    let (beta, _) = base_parameters_with(spec, fit, &Scenario::default(), sink)?;
     let mut points = Vec::with_capacity(steps);
+    let phase = Phase::start(sink, "demand curve", steps);
     for s in 0..steps {
         let multiplier = from + (to - from) * s as f64 / (steps - 1) as f64;
         let sc = Scenario {
@@ -124,7 +138,9 @@ pub fn sweep(spec: &Spec, fit: &Fit, ds: &Dataset, req: &Request) -> Result<Swee
         let prep = prepare::prepare(spec, fit, &ds.table, &sc)?;
         let (_, shares, _) = simulate::shares_only(&*fit.family, &fit.design, &beta, &prep, None);
         points.push(SweepPoint { multiplier, shares });
+        phase.step();
     }
+    phase.finish();
     Ok(Sweep {
         attribute: attribute.to_string(),
         alternative: alternative.map(String::from),

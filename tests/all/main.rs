@@ -21,6 +21,7 @@ mod mixed_recovery;
 mod mnp;
 mod nested;
 mod ordered;
+mod progress;
 mod recovery;
 mod references;
 mod report_html;

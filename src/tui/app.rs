@@ -16,6 +16,7 @@ use super::worker::Job;
 pub use super::worker::{Model, Pending};
 use crate::analysis::Analysis;
 use crate::estimate::Step;
+use crate::progress::Tick;
 use crate::report::walk::Walk;
 
 /// One opened model, its analysis and the analysis walked once for display
@@ -25,6 +26,18 @@ pub struct Loaded {
     pub model: Model,
     pub analysis: Pending<Analysis>,
     pub walk: Option<Box<Walk>>,
+    /// While the analysis runs: the phase it reported last.
+    pub progress: Option<Tick>,
+}
+
+impl Loaded {
+    /// What the analysis is doing, for a view waiting on it.
+    pub fn analysing(&self) -> String {
+        match self.progress {
+            Some(t) if t.total > 0 => format!("analysing: {} {}/{}…", t.phase, t.done, t.total),
+            _ => "analysing…".to_string(),
+        }
+    }
 }
 
 /// While a spec is loaded and fitted.
@@ -79,6 +92,11 @@ pub enum Msg {
         model: Model,
     },
     Failed(String),
+    /// The analysis of model `index` reports progress.
+    Ticked {
+        index: usize,
+        tick: Tick,
+    },
     Analysed {
         index: usize,
         result: Result<Box<Analysis>, String>,
@@ -232,8 +250,17 @@ pub fn update(app: &mut App, msg: Msg) -> Vec<Job> {
             app.stage = Stage::Failed(message);
             Vec::new()
         }
+        Msg::Ticked { index, tick } => {
+            if let Some(l) = app.models.get_mut(index) {
+                if matches!(l.analysis, Pending::Waiting) {
+                    l.progress = Some(tick);
+                }
+            }
+            Vec::new()
+        }
         Msg::Analysed { index, result } => {
             if let Some(l) = app.models.get_mut(index) {
+                l.progress = None;
                 let m = &l.model;
                 l.walk = result
                     .as_ref()
@@ -267,6 +294,7 @@ fn opened(app: &mut App, index: usize, model: Model) -> Vec<Job> {
     app.models.push(Loaded {
         analysis: Pending::Waiting,
         walk: None,
+        progress: None,
         model: model.clone(),
     });
     if app.models.len() == app.paths.len() {

@@ -218,31 +218,68 @@ impl Scroll {
     }
 }
 
-/// A per-model list of a view's state, grown as models open.
+/// A view's state for every opened model, grown as models open, and the
+/// generation of the view's newest request (results of older ones are dropped).
 #[derive(Clone, Debug)]
-pub struct PerModel<T>(pub Vec<T>);
+pub struct PerModel<T> {
+    states: Vec<T>,
+    generation: u64,
+}
 
 impl<T> Default for PerModel<T> {
     fn default() -> Self {
-        PerModel(Vec::new())
+        PerModel {
+            states: Vec::new(),
+            generation: 0,
+        }
     }
 }
 
 impl<T> PerModel<T> {
     pub fn get(&self, index: usize) -> Option<&T> {
-        self.0.get(index)
+        self.states.get(index)
     }
 
     pub fn get_mut(&mut self, index: usize) -> Option<&mut T> {
-        self.0.get_mut(index)
+        self.states.get_mut(index)
     }
 
-    /// Puts the state of model `index` (models open in order).
-    pub fn put(&mut self, index: usize, state: T) {
-        if index < self.0.len() {
-            self.0[index] = state;
+    /// The generation of a new request.
+    pub fn next_generation(&mut self) -> u64 {
+        self.generation += 1;
+        self.generation
+    }
+
+    /// The state of model `index` (models open in order), and the job that
+    /// `ask` makes for it with a new generation.
+    pub fn open(
+        &mut self,
+        index: usize,
+        mut state: T,
+        ask: impl FnOnce(&mut T, u64) -> Option<Job>,
+    ) -> Vec<Job> {
+        let job = ask(&mut state, self.next_generation());
+        if index < self.states.len() {
+            self.states[index] = state;
         } else {
-            self.0.push(state);
+            self.states.push(state);
+        }
+        job.into_iter().collect()
+    }
+
+    /// A job's result for model `index`, as the `R` the job returns, handed to `take`.
+    pub fn arrived<R: 'static>(
+        &mut self,
+        index: usize,
+        result: Result<Box<dyn Any + Send>, String>,
+        take: impl FnOnce(&mut T, Result<Box<R>, String>),
+    ) {
+        let result = result.and_then(|r| {
+            r.downcast::<R>()
+                .map_err(|_| "internal error: a job returned something else".to_string())
+        });
+        if let Some(state) = self.states.get_mut(index) {
+            take(state, result);
         }
     }
 }

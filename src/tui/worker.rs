@@ -154,12 +154,14 @@ pub fn execute(job: Job, send: &(dyn Fn(Msg) + Sync)) {
             }
         }
         Job::Analyse { index, model } => {
+            let ticks = |tick: crate::progress::Tick| send(Msg::Ticked { index, tick });
             let result = guarded(|| {
-                crate::analysis::analyse(
+                crate::analysis::analyse_with(
                     &model.spec,
                     &model.fit,
                     &model.ds,
                     &crate::analysis::Options::default(),
+                    &ticks,
                 )
             });
             send(Msg::Analysed {

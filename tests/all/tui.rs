@@ -994,3 +994,39 @@ fn every_registered_view_has_its_title_help_lines_and_keys() {
         }
     }
 }
+
+#[test]
+fn the_analysis_shows_its_progress_while_it_runs() {
+    // The worker's analysis job reports its phases (the library's progress
+    // ticks) before its result; a view waiting on it names the phase.
+    let (mut app, jobs) = App::with_models(vec![model("specs/commute.toml")], Theme::plain());
+    let tick = sharecast::progress::Tick {
+        phase: "elasticities",
+        done: 3,
+        total: 10,
+    };
+    update(&mut app, Msg::Ticked { index: 0, tick });
+    has(&screen(&app, 100, 30), &["analysing: elasticities 3/10"]);
+    keys(&mut app, "3");
+    has(&screen(&app, 100, 30), &["analysing: elasticities 3/10"]);
+    let analyse = jobs
+        .into_iter()
+        .find(|j| matches!(j, Job::Analyse { .. }))
+        .unwrap();
+    let out = Mutex::new(Vec::new());
+    worker::execute(analyse, &|m| out.lock().unwrap().push(m));
+    let msgs = out.into_inner().unwrap();
+    let phases: Vec<&str> = msgs
+        .iter()
+        .filter_map(|m| match m {
+            Msg::Ticked { tick, .. } => Some(tick.phase),
+            _ => None,
+        })
+        .collect();
+    assert!(phases.contains(&"elasticities"), "{phases:?}");
+    assert!(matches!(msgs.last(), Some(Msg::Analysed { .. })));
+    for m in msgs {
+        update(&mut app, m);
+    }
+    assert!(!screen(&app, 100, 30).contains("analysing"));
+}

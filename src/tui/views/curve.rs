@@ -130,11 +130,10 @@ fn variable(spec: &Spec, v: usize) -> String {
 /// The view's title, also the name its jobs carry.
 pub const TITLE: &str = "curve";
 
-/// The demand curve of every opened model, and the generation of its newest request.
+/// The demand curve of every opened model.
 #[derive(Debug, Default)]
 pub struct CurveView {
     pub models: PerModel<Curve>,
-    pub generation: u64,
 }
 
 impl CurveView {
@@ -174,11 +173,9 @@ impl View for CurveView {
         let Some(l) = ctx.models.get(index) else {
             return Vec::new();
         };
-        let mut c = Curve::new(&l.model.spec);
-        self.generation += 1;
-        let job = c.request(index, &l.model, self.generation);
-        self.models.put(index, c);
-        job.into_iter().collect()
+        let c = Curve::new(&l.model.spec);
+        self.models
+            .open(index, c, |c, g| c.request(index, &l.model, g))
     }
 
     fn act(&mut self, ctx: &Ctx, a: Action, reply: &mut Reply) {
@@ -187,8 +184,10 @@ impl View for CurveView {
             return;
         };
         if c.on(a, l.model.spec.alternatives.len().max(1)) {
-            self.generation += 1;
-            reply.job(c.request(index, &l.model, self.generation));
+            let g = self.models.next_generation();
+            if let Some(c) = self.models.get_mut(index) {
+                reply.job(c.request(index, &l.model, g));
+            }
         }
     }
 
@@ -198,13 +197,8 @@ impl View for CurveView {
         generation: u64,
         result: Result<Box<dyn Any + Send>, String>,
     ) {
-        let result = result.and_then(|r| {
-            r.downcast::<Sweep>()
-                .map_err(|_| "internal error: a curve job returned something else".to_string())
-        });
-        if let Some(c) = self.models.get_mut(index) {
-            c.arrived(generation, result);
-        }
+        self.models
+            .arrived::<Sweep>(index, result, |x, r| x.arrived(generation, r));
     }
 
     fn focus(&mut self, ctx: &Ctx, focus: &Focus, reply: &mut Reply) {
@@ -217,8 +211,10 @@ impl View for CurveView {
             alternative,
         } = *focus;
         c.select(attribute, alternative);
-        self.generation += 1;
-        reply.job(c.request(index, &l.model, self.generation));
+        let g = self.models.next_generation();
+        if let Some(c) = self.models.get_mut(index) {
+            reply.job(c.request(index, &l.model, g));
+        }
     }
 
     fn render(&self, ctx: &Ctx, area: Rect, buf: &mut Buffer) {

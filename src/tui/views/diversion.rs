@@ -64,7 +64,7 @@ fn render(ctx: &Ctx, area: Rect, buf: &mut Buffer) {
         (other, None) => {
             let msg = match other {
                 Pending::Failed(e) => e.clone(),
-                _ => "computing the diversion ratios…".into(),
+                _ => l.analysing(),
             };
             Paragraph::new(msg)
                 .block(panel("diversion", t))

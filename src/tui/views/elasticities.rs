@@ -103,7 +103,7 @@ fn render(view: &Elasticities, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
             return;
         }
         _ => {
-            Paragraph::new("computing the elasticities…")
+            Paragraph::new(l.analysing())
                 .block(panel("elasticities", t))
                 .render(area, buf);
             return;

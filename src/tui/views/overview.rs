@@ -198,7 +198,7 @@ fn fit_panel(l: &Loaded, t: &Theme, area: Rect, buf: &mut Buffer) {
                 )));
             }
         }
-        Pending::Waiting => lines.push(Line::from(Span::styled("validation: computing…", t.dim()))),
+        Pending::Waiting => lines.push(Line::from(Span::styled(l.analysing(), t.dim()))),
         Pending::Failed(e) => lines.push(Line::from(Span::styled(e.clone(), t.warn()))),
     }
     Paragraph::new(lines)

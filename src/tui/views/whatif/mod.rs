@@ -29,11 +29,10 @@ const VALUE: u8 = 0;
 const SAVE: u8 = 1;
 const EXPORT: u8 = 2;
 
-/// The what-if of every opened model, and the generation of its newest band request.
+/// The what-if of every opened model.
 #[derive(Debug, Default)]
 pub struct WhatIfView {
     pub models: PerModel<WhatIf>,
-    pub generation: u64,
 }
 
 impl WhatIfView {
@@ -45,9 +44,9 @@ impl WhatIfView {
     /// Recomputes the current model's point forecast and requests its band.
     fn refresh(&mut self, ctx: &Ctx, reply: &mut Reply) {
         let index = ctx.current;
-        self.generation += 1;
+        let g = self.models.next_generation();
         if let (Some(l), Some(w)) = (ctx.loaded(), self.models.get_mut(index)) {
-            reply.job(w.refresh(index, &l.model, self.generation));
+            reply.job(w.refresh(index, &l.model, g));
         }
     }
 }
@@ -86,11 +85,9 @@ impl View for WhatIfView {
         let Some(l) = ctx.models.get(index) else {
             return Vec::new();
         };
-        let mut w = WhatIf::new(&l.model.spec);
-        self.generation += 1;
-        let job = w.refresh(index, &l.model, self.generation);
-        self.models.put(index, w);
-        job.into_iter().collect()
+        let w = WhatIf::new(&l.model.spec);
+        self.models
+            .open(index, w, |w, g| w.refresh(index, &l.model, g))
     }
 
     fn act(&mut self, ctx: &Ctx, a: Action, reply: &mut Reply) {
@@ -143,13 +140,8 @@ impl View for WhatIfView {
         generation: u64,
         result: Result<Box<dyn Any + Send>, String>,
     ) {
-        let result = result.and_then(|r| {
-            r.downcast::<Forecast>()
-                .map_err(|_| "internal error: a band job returned something else".to_string())
-        });
-        if let Some(w) = self.models.get_mut(index) {
-            w.banded(generation, result);
-        }
+        self.models
+            .arrived::<Forecast>(index, result, |x, r| x.banded(generation, r));
     }
 
     fn answered(&mut self, ctx: &Ctx, ask: u8, text: &str, reply: &mut Reply) -> Answer {

@@ -12,10 +12,13 @@ use crate::estimate::document::{fingerprint, FitDocument};
 use crate::estimate::{self, Fit, Progress};
 use crate::spec::Spec;
 
-/// Reads and validates a spec and loads its data (with extra columns, e.g. for segments).
+/// Reads and validates a spec and loads its data (with extra columns, e.g.
+/// for segments), refusing what the fit would refuse before its search
+/// (`model::admit`).
 pub fn open(spec_path: &Path, extra: &Extra) -> Result<(Spec, Dataset)> {
     let spec = crate::model::read_spec(spec_path)?;
     let ds = data::load(&spec, extra)?;
+    crate::model::admit(&spec, &ds.obs)?;
     Ok((spec, ds))
 }
 
@@ -111,6 +114,7 @@ pub fn report_results(
         text: Vec::new(),
     };
     let ds = data::load(&spec, &extra)?;
+    crate::model::admit(&spec, &ds.obs)?;
     let (fit, note) = fit_or_restore(&spec, Arc::new(ds.obs.clone()), load, progress)?;
     let analysis =
         crate::analysis::analyse(&spec, &fit, &ds, &crate::analysis::Options::default())?;

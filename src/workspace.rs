@@ -13,10 +13,13 @@ use crate::estimate::{self, Fit, Progress};
 use crate::progress::Sink;
 use crate::spec::Spec;
 
-/// Reads and validates a spec and loads its data (with extra columns, e.g. for segments).
+/// Reads and validates a spec and loads its data (with extra columns, e.g.
+/// for segments), refusing what the fit would refuse before its search
+/// (`model::admit`).
 pub fn open(spec_path: &Path, extra: &Extra) -> Result<(Spec, Dataset)> {
     let spec = crate::model::read_spec(spec_path)?;
     let ds = data::load(&spec, extra)?;
+    crate::model::admit(&spec, &ds.obs)?;
     Ok((spec, ds))
 }
 
@@ -115,6 +118,7 @@ pub fn report_results(
         text: Vec::new(),
     };
     let ds = data::load(&spec, &extra)?;
+    crate::model::admit(&spec, &ds.obs)?;
     let (fit, note) = fit_or_restore(&spec, Arc::new(ds.obs.clone()), load, progress)?;
     let options = crate::analysis::Options::default();
     let analysis = crate::analysis::analyse_with(&spec, &fit, &ds, &options, ticks)?;

@@ -50,14 +50,34 @@ pub fn diagnose(
             kind: DiagnosticKind::NotConverged,
             parameters: Vec::new(),
             message: format!(
-                "the fit did not converge (Newton decrement {:.3e}, tolerance {:.0e}){}",
-                out.criterion,
+                "the fit did not converge ({}, tolerance {:.0e}){}",
+                if out.criterion.is_finite() {
+                    format!("Newton decrement {:.3e}", out.criterion)
+                } else {
+                    "no Newton step could be computed".to_string()
+                },
                 optimise::NEWTON_TOLERANCE,
                 out.note
                     .as_ref()
                     .map(|n| format!(": {n}"))
                     .unwrap_or_default()
             ),
+        });
+    }
+    if free.is_empty() {
+        diagnostics.push(Diagnostic {
+            code: None,
+            kind: DiagnosticKind::AllFixed,
+            parameters: Vec::new(),
+            message: "every parameter is fixed in [parameters]: the model is evaluated at the given values (log-likelihood and fit statistics at them) and nothing is estimated, so there are no standard errors".into(),
+        });
+    }
+    if let Some(why) = &out.restart {
+        diagnostics.push(Diagnostic {
+            code: None,
+            kind: DiagnosticKind::Restarted,
+            parameters: Vec::new(),
+            message: why.clone(),
         });
     }
     let unused = Unused {

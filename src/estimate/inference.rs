@@ -19,6 +19,13 @@ pub enum DiagnosticKind {
     RatioDenominator,
     /// A warning of the model family (its `code` says which).
     Family,
+    /// Every parameter is fixed: the model is evaluated, not estimated.
+    AllFixed,
+    /// The search from the `[parameters]` starts failed and was run again from the default start.
+    Restarted,
+    /// A (negative-)lognormal coefficient whose location runs to minus
+    /// infinity: the data want the coefficient of the other sign.
+    OppositeSign,
 }
 
 /// A finding about the fit that names the parameters and spec terms involved.

@@ -9,6 +9,7 @@ mod newton;
 pub mod optimise;
 mod reference;
 pub mod simcheck;
+mod start;
 
 use std::sync::Arc;
 use std::time::Instant;
@@ -237,18 +238,28 @@ pub fn fit_family(
     progress: Progress,
 ) -> Result<Fit> {
     let started = Instant::now();
+    model::admit_family(spec, &*family, &obs)?;
     let design = Design::build(spec, obs.clone());
-    family
-        .check_data(spec, &design)
-        .map_err(|m| Error::spec(&spec.path, m))?;
     let k = design.params;
     let free: Vec<usize> = (0..k)
         .filter(|&p| spec.parameters[p].fixed.is_none())
         .collect();
-    if design.situations() == 0 {
-        return Err(Error::Estimate("no choice situations to fit".into()));
-    }
-    let mut start: Vec<f64> = spec.parameters.iter().map(|p| p.start).collect();
+    let start: Vec<f64> = spec.parameters.iter().map(|p| p.start).collect();
+    let out = search(spec, &design, &family, start, &free, progress);
+    let out = start::settle(spec, &design, &family, &free, out, progress, search)?;
+    finish::finish(spec, obs, design, family, free, out, started, None)
+}
+
+/// The search from `start`: a first search on a simpler (or cheaper) family
+/// where the family has one, then the family's own.
+fn search(
+    spec: &Spec,
+    design: &Design,
+    family: &FamilyRef,
+    mut start: Vec<f64>,
+    free: &[usize],
+    progress: Progress,
+) -> optimise::Outcome {
     // A family may start from a simpler model: its own parameters held first.
     let held = family.held_in_first_search();
     let first: Vec<usize> = free.iter().copied().filter(|p| !held.contains(p)).collect();
@@ -258,16 +269,14 @@ pub fn fit_family(
         // With its own parameters at their null values a family may equal a
         // simpler one, which then searches faster; or it starts from a
         // cheaper family's estimates.
-        let at_null = held
-            .iter()
-            .all(|&p| spec.parameters[p].start == spec.parameters[p].null);
+        let at_null = held.iter().all(|&p| start[p] == spec.parameters[p].null);
         let searcher = match (at_null, family.simpler(), start_from) {
             (true, Some(s), _) => s,
             (_, _, Some(s)) => s,
             _ => family.clone(),
         };
-        let by_simpler = !Arc::ptr_eq(&searcher, &family);
-        let o = optimise::maximise(&design, &*searcher, &start, &first, progress);
+        let by_simpler = !Arc::ptr_eq(&searcher, family);
+        let o = optimise::maximise(design, &*searcher, &start, &first, progress);
         if o.ll.is_finite() {
             start = o.beta;
         }
@@ -279,9 +288,9 @@ pub fn fit_family(
             }
         }
     }
-    let mut out = optimise::maximise(&design, &*family, &start, &free, progress);
+    let mut out = optimise::maximise(design, &**family, &start, free, progress);
     out.passes += first_passes;
-    finish::finish(spec, obs, design, family, free, out, started, None)
+    out
 }
 
 /// A fit rebuilt from a saved results document (`fit --save`) without searching:
@@ -329,6 +338,7 @@ pub fn restore(spec: &Spec, obs: Arc<Observations>, doc: &document::FitDocument)
         criterion: f.newton_decrement,
         converged: f.converged,
         note: None,
+        restart: None,
         hessian: None,
     };
     let constants_ll = Some(f.constants_log_likelihood).filter(|x| x.is_finite());

@@ -92,6 +92,7 @@ pub(super) fn newton(
         gradient_norm,
         converged,
         note,
+        restart: None,
         hessian: confirmed,
     }
 }

@@ -50,6 +50,8 @@ pub struct Outcome {
     pub gradient_norm: f64,
     pub converged: bool,
     pub note: Option<String>,
+    /// Why the search was restarted from the default start, when it was.
+    pub restart: Option<String>,
     /// The Hessian (K x K) the search ended with, which the covariance reuses:
     /// an analytic one at the estimates, or the differenced one that confirmed
     /// convergence, at the estimates up to the last tiny Newton step.
@@ -267,6 +269,7 @@ pub fn maximise(
             gradient_norm: 0.0,
             converged: true,
             note: None,
+            restart: None,
             hessian: None,
         };
     }

@@ -34,6 +34,18 @@ pub fn constants_log_likelihood(spec: &Spec, obs: Arc<Observations>) -> Result<f
         (true, Some(s)) => s,
         _ => cfamily,
     };
+    let ll = optimise::maximise(&cd, &*cfamily, &cstart, &cfree, &quiet).ll;
+    if ll.is_finite() {
+        return Ok(ll);
+    }
+    // Starts of the family's own parameters the reference model cannot use
+    // (absurd cut-points): its default start instead.
+    let defaults = model::registry::default_starts(&cspec);
+    for &p in &cfree {
+        if matches!(cspec.parameters[p].term, Term::Family(_)) {
+            cstart[p] = defaults[p];
+        }
+    }
     Ok(optimise::maximise(&cd, &*cfamily, &cstart, &cfree, &quiet).ll)
 }
 

@@ -112,14 +112,21 @@ impl Simulation {
         Ok(s)
     }
 
-    /// Checks that `dims` dimensions over `units` units fit the sequence and
-    /// memory; the message says what it would need.
-    pub fn check_size(&self, units: usize, dims: usize) -> Result<(), String> {
+    /// Checks that the sequence supports `dims` random dimensions (a check on
+    /// the spec alone, which the family's spec rules run).
+    pub fn check_dimensions(&self, dims: usize) -> Result<(), String> {
         if self.sequence == Sequence::Halton && dims > MAX_HALTON_DIMENSIONS {
             return Err(format!(
                 "[simulation].sequence: the Halton sequence is used for at most {MAX_HALTON_DIMENSIONS} random dimensions and this model has {dims}; use sequence = \"mlhs\" or \"pseudo\""
             ));
         }
+        Ok(())
+    }
+
+    /// Checks that `dims` dimensions over `units` units fit the sequence and
+    /// memory; the message says what it would need.
+    pub fn check_size(&self, units: usize, dims: usize) -> Result<(), String> {
+        self.check_dimensions(dims)?;
         let bytes = (units as u128) * (dims as u128) * (self.draws as u128) * 8;
         if bytes > MAX_DRAW_BYTES as u128 {
             return Err(format!(

@@ -26,11 +26,36 @@ pub mod registry;
 
 use std::sync::Arc;
 
+use crate::data::Observations;
 use crate::design::Design;
 use crate::spec::Spec;
 
 pub use enumerate::{Baseline, Situation, WhatIf};
 pub use registry::{for_spec, parse_spec, read_spec, Registry};
+
+/// Refuses a spec and data that the fit would refuse before its search: no
+/// situations, or the family's own checks of the observations. Run when a
+/// model is opened (`workspace::open`, hence `check`) and by the fit, with
+/// the same messages.
+pub fn admit(spec: &Spec, obs: &Observations) -> crate::error::Result<()> {
+    admit_family(spec, &*for_spec(spec)?, obs)
+}
+
+/// `admit` with the family already built.
+pub fn admit_family(
+    spec: &Spec,
+    family: &dyn Family,
+    obs: &Observations,
+) -> crate::error::Result<()> {
+    if obs.situations == 0 {
+        return Err(crate::error::Error::Estimate(
+            "no choice situations to fit".into(),
+        ));
+    }
+    family
+        .check_observations(spec, obs)
+        .map_err(|m| crate::error::Error::spec(&spec.path, m))
+}
 
 /// What a pass returns: log-likelihood, gradient (length K) and Hessian (K x K row-major, when asked).
 #[derive(Clone, Debug)]
@@ -206,11 +231,19 @@ pub trait Family: Send + Sync + std::fmt::Debug {
         }
     }
 
-    /// Checks the data the family is fitted to (an ordered model needs every
-    /// category observed); the message names what is wrong.
-    fn check_data(&self, spec: &Spec, d: &Design) -> Result<(), String> {
-        let _ = (spec, d);
+    /// Checks the observations the family is fitted to (an ordered model
+    /// needs every category observed; a panel's weight is constant within a
+    /// decision maker); the message names what is wrong. It depends on the
+    /// spec and the data alone, so that opening a model (`check`) refuses
+    /// what the fit would (`admit`).
+    fn check_observations(&self, spec: &Spec, obs: &Observations) -> Result<(), String> {
+        let _ = (spec, obs);
         Ok(())
+    }
+
+    /// `check_observations` on a design's observations.
+    fn check_data(&self, spec: &Spec, d: &Design) -> Result<(), String> {
+        self.check_observations(spec, &d.obs)
     }
 
     /// Warnings about the fit at `beta` (its own parameters' values, how the data use them).

@@ -338,9 +338,13 @@ impl Family for Ordered {
         }
     }
 
-    fn check_data(&self, spec: &Spec, d: &Design) -> Result<(), String> {
-        let mut seen = vec![false; d.alternatives()];
-        for &c in &d.obs.chosen {
+    fn check_observations(
+        &self,
+        spec: &Spec,
+        obs: &crate::data::Observations,
+    ) -> Result<(), String> {
+        let mut seen = vec![false; obs.alternatives];
+        for &c in &obs.chosen {
             seen[c as usize] = true;
         }
         match seen.iter().position(|s| !s) {

@@ -153,3 +153,38 @@ pub fn for_spec(spec: &Spec) -> Result<FamilyRef> {
         })?;
     (entry.build)(spec)
 }
+
+/// The starting values the spec's parameters have without `[parameters]`:
+/// 0 for the linear utility's, the family's own default for its parameters
+/// (a fit restarts from them when the search from given starts fails).
+pub fn default_starts(spec: &Spec) -> Vec<f64> {
+    let linear: Vec<crate::spec::Parameter> = spec
+        .parameters
+        .iter()
+        .filter(|p| !matches!(p.term, crate::spec::Term::Family(_)))
+        .cloned()
+        .collect();
+    let view = crate::spec::SpecView {
+        layout: &spec.data.layout,
+        alternatives: &spec.alternatives,
+        base: spec.base,
+        constants: spec.constants,
+        attributes: &spec.attributes,
+        characteristics: &spec.characteristics,
+        parameters: &linear,
+        keys: &spec.family_keys,
+    };
+    let own = FAMILIES
+        .iter()
+        .find(|e| e.name == spec.family)
+        .and_then(|e| e.rules.check(&view).ok())
+        .unwrap_or_default();
+    let mut own = own.into_iter();
+    spec.parameters
+        .iter()
+        .map(|p| match p.term {
+            crate::spec::Term::Family(_) => own.next().map(|f| f.start).unwrap_or(p.start),
+            _ => 0.0,
+        })
+        .collect()
+}

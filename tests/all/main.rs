@@ -13,6 +13,7 @@ mod edge_cases;
 mod families;
 mod fit_cli;
 mod ghk;
+mod hardening;
 mod layouts;
 mod limits;
 mod mixed;

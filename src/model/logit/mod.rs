@@ -195,6 +195,9 @@ impl Family for Logit {
         g: &mut [f64],
     ) -> bool {
         let n = p.len();
+        if kf * n == 0 {
+            return true; // no parameter moves (all fixed): nothing to contract
+        }
         for (k, (gk, &pk)) in g.chunks_exact_mut(kf * n).zip(p).enumerate() {
             for (out, eq) in gk.chunks_exact_mut(n).zip(e.chunks_exact(n)) {
                 let ek = eq[k];

@@ -303,23 +303,27 @@ impl Family for Mixed {
         Some(conditional(self, d, beta))
     }
 
-    fn check_data(&self, spec: &Spec, d: &Design) -> Result<(), String> {
-        let units = match &d.obs.group {
-            Some(_) => d.obs.groups,
-            None => d.obs.situations,
+    fn check_observations(
+        &self,
+        spec: &Spec,
+        obs: &crate::data::Observations,
+    ) -> Result<(), String> {
+        let units = match &obs.group {
+            Some(_) => obs.groups,
+            None => obs.situations,
         };
         self.simulation.check_size(units, self.terms.len())?;
-        if let (Some(g), Some(col)) = (&d.obs.group, &spec.data.weight) {
-            let mut first = vec![f64::NAN; d.obs.groups];
+        if let (Some(g), Some(col)) = (&obs.group, &spec.data.weight) {
+            let mut first = vec![f64::NAN; obs.groups];
             for (i, &u) in g.iter().enumerate() {
-                let w = d.obs.weight[i];
+                let w = obs.weight[i];
                 let f = &mut first[u as usize];
                 if f.is_nan() {
                     *f = w;
                 } else if *f != w {
                     return Err(format!(
                         "[data].weight `{col}`: the weight changes within decision maker (row {} of the data); a panel mixed logit weighs each decision maker once, so the weight must be the same in all of a person's situations",
-                        d.obs.first_row.get(i).copied().unwrap_or(i + 1)
+                        obs.first_row.get(i).copied().unwrap_or(i + 1)
                     ));
                 }
             }

@@ -26,7 +26,7 @@ impl FamilyRules for Rules {
     }
 
     fn check(&self, spec: &SpecView) -> Result<Vec<FamilyParameter>, String> {
-        Simulation::from_keys(spec.keys)?;
+        let simulation = Simulation::from_keys(spec.keys)?;
         for a in spec.attributes {
             check_name(a.random.as_deref(), "[[attribute]]", &a.name)?;
         }
@@ -52,6 +52,7 @@ impl FamilyRules for Rules {
                 });
             }
         }
+        simulation.check_dimensions(out.len())?;
         if out.is_empty() {
             return Err("[model].family \"mixed\" needs at least one random coefficient (`random = \"normal\"` or another distribution on an [[attribute]] or [[characteristic]], or [model].random_constants); with none the model is the logit: use family \"logit\"".into());
         }

@@ -400,8 +400,12 @@ impl Family for Mnp {
         ))))
     }
 
-    fn check_data(&self, _spec: &Spec, d: &Design) -> Result<(), String> {
-        self.simulation.check_size(d.situations(), self.dims())
+    fn check_observations(
+        &self,
+        _spec: &Spec,
+        obs: &crate::data::Observations,
+    ) -> Result<(), String> {
+        self.simulation.check_size(obs.situations, self.dims())
     }
 
     fn warnings(&self, _spec: &Spec, _d: &Design, beta: &[f64]) -> Vec<FamilyWarning> {

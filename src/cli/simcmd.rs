@@ -145,9 +145,11 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
                 let other = data::load_file(&spec, file, &extra)?;
                 let design =
                     crate::design::Design::build(&spec, std::sync::Arc::new(other.obs.clone()));
-                fit.family.check_data(&spec, &design).map_err(|m| {
-                    crate::error::Error::data(file, format!("forecasting over this file: {m}"))
-                })?;
+                fit.family
+                    .check_forecast_data(&spec, &design)
+                    .map_err(|m| {
+                        crate::error::Error::data(file, format!("forecasting over this file: {m}"))
+                    })?;
                 let fit = crate::estimate::Fit {
                     design,
                     baseline: Default::default(),

@@ -246,6 +246,14 @@ pub trait Family: Send + Sync + std::fmt::Debug {
         self.check_observations(spec, &d.obs)
     }
 
+    /// Checks a population the family forecasts over (whole or a chunk of
+    /// it): what a forecast needs of the data, which can be less than what a
+    /// fit needs (an ordered model forecasts over a file in which a rating is
+    /// never observed). By default, what the fit needs.
+    fn check_forecast_data(&self, spec: &Spec, d: &Design) -> Result<(), String> {
+        self.check_data(spec, d)
+    }
+
     /// Warnings about the fit at `beta` (its own parameters' values, how the data use them).
     fn warnings(&self, spec: &Spec, d: &Design, beta: &[f64]) -> Vec<FamilyWarning> {
         let _ = (spec, d, beta);

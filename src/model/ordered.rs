@@ -356,6 +356,12 @@ impl Family for Ordered {
         }
     }
 
+    /// Every category observed identifies the cut-points of a fit; a
+    /// forecast reads no observed rating.
+    fn check_forecast_data(&self, _spec: &Spec, _d: &Design) -> Result<(), String> {
+        Ok(())
+    }
+
     fn caution(&self, _spec: &Spec) -> Option<String> {
         Some(format!(
             "The {} model assumes one latent index moves every category in the same direction (a single index with parallel cut-points); the categories' distances are not known, so compare probabilities, not average ratings.",

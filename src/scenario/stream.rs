@@ -280,7 +280,7 @@ fn chunk_fit(
     let factor = obs.weight_total / obs.weight.iter().sum::<f64>().max(1e-300);
     let design = Design::build(spec, Arc::new(obs));
     family
-        .check_data(spec, &design)
+        .check_forecast_data(spec, &design)
         .map_err(|m| Error::data(path, format!("forecasting over this file: {m}")))?;
     let mut cfit = template.clone();
     cfit.design = design;

@@ -377,3 +377,33 @@ fn draws_of_a_later_part_are_the_whole_runs_draws_for_every_sequence() {
         );
     }
 }
+
+#[test]
+fn an_ordered_forecast_over_chunks_that_lack_a_rating_is_the_whole_files() {
+    // A forecast reads no observed rating, so a chunk in which a rating never
+    // occurs is forecast like any other (a fit would refuse such data: its
+    // cut-points would not be identified). The demo ratings sorted by rating
+    // and read 100 rows at a time give chunks of one rating each.
+    let dir = scratch("stream_ordered_sorted");
+    let text = std::fs::read_to_string(path("demo-data/ratings.csv")).unwrap();
+    let mut lines: Vec<&str> = text.lines().collect();
+    let header = lines.remove(0);
+    lines.sort_by_key(|l| l.split(',').nth(2).unwrap_or("").to_string());
+    let data = dir.join("sorted.csv");
+    std::fs::write(&data, format!("{header}\n{}\n", lines.join("\n"))).unwrap();
+    write(
+        &dir,
+        "slower.toml",
+        "name = \"slower\"\n[[change]]\nattribute = \"wait_minutes\"\nmultiply = 1.2\n",
+    );
+    let scenario = dir.join("slower.toml");
+    let base = [
+        "specs/delivery_ratings.toml",
+        "--scenario",
+        scenario.to_str().unwrap(),
+        "--draws",
+        "0",
+    ];
+    let (c, w) = chunks_and_whole(&base, data.to_str().unwrap(), 100);
+    same("ordered in sorted chunks", &c, &w);
+}

@@ -78,64 +78,8 @@ pub fn nests_of(
                 n + 1
             ));
         }
-        let name = match t.get("name") {
-            Some(Value::String(s)) => s.clone(),
-            other => {
-                return Err(format!(
-                    "[[nest]] number {}: `name` {}",
-                    n + 1,
-                    if other.is_some() {
-                        "must be a string"
-                    } else {
-                        "(a string) is missing"
-                    }
-                ))
-            }
-        };
-        if name.is_empty() || !name.chars().all(|c| c.is_alphanumeric() || c == '_') {
-            return Err(format!(
-                "[[nest]] {name:?}: a nest name is letters, digits and underscores (it names the parameter lambda_<name>)"
-            ));
-        }
-        if nests.iter().any(|x| x.0 == name) {
-            return Err(format!("[[nest]] {name}: two nests have this name"));
-        }
-        let list = match t.get("alternatives") {
-            Some(Value::Array(a)) => a,
-            other => {
-                return Err(format!(
-                    "[[nest]] {name}: `alternatives` {}",
-                    if other.is_some() {
-                        "must be a list of names, such as [\"bus\", \"rail\"]"
-                    } else {
-                        "(a list of names) is missing"
-                    }
-                ))
-            }
-        };
-        let mut members = Vec::new();
-        for a in list {
-            let Value::String(alt) = a else {
-                return Err(format!("[[nest]] {name}: alternatives are given by name"));
-            };
-            let Some(idx) = alternatives.iter().position(|x| &x.name == alt) else {
-                let known: Vec<&str> = alternatives.iter().map(|x| x.name.as_str()).collect();
-                return Err(format!(
-                    "[[nest]] {name}: `{alt}` is not an alternative (the spec has: {})",
-                    known.join(", ")
-                ));
-            };
-            if let Some(other) = nests.iter().find(|x| x.1.contains(&idx)) {
-                return Err(format!(
-                    "[[nest]] {name}: `{alt}` is already in nest `{}`; an alternative belongs to at most one nest",
-                    other.0
-                ));
-            }
-            if members.contains(&idx) {
-                return Err(format!("[[nest]] {name}: `{alt}` is listed twice"));
-            }
-            members.push(idx);
-        }
+        let name = nest_name(t, n, &nests)?;
+        let members = nest_members(t, &name, alternatives, &nests)?;
         if members.len() < 2 {
             return Err(format!(
                 "[[nest]] {name}: a nest needs two or more alternatives; a nest of one is the logit (its scale cannot be estimated), so leave the alternative out of every nest"
@@ -144,4 +88,77 @@ pub fn nests_of(
         nests.push((name, members));
     }
     Ok(nests)
+}
+
+/// A nest's `name`: a plain word, not used by an earlier nest.
+fn nest_name(t: &Table, n: usize, nests: &[(String, Vec<usize>)]) -> Result<String, String> {
+    let name = match t.get("name") {
+        Some(Value::String(s)) => s.clone(),
+        other => {
+            return Err(format!(
+                "[[nest]] number {}: `name` {}",
+                n + 1,
+                if other.is_some() {
+                    "must be a string"
+                } else {
+                    "(a string) is missing"
+                }
+            ))
+        }
+    };
+    if name.is_empty() || !name.chars().all(|c| c.is_alphanumeric() || c == '_') {
+        return Err(format!(
+            "[[nest]] {name:?}: a nest name is letters, digits and underscores (it names the parameter lambda_<name>)"
+        ));
+    }
+    if nests.iter().any(|x| x.0 == name) {
+        return Err(format!("[[nest]] {name}: two nests have this name"));
+    }
+    Ok(name)
+}
+
+/// A nest's `alternatives`: known names, listed once, in no earlier nest.
+fn nest_members(
+    t: &Table,
+    name: &str,
+    alternatives: &[Alternative],
+    nests: &[(String, Vec<usize>)],
+) -> Result<Vec<usize>, String> {
+    let list = match t.get("alternatives") {
+        Some(Value::Array(a)) => a,
+        other => {
+            return Err(format!(
+                "[[nest]] {name}: `alternatives` {}",
+                if other.is_some() {
+                    "must be a list of names, such as [\"bus\", \"rail\"]"
+                } else {
+                    "(a list of names) is missing"
+                }
+            ))
+        }
+    };
+    let mut members = Vec::new();
+    for a in list {
+        let Value::String(alt) = a else {
+            return Err(format!("[[nest]] {name}: alternatives are given by name"));
+        };
+        let Some(idx) = alternatives.iter().position(|x| &x.name == alt) else {
+            let known: Vec<&str> = alternatives.iter().map(|x| x.name.as_str()).collect();
+            return Err(format!(
+                "[[nest]] {name}: `{alt}` is not an alternative (the spec has: {})",
+                known.join(", ")
+            ));
+        };
+        if let Some(other) = nests.iter().find(|x| x.1.contains(&idx)) {
+            return Err(format!(
+                "[[nest]] {name}: `{alt}` is already in nest `{}`; an alternative belongs to at most one nest",
+                other.0
+            ));
+        }
+        if members.contains(&idx) {
+            return Err(format!("[[nest]] {name}: `{alt}` is listed twice"));
+        }
+        members.push(idx);
+    }
+    Ok(members)
 }

@@ -6,44 +6,89 @@ use super::inference::{self, Diagnostic, DiagnosticKind};
 use super::optimise::{self, Outcome};
 use crate::data::Observations;
 use crate::design::Design;
+use crate::model::Family;
 use crate::spec::Spec;
 
-/// All findings about a fit; `flats` are the Hessian's flat directions (free positions).
+/// What the diagnostics read: the free positions, the names, the search's
+/// outcome, the Hessian's flat directions (free positions) and each
+/// parameter's scale in the data's units.
+pub struct Found<'a> {
+    pub free: &'a [usize],
+    pub names: &'a [String],
+    pub out: &'a Outcome,
+    pub flats: &'a [Vec<usize>],
+    pub scales: &'a [f64],
+}
+
+/// A (negative-)lognormal coefficient whose location has run so far down
+/// that the coefficient is 0 to eight digits: one standard deviation of its
+/// variable moves utility by less than 1e-8 at the 99.9th percentile of the
+/// coefficient's distribution. Returns (location, spread) of each.
+pub fn opposite_sign(family: &dyn Family, d: &Design, beta: &[f64]) -> Vec<(usize, usize)> {
+    family
+        .random_coefficients()
+        .into_iter()
+        .filter(|rc| rc.distribution.is_log())
+        .filter(|rc| {
+            let top = beta[rc.location] + 3.1 * beta[rc.spread].abs();
+            top.exp() * crate::model::hessian::variable_spread(d, rc.location) < 1e-8
+        })
+        .map(|rc| (rc.location, rc.spread))
+        .collect()
+}
+
+/// All findings about a fit.
 pub fn diagnose(
     spec: &Spec,
     design: &Design,
     obs: &Observations,
-    free: &[usize],
-    names: &[String],
-    out: &Outcome,
-    flats: &[Vec<usize>],
+    family: &dyn Family,
+    found: &Found,
 ) -> Vec<Diagnostic> {
+    let Found {
+        free,
+        names,
+        out,
+        flats,
+        scales,
+    } = *found;
     let mut diagnostics = Vec::new();
-    let runaway = inference::runaway(design, &out.beta, free);
+    let signs = opposite_sign(family, design, &out.beta);
+    let skip: Vec<usize> = signs.iter().flat_map(|&(l, s)| [l, s]).collect();
+    let runaway = inference::runaway(&out.beta, free, scales, &skip);
     let never_chosen = never_chosen(spec, design, obs);
     for group in flats {
         if group.len() == 1 && never_chosen.contains(&free[group[0]]) {
             continue;
         }
+        if group.iter().all(|&x| skip.contains(&free[x])) {
+            continue; // said below, with the opposite sign
+        }
         diagnostics.push(not_identified(spec, free, names, group, &runaway));
     }
-    for (p, spread) in runaway {
-        if never_chosen.contains(&p) {
-            continue;
-        }
-        diagnostics.push(Diagnostic {
-            code: None,
-            kind: DiagnosticKind::Separation,
-            parameters: vec![names[p].clone()],
-            message: format!(
-                "`{}` = {} runs off (one standard deviation of its variable moves utility by {}): the variable (from {}) separates the choices almost perfectly, so the estimate and its error are not meaningful",
-                names[p],
-                short(out.beta[p]),
-                short(spread),
-                spec.term_label(&spec.parameters[p].term)
-            ),
-        });
+    for &(location, spread) in &signs {
+        diagnostics.push(wrong_sign(spec, family, names, location, spread, out));
     }
+    separation(
+        spec,
+        names,
+        &out.beta,
+        &runaway,
+        &never_chosen,
+        &mut diagnostics,
+    );
+    search_findings(free, out, &mut diagnostics);
+    let unused = Unused {
+        free,
+        flats,
+        never_chosen: &never_chosen,
+    };
+    alternatives(spec, design, obs, &unused, &mut diagnostics);
+    diagnostics
+}
+
+/// What the search itself found: no convergence, nothing to estimate, a restart.
+fn search_findings(free: &[usize], out: &Outcome, diagnostics: &mut Vec<Diagnostic>) {
     if !out.converged {
         diagnostics.push(Diagnostic {
             code: None,
@@ -80,13 +125,67 @@ pub fn diagnose(
             message: why.clone(),
         });
     }
-    let unused = Unused {
-        free,
-        flats,
-        never_chosen: &never_chosen,
+}
+
+/// Coefficients running off (except never-chosen alternatives' constants, said once below).
+fn separation(
+    spec: &Spec,
+    names: &[String],
+    beta: &[f64],
+    runaway: &[(usize, f64)],
+    never_chosen: &[usize],
+    diagnostics: &mut Vec<Diagnostic>,
+) {
+    for &(p, spread) in runaway {
+        if never_chosen.contains(&p) {
+            continue;
+        }
+        diagnostics.push(Diagnostic {
+            code: None,
+            kind: DiagnosticKind::Separation,
+            parameters: vec![names[p].clone()],
+            message: format!(
+                "`{}` = {} runs off (one standard deviation of its variable moves utility by {}): the variable (from {}) separates the choices almost perfectly, so the estimate and its error are not meaningful",
+                names[p],
+                short(beta[p]),
+                short(spread),
+                spec.term_label(&spec.parameters[p].term)
+            ),
+        });
+    }
+}
+
+/// The diagnostic of a (negative-)lognormal coefficient whose location ran
+/// off to minus infinity: the coefficient is 0 and the data prefer the other sign.
+fn wrong_sign(
+    spec: &Spec,
+    family: &dyn Family,
+    names: &[String],
+    location: usize,
+    spread: usize,
+    out: &Outcome,
+) -> Diagnostic {
+    let rc = family
+        .random_coefficients()
+        .into_iter()
+        .find(|rc| rc.location == location);
+    let (this, other, sign) = match rc.map(|rc| rc.distribution) {
+        Some(crate::model::distribution::Distribution::NegativeLognormal) => {
+            ("negative-lognormal", "lognormal", "positive")
+        }
+        _ => ("lognormal", "negative-lognormal", "negative"),
     };
-    alternatives(spec, design, obs, &unused, &mut diagnostics);
-    diagnostics
+    Diagnostic {
+        code: None,
+        kind: DiagnosticKind::OppositeSign,
+        parameters: vec![names[location].clone(), names[spread].clone()],
+        message: format!(
+            "`{}` (from {}) is {this}, so its coefficient has one sign, but the data prefer a {sign} coefficient: the location of its logarithm ran down to {} and the coefficient is all but 0, so its standard errors are withheld; use random = \"{other}\" or \"normal\"",
+            names[location],
+            spec.term_label(&spec.parameters[location].term),
+            short(out.beta[location]),
+        ),
+    }
 }
 
 /// Constants of alternatives that are available but never chosen: their own

@@ -61,8 +61,17 @@ fn finish_with(
 ) -> Result<Fit> {
     let names: Vec<String> = spec.parameters.iter().map(|p| p.name.clone()).collect();
     let a = free_hessian(&design, &*family, &out, &free);
-    let flats = inference::flat_directions(&a);
-    let mut diagnostics = diagnose::diagnose(spec, &design, &obs, &free, &names, &out, &flats);
+    let scales = model::hessian::scales(&*family, &design);
+    let free_scales: Vec<f64> = free.iter().map(|&p| scales[p]).collect();
+    let flats = inference::flat_directions(&a, &free_scales);
+    let found = diagnose::Found {
+        free: &free,
+        names: &names,
+        out: &out,
+        flats: &flats,
+        scales: &scales,
+    };
+    let mut diagnostics = diagnose::diagnose(spec, &design, &obs, &*family, &found);
     diagnostics.extend(
         family
             .warnings(spec, &design, &out.beta)
@@ -75,7 +84,7 @@ fn finish_with(
             }),
     );
     let (covariance, robust_covariance) =
-        covariances(&design, &*family, &out.beta, &free, &a, flats.is_empty());
+        covariances_held(&design, &*family, &out.beta, (&free, &a, &flats), &scales);
     let robust_inference = obs.group.is_some();
     let covariances = (&covariance, &robust_covariance);
     let parameters = parameter_rows(spec, &names, &out.beta, covariances, robust_inference);
@@ -116,6 +125,37 @@ fn finish_with(
         diagnostics,
         baseline: std::sync::OnceLock::from(baseline),
     })
+}
+
+/// The covariances, leaving out a (negative-)lognormal coefficient that went
+/// to 0: it has no errors, and the others' come from the rest of the Hessian.
+fn covariances_held(
+    design: &Design,
+    family: &dyn Family,
+    beta: &[f64],
+    (free, a, flats): (&[usize], &DMatrix<f64>, &[Vec<usize>]),
+    scales: &[f64],
+) -> (DMatrix<f64>, DMatrix<f64>) {
+    let held: Vec<usize> = diagnose::opposite_sign(family, design, beta)
+        .into_iter()
+        .flat_map(|(l, s)| [l, s])
+        .collect();
+    if held.is_empty() {
+        return covariances(design, family, beta, free, a, flats.is_empty());
+    }
+    let kept: Vec<usize> = (0..free.len())
+        .filter(|&x| !held.contains(&free[x]))
+        .collect();
+    let cov_free: Vec<usize> = kept.iter().map(|&x| free[x]).collect();
+    let a_kept = DMatrix::from_fn(kept.len(), kept.len(), |r, c| a[(kept[r], kept[c])]);
+    let kept_scales: Vec<f64> = cov_free.iter().map(|&p| scales[p]).collect();
+    let identified = inference::flat_directions(&a_kept, &kept_scales).is_empty();
+    let (mut c, mut rc) = covariances(design, family, beta, &cov_free, &a_kept, identified);
+    for &p in &held {
+        c[(p, p)] = f64::NAN;
+        rc[(p, p)] = f64::NAN;
+    }
+    (c, rc)
 }
 
 /// The negated Hessian's free block at the estimates. The Hessian the search

@@ -5,7 +5,7 @@
 use nalgebra::{DMatrix, SymmetricEigen};
 use serde::Serialize;
 
-use crate::design::{Design, Value};
+use crate::design::Design;
 use crate::model::Family;
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, serde::Deserialize)]
@@ -41,13 +41,19 @@ pub struct Diagnostic {
 
 /// Checks identification on the free block `a` of the negative Hessian.
 /// Returns the flat directions as groups of free-parameter positions.
-pub fn flat_directions(a: &DMatrix<f64>) -> Vec<Vec<usize>> {
+/// `scales` (per free position) are the parameters' scales in the data's
+/// units: the diagonal is compared in those units (dk / scale²), so that the
+/// test does not depend on the units the user chose.
+pub fn flat_directions(a: &DMatrix<f64>, scales: &[f64]) -> Vec<Vec<usize>> {
     let m = a.nrows();
     let mut out = Vec::new();
     let diag: Vec<f64> = (0..m).map(|k| a[(k, k)]).collect();
-    let max_diag = diag.iter().cloned().fold(0.0, f64::max);
+    let unitless: Vec<f64> = (0..m)
+        .map(|k| diag[k] / scales.get(k).map_or(1.0, |s| s * s))
+        .collect();
+    let max_diag = unitless.iter().cloned().fold(0.0, f64::max);
     let mut dead = Vec::new();
-    for (k, &dk) in diag.iter().enumerate() {
+    for (k, &dk) in unitless.iter().enumerate() {
         if dk.is_nan() || dk <= 1e-12 * max_diag.max(1e-300) {
             dead.push(k);
             out.push(vec![k]);
@@ -185,38 +191,12 @@ impl<'a> Gram<'a> {
 
 /// Parameters whose coefficient times the spread of their variable is so large that
 /// the choice is all but deterministic: the sign of (quasi-)separation.
-pub fn runaway(d: &Design, beta: &[f64], free: &[usize]) -> Vec<(usize, f64)> {
-    let mut out = Vec::new();
-    for &p in free {
-        let mut n = 0.0;
-        let mut s = 0.0;
-        let mut s2 = 0.0;
-        let mut one = false;
-        for (j, feats) in d.features.iter().enumerate() {
-            for f in feats.iter().filter(|f| f.param == p) {
-                if f.value == Value::One {
-                    one = true;
-                    continue;
-                }
-                for i in 0..d.situations() {
-                    if d.available(i, j) {
-                        let x = d.value(i, j, f.value);
-                        n += 1.0;
-                        s += x;
-                        s2 += x * x;
-                    }
-                }
-            }
-        }
-        let sd = if one || n < 2.0 {
-            1.0
-        } else {
-            ((s2 - s * s / n) / (n - 1.0)).max(0.0).sqrt()
-        };
-        let spread = beta[p].abs() * sd;
-        if spread > 15.0 {
-            out.push((p, spread));
-        }
-    }
-    out
+/// `scales`: each parameter's variable's standard deviation (`model::hessian::scales`).
+/// `skip`: parameters diagnosed otherwise (a lognormal location running off).
+pub fn runaway(beta: &[f64], free: &[usize], scales: &[f64], skip: &[usize]) -> Vec<(usize, f64)> {
+    free.iter()
+        .filter(|p| !skip.contains(p))
+        .map(|&p| (p, beta[p].abs() * scales[p]))
+        .filter(|&(_, spread)| spread > 15.0)
+        .collect()
 }

@@ -281,7 +281,7 @@ fn search(
             start = o.beta;
         }
         first_passes = o.passes;
-        family.after_first_search(spec, &mut start, by_simpler);
+        family.after_first_search(spec, design, &mut start, by_simpler);
         for (b, p) in start.iter_mut().zip(&spec.parameters) {
             if let Some(f) = p.fixed {
                 *b = f; // a fixed value is never moved

@@ -81,15 +81,14 @@ pub(super) fn newton(
             break;
         }
     }
-    let gradient_norm = free_norm(&e.grad, free);
     Outcome {
+        gradient_norm: free_norm(&e.grad, free),
         beta,
         ll: e.ll,
         bfgs_iterations: 0,
         newton_steps,
         passes: passes.load(Ordering::Relaxed),
         criterion,
-        gradient_norm,
         converged,
         note,
         restart: None,

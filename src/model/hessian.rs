@@ -1,10 +1,11 @@
 //! The Hessian a covariance needs: the family's analytic one where it has it,
 //! else central differences of its analytic gradient with a step chosen per
-//! parameter, made symmetric; and the outer product of the scores, a cheap
-//! starting metric for the search of such families.
+//! parameter, made symmetric; the outer product of the scores, a cheap
+//! starting metric for the search of such families; and each parameter's
+//! scale in the data's units, which keeps steps and tests unit-free.
 
 use super::{Eval, Family};
-use crate::design::Design;
+use crate::design::{Design, Value};
 
 /// Relative step of the central differences: the cube root of the machine
 /// epsilon balances truncation against rounding (common practice).
@@ -26,8 +27,12 @@ pub fn differenced(family: &dyn Family, d: &Design, beta: &[f64], free: &[usize]
     let k = beta.len();
     let mut h = vec![0.0; k * k];
     let mut b = beta.to_vec();
+    let scale = scales(family, d);
     for &a in free {
-        let step = STEP * beta[a].abs().max(1.0);
+        // Relative to the parameter's size, or to the size that moves utility
+        // by one standard deviation of its variable when it is near 0, so that
+        // the step does not depend on the units of the data.
+        let step = STEP * beta[a].abs().max(1.0 / scale[a]);
         b[a] = beta[a] + step;
         let up = family.evaluate(d, &b, true, false).grad;
         b[a] = beta[a] - step;
@@ -78,4 +83,59 @@ pub fn outer_product(
         }
     }
     a
+}
+
+/// Each parameter's scale in the data's units: the standard deviation of its
+/// variable over the available alternatives of every situation (a change of
+/// 1 / scale in the coefficient moves utility by one standard deviation);
+/// 1 for constants and the family's own parameters, and for a variable that
+/// does not vary. The spread of a random coefficient whose distribution is
+/// not on the log scale takes its location's scale; the location and spread
+/// of a coefficient's logarithm are unitless (scale 1).
+pub fn scales(family: &dyn Family, d: &Design) -> Vec<f64> {
+    let mut out: Vec<f64> = (0..d.params).map(|p| variable_spread(d, p)).collect();
+    for rc in family.random_coefficients() {
+        if rc.spread >= out.len() || rc.location >= out.len() {
+            continue;
+        }
+        if rc.distribution.is_log() {
+            // The location and spread of the coefficient's logarithm: unitless.
+            out[rc.location] = 1.0;
+            out[rc.spread] = 1.0;
+        } else {
+            out[rc.spread] = out[rc.location];
+        }
+    }
+    out
+}
+
+/// The standard deviation of parameter `p`'s variable (1 for a constant, for
+/// a parameter without a variable or a variable that does not vary).
+pub fn variable_spread(d: &Design, p: usize) -> f64 {
+    let (mut n, mut s, mut s2) = (0.0, 0.0, 0.0);
+    for (j, feats) in d.features.iter().enumerate() {
+        for f in feats.iter().filter(|f| f.param == p) {
+            if f.value == Value::One {
+                return 1.0;
+            }
+            for i in 0..d.situations() {
+                if d.available(i, j) {
+                    let x = d.value(i, j, f.value);
+                    n += 1.0;
+                    s += x;
+                    s2 += x * x;
+                }
+            }
+        }
+    }
+    if n < 2.0 {
+        return 1.0;
+    }
+    // Centred on the mean: one pass, with the mean's square taken out.
+    let sd = ((s2 - s * s / n) / (n - 1.0)).max(0.0).sqrt();
+    if sd > 0.0 && sd.is_finite() {
+        sd
+    } else {
+        1.0
+    }
 }

@@ -297,9 +297,10 @@ pub trait Family: Send + Sync + std::fmt::Debug {
     }
 
     /// Turns the estimates of the first search into starting values of the
-    /// full search (`by_simpler`: the simpler family ran it, on its own scale).
-    fn after_first_search(&self, spec: &Spec, beta: &mut [f64], by_simpler: bool) {
-        let _ = (spec, beta, by_simpler);
+    /// full search (`by_simpler`: the simpler family ran it, on its own scale;
+    /// `d` the data, whose units set the size of a start).
+    fn after_first_search(&self, spec: &Spec, d: &Design, beta: &mut [f64], by_simpler: bool) {
+        let _ = (spec, d, beta, by_simpler);
     }
 
     /// Each decision maker's random coefficients conditional on their choices.

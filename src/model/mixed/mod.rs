@@ -233,10 +233,22 @@ impl Family for Mixed {
         Some(Arc::new(self.logit()))
     }
 
-    fn after_first_search(&self, spec: &Spec, beta: &mut [f64], by_simpler: bool) {
+    fn after_first_search(&self, spec: &Spec, d: &Design, beta: &mut [f64], by_simpler: bool) {
+        // Floors of the starts in the variable's units: a coefficient of 1 / sd
+        // moves utility by one standard deviation. In ordinary units (sd
+        // between 0.01 and 100) the floors are those of unit variables.
+        let unit = |p: usize| {
+            let s = super::hessian::variable_spread(d, p);
+            if (0.01..=100.0).contains(&s) {
+                1.0
+            } else {
+                1.0 / s
+            }
+        };
         for t in &self.terms {
             let b = beta[t.location];
             let fixed = spec.parameters[t.location].fixed.is_some();
+            let unit = unit(t.location);
             if by_simpler && t.distribution.is_log() && !fixed {
                 // The logit estimated the coefficient itself: its logarithm
                 // (of minus it for a negative lognormal) is the location.
@@ -245,7 +257,7 @@ impl Family for Mixed {
                 } else {
                     -1.0
                 };
-                beta[t.location] = (sign * b).max(1e-3).ln();
+                beta[t.location] = (sign * b).max(1e-3 * unit).ln();
             }
             let p = &spec.parameters[t.spread];
             if p.fixed.is_none() && p.start == 0.0 && beta[t.spread] == 0.0 {
@@ -253,7 +265,7 @@ impl Family for Mixed {
                 beta[t.spread] = if t.distribution.is_log() {
                     0.5
                 } else {
-                    (0.5 * b.abs()).max(0.1)
+                    (0.5 * b.abs()).max(0.1 * unit)
                 };
             }
         }

@@ -362,7 +362,7 @@ impl Family for Mnp {
         Some(Arc::new(Logit { binary: false }))
     }
 
-    fn after_first_search(&self, spec: &Spec, beta: &mut [f64], by_simpler: bool) {
+    fn after_first_search(&self, spec: &Spec, _d: &Design, beta: &mut [f64], by_simpler: bool) {
         if !by_simpler {
             return;
         }

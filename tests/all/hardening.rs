@@ -474,7 +474,7 @@ fn a_lognormal_coefficient_the_data_want_of_the_other_sign_is_diagnosed_as_such(
             "{dist}: {} passes",
             fit.stats.passes
         );
-        let text = sharecast::report::text::fit_report(&spec, &fit, false);
+        let text = sharecast::report::text::report(&spec, &fit, None, None, false);
         no_nan(&text);
         assert!(!text.contains("runs off"), "{text}");
     }

@@ -394,3 +394,49 @@ fn a_spec_with_every_parameter_fixed_is_evaluated_and_forecast() {
         1e-10,
     );
 }
+
+#[test]
+fn a_search_that_fails_from_given_starts_is_run_again_from_the_default_start() {
+    // From `cost` = 1e3 the quasi-Newton phase steps out of the finite
+    // numbers and the search does not converge; the default start does.
+    let dir = scratch("hardening_restart");
+    let fixed = std::fs::read_to_string(all_fixed_logit(&dir)).unwrap();
+    let free = fixed.split("[parameters]").next().unwrap().to_string();
+    let far = format!("{free}[parameters]\ncost = {{ start = 1e3 }}\n");
+    let free = write(&dir, "free.toml", &free);
+    let far = write(&dir, "far.toml", &far);
+    let json = |p: &Path| {
+        let (code, out, err) = run(&["fit", p.to_str().unwrap(), "--no-analysis", "--json"]);
+        assert_eq!(code, 0, "{err}");
+        serde_json::from_str::<serde_json::Value>(&out).unwrap()
+    };
+    let (a, b) = (json(&free), json(&far));
+    let restarted: Vec<&serde_json::Value> = b["diagnostics"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|d| d["kind"] == "restarted")
+        .collect();
+    assert_eq!(restarted.len(), 1, "{b}");
+    assert!(
+        restarted[0]["message"]
+            .as_str()
+            .unwrap()
+            .contains("`cost` = 1e3"),
+        "{b}"
+    );
+    assert!(b["fit"]["converged"].as_bool().unwrap(), "{b}");
+    let ll = |d: &serde_json::Value| d["fit"]["log_likelihood"].as_f64().unwrap();
+    assert_close("log-likelihood after the restart", ll(&b), ll(&a), 1e-10);
+    assert!(
+        a["diagnostics"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .all(|d| d["kind"] != "restarted"),
+        "{a}"
+    );
+    let (_, text, _) = run(&["fit", far.to_str().unwrap(), "--no-analysis"]);
+    assert!(text.contains("run again from the default start"), "{text}");
+    no_nan(&text);
+}

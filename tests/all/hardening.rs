@@ -265,7 +265,7 @@ fn ratings_spec(dir: &Path, name: &str, family: &str, file: &str, extra: &str) -
 
 /// No `NaN` or `inf` in a text report, and no non-finite number in a JSON one.
 #[track_caller]
-fn no_nan(text: &str) {
+pub(crate) fn no_nan(text: &str) {
     for bad in ["NaN", "inf ", " inf", "-inf"] {
         assert!(!text.contains(bad), "`{bad}` in:\n{text}");
     }
@@ -395,228 +395,48 @@ fn a_spec_with_every_parameter_fixed_is_evaluated_and_forecast() {
     );
 }
 
-/// The spec of the mixed family's example (as the family suite writes it)
-/// with `x` given the distribution `dist`.
-fn mixed_example(dist: &str) -> sharecast::spec::Spec {
-    let alts: String = (0..4)
-        .map(|a| {
-            format!(
-                "[alternatives.a{a}]\n{}",
-                if a == 3 { "available = \"open\"\n" } else { "" }
-            )
-        })
-        .collect();
-    let text = format!(
-        "[data]\nfile = \"never-read.csv\"\nlayout = \"wide\"\nchoice = \"alt\"\n[model]\nfamily = \"mixed\"\nbase = \"a0\"\n{alts}[[attribute]]\nname = \"x\"\ncolumns = {{ a0 = \"x_a0\", a1 = \"x_a1\", a2 = \"x_a2\", a3 = \"x_a3\" }}\nrandom = \"{dist}\"\n[[characteristic]]\nname = \"z\"\ncolumn = \"z\"\n[simulation]\ndraws = 200\n"
-    );
-    sharecast::model::parse_spec(&text, Path::new("/nowhere/sign.toml")).unwrap()
-}
-
 #[test]
-fn a_lognormal_coefficient_the_data_want_of_the_other_sign_is_diagnosed_as_such() {
-    let e = FAMILIES.iter().find(|e| e.name == "mixed").unwrap();
-    // Simulated with x's coefficient normal around -0.8 (the suite's truth).
-    let (_, _, _, d) = crate::families::setup(e, 1500, 21);
-    let mut flipped = (*d.obs).clone();
-    for v in flipped.attributes[0].iter_mut() {
-        *v = -*v; // the same choices want a positive coefficient on -x
-    }
-    for (dist, obs, other) in [
-        ("lognormal", (*d.obs).clone(), "negative-lognormal"),
-        ("negative-lognormal", flipped, "lognormal"),
-    ] {
-        let spec = mixed_example(dist);
-        let quiet = |_s: Step| {};
-        let fit = estimate::fit(&spec, Arc::new(obs), &quiet).unwrap();
-        let kinds: Vec<DiagnosticKind> = fit.diagnostics.iter().map(|d| d.kind).collect();
-        let sign = fit
-            .diagnostics
-            .iter()
-            .find(|d| d.kind == DiagnosticKind::OppositeSign)
-            .unwrap_or_else(|| {
-                panic!("{dist}: no opposite-sign diagnostic: {:?}", fit.diagnostics)
-            });
-        assert!(
-            sign.message.contains(other) && sign.message.contains("`x`"),
-            "{}",
-            sign.message
-        );
-        assert!(
-            !kinds.contains(&DiagnosticKind::Separation),
-            "{dist}: {:?}",
-            fit.diagnostics
-        );
-        assert!(
-            !fit.diagnostics
-                .iter()
-                .any(|d| d.kind == DiagnosticKind::NotIdentified
-                    && d.parameters.contains(&"x".to_string())),
-            "{dist}: {:?}",
-            fit.diagnostics
-        );
-        // The coefficient is 0: the location of its logarithm is far below
-        // any value that moves utility (fact of the model: exp(-30) < 1e-13).
-        let x = spec.parameter_index("x").unwrap();
-        assert!(fit.beta[x] < -18.0, "{dist}: location {}", fit.beta[x]);
-        // The other parameters keep their errors; the search stops in bounded passes.
-        let z = spec
-            .parameters
-            .iter()
-            .position(|p| p.name.starts_with("z"))
-            .unwrap();
-        assert!(
-            fit.parameters[z].std_error.is_finite(),
-            "{dist}: {:?}",
-            fit.parameters[z]
-        );
-        assert!(
-            fit.stats.passes < 1500,
-            "{dist}: {} passes",
-            fit.stats.passes
-        );
-        let text = sharecast::report::text::report(&spec, &fit, None, None, false);
-        no_nan(&text);
-        assert!(!text.contains("runs off"), "{text}");
-    }
-    // The right sign is not diagnosed: a negative-lognormal on the original data.
-    let spec = mixed_example("negative-lognormal");
-    let quiet = |_s: Step| {};
-    let fit = estimate::fit(&spec, Arc::new((*d.obs).clone()), &quiet).unwrap();
-    assert!(
-        fit.diagnostics
-            .iter()
-            .all(|d| d.kind != DiagnosticKind::OppositeSign),
-        "{:?}",
-        fit.diagnostics
-    );
-}
-
-/// The data of `d` with the first attribute (or, for a single-index family,
-/// the first characteristic) multiplied by `f`.
-fn rescaled(d: &sharecast::design::Design, single: bool, f: f64) -> sharecast::data::Observations {
-    let mut obs = (*d.obs).clone();
-    let col = if single {
-        &mut obs.characteristics[0]
-    } else {
-        &mut obs.attributes[0]
+fn a_search_that_fails_from_given_starts_is_run_again_from_the_default_start() {
+    // From `cost` = 1e3 the quasi-Newton phase steps out of the finite
+    // numbers and the search does not converge; the default start does.
+    let dir = scratch("hardening_restart");
+    let fixed = std::fs::read_to_string(all_fixed_logit(&dir)).unwrap();
+    let free = fixed.split("[parameters]").next().unwrap().to_string();
+    let far = format!("{free}[parameters]\ncost = {{ start = 1e3 }}\n");
+    let free = write(&dir, "free.toml", &free);
+    let far = write(&dir, "far.toml", &far);
+    let json = |p: &Path| {
+        let (code, out, err) = run(&["fit", p.to_str().unwrap(), "--no-analysis", "--json"]);
+        assert_eq!(code, 0, "{err}");
+        serde_json::from_str::<serde_json::Value>(&out).unwrap()
     };
-    for v in col.iter_mut() {
-        *v *= f;
-    }
-    obs
-}
-
-#[test]
-fn fits_do_not_depend_on_the_units_of_a_variable_in_any_family() {
-    // Multiplying a variable by f divides its coefficient (and a normal
-    // random coefficient's spread) and their standard errors by f and leaves
-    // the log-likelihood unchanged (fact of the model: the utilities are the same).
-    for e in FAMILIES {
-        let single = e.rules.single_index();
-        let (spec, _, _, d) = crate::families::setup(e, 600, 3);
-        let quiet = |_s: Step| {};
-        let base = estimate::fit(&spec, Arc::new((*d.obs).clone()), &quiet).unwrap();
-        let var = if single { "z" } else { "x" };
-        let moved: Vec<usize> = spec
-            .parameters
+    let (a, b) = (json(&free), json(&far));
+    let restarted: Vec<&serde_json::Value> = b["diagnostics"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|d| d["kind"] == "restarted")
+        .collect();
+    assert_eq!(restarted.len(), 1, "{b}");
+    assert!(
+        restarted[0]["message"]
+            .as_str()
+            .unwrap()
+            .contains("`cost` = 1e3"),
+        "{b}"
+    );
+    assert!(b["fit"]["converged"].as_bool().unwrap(), "{b}");
+    let ll = |d: &serde_json::Value| d["fit"]["log_likelihood"].as_f64().unwrap();
+    assert_close("log-likelihood after the restart", ll(&b), ll(&a), 1e-10);
+    assert!(
+        a["diagnostics"]
+            .as_array()
+            .unwrap()
             .iter()
-            .enumerate()
-            .filter(|(_, p)| p.name == var || p.name == format!("{var}_spread"))
-            .map(|(k, _)| k)
-            .collect();
-        assert!(!moved.is_empty(), "{}", e.name);
-        for f in [1e9, 1e-9] {
-            let what = format!(
-                "{} ({} alternatives), x {f:e}",
-                e.name, e.example_alternatives
-            );
-            let fit = estimate::fit(&spec, Arc::new(rescaled(&d, single, f)), &quiet).unwrap();
-            assert!(
-                base.stats.converged && fit.stats.converged,
-                "{what}: {:?}",
-                fit.diagnostics
-            );
-            assert_close(
-                &format!("{what}: log-likelihood"),
-                fit.stats.log_likelihood,
-                base.stats.log_likelihood,
-                1e-8,
-            );
-            assert!(
-                fit.diagnostics
-                    .iter()
-                    .all(|d| d.kind != DiagnosticKind::NotIdentified),
-                "{what}: {:?}",
-                fit.diagnostics
-            );
-            for (k, p) in fit.parameters.iter().enumerate() {
-                let m = if moved.contains(&k) { f } else { 1.0 };
-                let b = &base.parameters[k];
-                let tol_e = 1e-5 * b.std_error.max(b.estimate.abs() * 1e-3);
-                assert!(
-                    (p.estimate * m - b.estimate).abs() <= tol_e.max(1e-12),
-                    "{what}: `{}` {} x {m:e} against {}",
-                    p.name,
-                    p.estimate,
-                    b.estimate
-                );
-                assert_close(
-                    &format!("{what}: s.e. of `{}`", p.name),
-                    p.std_error * m,
-                    b.std_error,
-                    1e-5,
-                );
-            }
-        }
-    }
-}
-
-#[test]
-fn a_lognormal_coefficient_does_not_depend_on_the_units_of_its_variable() {
-    // Multiplying x by f moves the location of the coefficient's logarithm
-    // by -ln f and leaves its spread, their errors and the log-likelihood
-    // unchanged (fact of the model: the utilities are the same).
-    let e = FAMILIES.iter().find(|e| e.name == "mixed").unwrap();
-    let (_, _, _, d) = crate::families::setup(e, 800, 8);
-    let spec = mixed_example("negative-lognormal");
-    let quiet = |_s: Step| {};
-    let base = estimate::fit(&spec, Arc::new((*d.obs).clone()), &quiet).unwrap();
-    let x = spec.parameter_index("x").unwrap();
-    for f in [1e9, 1e-9] {
-        let fit = estimate::fit(&spec, Arc::new(rescaled(&d, false, f)), &quiet).unwrap();
-        assert!(
-            base.stats.converged && fit.stats.converged,
-            "{f:e}: {:?}",
-            fit.diagnostics
-        );
-        assert_close(
-            "log-likelihood",
-            fit.stats.log_likelihood,
-            base.stats.log_likelihood,
-            1e-8,
-        );
-        assert!(
-            (fit.beta[x] + f.ln() - base.beta[x]).abs()
-                < 1e-5 * base.parameters[x].std_error.max(1e-3),
-            "{f:e}: {} against {}",
-            fit.beta[x],
-            base.beta[x]
-        );
-        for (p, b) in fit.parameters.iter().zip(&base.parameters) {
-            assert_close(
-                &format!("{f:e}: s.e. of `{}`", p.name),
-                p.std_error,
-                b.std_error,
-                1e-4,
-            );
-        }
-        assert!(
-            fit.diagnostics
-                .iter()
-                .all(|d| d.kind != DiagnosticKind::NotIdentified
-                    && d.kind != DiagnosticKind::OppositeSign),
-            "{f:e}: {:?}",
-            fit.diagnostics
-        );
-    }
+            .all(|d| d["kind"] != "restarted"),
+        "{a}"
+    );
+    let (_, text, _) = run(&["fit", far.to_str().unwrap(), "--no-analysis"]);
+    assert!(text.contains("run again from the default start"), "{text}");
+    no_nan(&text);
 }

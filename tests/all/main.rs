@@ -14,6 +14,7 @@ mod families;
 mod fit_cli;
 mod ghk;
 mod hardening;
+mod hardening_units;
 mod layouts;
 mod limits;
 mod mixed;

@@ -161,7 +161,9 @@ pub fn toml_message(text: &str, e: &toml::de::Error) -> String {
     let column = text[line_start..at].chars().count();
     // A window of the line around the column, marked where it was cut.
     let half = QUOTE_LIMIT / 2;
-    let from = column.saturating_sub(half);
+    // The column can fall past the trimmed line (trailing white space such
+    // as form feeds): the window then ends at the line's end.
+    let from = column.saturating_sub(half).min(line.len());
     let to = (from + QUOTE_LIMIT).min(line.len());
     let mut shown: String = line[from..to].iter().collect();
     let mut caret = column - from;
@@ -182,6 +184,24 @@ pub fn toml_message(text: &str, e: &toml::de::Error) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn an_error_past_the_trimmed_end_of_its_line_is_shown_without_a_panic() {
+        // Found by fuzzing (`spec`, `scenario`): the parser's column lies in
+        // trailing form feeds, which the shown line leaves out.
+        for text in [
+            format!("\n9{}\n9", "\u{c}".repeat(110)),
+            format!("a = 1\nb{}", "\u{c}".repeat(300)),
+            format!("x = [1,{} ", " ".repeat(500)),
+        ] {
+            let Err(e) = toml::from_str::<toml::Table>(&text) else {
+                panic!("{text:?} parsed");
+            };
+            let m = toml_message(&text, &e);
+            assert!(m.starts_with("line "), "{m}");
+            assert!(m.chars().count() < 2 * QUOTE_LIMIT + 200, "{m}");
+        }
+    }
 
     #[test]
     fn a_long_quote_keeps_its_start_and_says_how_much_is_left_out() {

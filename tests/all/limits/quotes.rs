@@ -69,3 +69,23 @@ fn messages_quoting_huge_input_stay_short_and_name_the_file() {
     fails_with(&r, &["d.csv", "characters left out"]);
     assert!(r.2.len() < 1500, "{} bytes:\n{}", r.2.len(), r.2);
 }
+
+#[test]
+fn a_parse_error_in_trailing_white_space_is_reported_not_a_panic() {
+    // Found by fuzzing (`spec` and `scenario`, the inputs below): the error's
+    // column lay in white space at the end of its line (form feeds, spaces,
+    // tabs), past the line the message shows, and cutting the window panicked.
+    let feeds = format!("\n9{}\n9", "\u{c}".repeat(108));
+    let tabs = format!("name\t{}\t\t", " ".repeat(138));
+    let d = setup("trailing_space_errors", CSV, &feeds);
+    write(&d, "good.toml", &spec("d.csv", ""));
+    let r = run_in(&d, &["check", "spec.toml"], 60);
+    fails_with(&r, &["spec.toml", "line ", "^"]);
+    for (name, text) in [("feeds.toml", &feeds), ("tabs.toml", &tabs)] {
+        write(&d, name, text);
+        let args = ["simulate", "good.toml", "--scenario", name, "--draws", "0"];
+        let r = run_in(&d, &args, 60);
+        fails_with(&r, &[name, "line ", "^"]);
+        assert!(!r.2.contains("panicked"), "{}", r.2);
+    }
+}

@@ -4,11 +4,13 @@
 
 pub mod analytic;
 pub mod compare;
+pub mod correlation;
 pub mod delta;
 pub mod diversion;
 pub mod flags;
 pub mod hypothesis;
 pub mod random;
+mod ratio_terms;
 pub mod ratios;
 pub mod rows;
 pub mod sensitivity;
@@ -90,6 +92,10 @@ pub struct Analysis {
     /// Families with random coefficients: each one's implied distribution.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub random_coefficients: Vec<random::RandomRow>,
+    /// Correlated random coefficients: implied standard deviations and
+    /// correlations, and the test of independence.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub correlations: Option<correlation::Correlations>,
     /// Figures the family derives from its parameters (the multinomial
     /// probit's error covariance and correlations), with delta-method errors.
     #[serde(skip_serializing_if = "Vec::is_empty")]
@@ -251,6 +257,7 @@ pub fn analyse_with(
     let tests = tests_section(spec, fit, ds, opts, sink)?;
     let phase = Phase::start(sink, "derived figures", 3);
     let random_coefficients = random::rows(fit);
+    let correlations = correlation::correlations(fit);
     phase.step();
     let derived = derived(spec, fit);
     phase.step();
@@ -263,6 +270,7 @@ pub fn analyse_with(
         flag_effects,
         ratios,
         random_coefficients,
+        correlations,
         derived,
         diversion,
         price_diversion,

@@ -45,7 +45,7 @@ pub struct RandomRow {
 
 /// The nine figures of one random coefficient at `beta`.
 fn figures(t: &RandomCoefficient, beta: &[f64]) -> Vec<f64> {
-    let (m, s, dist) = (beta[t.location], beta[t.spread], t.distribution);
+    let (m, s, dist) = (beta[t.location], t.scale(beta), t.distribution);
     let (mean, sd) = dist.moments(m, s);
     let positive = dist.share_positive(m, s);
     let mut out = vec![mean, sd, dist.quantile(m, s, 0.5), positive, 1.0 - positive];
@@ -105,7 +105,7 @@ pub struct Histogram {
 /// quantile function on a stratified grid of 4,000 points (exact shares up
 /// to the grid's resolution).
 pub fn histogram(t: &RandomCoefficient, beta: &[f64], bins: usize) -> Histogram {
-    let (m, s, dist) = (beta[t.location], beta[t.spread], t.distribution);
+    let (m, s, dist) = (beta[t.location], t.scale(beta), t.distribution);
     let bins = bins.max(1);
     let (low, high) = (dist.quantile(m, s, 0.005), dist.quantile(m, s, 0.995));
     let mut shares = vec![0.0; bins];

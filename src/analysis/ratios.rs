@@ -15,6 +15,8 @@ use crate::progress::{Phase, Sink, QUIET};
 use crate::rng::Rng;
 use crate::spec::Ratio;
 
+use super::ratio_terms::Tastes;
+
 /// Simulated decision makers for a ratio of random coefficients.
 pub const RATIO_DRAWS: usize = 100_000;
 /// Simulated decision makers per parameter draw for its Krinsky-Robb interval.
@@ -62,6 +64,10 @@ pub struct RatioRow {
     pub seed: u64,
     /// Set when the denominator's 95% interval includes zero.
     pub warning: Option<String>,
+    /// What the ratio is, when that needs saying (in willingness-to-pay
+    /// space, a value over the price is that value itself, not a division).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub note: Option<String>,
     /// When a term varies across decision makers: the ratio's distribution
     /// (then `value` is its median, with delta-method and Krinsky-Robb
     /// intervals of the median).
@@ -99,28 +105,35 @@ pub fn ratios_with(
         .map(|r| {
             let (n, d) = (r.numerator, r.denominator);
             let _step = Step(&phase);
-            if random.iter().any(|t| t.location == n || t.location == d) {
+            if Tastes::of(fit, &random).varies(n, d) {
                 return simulated(fit, r, &random, draws, seed, sink);
             }
-            let (bn, bd) = (fit.beta[n], fit.beta[d]);
+            let tastes = Tastes::of(fit, &random);
+            let (bn, bd) = (tastes.fixed(&fit.beta, n), tastes.fixed(&fit.beta, d));
             // The willingness to pay: c * bn / bd with c = -scale for a unit more.
             let c = if r.per_less { r.scale } else { -r.scale };
             let value = c * bn / bd;
-            // gradient of c * bn / bd
-            let gn = c / bd;
-            let gd = -c * bn / (bd * bd);
+            // gradient of c * bn / bd (a price in willingness space is the constant -1)
+            let gn = if tastes.is_price(n) { 0.0 } else { c / bd };
+            let gd = if tastes.is_price(d) { 0.0 } else { -c * bn / (bd * bd) };
             let var = gn * gn * cov[(n, n)] + 2.0 * gn * gd * cov[(n, d)] + gd * gd * cov[(d, d)];
             let se = var.max(0.0).sqrt();
             let (mut kr_low, mut kr_high, mut used) = (f64::NAN, f64::NAN, 0);
             if let Some(draws) = draws {
-                let mut vals: Vec<f64> = draws.iter().map(|b| c * b[n] / b[d]).filter(|v| v.is_finite()).collect();
+                let mut vals: Vec<f64> = draws
+                    .iter()
+                    .map(|b| c * tastes.fixed(b, n) / tastes.fixed(b, d))
+                    .filter(|v| v.is_finite())
+                    .collect();
                 vals.sort_by(|a, b| a.total_cmp(b));
                 kr_low = quantile(&vals, 0.025);
                 kr_high = quantile(&vals, 0.975);
                 used = vals.len();
             }
             let sd = cov[(d, d)].sqrt();
-            let warning = if (bd - Z95 * sd) * (bd + Z95 * sd) <= 0.0 || !sd.is_finite() {
+            let warning = if tastes.is_price(d) {
+                None
+            } else if (bd - Z95 * sd) * (bd + Z95 * sd) <= 0.0 || !sd.is_finite() {
                 Some(format!(
                     "the 95% interval of `{}` includes zero: the ratio's distribution has no finite moments, so its error and interval are unreliable",
                     fit.names[d]
@@ -144,6 +157,7 @@ pub fn ratios_with(
                 draws: used,
                 seed,
                 warning,
+                note: tastes.note(fit, n, d),
                 distribution: None,
             }
         })
@@ -161,30 +175,15 @@ impl Drop for Step<'_, '_> {
     }
 }
 
-/// Coefficient `p` at uniform draw `u`: its distribution's when it is random.
-fn coefficient(random: &[RandomCoefficient], beta: &[f64], p: usize, u: f64) -> f64 {
-    match random.iter().find(|t| t.location == p) {
-        Some(t) => t.distribution.at(beta[t.location], beta[t.spread], u),
-        None => beta[p],
-    }
-}
-
 /// The sorted ratios of `count` simulated decision makers at `beta`; the
-/// numerator and denominator get independent draws (the same one when they
-/// are the same coefficient).
-fn sample(
-    random: &[RandomCoefficient],
-    beta: &[f64],
-    r: &Ratio,
-    c: f64,
-    uniforms: &[(f64, f64)],
-) -> Vec<f64> {
-    let same = r.numerator == r.denominator;
+/// numerator and denominator get their joint draws (correlated when the
+/// model correlates them, the same one when they are the same coefficient).
+fn sample(tastes: &Tastes, beta: &[f64], r: &Ratio, c: f64, uniforms: &[(f64, f64)]) -> Vec<f64> {
+    let pair = tastes.pair(beta, r.numerator, r.denominator);
     let mut vals: Vec<f64> = uniforms
         .iter()
         .map(|&(un, ud)| {
-            let bn = coefficient(random, beta, r.numerator, un);
-            let bd = coefficient(random, beta, r.denominator, if same { un } else { ud });
+            let (bn, bd) = pair.at(un, ud);
             c * bn / bd
         })
         .filter(|v| v.is_finite())
@@ -209,13 +208,14 @@ fn simulated(
     let uniforms: Vec<(f64, f64)> = (0..RATIO_DRAWS)
         .map(|_| (open(rng.uniform()), open(rng.uniform())))
         .collect();
-    let vals = sample(random, &fit.beta, r, c, &uniforms);
+    let tastes = Tastes::of(fit, random);
+    let vals = sample(&tastes, &fit.beta, r, c, &uniforms);
     let median = quantile(&vals, 0.5);
     let se = delta::delta_se(fit, &|b: &[f64]| {
-        vec![quantile(&sample(random, b, r, c, &uniforms), 0.5)]
+        vec![quantile(&sample(&tastes, b, r, c, &uniforms), 0.5)]
     })[0];
     let few = &uniforms[..RATIO_DRAWS_PER_PARAMETER_DRAW];
-    let medians = draws.map(|all| kr_medians(random, all, r, c, few, sink));
+    let medians = draws.map(|all| kr_medians(&tastes, all, r, c, few, sink));
     let (kr_low, kr_high, used) = match &medians {
         Some(m) => (quantile(m, 0.025), quantile(m, 0.975), m.len()),
         None => (f64::NAN, f64::NAN, 0),
@@ -236,7 +236,8 @@ fn simulated(
         kr_high,
         draws: used,
         seed,
-        warning: near_zero_warning(fit, random, d),
+        warning: near_zero_warning(fit, random, d).filter(|_| !tastes.is_price(d)),
+        note: tastes.note(fit, n, d),
         distribution: Some(RatioDistribution {
             median,
             quantiles: super::random::LEVELS
@@ -257,7 +258,7 @@ fn simulated(
 /// `RATIO_PARAMETER_DRAWS` parameter draws, reported as the phase
 /// `Krinsky-Robb draws` in blocks of a hundredth.
 fn kr_medians(
-    random: &[RandomCoefficient],
+    tastes: &Tastes,
     all: &[Vec<f64>],
     r: &Ratio,
     c: f64,
@@ -271,7 +272,7 @@ fn kr_medians(
     for part in used.chunks(block) {
         medians.extend(
             part.iter()
-                .map(|b| quantile(&sample(random, b, r, c, few), 0.5))
+                .map(|b| quantile(&sample(tastes, b, r, c, few), 0.5))
                 .filter(|v| v.is_finite()),
         );
         phase.advance(part.len());
@@ -285,7 +286,7 @@ fn kr_medians(
 /// values at or near zero.
 fn near_zero_warning(fit: &Fit, random: &[RandomCoefficient], d: usize) -> Option<String> {
     let t = random.iter().find(|t| t.location == d)?;
-    let (m, s) = (fit.beta[t.location], fit.beta[t.spread].abs());
+    let (m, s) = (fit.beta[t.location], t.scale(&fit.beta));
     let touches_zero = s > 0.0
         && match t.distribution {
             Distribution::Normal => true,

@@ -30,7 +30,7 @@ pub fn opposite_sign(family: &dyn Family, d: &Design, beta: &[f64]) -> Vec<(usiz
         .into_iter()
         .filter(|rc| rc.distribution.is_log())
         .filter(|rc| {
-            let top = beta[rc.location] + 3.1 * beta[rc.spread].abs();
+            let top = beta[rc.location] + 3.1 * rc.scale(beta);
             top.exp() * crate::model::hessian::variable_spread(d, rc.location) < 1e-8
         })
         .map(|rc| (rc.location, rc.spread))

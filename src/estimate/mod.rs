@@ -288,6 +288,27 @@ fn search(
             }
         }
     }
+    // A middle search with some of the family's parameters still held (the
+    // correlated mixed logit's independent model), then the full one.
+    let middle_held = family.held_in_middle_search();
+    let middle: Vec<usize> = free
+        .iter()
+        .copied()
+        .filter(|p| !middle_held.contains(p))
+        .collect();
+    if middle.len() < free.len() && !middle.is_empty() {
+        let o = optimise::maximise(design, &**family, &start, &middle, progress);
+        if o.ll.is_finite() {
+            start = o.beta;
+        }
+        first_passes += o.passes;
+        family.after_middle_search(&mut start);
+        for (b, p) in start.iter_mut().zip(&spec.parameters) {
+            if let Some(f) = p.fixed {
+                *b = f;
+            }
+        }
+    }
     let mut out = optimise::maximise(design, &**family, &start, free, progress);
     out.passes += first_passes;
     out

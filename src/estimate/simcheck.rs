@@ -58,13 +58,22 @@ pub fn draws_check(
     };
     let second = fit(&reseeded(spec, other_seed), obs, progress)?;
     let robust = first.design.obs.group.is_some();
-    // A spread's sign carries no meaning: spreads are compared in size.
-    let spreads: Vec<usize> = first
-        .family
-        .random_coefficients()
-        .iter()
-        .map(|t| t.spread)
-        .collect();
+    // A spread's sign carries no meaning: spreads are compared in size, and
+    // a Cholesky entry with the sign its column's spread gives it.
+    let terms = first.family.random_coefficients();
+    let spreads: Vec<usize> = terms.iter().map(|t| t.spread).collect();
+    let column_of = |k: usize| {
+        terms
+            .iter()
+            .flat_map(|t| t.loadings[1..].iter())
+            .find(|l| l.0 == k)
+            .and_then(|l| terms.get(l.1))
+            .map(|t| t.spread)
+    };
+    let signed = |fit: &Fit, k: usize, x: f64| match column_of(k) {
+        Some(s) if fit.beta[s] < 0.0 => -x,
+        _ => x,
+    };
     let rows: Vec<DrawsCheckRow> = first
         .parameters
         .iter()
@@ -76,7 +85,7 @@ pub fn draws_check(
             let (x, y) = if spreads.contains(&k) {
                 (a.estimate.abs(), b.estimate.abs())
             } else {
-                (a.estimate, b.estimate)
+                (signed(first, k, a.estimate), signed(&second, k, b.estimate))
             };
             let difference = y - x;
             DrawsCheckRow {

@@ -95,15 +95,21 @@ pub fn outer_product(
 pub fn scales(family: &dyn Family, d: &Design) -> Vec<f64> {
     let mut out: Vec<f64> = (0..d.params).map(|p| variable_spread(d, p)).collect();
     for rc in family.random_coefficients() {
-        if rc.spread >= out.len() || rc.location >= out.len() {
+        if rc.location >= out.len() {
             continue;
         }
-        if rc.distribution.is_log() {
+        let unit = if rc.distribution.is_log() {
             // The location and spread of the coefficient's logarithm: unitless.
             out[rc.location] = 1.0;
-            out[rc.spread] = 1.0;
+            1.0
         } else {
-            out[rc.spread] = out[rc.location];
+            out[rc.location]
+        };
+        // The spread and any Cholesky entries of its row share its unit.
+        for &(p, _) in &rc.loadings {
+            if p < out.len() {
+                out[p] = unit;
+            }
         }
     }
     out

@@ -23,6 +23,7 @@ pub mod normal;
 pub mod ordered;
 pub mod probit;
 pub mod registry;
+pub mod space;
 
 use std::sync::Arc;
 
@@ -303,6 +304,25 @@ pub trait Family: Send + Sync + std::fmt::Debug {
         let _ = (spec, d, beta, by_simpler);
     }
 
+    /// Parameters held in a middle search, after the first and before the
+    /// full one (the correlated mixed logit fits its independent model
+    /// first: its correlation terms held at 0); `after_middle_search` then
+    /// moves them off their null values.
+    fn held_in_middle_search(&self) -> Vec<usize> {
+        Vec::new()
+    }
+
+    /// Turns the middle search's estimates into the full search's start.
+    fn after_middle_search(&self, beta: &mut [f64]) {
+        let _ = beta;
+    }
+
+    /// The model is written in willingness-to-pay space: which parameter is
+    /// the price scale and which are values (`None`: preference space).
+    fn willingness(&self) -> Option<&space::Willingness> {
+        None
+    }
+
     /// Each decision maker's random coefficients conditional on their choices.
     fn conditional(&self, d: &Design, beta: &[f64]) -> Option<Conditional> {
         let _ = (d, beta);
@@ -337,12 +357,63 @@ pub trait Points: Send + Sync {
 }
 
 /// A coefficient that varies across decision makers: its location and spread
-/// parameters and its distribution.
-#[derive(Clone, Copy, Debug, PartialEq)]
+/// parameters and its distribution. Its standardised value is
+/// sum over `loadings` (parameter p, draw dimension d) of beta_p e_d: its own
+/// draw times its spread, plus for correlated coefficients the Cholesky
+/// entries times the draws of the coefficients listed before it.
+#[derive(Clone, Debug, PartialEq)]
 pub struct RandomCoefficient {
     pub location: usize,
     pub spread: usize,
     pub distribution: distribution::Distribution,
+    /// (parameter, draw dimension) pairs, the spread's own first.
+    pub loadings: Vec<(usize, usize)>,
+}
+
+impl RandomCoefficient {
+    /// The standard deviation of the coefficient's underlying distribution
+    /// (of its logarithm for a lognormal): the spread, or for a correlated
+    /// one the length of its row of the Cholesky factor.
+    pub fn scale(&self, beta: &[f64]) -> f64 {
+        if self.loadings.len() <= 1 {
+            return beta[self.spread].abs();
+        }
+        self.loadings
+            .iter()
+            .map(|&(p, _)| beta[p] * beta[p])
+            .sum::<f64>()
+            .sqrt()
+    }
+}
+
+/// The random coefficients correlated with another (indices into `terms`),
+/// in the order of their Cholesky factor (row i has i + 1 loadings).
+pub fn correlated_group(terms: &[RandomCoefficient]) -> Vec<usize> {
+    let mut group: Vec<usize> = (0..terms.len())
+        .filter(|&i| {
+            terms[i].loadings.len() > 1
+                || terms.iter().any(|u| {
+                    u.loadings[1..]
+                        .iter()
+                        .any(|l| l.1 == terms[i].loadings[0].1)
+                })
+        })
+        .collect();
+    group.sort_by_key(|&i| terms[i].loadings.len());
+    group
+}
+
+/// The covariance of two random coefficients' underlying normals at `beta`.
+pub fn covariance(a: &RandomCoefficient, b: &RandomCoefficient, beta: &[f64]) -> f64 {
+    let mut c = 0.0;
+    for &(pa, da) in &a.loadings {
+        for &(pb, db) in &b.loadings {
+            if da == db {
+                c += beta[pa] * beta[pb];
+            }
+        }
+    }
+    c
 }
 
 /// Each decision maker's coefficients conditional on their observed choices.

@@ -30,11 +30,7 @@ pub static FAMILIES: &[Entry] = &[
     Entry {
         name: "logit",
         rules: &logit::Rules,
-        build: |spec| {
-            Ok(Arc::new(logit::Logit {
-                binary: spec.alternatives.len() == 2,
-            }))
-        },
+        build: logit::build,
         example_alternatives: 4,
         example_spec: "",
         example_attribute: "",
@@ -123,6 +119,15 @@ impl Catalog for Registry {
         let mut names: Vec<&'static str> = FAMILIES
             .iter()
             .filter(|e| e.rules.sections().contains(&section))
+            .map(|e| e.name)
+            .collect();
+        names.dedup();
+        names
+    }
+    fn model_key_owners(&self, key: &str) -> Vec<&'static str> {
+        let mut names: Vec<&'static str> = FAMILIES
+            .iter()
+            .filter(|e| e.rules.model_keys().contains(&key))
             .map(|e| e.name)
             .collect();
         names.dedup();

@@ -77,4 +77,6 @@ pub trait Catalog {
     fn names(&self) -> Vec<&'static str>;
     /// The families that read section `section` (for messages).
     fn owners_of(&self, section: &str) -> Vec<&'static str>;
+    /// The families that read `[model]` key `key` (for messages).
+    fn model_key_owners(&self, key: &str) -> Vec<&'static str>;
 }

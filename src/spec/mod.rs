@@ -272,6 +272,12 @@ impl Spec {
         }
         s.ratios.clear();
         s.restrictions.clear();
+        // The reference model is the market-share model, the same in either
+        // space; without the attributes, the price is gone.
+        if let Some(toml::Value::Table(m)) = s.family_keys.get_mut("model") {
+            m.remove("space");
+            m.remove("price");
+        }
         s
     }
 }

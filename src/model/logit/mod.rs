@@ -30,6 +30,7 @@ use super::{Abilities, Eval, Family};
 pub(crate) mod block;
 pub(crate) mod chunk;
 pub mod fastmath;
+pub mod willingness;
 
 use block::*;
 use chunk::*;
@@ -46,9 +47,30 @@ pub struct Logit {
 pub struct Rules;
 
 impl FamilyRules for Rules {
-    fn check(&self, _spec: &SpecView) -> Result<Vec<FamilyParameter>, String> {
+    fn model_keys(&self) -> &'static [&'static str] {
+        &super::space::KEYS
+    }
+
+    fn check(&self, spec: &SpecView) -> Result<Vec<FamilyParameter>, String> {
+        super::space::check(spec)?;
         Ok(Vec::new())
     }
+}
+
+/// The logit for a validated spec: in preference space, or written in
+/// willingness-to-pay space.
+pub fn build(spec: &Spec) -> crate::error::Result<super::FamilyRef> {
+    let logit = Logit {
+        binary: spec.alternatives.len() == 2,
+    };
+    Ok(match super::space::Willingness::of(spec) {
+        None => std::sync::Arc::new(logit),
+        Some(space) => {
+            super::space::check_fixed(spec, &space, false)
+                .map_err(|m| crate::error::Error::spec(&spec.path, m))?;
+            std::sync::Arc::new(willingness::WillingnessLogit { logit, space })
+        }
+    })
 }
 
 #[inline]

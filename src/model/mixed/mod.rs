@@ -9,21 +9,26 @@
 //! `rules` checks the spec keys, `pass` has the simulated log-likelihood and
 //! its analytic gradient; the Hessian is differenced (`model::hessian`).
 
+pub mod correlated;
 mod panel;
 pub(crate) mod pass;
 mod rules;
+mod score;
+mod terms;
 
 use std::sync::Arc;
 
 use super::distribution::Distribution;
 use super::draws::{PerData, Simulation};
 use super::logit::{softmax, Logit};
+use super::space::Willingness;
 use super::{Abilities, Conditional, Eval, Family, FamilyRef, Points, RandomCoefficient};
 use crate::design::Design;
-use crate::spec::{Spec, Term};
+use crate::spec::Spec;
 
 pub use panel::Panel;
 pub use rules::{constants_of, Rules};
+use terms::{conditional, random_terms, MixedPoints};
 
 /// The mixed logit built for one spec.
 #[derive(Debug)]
@@ -31,6 +36,8 @@ pub struct Mixed {
     pub terms: Vec<RandomCoefficient>,
     pub simulation: Simulation,
     binary: bool,
+    /// Written in willingness-to-pay space.
+    pub space: Option<Willingness>,
     /// Uniforms given from outside (`[unit][dim][draw]`), used instead of the sequence.
     given: Option<Arc<Vec<f64>>>,
     /// Draws built per data set, found again by its observations (shared
@@ -54,34 +61,18 @@ impl Mixed {
     pub fn new(spec: &Spec) -> crate::error::Result<Mixed> {
         let simulation = Simulation::from_keys(&spec.family_keys)
             .map_err(|m| crate::error::Error::spec(&spec.path, m))?;
-        let constants = constants_of(spec);
-        let mut terms = Vec::new();
-        for (k, p) in spec.parameters.iter().enumerate() {
-            let name = match &p.term {
-                Term::Constant => p
-                    .alternative
-                    .and_then(|j| constants.iter().find(|c| c.0 == j))
-                    .map(|c| c.1.as_str()),
-                Term::Attribute(a) => spec.attributes[*a].random.as_deref(),
-                Term::Characteristic(c) => spec.characteristics[*c].random.as_deref(),
-                _ => None,
-            };
-            let (Some(dist), Some(spread)) = (
-                name.and_then(Distribution::parse),
-                spec.parameter_index(&format!("{}_spread", p.name)),
-            ) else {
-                continue;
-            };
-            terms.push(RandomCoefficient {
-                location: k,
-                spread,
-                distribution: dist,
-            });
+        let terms = random_terms(spec);
+        let space = Willingness::of(spec);
+        if let Some(w) = &space {
+            let log_scale = terms.iter().any(|t| t.location == w.price);
+            super::space::check_fixed(spec, w, log_scale)
+                .map_err(|m| crate::error::Error::spec(&spec.path, m))?;
         }
         Ok(Mixed {
             terms,
             simulation,
             binary: spec.alternatives.len() == 2,
+            space,
             given: None,
             panels: Arc::new(PerData::default()),
             limit: None,
@@ -117,33 +108,6 @@ impl Mixed {
     fn logit(&self) -> Logit {
         Logit {
             binary: self.binary,
-        }
-    }
-}
-
-/// A decision maker's coefficient points for the analyses (the first `count`
-/// of their draws).
-struct MixedPoints {
-    panel: Arc<Panel>,
-    terms: Vec<RandomCoefficient>,
-    count: usize,
-}
-
-impl Points for MixedPoints {
-    fn count(&self) -> usize {
-        self.count
-    }
-    fn fill(&self, beta: &[f64], i: usize, out: &mut [f64]) {
-        let k = beta.len();
-        let n = self.panel.unit_of(i);
-        for (r, row) in out.chunks_mut(k).take(self.count).enumerate() {
-            row.copy_from_slice(beta);
-            for (dim, t) in self.terms.iter().enumerate() {
-                let e = self.panel.draws_of(n, dim)[r];
-                row[t.location] = t
-                    .distribution
-                    .coefficient(beta[t.location], beta[t.spread], e);
-            }
         }
     }
 }
@@ -219,21 +183,75 @@ impl Family for Mixed {
             "each situation is treated as a separate decision maker (no [data].group), so repeated choices of one person are not linked"
         };
         Some(format!(
-            "Mixed logit: the random coefficients are assumed to follow the distributions named in the spec, independently of each other and of the observed variables; {panel}. Probabilities are simulated with {} {} draws per decision maker, so every figure carries simulation noise (`fit --draws-check` shows how much).",
+            "Mixed logit: the random coefficients are assumed to follow the distributions named in the spec, {}; {panel}.{} Probabilities are simulated with {} {} draws per decision maker, so every figure carries simulation noise (`fit --draws-check` shows how much).",
+            if !super::correlated_group(&self.terms).is_empty() {
+                "the listed ones jointly normal (their logarithms, for lognormals) and the rest independent, and all independent of the observed variables"
+            } else {
+                "independently of each other and of the observed variables"
+            },
+            match &self.space {
+                Some(w) => format!(
+                    " The model is written in willingness-to-pay space: `{}` is the price scale and every other coefficient a value in its units.",
+                    spec.parameters[w.price].name
+                ),
+                None => String::new(),
+            },
             self.simulation.draws,
             self.simulation.sequence.name()
         ))
     }
 
     fn held_in_first_search(&self) -> Vec<usize> {
-        self.terms.iter().map(|t| t.spread).collect()
+        self.terms
+            .iter()
+            .flat_map(|t| t.loadings.iter().map(|l| l.0))
+            .collect()
+    }
+
+    fn held_in_middle_search(&self) -> Vec<usize> {
+        self.terms
+            .iter()
+            .flat_map(|t| t.loadings[1..].iter().map(|l| l.0))
+            .collect()
+    }
+
+    fn after_middle_search(&self, beta: &mut [f64]) {
+        // Small off-diagonals: a hundredth of the row's spread.
+        for t in &self.terms {
+            let s = beta[t.spread].abs().max(1e-3);
+            for &(p, _) in &t.loadings[1..] {
+                if beta[p] == 0.0 {
+                    beta[p] = 0.01 * s;
+                }
+            }
+        }
     }
 
     fn simpler(&self) -> Option<FamilyRef> {
-        Some(Arc::new(self.logit()))
+        // In willingness space no simpler family evaluates the model exactly:
+        // it starts from the preference-space logit instead (`start_from`).
+        match self.space {
+            None => Some(Arc::new(self.logit())),
+            Some(_) => None,
+        }
+    }
+
+    fn start_from(&self) -> Option<FamilyRef> {
+        self.space
+            .as_ref()
+            .map(|_| Arc::new(self.logit()) as FamilyRef)
+    }
+
+    fn willingness(&self) -> Option<&Willingness> {
+        self.space.as_ref()
     }
 
     fn after_first_search(&self, spec: &Spec, d: &Design, beta: &mut [f64], by_simpler: bool) {
+        if let (Some(w), true) = (&self.space, by_simpler) {
+            // The preference-space logit's estimates, mapped to values.
+            let b = beta.to_vec();
+            w.from_preference(&b, beta);
+        }
         // Floors of the starts in the variable's units: a coefficient of 1 / sd
         // moves utility by one standard deviation. In ordinary units (sd
         // between 0.01 and 100) the floors are those of unit variables.
@@ -277,6 +295,7 @@ impl Family for Mixed {
         Some(Arc::new(MixedPoints {
             panel,
             terms: self.terms.clone(),
+            space: self.space.clone(),
             count,
         }))
     }
@@ -286,6 +305,7 @@ impl Family for Mixed {
             Arc::new(Mixed {
                 terms: self.terms.clone(),
                 simulation: self.simulation,
+                space: self.space.clone(),
                 binary: self.binary,
                 given: self.given.clone(),
                 panels: self.panels.clone(),
@@ -299,6 +319,7 @@ impl Family for Mixed {
         Some(Arc::new(Mixed {
             terms: self.terms.clone(),
             simulation: self.simulation,
+            space: self.space.clone(),
             binary: self.binary,
             given: self.given.clone(),
             panels: Arc::new(PerData::default()),
@@ -382,8 +403,22 @@ impl Family for Mixed {
             None => "cross-section: each situation is its own decision maker (no [data].group)"
                 .to_string(),
         };
-        vec![
-            format!("random coefficients: {}", terms.join(", ")),
+        let mut lines = vec![format!("random coefficients: {}", terms.join(", "))];
+        let group = super::correlated_group(&self.terms);
+        if !group.is_empty() {
+            let names: Vec<&str> = group
+                .iter()
+                .map(|&i| spec.parameters[self.terms[i].location].name.as_str())
+                .collect();
+            lines.push(format!(
+                "correlated: {} (jointly normal; Cholesky factor in this order)",
+                names.join(", ")
+            ));
+        }
+        if let Some(w) = &self.space {
+            lines.push(crate::model::logit::willingness::structure_line(spec, w));
+        }
+        lines.extend([
             format!(
                 "simulation: {} {} draws per decision maker, seed {}",
                 s.draws,
@@ -391,41 +426,7 @@ impl Family for Mixed {
                 s.seed
             ),
             who,
-        ]
-    }
-}
-
-/// Each decision maker's conditional mean of every random coefficient:
-/// sum_r w_nr beta_nr, with w_nr the draw's share of the person's likelihood.
-fn conditional(m: &Mixed, d: &Design, beta: &[f64]) -> Conditional {
-    let panel = m.panel(d);
-    let plan = pass::Plan::new(m, d, &panel, beta);
-    let dims = m.terms.len();
-    let r = panel.draws;
-    let parts = crate::design::on_ranges(crate::design::heavy_pieces(panel.units, 16), |units| {
-        let mut w = pass::Work::new(&plan);
-        let mut out = Vec::with_capacity(units.len() * dims);
-        for n in units {
-            pass::coefficients(&plan, n, &mut w);
-            pass::unit::<false>(&plan, n, &mut w, false);
-            pass::close_unit(&mut w);
-            for dim in 0..dims {
-                let c = &w.coef[dim * r..(dim + 1) * r];
-                out.push(c.iter().zip(&w.omega).map(|(c, o)| c * o).sum());
-            }
-        }
-        out
-    });
-    Conditional {
-        first: (0..panel.units)
-            .map(|n| {
-                panel
-                    .situations_of(n)
-                    .first()
-                    .map(|&i| i as usize)
-                    .unwrap_or(0)
-            })
-            .collect(),
-        means: parts.concat(),
+        ]);
+        lines
     }
 }

@@ -8,32 +8,32 @@
 //! w_nr the draw's share of L_n. Passes are cut into pieces of decision
 //! makers that depend on their number alone, summed in piece order.
 
+use super::score::{add_score, to_values};
 use super::{Mixed, Panel};
 use crate::design::{heavy_pieces, on_ranges, Design};
-use crate::model::distribution::Distribution;
 use crate::model::logit::fastmath::{exp_nonpositive, ln_positive, madd, Compensated};
+use crate::model::space::Willingness;
+use crate::model::RandomCoefficient;
 
 /// What one pass needs, set up once per parameter vector.
 pub(crate) struct Plan<'a> {
     pub d: &'a Design,
     pub panel: &'a Panel,
     pub beta: &'a [f64],
-    /// (location, spread, distribution) per random dimension.
-    pub terms: Vec<(usize, usize, Distribution)>,
+    /// The random coefficients, one per draw dimension.
+    pub terms: Vec<RandomCoefficient>,
     /// The random dimension of each parameter, if it is a random location.
     pub dim_of: Vec<Option<usize>>,
+    /// In willingness-to-pay space: the price scale's parameter and the values'.
+    pub space: Option<Willingness>,
 }
 
 impl<'a> Plan<'a> {
     pub fn new(m: &Mixed, d: &'a Design, panel: &'a Panel, beta: &'a [f64]) -> Plan<'a> {
-        let terms: Vec<_> = m
-            .terms
-            .iter()
-            .map(|t| (t.location, t.spread, t.distribution))
-            .collect();
+        let terms = m.terms.clone();
         let mut dim_of = vec![None; d.params];
         for (dim, t) in terms.iter().enumerate() {
-            dim_of[t.0] = Some(dim);
+            dim_of[t.location] = Some(dim);
         }
         Plan {
             d,
@@ -41,6 +41,7 @@ impl<'a> Plan<'a> {
             beta,
             terms,
             dim_of,
+            space: m.space.clone(),
         }
     }
 }
@@ -52,15 +53,18 @@ const LANES: usize = 8;
 
 /// One thread's scratch rows, allocated once per piece.
 pub(crate) struct Work {
-    r: usize,
-    /// [dim][r]: the drawn coefficients and their derivatives by location and spread.
+    pub(super) r: usize,
+    /// [dim][r]: the drawn coefficients and their derivatives by location.
     pub coef: Vec<f64>,
-    dm: Vec<f64>,
-    ds: Vec<f64>,
+    pub(super) dm: Vec<f64>,
+    /// [r]: the price scale of each draw (willingness-to-pay space).
+    pub(super) scale: Vec<f64>,
+    /// [r]: scratch.
+    pub(super) tmp: Vec<f64>,
     /// [r]: log of the product of the chosen alternatives' probabilities.
     pub logl: Vec<f64>,
     /// [param][r]: sum over situations of x_chosen - sum_j P_j x_j.
-    g: Vec<f64>,
+    pub(super) g: Vec<f64>,
     /// [j][BLOCK]: utilities, then exponentials, then probabilities of a block of draws.
     v: Vec<f64>,
     mx: Vec<f64>,
@@ -88,7 +92,8 @@ impl Work {
             r,
             coef: vec![0.0; dims * r],
             dm: vec![0.0; dims * r],
-            ds: vec![0.0; dims * r],
+            scale: vec![1.0; r],
+            tmp: Vec::with_capacity(r),
             logl: vec![0.0; r],
             g: vec![0.0; plan.d.params * r],
             v: vec![0.0; j * BLOCK],
@@ -124,10 +129,13 @@ impl Work {
                 let at = self.xr.len();
                 self.xr.resize(at + dims, 0.0);
                 let mut c = 0.0;
+                let price = plan.space.as_ref().map(|w| w.price);
                 if open {
                     for f in feats {
                         let x = d.value(i, a, f.value);
                         match plan.dim_of[f.param] {
+                            // In willingness space the price enters as -price, times the scale.
+                            _ if Some(f.param) == price => c -= x,
                             Some(dim) => self.xr[at + dim] += x,
                             None => c += plan.beta[f.param] * x,
                         }
@@ -147,25 +155,35 @@ impl Work {
     }
 }
 
-/// The drawn coefficients of decision maker `n` and their derivatives.
+/// The drawn coefficients of decision maker `n`, their derivatives by their
+/// locations and, in willingness-to-pay space, each draw's price scale.
 pub(crate) fn coefficients(plan: &Plan, n: usize, w: &mut Work) {
     let r = w.r;
-    for (dim, &(loc, spr, dist)) in plan.terms.iter().enumerate() {
-        let (m, s) = (plan.beta[loc], plan.beta[spr]);
-        let e = plan.panel.draws_of(n, dim);
+    for (dim, t) in plan.terms.iter().enumerate() {
+        let m = plan.beta[t.location];
         let coef = &mut w.coef[dim * r..(dim + 1) * r];
-        let dm = &mut w.dm[dim * r..(dim + 1) * r];
-        let ds = &mut w.ds[dim * r..(dim + 1) * r];
-        for k in 0..r {
-            let b = dist.coefficient(m, s, e[k]);
-            coef[k] = b;
-            if dist.is_log() {
-                dm[k] = b;
-                ds[k] = b * e[k];
-            } else {
-                dm[k] = 1.0;
-                ds[k] = e[k];
+        let (p0, d0) = t.loadings[0];
+        let e0 = plan.panel.draws_of(n, d0);
+        for (c, e) in coef.iter_mut().zip(e0) {
+            *c = plan.beta[p0] * e;
+        }
+        for &(p, d) in &t.loadings[1..] {
+            let (b, e) = (plan.beta[p], plan.panel.draws_of(n, d));
+            for (c, e) in coef.iter_mut().zip(e) {
+                *c += b * e;
             }
+        }
+        let dm = &mut w.dm[dim * r..(dim + 1) * r];
+        for (c, dm) in coef.iter_mut().zip(dm.iter_mut()) {
+            let b = t.distribution.coefficient(m, 1.0, *c);
+            *c = b;
+            *dm = if t.distribution.is_log() { b } else { 1.0 };
+        }
+    }
+    if let Some(space) = &plan.space {
+        match plan.dim_of[space.price] {
+            Some(dim) => w.scale.copy_from_slice(&w.coef[dim * r..(dim + 1) * r]),
+            None => w.scale.fill(plan.beta[space.price]),
         }
     }
 }
@@ -183,11 +201,12 @@ pub(crate) fn unit<const F: bool>(plan: &Plan, n: usize, w: &mut Work, grad: boo
     if grad {
         w.g.fill(0.0);
     }
+    let scaled = plan.space.is_some();
     let mut r0 = 0;
     while r0 < r {
         let nb = BLOCK.min(r - r0);
         for t in 0..w.chosen.len() {
-            block::<F>(w, t, j, dims, r0, nb, grad);
+            block::<F>(w, t, (j, dims, scaled), r0, nb, grad);
         }
         r0 += nb;
     }
@@ -198,13 +217,12 @@ pub(crate) fn unit<const F: bool>(plan: &Plan, n: usize, w: &mut Work, grad: boo
 fn block<const F: bool>(
     w: &mut Work,
     t: usize,
-    j: usize,
-    dims: usize,
+    (j, dims, scaled): (usize, usize, bool),
     r0: usize,
     nb: usize,
     grad: bool,
 ) {
-    utilities::<F>(w, t, j, dims, r0, nb);
+    utilities::<F>(w, t, (j, dims, scaled), r0, nb);
     exponentials::<F>(w, t, j, r0, nb);
     if !grad {
         return;
@@ -214,9 +232,16 @@ fn block<const F: bool>(
 }
 
 /// The utility rows of situation `t`'s available alternatives over the
-/// block's draws, and their largest value per draw in `mx`.
+/// block's draws (times each draw's price scale when `scaled`), and their
+/// largest value per draw in `mx`.
 #[inline(always)]
-fn utilities<const F: bool>(w: &mut Work, t: usize, j: usize, dims: usize, r0: usize, nb: usize) {
+fn utilities<const F: bool>(
+    w: &mut Work,
+    t: usize,
+    (j, dims, scaled): (usize, usize, bool),
+    r0: usize,
+    nb: usize,
+) {
     let r = w.r;
     let mx = &mut w.mx[..nb];
     mx.fill(f64::NEG_INFINITY);
@@ -233,6 +258,11 @@ fn utilities<const F: bool>(w: &mut Work, t: usize, j: usize, dims: usize, r0: u
                 for (v, b) in row.iter_mut().zip(coef) {
                     *v = madd::<F>(*b, x, *v);
                 }
+            }
+        }
+        if scaled {
+            for (v, a) in row.iter_mut().zip(&w.scale[r0..r0 + nb]) {
+                *v *= a;
             }
         }
         for (m, v) in mx.iter_mut().zip(row.iter()) {
@@ -347,31 +377,6 @@ pub(crate) fn close_unit(w: &mut Work) -> f64 {
     top + (sum / w.r as f64).ln()
 }
 
-/// Adds `weight` times decision maker n's score (gradient of log L_n) to `out`.
-pub(crate) fn add_score(plan: &Plan, w: &Work, weight: f64, out: &mut [f64]) {
-    let r = w.r;
-    for (k, o) in out.iter_mut().enumerate() {
-        if plan.dim_of[k].is_some() {
-            continue;
-        }
-        let g = &w.g[k * r..(k + 1) * r];
-        let s: f64 = g.iter().zip(&w.omega).map(|(g, o)| g * o).sum();
-        *o += weight * s;
-    }
-    for (dim, &(loc, spr, _)) in plan.terms.iter().enumerate() {
-        let g = &w.g[loc * r..(loc + 1) * r];
-        let (mut a, mut b) = (0.0, 0.0);
-        let (dm, ds) = (&w.dm[dim * r..(dim + 1) * r], &w.ds[dim * r..(dim + 1) * r]);
-        for (((o, g), dm), ds) in w.omega.iter().zip(g).zip(dm).zip(ds) {
-            let og = o * g;
-            a += og * dm;
-            b += og * ds;
-        }
-        out[loc] += weight * a;
-        out[spr] += weight * b;
-    }
-}
-
 /// The sums of one piece of decision makers.
 pub(crate) struct PieceSums {
     pub ll: Compensated,
@@ -399,13 +404,16 @@ fn piece_body<const F: bool>(
         unit::<F>(plan, n, &mut w, grad || scores);
         let weight = plan.panel.weight(plan.d, n);
         out.ll.add(weight * close_unit(&mut w));
+        if grad || scores {
+            to_values(plan, &mut w);
+        }
         if grad {
-            add_score(plan, &w, weight, &mut out.grad);
+            add_score(plan, n, &w, weight, &mut out.grad);
         }
         if scores {
             let at = out.scores.len();
             out.scores.resize(at + k, 0.0);
-            add_score(plan, &w, weight, &mut out.scores[at..]);
+            add_score(plan, n, &w, weight, &mut out.scores[at..]);
         }
     }
     out

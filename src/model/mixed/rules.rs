@@ -18,7 +18,7 @@ impl FamilyRules for Rules {
     }
 
     fn model_keys(&self) -> &'static [&'static str] {
-        &["random_constants"]
+        &["random_constants", super::correlated::KEY, "space", "price"]
     }
 
     fn random_terms(&self) -> bool {
@@ -35,25 +35,47 @@ impl FamilyRules for Rules {
         }
         let constants = random_constants(spec)?;
         let mut out = Vec::new();
+        let mut random = Vec::new();
         for p in spec.parameters {
-            let random = match &p.term {
-                Term::Constant => p.alternative.is_some_and(|j| constants.contains(&j)),
-                Term::Attribute(a) => spec.attributes[*a].random.is_some(),
-                Term::Characteristic(c) => spec.characteristics[*c].random.is_some(),
-                Term::Family(_) => false,
+            let dist = match &p.term {
+                Term::Constant => p
+                    .alternative
+                    .and_then(|j| constants.iter().find(|c| c.0 == j))
+                    .map(|c| c.1.as_str()),
+                Term::Attribute(a) => spec.attributes[*a].random.as_deref(),
+                Term::Characteristic(c) => spec.characteristics[*c].random.as_deref(),
+                Term::Family(_) => None,
             };
-            if random {
-                out.push(FamilyParameter {
-                    name: format!("{}_spread", p.name),
-                    label: format!("spread of {}", p.name),
-                    start: 0.0,
-                    null: 0.0,
-                    in_reference: false,
-                });
+            let Some(dist) = dist.and_then(Distribution::parse) else {
+                continue;
+            };
+            random.push((p.name.clone(), dist));
+            out.push(FamilyParameter {
+                name: format!("{}_spread", p.name),
+                label: format!("spread of {}", p.name),
+                start: 0.0,
+                null: 0.0,
+                in_reference: false,
+            });
+        }
+        if let Some(price) = crate::model::space::check(spec)? {
+            let a = &spec.attributes[price];
+            if let Some(d) = a.random.as_deref().and_then(Distribution::parse) {
+                if d != Distribution::Lognormal {
+                    return Err(format!(
+                        "[[attribute]] {}: random = \"{}\": the price scale of a model in willingness space must be positive for every decision maker; make it random = \"lognormal\" or fixed",
+                        a.name,
+                        d.name()
+                    ));
+                }
             }
         }
-        simulation.check_dimensions(out.len())?;
-        if out.is_empty() {
+        let model = spec.keys.get("model");
+        let listed =
+            super::correlated::listed(model.and_then(|m| m.get(super::correlated::KEY)), &random)?;
+        out.extend(super::correlated::parameters(&listed));
+        simulation.check_dimensions(random.len())?;
+        if random.is_empty() {
             return Err("[model].family \"mixed\" needs at least one random coefficient (`random = \"normal\"` or another distribution on an [[attribute]] or [[characteristic]], or [model].random_constants); with none the model is the logit: use family \"logit\"".into());
         }
         Ok(out)
@@ -77,7 +99,7 @@ fn check_name(random: Option<&str>, table: &str, name: &str) -> Result<(), Strin
 /// Alternatives whose constant varies, with the distribution, from
 /// `[model].random_constants`: a list of names (normal) or a table of
 /// name = "distribution".
-fn random_constants(spec: &SpecView) -> Result<Vec<usize>, String> {
+fn random_constants(spec: &SpecView) -> Result<Vec<(usize, String)>, String> {
     let Some(v) = spec
         .keys
         .get("model")
@@ -108,12 +130,12 @@ fn random_constants(spec: &SpecView) -> Result<Vec<usize>, String> {
                 "[model].random_constants: `{name}` is the base, whose constant is 0; a random constant needs an alternative with a constant"
             ));
         }
-        if out.contains(&j) {
+        if out.iter().any(|c: &(usize, String)| c.0 == j) {
             return Err(format!(
                 "[model].random_constants: `{name}` is listed twice"
             ));
         }
-        out.push(j);
+        out.push((j, dist));
     }
     Ok(out)
 }

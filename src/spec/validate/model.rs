@@ -119,6 +119,14 @@ pub(super) fn family_keys(
     }
     let mut model = toml::Table::new();
     for (k, v) in &raw.model.extra {
+        let owners = families.model_key_owners(k);
+        if !rules.model_keys().contains(&k.as_str()) && !owners.is_empty() {
+            let owners: Vec<String> = owners.iter().map(|o| format!("\"{o}\"")).collect();
+            return Err(format!(
+                "[model].{k}: applies to family {}; this spec's [model].family is \"{family}\"",
+                owners.join(" or ")
+            ));
+        }
         if !rules.model_keys().contains(&k.as_str()) {
             return Err(format!(
                 "[model]: unknown key `{k}` (family \"{family}\" takes `family`, `base` and `constants`{})",

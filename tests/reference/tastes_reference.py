@@ -116,8 +116,8 @@ Checks (printed, and asserted)
   negative definite (asserted).  With 50 draws the SLL is not symmetric in
   the sign of a spread or of a column of the Cholesky factor, and the search
   from the start may end at a negative spread: the seeds of cases 1 and 2
-  (6 and 16) were chosen among the first few so that it ends with every
-  spread positive;
+  (6 and 16) were picked by trying small seeds in turn (1 to 6 and 1 to 16)
+  until the search ended with every spread positive;
 * classical standard errors sqrt(diag(inv(-H))), H the central-difference
   Hessian of the analytic gradient, step h_i = 1e-5 * max(1, |theta_i|),
   symmetrised (H + H') / 2; correlation standard errors by the delta method

@@ -123,14 +123,19 @@ Checks (printed, and asserted)
   symmetrised (H + H') / 2; correlation standard errors by the delta method
   with that covariance and the analytic Jacobian of the correlations (checked
   against central differences, max abs difference < 1e-8 asserted);
-* "fact_checks":
+* "fact_checks", against separate loop-by-loop code (`named_sll`: one
+  decision maker and draw at a time, the model read from the parameter
+  names, sharing no indexing with the vectorised class):
+  - "loop_by_name": every case at its point; |difference| < 1e-10 asserted
+    (it checks the naming and ordering conventions above);
   - "zero_correlation": case 1 with every chol_* at 0 has the SLL of the
-    independent mixed logit (spreads as given) computed by separate
-    loop-based code here; |difference| < 1e-12 asserted;
+    independent mixed logit (the loop with no correlated list, spreads as
+    given); |difference| < 1e-12 asserted;
   - "fixed_scale_is_preference_space": case 3 at its point has the SLL of the
     independent preference-space mixed logit with b_cost = -alpha,
     b_k = alpha*w_k and time normal with location alpha*m_time and spread
-    alpha*s_time (same separate code); |difference| < 1e-12 asserted.
+    alpha*s_time (the loop in preference space); |difference| < 1e-12
+    asserted.
 
 Fixture layout (P parameters, D random coefficients in parameter order,
 M listed ones, S situations, N decision makers, R draws; decision maker i is
@@ -140,7 +145,8 @@ top level: "description", "numpy", "scipy", "cases": [3 case objects],
   "fact_checks": {"zero_correlation": {"case", "point": [P], "independent_point":
      [P - chol count], "sll", "independent_sll", "difference"},
      "fixed_scale_is_preference_space": {"case", "point": [P],
-     "preference_point": [6], "sll", "preference_sll", "difference"}}
+     "preference_point": [6], "sll", "preference_sll", "difference"},
+     "loop_by_name": [3 x {"case", "sll", "loop_sll", "difference"}]}
 every case: "name", "description", "model_keys": {[model] keys: "correlated":
   [names], "space": "willingness", "price": "cost", as used},
   "alternatives": ["car","coach","rail"], "base": "car",
@@ -292,24 +298,40 @@ def logit_ll_grad(X, chosen, beta):
 
 
 # --------------------------------------------------------------------------
-# independent preference-space mixed logit, loop by loop (separate code for
-# the fact checks)
+# the same model loop by loop, read from the parameter NAMES (separate code
+# for the fact checks: it shares no indexing with the class below)
 # --------------------------------------------------------------------------
 
-def independent_sll(X, chosen, z, random, theta):
-    """X (N, T, J, K), chosen (N, T), z (N, R, D) standard normal draws,
-    random [(k, dist)], theta = K locations then D spreads."""
+def named_sll(case, X, chosen, z, theta):
+    """SLL of the model a case describes ("parameters", "random" in parameter
+    order, "correlated", "space"), one decision maker and draw at a time.
+    X (N, T, J, K), chosen (N, T), z (N, R, D) standard normal draws."""
+    val = dict(zip(case["parameters"], (float(t) for t in theta)))
+    assert len(val) == len(theta)
+    dim = {name: d for d, name in enumerate(case["random"])}
+    lst = case["correlated"]
+    willingness = case["space"] == "willingness"
     N, T, J, K = X.shape
     R = z.shape[1]
     total = 0.0
     for n in range(N):
         lr = np.zeros(R)
         for r in range(R):
-            beta = np.array(theta[:K], float)
-            for d, (k, dist) in enumerate(random):
-                x = theta[k] + theta[K + d] * z[n, r, d]
-                beta[k] = {"normal": x, "lognormal": math.exp(x),
+            c = {}
+            for name in COEFS:
+                dist = case["random"].get(name)
+                if dist is None:
+                    c[name] = val[name]
+                    continue
+                x = val[name] + val[f"{name}_spread"] * z[n, r, dim[name]]
+                for other in lst[: lst.index(name)] if name in lst else []:
+                    x += val[f"chol_{name}_{other}"] * z[n, r, dim[other]]
+                c[name] = {"normal": x, "lognormal": math.exp(x),
                            "negative-lognormal": -math.exp(x)}[dist]
+            if willingness:
+                beta = np.array([-c[k] if k == "cost" else c["cost"] * c[k] for k in COEFS])
+            else:
+                beta = np.array([c[k] for k in COEFS])
             for t in range(T):
                 v = X[n, t] @ beta
                 lr[r] += v[chosen[n, t]] - logsumexp(v)
@@ -757,14 +779,27 @@ def to_json(obj, indent=0):
     return json.dumps(obj, separators=(",", ":"), allow_nan=False)
 
 
-def fact_zero_correlation(model, point):
-    """Case 1 with every chol_* at 0 against the independent model (separate code)."""
-    zp = np.asarray(point, float).copy()
+def fact_by_name(case, model):
+    """The vectorised SLL at a case's point against the loop read from the names."""
+    sll = model.sll(case["point"])
+    loop = float(named_sll(case, model.X, model.chosen, model.z, case["point"]))
+    diff = sll - loop
+    print(f"\n== fact check: case {case['name']} at its point, loop read from the names ==")
+    print(f"  vectorised SLL {sll!r}\n  loop SLL       {loop!r}\n  difference {diff:.3e}")
+    assert abs(diff) < 1e-10, diff
+    return {"case": case["name"], "sll": fnum(sll), "loop_sll": fnum(loop),
+            "difference": fnum(diff)}
+
+
+def fact_zero_correlation(case, model):
+    """Case 1 with every chol_* at 0 against the independent model (the loop,
+    with no correlated list)."""
+    zp = np.asarray(case["point"], float).copy()
     zp[model.K + model.D:] = 0.0
     sll = model.sll(zp)
-    random = [(k, model.dist[k]) for k in model.rk]
     ind_point = zp[: model.K + model.D]
-    ind = float(independent_sll(model.X, model.chosen, model.z, random, ind_point))
+    independent = dict(case, correlated=[], parameters=case["parameters"][: len(ind_point)])
+    ind = float(named_sll(independent, model.X, model.chosen, model.z, ind_point))
     diff = sll - ind
     print("\n== fact check: case 1 with the Cholesky off-diagonals at 0 ==")
     print(f"  correlated-model SLL {sll!r}\n  independent SLL      {ind!r}\n"
@@ -774,17 +809,17 @@ def fact_zero_correlation(model, point):
             "sll": fnum(sll), "independent_sll": fnum(ind), "difference": fnum(diff)}
 
 
-def fact_fixed_scale(model, point):
-    """Case 3 against the preference-space model b = alpha * w (separate code)."""
-    point = np.asarray(point, float)
+def fact_fixed_scale(case, model):
+    """Case 3 against the preference-space model b = alpha * w (the loop, in
+    preference space)."""
+    point = np.asarray(case["point"], float)
+    assert model.rk == [3] and case["parameters"][-1] == "time_spread"
     alpha = point[PRICE]
-    pref = alpha * point[: model.K]
+    pref = alpha * point
     pref[PRICE] = -alpha
-    (d_time,) = [d for d, k in enumerate(model.rk) if k == 3]
-    pref = np.concatenate([pref, [alpha * point[model.K + d_time]]])
-    assert model.rk == [3]
     sll = model.sll(point)
-    other = float(independent_sll(model.X, model.chosen, model.z, [(3, "normal")], pref))
+    preference = dict(case, space="preference")
+    other = float(named_sll(preference, model.X, model.chosen, model.z, pref))
     diff = sll - other
     print("\n== fact check: fixed price scale equals a preference-space model ==")
     print(f"  willingness-space SLL {sll!r}\n  preference-space SLL  {other!r}\n"
@@ -807,7 +842,7 @@ def main():
         {"asc_rail": "normal", "cost": "negative-lognormal", "time": "normal"},
         ["asc_rail", "time", "cost"], False, tastes_correlated, TRUTH_1, p1)
     cases.append(corr)
-    wtp, _ = make_case(
+    wtp, wtp_model = make_case(
         "willingness",
         "200 travellers x 4 choice tasks; willingness-to-pay space with price cost; "
         "cost (the price scale) lognormal, time normal, correlated in the list order cost, "
@@ -827,8 +862,10 @@ def main():
     cases.append(fixed)
 
     facts = {
-        "zero_correlation": fact_zero_correlation(corr_model, p1),
-        "fixed_scale_is_preference_space": fact_fixed_scale(fixed_model, fixed["point"]),
+        "zero_correlation": fact_zero_correlation(corr, corr_model),
+        "fixed_scale_is_preference_space": fact_fixed_scale(fixed, fixed_model),
+        "loop_by_name": [fact_by_name(c, m) for c, m in
+                         ((corr, corr_model), (wtp, wtp_model), (fixed, fixed_model))],
     }
     out = {
         "description": "Mixed logit with correlated tastes and in willingness-to-pay space "

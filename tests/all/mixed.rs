@@ -74,9 +74,15 @@ pub(crate) fn case_spec(case: &Value, start: Option<&[f64]>) -> (Spec, Dataset) 
     } else {
         "group = \"person\"\n"
     };
+    let constants = random
+        .get("asc_rail")
+        .and_then(|v| v.as_str())
+        .map(|d| format!("random_constants = {{ rail = \"{d}\" }}\n"))
+        .unwrap_or_default();
+    let keys = model_keys(case);
     let mut text = format!(
         "[data]\nfile = \"data.csv\"\nlayout = \"wide\"\nchoice = \"chosen\"\n{group}\
-         [model]\nfamily = \"mixed\"\nbase = \"car\"\nrandom_constants = [\"rail\"]\n\
+         [model]\nfamily = \"mixed\"\nbase = \"car\"\n{constants}{keys}\
          [alternatives.car]\n[alternatives.coach]\n[alternatives.rail]\n\
          [[attribute]]\nname = \"cost\"\ncolumns = {{ car = \"car_cost\", coach = \"coach_cost\", rail = \"rail_cost\" }}\n{}\
          [[attribute]]\nname = \"time\"\ncolumns = {{ car = \"car_time\", coach = \"coach_time\", rail = \"rail_time\" }}\n{}\
@@ -87,12 +93,6 @@ pub(crate) fn case_spec(case: &Value, start: Option<&[f64]>) -> (Spec, Dataset) 
         dist("comfort"),
         case["draws"].as_u64().unwrap()
     );
-    if let Some(d) = random.get("asc_rail").and_then(|v| v.as_str()) {
-        text = text.replace(
-            "random_constants = [\"rail\"]",
-            &format!("random_constants = {{ rail = \"{d}\" }}"),
-        );
-    }
     if let Some(start) = start {
         text.push_str("[parameters]\n");
         for (p, s) in case["parameters"].as_array().unwrap().iter().zip(start) {
@@ -103,6 +103,29 @@ pub(crate) fn case_spec(case: &Value, start: Option<&[f64]>) -> (Spec, Dataset) 
     let spec = model::read_spec(&spec_path).unwrap();
     let ds = sharecast::data::load(&spec, &Default::default()).unwrap();
     (spec, ds)
+}
+
+/// The case's optional "model_keys" object as `[model]` lines: strings
+/// quoted, arrays of strings as TOML arrays, booleans and numbers bare.
+fn model_keys(case: &Value) -> String {
+    let Some(keys) = case.get("model_keys").and_then(|k| k.as_object()) else {
+        return String::new();
+    };
+    let quoted = |v: &Value| format!("\"{}\"", v.as_str().unwrap());
+    keys.iter()
+        .map(|(k, v)| {
+            let value = match v {
+                Value::Bool(b) => b.to_string(),
+                Value::Number(x) => x.to_string(),
+                Value::Array(items) => format!(
+                    "[{}]",
+                    items.iter().map(quoted).collect::<Vec<_>>().join(", ")
+                ),
+                _ => quoted(v),
+            };
+            format!("{k} = {value}\n")
+        })
+        .collect()
 }
 
 /// The case's uniforms `[n][r][d]` in our layout `[n][d][r]`.

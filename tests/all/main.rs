@@ -31,5 +31,6 @@ mod report_render;
 mod scenarios;
 mod spec_errors;
 mod stream;
+mod tastes;
 mod tui;
 mod wording;

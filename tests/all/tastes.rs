@@ -199,6 +199,37 @@ fn correlated_and_willingness_estimates_match_the_reference() {
                 );
             }
         }
+        // The same figures as sharecast's analysis reports them, with their
+        // delta-method errors under the classical covariance (the
+        // reference's): values 1e-5, errors 1e-3 relative (both sides
+        // difference numerically).
+        let mut classical = fit.clone();
+        classical.robust_covariance = classical.covariance.clone();
+        let reported = sharecast::analysis::correlation::correlations(&classical).unwrap();
+        assert_eq!(reported.coefficients, list, "{name}: Cholesky order");
+        let ses = c["correlation_std_errors"].as_array().unwrap();
+        for (i, row) in c["correlations_at_estimates"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .enumerate()
+        {
+            for (j, want) in floats(row).iter().enumerate() {
+                let f = reported.correlations[i][j];
+                assert!(
+                    (f.value - want).abs() <= 1e-5,
+                    "{name}: reported correlation {i},{j}"
+                );
+                if i != j {
+                    let se = floats(&ses[i])[j];
+                    assert!(
+                        (f.std_error - se).abs() <= 1e-3 * se.abs().max(1e-3),
+                        "{name}: correlation {i},{j} s.e. {} vs reference {se}",
+                        f.std_error
+                    );
+                }
+            }
+        }
     }
 }
 

@@ -33,4 +33,5 @@ mod spec_errors;
 mod stream;
 mod tastes;
 mod tui;
+mod willingness;
 mod wording;

@@ -61,7 +61,7 @@ fn finish_with(
 ) -> Result<Fit> {
     let names: Vec<String> = spec.parameters.iter().map(|p| p.name.clone()).collect();
     let a = free_hessian(&design, &*family, &out, &free);
-    let scales = model::hessian::scales(&*family, &design);
+    let scales = model::hessian::scales_at(&*family, &design, &out.beta);
     let free_scales: Vec<f64> = free.iter().map(|&p| scales[p]).collect();
     let flats = inference::flat_directions(&a, &free_scales);
     let found = diagnose::Found {

@@ -27,7 +27,7 @@ pub fn differenced(family: &dyn Family, d: &Design, beta: &[f64], free: &[usize]
     let k = beta.len();
     let mut h = vec![0.0; k * k];
     let mut b = beta.to_vec();
-    let scale = scales(family, d);
+    let scale = scales_at(family, d, beta);
     for &a in free {
         // Relative to the parameter's size, or to the size that moves utility
         // by one standard deviation of its variable when it is near 0, so that
@@ -109,6 +109,42 @@ pub fn scales(family: &dyn Family, d: &Design) -> Vec<f64> {
         for &(p, _) in &rc.loadings {
             if p < out.len() {
                 out[p] = unit;
+            }
+        }
+    }
+    out
+}
+
+/// `scales` at the parameters `beta`: in willingness-to-pay space a value
+/// moves utility by the price scale times its variable, so its scale is the
+/// variable's standard deviation times the price scale (at its median, for a
+/// lognormal one).
+pub fn scales_at(family: &dyn Family, d: &Design, beta: &[f64]) -> Vec<f64> {
+    let mut out = scales(family, d);
+    if let Some(w) = family.willingness() {
+        let random = family
+            .random_coefficients()
+            .iter()
+            .any(|t| t.location == w.price);
+        let alpha = if random {
+            beta[w.price].min(700.0).exp()
+        } else {
+            beta[w.price].abs()
+        };
+        if alpha > 0.0 && alpha.is_finite() {
+            let spread_of = |k: usize| {
+                family
+                    .random_coefficients()
+                    .into_iter()
+                    .find(|t| t.location == k)
+                    .filter(|t| !t.distribution.is_log())
+                    .map(|t| t.loadings)
+            };
+            for &k in &w.values {
+                out[k] *= alpha;
+                for (p, _) in spread_of(k).unwrap_or_default() {
+                    out[p] *= alpha;
+                }
             }
         }
     }

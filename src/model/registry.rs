@@ -20,6 +20,8 @@ pub struct Entry {
     pub example_spec: &'static str,
     /// Lines added inside the example's attribute table (`random = ...`).
     pub example_attribute: &'static str,
+    /// Lines added inside the example's `[model]` table.
+    pub example_model: &'static str,
     /// Generating values of the family's own parameters in the example (the
     /// others default to their starting values).
     pub example_truth: &'static [(&'static str, f64)],
@@ -34,7 +36,19 @@ pub static FAMILIES: &[Entry] = &[
         example_alternatives: 4,
         example_spec: "",
         example_attribute: "",
+        example_model: "",
         example_truth: &[],
+    },
+    // The logit written in willingness-to-pay space, `x` the price.
+    Entry {
+        name: "logit",
+        rules: &logit::Rules,
+        build: logit::build,
+        example_alternatives: 4,
+        example_spec: "",
+        example_attribute: "",
+        example_model: "space = \"willingness\"\nprice = \"x\"\n",
+        example_truth: &[("x", 0.8)],
     },
     Entry {
         name: "probit",
@@ -43,6 +57,7 @@ pub static FAMILIES: &[Entry] = &[
         example_alternatives: 2,
         example_spec: "",
         example_attribute: "",
+        example_model: "",
         example_truth: &[],
     },
     // The same family with three or more alternatives (the multinomial
@@ -54,6 +69,7 @@ pub static FAMILIES: &[Entry] = &[
         example_alternatives: 4,
         example_spec: "[errors]\nstructure = \"full\"\n[simulation]\ndraws = 200\n",
         example_attribute: "",
+        example_model: "",
         example_truth: &[("chol_a2_a1", 0.2), ("chol_a2_a2", 0.9)],
     },
     Entry {
@@ -62,6 +78,7 @@ pub static FAMILIES: &[Entry] = &[
         build: |spec| Ok(Arc::new(nested::Nested::new(spec)?)),
         example_alternatives: 5,
         example_attribute: "",
+        example_model: "",
         example_spec: "[[nest]]\nname = \"near\"\nalternatives = [\"a1\", \"a2\"]\n[[nest]]\nname = \"far\"\nalternatives = [\"a3\", \"a4\"]\n",
         example_truth: &[("lambda_near", 0.5), ("lambda_far", 0.7)],
     },
@@ -72,6 +89,7 @@ pub static FAMILIES: &[Entry] = &[
         example_alternatives: 4,
         example_spec: "",
         example_attribute: "",
+        example_model: "",
         example_truth: &[("cut_a0", -1.0), ("cut_a1", 0.0), ("cut_a2", 1.2)],
     },
     Entry {
@@ -81,6 +99,7 @@ pub static FAMILIES: &[Entry] = &[
         example_alternatives: 4,
         example_spec: "",
         example_attribute: "",
+        example_model: "",
         example_truth: &[("cut_a0", -0.7), ("cut_a1", 0.0), ("cut_a2", 0.8)],
     },
     Entry {
@@ -90,7 +109,36 @@ pub static FAMILIES: &[Entry] = &[
         example_alternatives: 4,
         example_spec: "[simulation]\ndraws = 200\n",
         example_attribute: "random = \"normal\"\n",
+        example_model: "",
         example_truth: &[("x_spread", 0.7)],
+    },
+    // Correlated: a random constant and x jointly normal.
+    Entry {
+        name: "mixed",
+        rules: &mixed::Rules,
+        build: |spec| Ok(Arc::new(mixed::Mixed::new(spec)?)),
+        example_alternatives: 4,
+        example_spec: "[simulation]\ndraws = 200\n",
+        example_attribute: "random = \"normal\"\n",
+        example_model: "random_constants = [\"a1\"]\ncorrelated = [\"x\", \"asc_a1\"]\n",
+        example_truth: &[("x_spread", 0.6), ("asc_a1_spread", 0.8), ("chol_asc_a1_x", 0.5)],
+    },
+    // In willingness-to-pay space: a lognormal price scale `x` correlated
+    // with a random constant (a value).
+    Entry {
+        name: "mixed",
+        rules: &mixed::Rules,
+        build: |spec| Ok(Arc::new(mixed::Mixed::new(spec)?)),
+        example_alternatives: 4,
+        example_spec: "[simulation]\ndraws = 200\n",
+        example_attribute: "random = \"lognormal\"\n",
+        example_model: "space = \"willingness\"\nprice = \"x\"\nrandom_constants = [\"a1\"]\ncorrelated = [\"x\", \"asc_a1\"]\n",
+        example_truth: &[
+            ("x", -0.2),
+            ("x_spread", 0.4),
+            ("asc_a1_spread", 1.0),
+            ("chol_asc_a1_x", 0.6),
+        ],
     },
 ];
 

@@ -34,6 +34,7 @@ fn example_spec(e: &Entry) -> Spec {
         e.name,
         if single { "" } else { "base = \"a0\"\n" }
     );
+    text.push_str(e.example_model);
     for (a, n) in names.iter().enumerate() {
         text.push_str(&format!("[alternatives.{n}]\n"));
         if a == j - 1 && j > 2 && !single {
@@ -62,6 +63,12 @@ fn truth(e: &Entry, spec: &Spec) -> Vec<f64> {
         .iter()
         .enumerate()
         .map(|(k, p)| match &p.term {
+            _ if e.example_truth.iter().any(|t| t.0 == p.name) => e
+                .example_truth
+                .iter()
+                .find(|t| t.0 == p.name)
+                .map(|t| t.1)
+                .unwrap_or(p.start),
             Term::Constant => 0.3 * if k % 2 == 0 { 1.0 } else { -1.0 },
             Term::Attribute(_) => -0.8,
             Term::Characteristic(_) => 0.02 * (1.0 + k as f64 % 3.0),

@@ -619,11 +619,15 @@ fn a_page_is_built_for_every_registered_family() {
         }
         let est = rows(page.select(&sel("table.estimates")).next().unwrap());
         for p in &fit.parameters {
-            assert_shown(
-                &format!("{} {}", e.name, p.name),
-                &row(&est, &p.name)[1],
-                p.estimate,
-            );
+            // A lognormal location's row reads `x (mean of log)`.
+            let r = est
+                .iter()
+                .find(|r| {
+                    r.first()
+                        .is_some_and(|c| c == &p.name || c.starts_with(&format!("{} (", p.name)))
+                })
+                .unwrap_or_else(|| panic!("{}: no row `{}`", e.name, p.name));
+            assert_shown(&format!("{} {}", e.name, p.name), &r[1], p.estimate);
         }
         let na = page.select(&sel("section#diversion p.na")).next().is_some();
         assert_eq!(

@@ -190,13 +190,18 @@ fn family_case(dir: &Path, e: &sharecast::model::registry::Entry, n: usize) -> S
         }
         csv.push('\n');
     }
-    let name = e.name.replace('-', "_");
+    let name = format!(
+        "{}_{}",
+        e.name.replace('-', "_"),
+        (e.example_model.len() + e.example_attribute.len()) % 97
+    );
     write(dir, &format!("{name}.csv"), &csv);
     let mut spec = format!(
         "[data]\nfile = \"{name}.csv\"\nlayout = \"wide\"\nchoice = \"alt\"\nweight = \"w\"\n[model]\nfamily = \"{}\"\n{}",
         e.name,
         if single { "" } else { "base = \"a0\"\n" }
     );
+    spec.push_str(e.example_model);
     for a in 0..j {
         spec.push_str(&format!("[alternatives.a{a}]\n"));
     }

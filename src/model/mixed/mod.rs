@@ -255,8 +255,28 @@ impl Family for Mixed {
         // Floors of the starts in the variable's units: a coefficient of 1 / sd
         // moves utility by one standard deviation. In ordinary units (sd
         // between 0.01 and 100) the floors are those of unit variables.
+        // In willingness space a value moves utility by the price scale times
+        // its variable.
+        let alpha = match &self.space {
+            None => 1.0,
+            Some(w) => {
+                let log = self.terms.iter().any(|t| t.location == w.price);
+                let a = beta[w.price];
+                let a = if by_simpler || !log {
+                    a.abs()
+                } else {
+                    a.min(700.0).exp()
+                };
+                if a > 0.0 && a.is_finite() {
+                    a
+                } else {
+                    1.0
+                }
+            }
+        };
         let unit = |p: usize| {
-            let s = super::hessian::variable_spread(d, p);
+            let value = self.space.as_ref().is_some_and(|w| w.values.contains(&p));
+            let s = super::hessian::variable_spread(d, p) * if value { alpha } else { 1.0 };
             if (0.01..=100.0).contains(&s) {
                 1.0
             } else {

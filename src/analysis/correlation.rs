@@ -52,7 +52,11 @@ fn figures(terms: &[&RandomCoefficient], beta: &[f64]) -> Vec<f64> {
     let mut out = sd.clone();
     for i in 0..d {
         for j in 0..d {
-            out.push(ratio(cov[i * d + j], sd[i] * sd[j]));
+            out.push(if i == j {
+                1.0
+            } else {
+                ratio(cov[i * d + j], sd[i] * sd[j])
+            });
         }
     }
     for i in 0..d {

@@ -121,30 +121,19 @@ pub fn scales(family: &dyn Family, d: &Design) -> Vec<f64> {
 /// lognormal one).
 pub fn scales_at(family: &dyn Family, d: &Design, beta: &[f64]) -> Vec<f64> {
     let mut out = scales(family, d);
-    if let Some(w) = family.willingness() {
-        let random = family
-            .random_coefficients()
-            .iter()
-            .any(|t| t.location == w.price);
-        let alpha = if random {
-            beta[w.price].min(700.0).exp()
-        } else {
-            beta[w.price].abs()
+    if let (Some(w), Some(alpha)) = (family.willingness(), super::space::price_scale(family, beta)) {
+        let spread_of = |k: usize| {
+            family
+                .random_coefficients()
+                .into_iter()
+                .find(|t| t.location == k)
+                .filter(|t| !t.distribution.is_log())
+                .map(|t| t.loadings)
         };
-        if alpha > 0.0 && alpha.is_finite() {
-            let spread_of = |k: usize| {
-                family
-                    .random_coefficients()
-                    .into_iter()
-                    .find(|t| t.location == k)
-                    .filter(|t| !t.distribution.is_log())
-                    .map(|t| t.loadings)
-            };
-            for &k in &w.values {
-                out[k] *= alpha;
-                for (p, _) in spread_of(k).unwrap_or_default() {
-                    out[p] *= alpha;
-                }
+        for &k in &w.values {
+            out[k] *= alpha;
+            for (p, _) in spread_of(k).unwrap_or_default() {
+                out[p] *= alpha;
             }
         }
     }

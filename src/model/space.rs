@@ -202,3 +202,20 @@ pub fn check_fixed(spec: &Spec, w: &Willingness, log_scale: bool) -> Result<(), 
     }
     Ok(())
 }
+
+/// The price scale of a willingness-space family at `beta` (its median, for
+/// a lognormal one: exp of its location), when it is positive and finite:
+/// what a value's effect on utility is multiplied by. `None` in preference space.
+pub fn price_scale(family: &dyn crate::model::Family, beta: &[f64]) -> Option<f64> {
+    let w = family.willingness()?;
+    let log = family
+        .random_coefficients()
+        .iter()
+        .any(|t| t.location == w.price && t.distribution.is_log());
+    let a = if log {
+        beta[w.price].min(700.0).exp()
+    } else {
+        beta[w.price].abs()
+    };
+    (a > 0.0 && a.is_finite()).then_some(a)
+}

@@ -82,8 +82,11 @@ pub fn calibrate_with(
                 err(&s)
             )));
         }
+        // In willingness space a constant moves utility by the price scale
+        // times itself: the step is divided by it.
+        let per = 1.0 / crate::model::space::price_scale(family, &b).unwrap_or(1.0);
         for &(j, p, t) in &params {
-            b[p] += (t / s[j]).ln();
+            b[p] += per * (t / s[j]).ln();
         }
         s = shares(family, d, &b);
         iterations += 1;

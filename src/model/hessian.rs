@@ -121,7 +121,10 @@ pub fn scales(family: &dyn Family, d: &Design) -> Vec<f64> {
 /// lognormal one).
 pub fn scales_at(family: &dyn Family, d: &Design, beta: &[f64]) -> Vec<f64> {
     let mut out = scales(family, d);
-    if let (Some(w), Some(alpha)) = (family.willingness(), super::space::price_scale(family, beta)) {
+    if let (Some(w), Some(alpha)) = (
+        family.willingness(),
+        super::space::price_scale(family, beta),
+    ) {
         let spread_of = |k: usize| {
             family
                 .random_coefficients()

@@ -32,6 +32,7 @@ mod scenarios;
 mod spec_errors;
 mod stream;
 mod tastes;
+mod tastes_recovery;
 mod tui;
 mod willingness;
 mod wording;

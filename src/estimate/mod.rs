@@ -297,7 +297,8 @@ fn search(
         .filter(|p| !middle_held.contains(p))
         .collect();
     if middle.len() < free.len() && !middle.is_empty() {
-        let o = optimise::maximise(design, &**family, &start, &middle, progress);
+        // Only a start for the full search: no Newton steps to confirm it.
+        let o = optimise::approach(design, &**family, &start, &middle, progress);
         if o.ll.is_finite() {
             start = o.beta;
         }

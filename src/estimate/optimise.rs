@@ -245,6 +245,53 @@ fn quasi_newton(
     }
 }
 
+/// The quasi-Newton phase alone, without the Newton steps that confirm
+/// convergence (no differenced Hessian): a start for a larger search.
+pub fn approach(
+    d: &Design,
+    family: &dyn Family,
+    start: &[f64],
+    free: &[usize],
+    progress: Progress,
+) -> Outcome {
+    let passes = AtomicUsize::new(1);
+    let h0 = crate::model::hessian::outer_product(family, d, start, free);
+    let scale = 1.0 / d.total_weight().max(1e-300);
+    let objective = Objective {
+        d,
+        family,
+        free,
+        template: start.to_vec(),
+        scale,
+        cache: Mutex::new(None),
+        best: Mutex::new(None),
+        passes: &passes,
+        progress,
+        iteration: AtomicUsize::new(0),
+    };
+    let (beta, bfgs_iterations, note) =
+        quasi_newton(&objective, start.to_vec(), initial_inverse(&(&h0 * scale)));
+    let ll = objective
+        .best
+        .lock()
+        .ok()
+        .and_then(|b| b.as_ref().map(|b| b.0))
+        .unwrap_or(f64::NEG_INFINITY);
+    Outcome {
+        beta,
+        ll,
+        bfgs_iterations,
+        newton_steps: 0,
+        passes: passes.load(Ordering::Relaxed),
+        criterion: f64::NAN,
+        gradient_norm: f64::NAN,
+        converged: false,
+        note,
+        restart: None,
+        hessian: None,
+    }
+}
+
 pub fn maximise(
     d: &Design,
     family: &dyn Family,

@@ -197,8 +197,8 @@ fn z_scores(p: Process, f: &Fit) -> Vec<(String, f64)> {
 #[test]
 fn simulated_panels_give_back_their_means_cholesky_entries_and_correlations() {
     for (p, seed) in [
-        (Process::Correlated, 2026_12_05),
-        (Process::Willingness, 2026_12_06),
+        (Process::Correlated, 20_261_205),
+        (Process::Willingness, 20_261_206),
     ] {
         let mut rng = Rng::new(seed);
         let f = fit(&p.spec(200), p.simulate(3000, 6, &mut rng));

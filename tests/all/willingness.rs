@@ -246,3 +246,47 @@ fn the_new_keys_refuse_mistakes_naming_the_key() {
         "{names:?}"
     );
 }
+
+#[test]
+fn calibrated_forecasts_and_new_alternatives_are_the_same_in_either_space() {
+    // Fact of the model: the same probabilities in both spaces, so a forecast
+    // with constants calibrated to counts (the calibration steps the values
+    // by the price scale) and one that adds an alternative agree.
+    let (wspec, _) = in_willingness("specs/commute.toml", "cost", "wtp-forecast");
+    let wpath = wspec.path.display().to_string();
+    let forecast = |spec: &str, scenario: &str| -> serde_json::Value {
+        let (code, out, err) = run(&[
+            "simulate",
+            spec,
+            "--scenario",
+            scenario,
+            "--draws",
+            "0",
+            "--json",
+        ]);
+        assert_eq!(code, 0, "{err}");
+        serde_json::from_str(&out).unwrap()
+    };
+    for scenario in [
+        "specs/scenarios/calibrated_walk_ban.toml",
+        "specs/scenarios/tram_line.toml",
+    ] {
+        let a = forecast("specs/commute.toml", scenario);
+        let b = forecast(&wpath, scenario);
+        let (sa, sb) = (
+            a["shares"].as_array().unwrap(),
+            b["shares"].as_array().unwrap(),
+        );
+        assert_eq!(sa.len(), sb.len(), "{scenario}");
+        for (x, y) in sa.iter().zip(sb) {
+            for key in ["base", "scenario"] {
+                assert_close(
+                    &format!("{scenario} {} {key}", x["alternative"]),
+                    y[key].as_f64().unwrap(),
+                    x[key].as_f64().unwrap(),
+                    1e-7,
+                );
+            }
+        }
+    }
+}

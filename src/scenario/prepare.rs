@@ -39,6 +39,10 @@ pub struct Prepared {
     pub map: TermMap,
     /// The constant's parameter of each spec alternative.
     pub constant_param: Vec<Option<usize>>,
+    /// In willingness-to-pay space, the price scale's parameter: a new
+    /// alternative's `constant` is then a value in price units, which enters
+    /// utility times the scale (minus the point's price coefficient).
+    pub price_param: Option<usize>,
     /// The family over the scenario's alternatives, when new ones change it.
     pub family: Option<crate::model::FamilyRef>,
 }
@@ -117,6 +121,7 @@ pub fn prepare(spec: &Spec, fit: &Fit, table: &Table, s: &Scenario) -> Result<Pr
         new,
         map,
         constant_param,
+        price_param: fit.family.willingness().map(|w| w.price),
         family: added_family(spec, fit, s)?,
     })
 }
@@ -298,7 +303,10 @@ impl Prepared {
                 continue;
             }
             let mut v = match (na.constant, self.constant_param[na.like]) {
-                (Some(c), _) => c,
+                (Some(c), _) => match self.price_param {
+                    Some(p) => -beta[p] * c,
+                    None => c,
+                },
                 (None, Some(p)) => beta[p],
                 (None, None) => 0.0,
             };

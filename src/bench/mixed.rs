@@ -35,6 +35,9 @@ pub struct MixedOptions {
     pub json: bool,
     /// Only write the data and spec (with `keep`); time nothing.
     pub write_only: bool,
+    /// Simulate correlated tastes and fit the model with and without the
+    /// correlation (`bench::correlated`).
+    pub correlated: bool,
 }
 
 /// Generating values: 3 fixed constants, then 4 random attributes' locations,
@@ -54,9 +57,9 @@ pub const TRUTH: &[(&str, f64)] = &[
 ];
 
 const ALTS: [&str; 4] = ["a1", "a2", "a3", "a4"];
-const ATTRS: [&str; 4] = ["x1", "x2", "x3", "cost"];
+pub(crate) const ATTRS: [&str; 4] = ["x1", "x2", "x3", "cost"];
 
-fn truth(name: &str) -> f64 {
+pub(crate) fn truth(name: &str) -> f64 {
     TRUTH
         .iter()
         .find(|t| t.0 == name)
@@ -64,9 +67,12 @@ fn truth(name: &str) -> f64 {
         .unwrap_or(0.0)
 }
 
-fn spec_text(draws: usize) -> String {
-    let mut s = String::from(
-        "title = \"sharecast bench: mixed logit panel\"\n\n[data]\nfile = \"mixed.csv\"\nlayout = \"wide\"\nchoice = \"choice\"\ngroup = \"person\"\n\n[model]\nfamily = \"mixed\"\nbase = \"a1\"\n\n",
+/// The spec: with `correlated`, the four random coefficients' normals are
+/// jointly normal (`correlated = true`).
+pub(crate) fn spec_text(draws: usize, correlated: bool) -> String {
+    let mut s = format!(
+        "title = \"sharecast bench: mixed logit panel\"\n\n[data]\nfile = \"mixed.csv\"\nlayout = \"wide\"\nchoice = \"choice\"\ngroup = \"person\"\n\n[model]\nfamily = \"mixed\"\nbase = \"a1\"\n{}\n",
+        if correlated { "correlated = true\n" } else { "" }
     );
     for a in ALTS {
         let _ = writeln!(s, "[alternatives.{a}]");
@@ -91,8 +97,11 @@ fn spec_text(draws: usize) -> String {
     s
 }
 
-/// Writes the panel (one row per task) and its spec into `dir`.
-fn write_set(dir: &Path, o: &MixedOptions) -> Result<PathBuf> {
+/// Writes the panel (one row per task) and its spec into `dir`: the tastes'
+/// normals are the locations plus `chol` (lower-triangular, rows in `ATTRS`
+/// order) times independent standard normals; the diagonal alone (the
+/// spreads) gives the independent model.
+pub(crate) fn write_set(dir: &Path, o: &MixedOptions, chol: &[[f64; 4]; 4]) -> Result<PathBuf> {
     std::fs::create_dir_all(dir).map_err(|e| Error::io(dir, e))?;
     let mut rng = Rng::new(20_261_204);
     let n = o.decision_makers * o.tasks;
@@ -100,14 +109,15 @@ fn write_set(dir: &Path, o: &MixedOptions) -> Result<PathBuf> {
     let mut choice = Vec::with_capacity(n);
     let mut cols: Vec<Vec<f64>> = vec![Vec::with_capacity(n); ALTS.len() * ATTRS.len()];
     for p in 0..o.decision_makers {
+        let z: [f64; 4] = std::array::from_fn(|_| rng.normal());
         let mut b = [0.0; 4];
         for (k, x) in ATTRS.iter().enumerate() {
-            let z = rng.normal();
-            let (m, s) = (truth(x), truth(&format!("{x}_spread")));
+            let mixed = (0..=k).fold(0.0, |acc, j| acc + chol[k][j] * z[j]);
+            let m = truth(x);
             b[k] = if k == 3 {
-                -(m + s * z).exp()
+                -(m + mixed).exp()
             } else {
-                m + s * z
+                m + mixed
             };
         }
         for _ in 0..o.tasks {
@@ -150,8 +160,17 @@ fn write_set(dir: &Path, o: &MixedOptions) -> Result<PathBuf> {
     }
     table(&dir.join("mixed.csv"), true, &out)?;
     let spec = dir.join("mixed.toml");
-    std::fs::write(&spec, spec_text(o.draws)).map_err(|e| Error::io(&spec, e))?;
+    std::fs::write(&spec, spec_text(o.draws, false)).map_err(|e| Error::io(&spec, e))?;
     Ok(spec)
+}
+
+/// The independent model's Cholesky factor: the spreads on the diagonal.
+pub(crate) fn diagonal() -> [[f64; 4]; 4] {
+    let mut l = [[0.0; 4]; 4];
+    for (k, x) in ATTRS.iter().enumerate() {
+        l[k][k] = truth(&format!("{x}_spread"));
+    }
+    l
 }
 
 /// Nanoseconds per vectorised exponential on one core (the pass's kind).
@@ -260,12 +279,17 @@ pub fn run(o: MixedOptions) -> Result<ExitCode> {
     }
     crate::error::check_count("--decision-makers", o.decision_makers, 1_000_000, 0)?;
     crate::error::check_count("--tasks", o.tasks, 1_000, 0)?;
+    if o.correlated {
+        return super::in_folder(o.keep.as_deref(), "correlated", |dir| {
+            super::correlated::measure(&o, dir)
+        });
+    }
     super::in_folder(o.keep.as_deref(), "mixed", |dir| measure(&o, dir))
 }
 
 fn measure(o: &MixedOptions, dir: &Path) -> Result<ExitCode> {
     let t = Instant::now();
-    let spec_path = write_set(dir, o)?;
+    let spec_path = write_set(dir, o, &diagonal())?;
     let generate_s = t.elapsed().as_secs_f64();
     if o.write_only {
         crate::outln!(
@@ -334,7 +358,7 @@ fn measure(o: &MixedOptions, dir: &Path) -> Result<ExitCode> {
 
 /// The first pass at `theta` (with its time, which includes making the
 /// draws), then the median times of passes with and without the gradient.
-fn time_passes(
+pub(crate) fn time_passes(
     family: &dyn crate::model::Family,
     d: &Design,
     theta: &[f64],

@@ -5,6 +5,7 @@
 //! of passes, the whole fit, `sharecast fit` as a separate process, and the
 //! peak memory. `docs/performance.md` reports the figures.
 
+pub mod correlated;
 mod figures;
 mod measure;
 pub mod mixed;

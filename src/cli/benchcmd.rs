@@ -74,6 +74,10 @@ pub struct BenchArgs {
     /// --model mixed: do not run the numpy peer.
     #[arg(long)]
     pub no_peer: bool,
+    /// --model mixed: simulate correlated tastes and fit the independent and
+    /// the correlated model on them in the same run (no numpy peer).
+    #[arg(long)]
+    pub correlated: bool,
     /// --model stream: rows of the population read at a time.
     #[arg(long, default_value_t = crate::data::stream::DEFAULT_CHUNK_ROWS)]
     pub chunk_rows: usize,
@@ -83,6 +87,11 @@ pub struct BenchArgs {
 }
 
 pub fn run(args: BenchArgs) -> Result<ExitCode> {
+    if args.correlated && args.model != BenchModel::Mixed {
+        return Err(crate::error::Error::Usage(
+            "--correlated applies to --model mixed".into(),
+        ));
+    }
     if args.model == BenchModel::Stream {
         return stream(args);
     }
@@ -129,6 +138,7 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
             no_peer: args.no_peer,
             json: args.json,
             write_only: args.write_only,
+            correlated: args.correlated,
         });
     }
     bench::run(Options {

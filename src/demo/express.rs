@@ -3,7 +3,11 @@
 //! between their car, a proposed express coach and the regional rail line;
 //! tastes differ between respondents (a lognormal fare sensitivity, a normal
 //! time sensitivity and a normal preference for rail), drawn once per
-//! respondent and kept through their tasks.
+//! respondent and kept through their tasks. Time and fare sensitivity go
+//! together: those who mind time more also mind paying more (the time
+//! coefficient and the log of minus the cost coefficient are jointly normal
+//! with correlation `time_cost_correlation`); the rail preference is
+//! independent of both.
 
 use std::path::Path;
 
@@ -13,8 +17,11 @@ use crate::error::Result;
 use crate::rng::Rng;
 
 /// True parameters: constants and headway fixed; cost negative-lognormal
-/// (location and spread of the log of minus the coefficient), time and the
-/// rail constant normal (mean and standard deviation).
+/// (location and standard deviation of the log of minus the coefficient),
+/// time and the rail constant normal (mean and standard deviation); the
+/// correlation of the time coefficient with the log of minus the cost
+/// coefficient (negative: a more negative time coefficient goes with a
+/// larger fare sensitivity).
 pub const EXPRESS_TRUTH: &[(&str, f64)] = &[
     ("asc_coach", -0.4),
     ("asc_rail", 0.3),
@@ -24,7 +31,22 @@ pub const EXPRESS_TRUTH: &[(&str, f64)] = &[
     ("asc_rail_spread", 0.9),
     ("cost_spread", 0.7),
     ("time_spread", 0.03),
+    ("time_cost_correlation", -0.5),
 ];
+
+/// One respondent's cost and time coefficients and rail constant: the time
+/// coefficient's standard normal is mixed into the log fare sensitivity's
+/// with weight rho, so that the two correlate rho.
+fn tastes(rng: &mut Rng) -> (f64, f64, f64) {
+    let t = |n: &str| truth(EXPRESS_TRUTH, n);
+    let (z_cost, z_time) = (rng.normal(), rng.normal());
+    let rho = t("time_cost_correlation");
+    let z_cost = rho * z_time + (1.0 - rho * rho).sqrt() * z_cost;
+    let b_cost = -(t("cost") + t("cost_spread") * z_cost).exp();
+    let b_time = t("time") + t("time_spread") * z_time;
+    let c_rail = t("asc_rail") + t("asc_rail_spread") * rng.normal();
+    (b_cost, b_time, c_rail)
+}
 
 /// Levels a task draws each attribute from.
 fn level(rng: &mut Rng, levels: &[f64]) -> f64 {
@@ -55,9 +77,7 @@ pub fn express(path: &Path, force: bool) -> Result<()> {
     let mut owner = Vec::new();
     for person in 1..=600 {
         // This respondent's own tastes, the same in all of their tasks.
-        let b_cost = -(t("cost") + t("cost_spread") * rng.normal()).exp();
-        let b_time = t("time") + t("time_spread") * rng.normal();
-        let c_rail = t("asc_rail") + t("asc_rail_spread") * rng.normal();
+        let (b_cost, b_time, c_rail) = tastes(&mut rng);
         let has_car = rng.uniform() < 0.8;
         let base_time = 30.0 + 50.0 * rng.uniform();
         for task in 1..=8 {

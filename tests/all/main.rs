@@ -6,6 +6,7 @@ mod analytic;
 mod catalogue;
 mod common;
 mod demo_specs;
+mod demo_tastes;
 mod derivatives;
 mod diagnostics;
 mod draft;

@@ -22,6 +22,8 @@ use sharecast::tui::{estimates, keys, levers};
 
 use crate::common::*;
 
+mod tastes;
+
 fn model(rel: &str) -> Model {
     static CACHE: OnceLock<Mutex<Vec<(String, Model)>>> = OnceLock::new();
     let cache = CACHE.get_or_init(|| Mutex::new(Vec::new()));

@@ -26,7 +26,8 @@ fn opening(c: &Correlated) -> String {
 
 const SPREADS: &str = "spread of each underlying normal (its standard deviation)";
 const NORMALS: &str = "correlations of the underlying normals";
-const OWN: &str = "correlations of the coefficients themselves: a lognormal coefficient's follow from the lognormal's closed-form moments (exact, not simulated); between two normal coefficients they are the normals' own";
+const OWN: &str = "correlations of the coefficients themselves";
+const OWN_HOW: &str = "where a coefficient is lognormal, its correlations follow from the lognormal's closed-form moments (exact, not simulated); between two normal coefficients they are the normals' own";
 
 /// "cost (lognormal)".
 fn named(c: &Correlated, i: usize) -> String {
@@ -88,6 +89,7 @@ impl Section for CorrelatedTastes {
         s.push_str(&heat_matrix(&c.normals));
         if let Some(m) = &c.own {
             let _ = writeln!(s, "<h3>{}</h3>", esc(OWN));
+            s.push_str(&note(OWN_HOW));
             s.push_str(&heat_matrix(m));
         }
         if let Some(t) = &c.independence {
@@ -116,7 +118,7 @@ impl Section for CorrelatedTastes {
         let _ = writeln!(s, "  {NORMALS}");
         matrix(&mut s, &c.normals);
         if let Some(m) = &c.own {
-            let _ = writeln!(s, "  {OWN}");
+            let _ = writeln!(s, "  {OWN}: {OWN_HOW}");
             matrix(&mut s, m);
         }
         if let Some(t) = &c.independence {

@@ -161,41 +161,14 @@ fn table_lines(st: &State, l: &Loaded, w: usize, t: &Theme) -> (Vec<Line<'static
         .filter_map(|(_, r)| r.unit.as_ref().map(|u| u.chars().count() + 2))
         .max()
         .unwrap_or(0)
-        .min(34);
+        .min(44)
+        .min(w.saturating_sub(nw + ew + tw + pw + iw + 16));
     let strip_w = w.saturating_sub(nw + ew + tw + pw + iw + uw + 2).max(5);
     let mut lines = Vec::new();
     if let Some(space) = Space::of(&l.model.spec, fit) {
         lines.push(Line::from(Span::styled(space.brief(), t.accent())));
     }
-    lines.push(Line::from(Span::styled(
-        format!(
-            "{}{}{}{}{}{}  {}",
-            left("parameter", nw),
-            right("value ± s.e.", ew),
-            right("t", tw),
-            right("p", pw),
-            right("95% interval", iw),
-            left(
-                if uw > 0 {
-                    "  price scale or value in"
-                } else {
-                    ""
-                },
-                uw
-            ),
-            left(
-                if strip_w >= 34 {
-                    "0 ┆ 95% interval, each row to its own scale"
-                } else if strip_w >= 16 {
-                    "own scale per row"
-                } else {
-                    "own scale"
-                },
-                strip_w
-            )
-        ),
-        t.header(),
-    )));
+    lines.push(header((nw, ew, tw, pw, iw, uw, strip_w), t));
     let pinned = lines.len();
     let mut cursor_line = 0;
     for (i, (head, r)) in rows.iter().enumerate() {
@@ -235,6 +208,35 @@ fn table_lines(st: &State, l: &Loaded, w: usize, t: &Theme) -> (Vec<Line<'static
 
 /// The columns' widths: name, value, t, p, interval, unit (0 without), strip.
 type Widths = (usize, usize, usize, usize, usize, usize, usize);
+
+/// The table's header: each column's heading in its width.
+fn header((nw, ew, tw, pw, iw, uw, strip_w): Widths, t: &Theme) -> Line<'static> {
+    let unit = if uw > 0 {
+        "  price scale or value in"
+    } else {
+        ""
+    };
+    let strip = if strip_w >= 34 {
+        "0 ┆ 95% interval, each row to its own scale"
+    } else if strip_w >= 16 {
+        "own scale per row"
+    } else {
+        "own scale"
+    };
+    Line::from(Span::styled(
+        format!(
+            "{}{}{}{}{}{}  {}",
+            left("parameter", nw),
+            right("value ± s.e.", ew),
+            right("t", tw),
+            right("p", pw),
+            right("95% interval", iw),
+            left(unit, uw),
+            left(strip, strip_w)
+        ),
+        t.header(),
+    ))
+}
 
 /// One parameter's row: name, value ± s.e., t, p, interval, unit and its strip.
 fn row_line(

@@ -7,9 +7,19 @@ use ratatui::text::{Line, Span};
 
 use crate::report::heat::CORRELATION_CUTS;
 use crate::report::pval;
-use crate::report::walk::Correlated;
+use crate::report::walk::{Correlated, Matrix};
 use crate::tui::grid::{self, Shade};
 use crate::tui::theme::Theme;
+
+/// A matrix's grid two columns in, like the other figures below the table.
+fn indented(m: &Matrix, width: usize, t: &Theme) -> Vec<Line<'static>> {
+    let shade = Shade::Signed(&CORRELATION_CUTS);
+    let mut lines = grid::lines(m, shade, width.saturating_sub(2), t);
+    for l in &mut lines {
+        l.spans.insert(0, Span::raw("  "));
+    }
+    lines
+}
 
 /// The grid's lines in `width` columns: a heading, the normals' matrix, the
 /// coefficients' own where they differ, the legend and the test.
@@ -21,16 +31,16 @@ pub fn grid(c: &Correlated, width: usize, t: &Theme) -> Vec<Line<'static>> {
             t.accent(),
         )),
     ];
-    let shade = Shade::Signed(&CORRELATION_CUTS);
-    out.extend(grid::lines(&c.normals, shade, width, t));
+    out.extend(indented(&c.normals, width, t));
     if let Some(m) = &c.own {
         out.push(Line::from(Span::styled(
             "  the coefficients themselves (lognormal ones from the closed-form moments)",
             t.dim(),
         )));
-        out.extend(grid::lines(m, shade, width, t));
+        out.extend(indented(m, width, t));
     }
-    let mut legend = grid::legend("|r|", &CORRELATION_CUTS, true, t);
+    let mut legend = vec![Span::raw("  ")];
+    legend.extend(grid::legend("|r|", &CORRELATION_CUTS, true, t));
     legend.push(Span::styled(
         " · warm: move apart · cool: move together",
         t.dim(),

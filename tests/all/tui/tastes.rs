@@ -2,7 +2,7 @@
 //! the grid of correlations holds the library's figures
 //! (`analysis::correlation::correlations`), with the heat glyph of each
 //! cell's level; the price scale and each value's unit stand beside the
-//! rows; neither appears for an independent, preference-space model.
+//! rows, a ratio's note below it; neither appears for an independent, preference-space model.
 
 use sharecast::report::heat::CORRELATION_CUTS;
 use sharecast::tui::theme::Theme;
@@ -48,6 +48,11 @@ fn the_estimates_view_shows_the_correlation_grid_and_the_units_of_values() {
         assert!(time.contains(&cell), "`{cell}` not in `{time}`");
     }
     assert!(time.contains('—'), "{time}");
+    // The value ratio over the price carries its note (cut at the panel's edge).
+    has(
+        &s,
+        &["↳ the model is in willingness-to-pay space: `time` is itself"],
+    );
     let t = c.independence.as_ref().unwrap();
     has(&s, &[&format!("statistic {:.2}, {} df", t.statistic, t.df)]);
 

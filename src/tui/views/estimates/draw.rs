@@ -48,7 +48,7 @@ pub fn render(st: &State, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
     let ratios = l.analysis.ready().map(|a| a.ratios.as_slice());
     let ratio_h = match ratios {
         Some([]) => 0,
-        Some(r) => r.len() as u16 + 3,
+        Some(r) => (r.len() + r.iter().filter(|x| x.note.is_some()).count()) as u16 + 3,
         None => 3,
     };
     let [table, bottom] =
@@ -84,7 +84,8 @@ pub fn render(st: &State, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
     }
 }
 
-/// The value ratios with their delta-method and Krinsky-Robb intervals.
+/// The value ratios with their delta-method and Krinsky-Robb intervals, and
+/// a ratio's note below it where it has one.
 fn ratio_panel(
     l: &Loaded,
     ratios: Option<&[crate::analysis::ratios::RatioRow]>,
@@ -131,6 +132,9 @@ fn ratio_panel(
                         t.dim(),
                     ),
                 ]));
+                if let Some(n) = &r.note {
+                    lines.push(Line::from(Span::styled(format!("  ↳ {n}"), t.dim())));
+                }
             }
         }
         None => {

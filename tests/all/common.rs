@@ -78,3 +78,53 @@ pub fn assert_close(what: &str, got: f64, want: f64, rel: f64) {
         "{what}: got {got}, want {want} (relative tolerance {rel})"
     );
 }
+
+/// `[model]` lines of a mixed logit in willingness-to-pay space (cost the
+/// price) whose constant, time and cost tastes are correlated.
+pub const WTP_CORRELATED: &str =
+    "correlated = [\"asc_rail\", \"time\", \"cost\"]\nspace = \"willingness\"\nprice = \"cost\"";
+
+/// The demo's express survey spec (a mixed logit) written into `dir` as
+/// `name`, its data path made absolute and 100 draws, with `model` lines added
+/// under `[model]` and, when given, cost's distribution replaced by `cost`.
+pub fn express_variant(dir: &Path, name: &str, model: &str, cost: Option<&str>) -> String {
+    let text = std::fs::read_to_string(path("specs/express_survey.toml")).unwrap();
+    let mut out = text
+        .replace(
+            "file = \"../demo-data/express_survey.csv\"",
+            &format!(
+                "file = {:?}",
+                path("demo-data/express_survey.csv").display().to_string()
+            ),
+        )
+        .replace(
+            "random_constants = [\"rail\"]",
+            &format!("random_constants = [\"rail\"]\n{model}"),
+        )
+        .replace("draws = 500", "draws = 100");
+    if let Some(c) = cost {
+        out = out.replace(
+            "random = \"negative-lognormal\"",
+            &format!("random = \"{c}\""),
+        );
+    }
+    assert!(out.contains("demo-data/express_survey.csv\"") && out.contains("draws = 100"));
+    write(dir, name, &out).display().to_string()
+}
+
+/// The demo's commute spec (a logit) written into `dir` as `name`, its data
+/// path made absolute, with `model` lines added under `[model]`.
+pub fn commute_variant(dir: &Path, name: &str, model: &str) -> String {
+    let text = std::fs::read_to_string(path("specs/commute.toml")).unwrap();
+    let out = text
+        .replace(
+            "file = \"../demo-data/commute.csv\"",
+            &format!(
+                "file = {:?}",
+                path("demo-data/commute.csv").display().to_string()
+            ),
+        )
+        .replace("base = \"car\"", &format!("base = \"car\"\n{model}"));
+    assert!(out.contains(&path("demo-data/commute.csv").display().to_string()));
+    write(dir, name, &out).display().to_string()
+}

@@ -12,6 +12,8 @@ use serde_json::Value;
 
 use crate::common::{path, run, scratch};
 
+mod tastes;
+
 fn sel(s: &str) -> Selector {
     Selector::parse(s).unwrap()
 }

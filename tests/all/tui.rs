@@ -22,6 +22,8 @@ use sharecast::tui::{estimates, keys, levers};
 
 use crate::common::*;
 
+mod tastes;
+
 fn model(rel: &str) -> Model {
     static CACHE: OnceLock<Mutex<Vec<(String, Model)>>> = OnceLock::new();
     let cache = CACHE.get_or_init(|| Mutex::new(Vec::new()));
@@ -866,6 +868,11 @@ fn a_mixed_model_shows_each_random_coefficient_and_simulated_what_ifs() {
             "asc_rail_spread",
         ],
     );
+    // Its random coefficients are independent: no grid of correlations, and
+    // it is in preference space: no units.
+    for gone in ["correlated tastes", "price scale or value in"] {
+        assert!(!s.contains(gone), "`{gone}` on the screen:\n{s}");
+    }
     let m = model("specs/express_survey.toml");
     let terms = m.fit.family.random_coefficients();
     for t in &terms {

@@ -3,7 +3,7 @@
 
 use std::fmt::Write;
 
-use crate::report::heat::{level, ELASTICITY_CUTS, SHARE_CUTS};
+use crate::report::heat::{level, CORRELATION_CUTS, ELASTICITY_CUTS, SHARE_CUTS};
 use crate::report::walk::{Cell, Matrix, Measure};
 
 /// Escapes text for HTML and SVG content and attribute values.
@@ -147,10 +147,11 @@ pub fn heat_cell(value: f64, text: &str, cuts: &[f64; 4]) -> String {
 }
 
 /// The heat scale a matrix's measure is shaded on: elasticities on their
-/// own, shares and changes in shares on the share scale.
+/// own, correlations on theirs, shares and changes in shares on the share scale.
 pub fn cuts(measure: Measure) -> &'static [f64; 4] {
     match measure {
         Measure::PointElasticity | Measure::ArcElasticity { .. } => &ELASTICITY_CUTS,
+        m if m.is_correlation() => &CORRELATION_CUTS,
         _ => &SHARE_CUTS,
     }
 }

@@ -1,7 +1,8 @@
 //! "Estimates": each parameter grouped by the spec term it comes from, with
 //! its errors, t, p and 95% interval (and the interval chart on the page); a
 //! (negative-)lognormal coefficient's location is labelled the mean of its
-//! logarithm, with the coefficient's median beside it.
+//! logarithm, with the coefficient's median beside it; in willingness-to-pay
+//! space, a line saying which parameter is the price scale and each row's unit.
 
 use std::fmt::Write;
 
@@ -60,6 +61,9 @@ fn html_table(e: &Estimates) -> String {
     if e.has_medians() {
         header.push("coefficient's median");
     }
+    if e.space.is_some() {
+        header.push(UNIT);
+    }
     let mut rows = Vec::new();
     for t in &e.terms {
         rows.push(format!(
@@ -89,10 +93,13 @@ fn html_row(e: &Estimates, r: &Estimate, columns: usize) -> String {
             "{}{}<td class=\"l\" colspan=\"{}\">(fixed)</td>",
             label_cell(&r.label()),
             num_cell(&short(r.value)),
-            columns - 2 - usize::from(e.has_medians())
+            columns - 2 - usize::from(e.has_medians()) - usize::from(e.space.is_some())
         );
         if e.has_medians() {
             row.push_str(&num_cell(&median));
+        }
+        if e.space.is_some() {
+            row.push_str(&label_cell(r.unit.as_deref().unwrap_or("")));
         }
         return row;
     }
@@ -119,6 +126,9 @@ fn html_row(e: &Estimates, r: &Estimate, columns: usize) -> String {
     if e.has_medians() {
         row.push_str(&num_cell(&median));
     }
+    if e.space.is_some() {
+        row.push_str(&label_cell(r.unit.as_deref().unwrap_or("")));
+    }
     row
 }
 
@@ -133,10 +143,13 @@ fn tstat(t: f64) -> String {
 
 /// One parameter's text line.
 fn text_row(s: &mut String, e: &Estimates, r: &Estimate) {
-    let median = r
+    let mut median = r
         .median
         .map(|m| format!("   median {}", plus_minus(m.value, m.std_error)))
         .unwrap_or_default();
+    if let Some(u) = &r.unit {
+        let _ = write!(median, "   · {u}");
+    }
     if r.fixed {
         let _ = writeln!(
             s,
@@ -175,6 +188,9 @@ impl Section for EstimatesSection {
     fn html(&self, input: &Input, charts: &mut Vec<Chart>) -> String {
         let e = &input.estimates;
         let mut s = note(&errors_line(input));
+        if let Some(space) = &e.space {
+            s.push_str(&note(&space.line()));
+        }
         let chart = svg::intervals("Estimates with 95% intervals", &interval_groups(e));
         s.push_str(&figure(
             &chart,
@@ -206,6 +222,9 @@ impl Section for EstimatesSection {
         let e = &input.estimates;
         let mut s = String::new();
         let _ = writeln!(s, "estimates · {}", errors_line(input));
+        if let Some(space) = &e.space {
+            let _ = writeln!(s, "  {}", space.line());
+        }
         let _ = writeln!(
             s,
             "  {:<26}{:>24}{:>9}{:>10}   {:<25}{}{}{}",
@@ -246,6 +265,9 @@ impl Section for EstimatesSection {
         Some(s)
     }
 }
+
+/// The column of a willingness-space model's units.
+const UNIT: &str = "price scale or value in";
 
 /// What a "mean of log" row is and how its median follows.
 const MEDIAN_NOTE: &str = "mean of log: the location of a lognormal coefficient is the mean of its logarithm, not the coefficient; the coefficient's median is exp(mean of log), or −exp(mean of log) when negative-lognormal (± delta-method s.e.)";

@@ -5,6 +5,7 @@
 //! from that list.
 
 mod cautions;
+mod correlated;
 mod covariance;
 mod curve;
 mod diagnostics;
@@ -28,6 +29,7 @@ pub const REGISTRY: &[&dyn Section] = &[
     &statistics::Statistics,
     &estimates::EstimatesSection,
     &random::Tastes,
+    &correlated::CorrelatedTastes,
     &covariance::ErrorCovariance,
     &ratios::ValueRatios,
     &elasticities::Elasticities,

@@ -1,6 +1,7 @@
 //! "Tastes across decision makers": each random coefficient's implied
 //! distribution as the library computed it (`analysis::random`), or why the
-//! family has none.
+//! family has none; in willingness-to-pay space, what each coefficient is
+//! (the price scale or a value).
 
 use std::fmt::Write;
 
@@ -53,9 +54,13 @@ impl Section for Tastes {
                     .iter()
                     .map(|x| format!("{:.0}%: {:.4}", 100.0 * x.level, x.value))
                     .collect();
+                let what = match &x.reads {
+                    Some(reads) => format!(" — {reads}"),
+                    None => String::new(),
+                };
                 format!(
                     "{}{}{}{}{}{}{}",
-                    label_cell(&format!("{} ({})", r.coefficient, r.distribution)),
+                    label_cell(&format!("{} ({}){what}", r.coefficient, r.distribution)),
                     num_cell(&fig(r.mean.value, r.mean.std_error)),
                     num_cell(&fig(r.std_dev.value, r.std_dev.std_error)),
                     num_cell(&fig(r.median.value, r.median.std_error)),
@@ -92,9 +97,13 @@ impl Section for Tastes {
         let mut s = String::from("random coefficients across decision makers (implied by each location and spread; ± delta-method s.e.)\n");
         for x in &w.random {
             let r = &x.row;
+            let what = match &x.reads {
+                Some(reads) => format!(" · {reads}"),
+                None => String::new(),
+            };
             let _ = writeln!(
                 s,
-                "  {} · {} ({} {:.4}, spread {:.4})",
+                "  {} · {} ({} {:.4}, spread {:.4}){what}",
                 r.coefficient, r.distribution, x.location_label, r.location, r.spread
             );
             let _ = writeln!(

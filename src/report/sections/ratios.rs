@@ -1,6 +1,7 @@
 //! "Value ratios": each [[ratio]] as willingness to pay with its unit, what
 //! it is for, its delta-method and Krinsky-Robb intervals, and how it varies
-//! across decision makers where a term does.
+//! across decision makers where a term does, and what a ratio is when that
+//! needs saying (its note).
 
 use std::fmt::Write;
 
@@ -59,6 +60,9 @@ fn text_ratio(s: &mut String, r: &Ratio) {
         r.delta.0,
         r.delta.1
     );
+    if let Some(n) = &r.note {
+        let _ = writeln!(s, "  {:<18}{n}", "");
+    }
     if let Some(dist) = &r.distribution {
         let q: Vec<String> = dist
             .quantiles
@@ -109,6 +113,11 @@ impl Section for ValueRatios {
             ],
             &rows,
         ));
+        for r in &w.ratios {
+            if let Some(n) = &r.note {
+                s.push_str(&note(&format!("{}: {n}", r.name)));
+            }
+        }
         if let Some(k) = w.ratios.iter().find_map(|r| r.krinsky_robb) {
             s.push_str(&note(&format!(
                 "Krinsky-Robb intervals from {} parameter draws (seed {}).",

@@ -241,13 +241,16 @@ pub(super) fn ratio(r: &crate::analysis::RatioRow) -> Ratio {
             seed: r.seed,
         }),
         distribution: r.distribution.clone(),
+        note: r.note.clone(),
     }
 }
 
 /// The analysis's random coefficients, each told whether its location is the
-/// mean of its logarithm (asked of the family's random coefficients, in the same order).
-pub(super) fn random(fit: &Fit, a: &Analysis) -> Vec<Random> {
+/// mean of its logarithm (asked of the family's random coefficients, in the
+/// same order) and, in willingness-to-pay space, what it is.
+pub(super) fn random(spec: &Spec, fit: &Fit, a: &Analysis) -> Vec<Random> {
     let terms = fit.family.random_coefficients();
+    let space = super::Space::of(spec, fit);
     a.random_coefficients
         .iter()
         .enumerate()
@@ -257,6 +260,10 @@ pub(super) fn random(fit: &Fit, a: &Analysis) -> Vec<Random> {
                 Some(t) if t.distribution.is_log() => MEAN_OF_LOG,
                 _ => "location",
             },
+            reads: terms
+                .get(k)
+                .zip(space.as_ref())
+                .and_then(|(t, s)| s.reads(t.location)),
         })
         .collect()
 }

@@ -2,7 +2,9 @@
 //! with the errors the fit's inference uses, its odds ratio where the family
 //! reads coefficients as odds, and — where the value is the mean of the
 //! logarithm of a (negative-)lognormal coefficient, as the family's random
-//! coefficients say — that label and the coefficient's median.
+//! coefficients say — that label and the coefficient's median; in
+//! willingness-to-pay space, which parameter is the price scale and what
+//! unit each value is in.
 
 use crate::analysis::random::Figure;
 use crate::estimate::Fit;
@@ -31,6 +33,9 @@ pub struct Estimate {
     /// The coefficient's median across decision makers when the value is the
     /// mean of its logarithm, with its delta-method error.
     pub median: Option<Figure>,
+    /// In willingness-to-pay space: "price scale", or the unit of a value
+    /// ("cost per unit of time").
+    pub unit: Option<String>,
 }
 
 impl Estimate {
@@ -60,6 +65,8 @@ pub struct Estimates {
     pub odds: bool,
     /// Estimated parameters tested against a value other than 0 (name, value).
     pub against: Vec<(String, f64)>,
+    /// The model is written in willingness-to-pay space.
+    pub space: Option<super::Space>,
 }
 
 impl Estimates {
@@ -74,6 +81,7 @@ impl Estimates {
 pub fn estimates(spec: &Spec, fit: &Fit) -> Estimates {
     let odds = fit.family.abilities().odds_ratios;
     let logs = fit.family.random_coefficients();
+    let space = super::Space::of(spec, fit);
     let mut terms: Vec<Term> = Vec::new();
     for (k, row) in fit.parameters.iter().enumerate() {
         let log = logs.iter().find(|t| t.location == k);
@@ -95,6 +103,7 @@ pub fn estimates(spec: &Spec, fit: &Fit) -> Estimates {
             odds_ratio: (odds && characteristic).then(|| row.estimate.exp()),
             median: log
                 .and_then(|t| crate::analysis::random::log_median(t, row.estimate, std_error)),
+            unit: space.as_ref().and_then(|s| s.unit(k)).map(str::to_string),
         };
         match terms.last_mut() {
             Some(t) if t.term == row.term => t.rows.push(e),
@@ -114,5 +123,6 @@ pub fn estimates(spec: &Spec, fit: &Fit) -> Estimates {
             .filter(|r| r.null != 0.0 && !r.fixed)
             .map(|r| (r.name.clone(), r.null))
             .collect(),
+        space,
     }
 }

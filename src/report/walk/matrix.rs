@@ -19,6 +19,10 @@ pub enum Holds {
     ShareOf,
     /// The alternative the demand moves to.
     MovesTo,
+    /// Random coefficients' underlying normals (their logarithms, for lognormals).
+    Normal,
+    /// Random coefficients themselves.
+    Coefficient,
 }
 
 impl Holds {
@@ -31,6 +35,8 @@ impl Holds {
             Holds::Withdrawn => "withdrawn".into(),
             Holds::ShareOf => "share of".into(),
             Holds::MovesTo => "moves to".into(),
+            Holds::Normal => "normal of".into(),
+            Holds::Coefficient => "coefficient".into(),
         }
     }
 }
@@ -57,6 +63,10 @@ pub enum Measure {
     Withdrawal,
     /// Diversion ratios for a change in an attribute: -(dQ_to/dx)/(dQ_changed/dx).
     PriceDiversion,
+    /// Correlations of random coefficients' underlying normals (-1 to 1).
+    Correlation,
+    /// Correlations of the random coefficients themselves (-1 to 1).
+    CoefficientCorrelation,
 }
 
 impl Measure {
@@ -65,6 +75,11 @@ impl Measure {
     pub fn is_diversion(self) -> bool {
         matches!(self, Measure::Withdrawal | Measure::PriceDiversion)
     }
+
+    /// Whether the cells are correlations (-1 to 1, shaded on their own scale).
+    pub fn is_correlation(self) -> bool {
+        matches!(self, Measure::Correlation | Measure::CoefficientCorrelation)
+    }
 }
 
 /// One cell.
@@ -72,7 +87,8 @@ impl Measure {
 pub enum Cell {
     /// No figure for this pair (the variable does not enter there, ...).
     Missing,
-    /// The row's and the column's alternative are the same (diversion's diagonal).
+    /// The row and the column are the same (diversion's diagonal, a
+    /// correlation matrix's).
     Same,
     /// A figure with its standard error (not a number when there is none).
     Value(Figure),
@@ -139,13 +155,21 @@ impl Matrix {
     }
 
     /// A cell as plain text: about three significant digits and the error
-    /// after `sep` for elasticities and changes, three decimals for diversion;
+    /// after `sep` for elasticities and changes, three decimals for diversion
+    /// (and for correlations, with the error after `sep`);
     /// a dash on the diagonal and nothing where there is no figure.
     pub fn cell_text(&self, r: usize, c: usize, sep: &str) -> String {
         match self.cell(r, c) {
             Cell::Missing => String::new(),
             Cell::Same => "—".into(),
             Cell::Value(f) if self.measure.is_diversion() => format!("{:.3}", f.value),
+            Cell::Value(f) if self.measure.is_correlation() => {
+                if f.std_error.is_finite() {
+                    format!("{:.3}{sep}{:.3}", f.value, f.std_error)
+                } else {
+                    format!("{:.3}", f.value)
+                }
+            }
             Cell::Value(f) => crate::report::value_se(f.value, f.std_error, sep),
         }
     }

@@ -8,9 +8,11 @@
 mod build;
 mod estimates;
 mod matrix;
+mod tastes;
 
 pub use estimates::{estimates, Estimate, Estimates, Term, MEAN_OF_LOG};
 pub use matrix::{Axis, Cell, Holds, Matrix, Measure};
+pub use tastes::{Correlated, Space};
 
 use crate::analysis::random::{Figure, RandomRow};
 use crate::analysis::{Analysis, SegmentShareRow, Validation};
@@ -95,6 +97,9 @@ pub struct Ratio {
     /// When a term varies across decision makers: the ratio's distribution
     /// (`value` is then its median).
     pub distribution: Option<crate::analysis::ratios::RatioDistribution>,
+    /// What the ratio is, when that needs saying (a value over the price of
+    /// a model in willingness-to-pay space).
+    pub note: Option<String>,
 }
 
 impl Ratio {
@@ -113,6 +118,9 @@ pub struct Random {
     pub row: RandomRow,
     /// "mean of log" for a (negative-)lognormal coefficient, else "location".
     pub location_label: &'static str,
+    /// In willingness-to-pay space, what the coefficient is: "the price
+    /// scale" or "a value in cost per unit of time".
+    pub reads: Option<String>,
 }
 
 /// What a test is beyond its statistic.
@@ -162,6 +170,8 @@ pub struct Walk {
     pub price_diversion: Option<Matrix>,
     pub ratios: Vec<Ratio>,
     pub random: Vec<Random>,
+    /// Random coefficients that move together (none when independent).
+    pub correlated: Option<Correlated>,
     pub derived: Vec<Group>,
     pub validation: Validation,
     pub segments: Vec<SegmentShareRow>,
@@ -194,7 +204,8 @@ impl Walk {
             withdrawal: withdrawal(a, &names),
             price_diversion: price_diversion(a, &names),
             ratios: a.ratios.iter().map(ratio).collect(),
-            random: random(fit, a),
+            random: random(spec, fit, a),
+            correlated: tastes::correlated(fit, a.correlations.as_ref()),
             derived: derived(a),
             validation: a.validation.clone(),
             segments: a.segments.clone(),

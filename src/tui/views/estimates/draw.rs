@@ -1,6 +1,8 @@
 //! The estimates view's drawing: the parameter table with its group
 //! headings and interval strips, the cut-point axis, the random
-//! coefficients' spreads, the family's derived figures, and the value ratios.
+//! coefficients' spreads (and the grid of correlated ones), the family's
+//! derived figures, and the value ratios; in willingness-to-pay space a
+//! line saying so and each row's unit.
 
 use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Layout, Rect};
@@ -9,6 +11,7 @@ use ratatui::widgets::{Paragraph, Widget};
 
 use super::{fit_robust, ordered, Shown, State};
 use crate::estimate::Fit;
+use crate::report::walk::Space;
 use crate::report::{num, pval};
 use crate::tui::app::Loaded;
 use crate::tui::part::Ctx;
@@ -45,7 +48,7 @@ pub fn render(st: &State, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
     let ratios = l.analysis.ready().map(|a| a.ratios.as_slice());
     let ratio_h = match ratios {
         Some([]) => 0,
-        Some(r) => r.len() as u16 + 3,
+        Some(r) => (r.len() + r.iter().filter(|x| x.note.is_some()).count()) as u16 + 3,
         None => 3,
     };
     let [table, bottom] =
@@ -63,13 +66,14 @@ pub fn render(st: &State, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
     let block = panel(title, t);
     let inner = block.inner(table);
     block.render(table, buf);
-    let (lines, cursor_line) = table_lines(st, l, inner.width as usize, t);
+    let (lines, cursor_line, pinned) = table_lines(st, l, inner.width as usize, t);
     let height = inner.height as usize;
-    let offset = cursor_line.saturating_sub(height.saturating_sub(1));
+    let offset = cursor_line.saturating_sub(height.saturating_sub(pinned));
     let visible: Vec<Line> = if offset > 0 {
-        std::iter::once(lines[0].clone())
-            .chain(lines.into_iter().skip(offset + 1))
-            .collect()
+        let mut lines = lines;
+        let rest = lines.split_off(pinned);
+        lines.extend(rest.into_iter().skip(offset));
+        lines
     } else {
         lines
     };
@@ -80,7 +84,8 @@ pub fn render(st: &State, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
     }
 }
 
-/// The value ratios with their delta-method and Krinsky-Robb intervals.
+/// The value ratios with their delta-method and Krinsky-Robb intervals, and
+/// a ratio's note below it where it has one.
 fn ratio_panel(
     l: &Loaded,
     ratios: Option<&[crate::analysis::ratios::RatioRow]>,
@@ -127,6 +132,9 @@ fn ratio_panel(
                         t.dim(),
                     ),
                 ]));
+                if let Some(n) = &r.note {
+                    lines.push(Line::from(Span::styled(format!("  ↳ {n}"), t.dim())));
+                }
             }
         }
         None => {
@@ -142,38 +150,30 @@ fn ratio_panel(
 
 /// The table's header and rows (with group headings), then the cut-point
 /// axis, the random coefficients' spreads and the family's derived figures;
-/// and the line the cursor is on.
-fn table_lines(st: &State, l: &Loaded, w: usize, t: &Theme) -> (Vec<Line<'static>>, usize) {
+/// the line the cursor is on and how many lines stay on top when scrolling.
+fn table_lines(st: &State, l: &Loaded, w: usize, t: &Theme) -> (Vec<Line<'static>>, usize, usize) {
     let fit = &l.model.fit;
-    let rows = ordered(fit, st);
+    let rows = ordered(&l.model.spec, fit, st);
     let longest = rows
         .iter()
         .map(|(_, r)| r.name.chars().count())
         .max()
         .unwrap_or(0);
     let (nw, ew, tw, pw, iw) = ((longest + 3).clamp(15, 26), 19, 7, 8, 16);
-    let strip_w = w.saturating_sub(nw + ew + tw + pw + iw + 2).max(5);
-    let mut lines = vec![Line::from(Span::styled(
-        format!(
-            "{}{}{}{}{}  {}",
-            left("parameter", nw),
-            right("value ± s.e.", ew),
-            right("t", tw),
-            right("p", pw),
-            right("95% interval", iw),
-            left(
-                if strip_w >= 34 {
-                    "0 ┆ 95% interval, each row to its own scale"
-                } else if strip_w >= 16 {
-                    "own scale per row"
-                } else {
-                    "own scale"
-                },
-                strip_w
-            )
-        ),
-        t.header(),
-    ))];
+    let uw = rows
+        .iter()
+        .filter_map(|(_, r)| r.unit.as_ref().map(|u| u.chars().count() + 2))
+        .max()
+        .unwrap_or(0)
+        .min(44)
+        .min(w.saturating_sub(nw + ew + tw + pw + iw + 16));
+    let strip_w = w.saturating_sub(nw + ew + tw + pw + iw + uw + 2).max(5);
+    let mut lines = Vec::new();
+    if let Some(space) = Space::of(&l.model.spec, fit) {
+        lines.push(Line::from(Span::styled(space.brief(), t.accent())));
+    }
+    lines.push(header((nw, ew, tw, pw, iw, uw, strip_w), t));
+    let pinned = lines.len();
     let mut cursor_line = 0;
     for (i, (head, r)) in rows.iter().enumerate() {
         if let Some(h) = head {
@@ -193,7 +193,7 @@ fn table_lines(st: &State, l: &Loaded, w: usize, t: &Theme) -> (Vec<Line<'static
         lines.push(row_line(
             r,
             i == st.cursor,
-            (nw, ew, tw, pw, iw, strip_w),
+            (nw, ew, tw, pw, iw, uw, strip_w),
             t,
         ));
         if let Some(m) = r.median {
@@ -207,14 +207,46 @@ fn table_lines(st: &State, l: &Loaded, w: usize, t: &Theme) -> (Vec<Line<'static
         }
     }
     lines.extend(extras(&rows, l, w, t));
-    (lines, cursor_line)
+    (lines, cursor_line, pinned)
 }
 
-/// One parameter's row: name, value ± s.e., t, p, interval and its strip.
+/// The columns' widths: name, value, t, p, interval, unit (0 without), strip.
+type Widths = (usize, usize, usize, usize, usize, usize, usize);
+
+/// The table's header: each column's heading in its width.
+fn header((nw, ew, tw, pw, iw, uw, strip_w): Widths, t: &Theme) -> Line<'static> {
+    let unit = if uw > 0 {
+        "  price scale or value in"
+    } else {
+        ""
+    };
+    let strip = if strip_w >= 34 {
+        "0 ┆ 95% interval, each row to its own scale"
+    } else if strip_w >= 16 {
+        "own scale per row"
+    } else {
+        "own scale"
+    };
+    Line::from(Span::styled(
+        format!(
+            "{}{}{}{}{}{}  {}",
+            left("parameter", nw),
+            right("value ± s.e.", ew),
+            right("t", tw),
+            right("p", pw),
+            right("95% interval", iw),
+            left(unit, uw),
+            left(strip, strip_w)
+        ),
+        t.header(),
+    ))
+}
+
+/// One parameter's row: name, value ± s.e., t, p, interval, unit and its strip.
 fn row_line(
     r: &Shown,
     at_cursor: bool,
-    (nw, ew, tw, pw, iw, strip_w): (usize, usize, usize, usize, usize, usize),
+    (nw, ew, tw, pw, iw, uw, strip_w): Widths,
     t: &Theme,
 ) -> Line<'static> {
     let value = if r.fixed {
@@ -243,7 +275,12 @@ fn row_line(
     } else {
         Default::default()
     };
-    let mut spans = vec![Span::styled(text, style), Span::raw("  ")];
+    let mut spans = vec![Span::styled(text, style)];
+    if uw > 0 {
+        let unit = format!("  {}", r.unit.as_deref().unwrap_or(""));
+        spans.push(Span::styled(left(&unit, uw), t.dim()));
+    }
+    spans.push(Span::raw("  "));
     spans.extend(interval_strip(r.low, r.estimate, r.high, strip_w, t).spans);
     Line::from(spans)
 }
@@ -267,7 +304,11 @@ fn extras(rows: &[(Option<String>, Shown)], l: &Loaded, w: usize, t: &Theme) -> 
             w.saturating_sub(2),
         ));
     }
-    lines.extend(spreads(fit, w.saturating_sub(2), t));
+    let space = Space::of(&l.model.spec, fit);
+    lines.extend(spreads(fit, space.as_ref(), w.saturating_sub(2), t));
+    if let Some(c) = l.walk.as_ref().and_then(|w| w.correlated.as_ref()) {
+        lines.extend(super::tastes::grid(c, w.saturating_sub(2), t));
+    }
     if let Some(a) = l.analysis.ready() {
         lines.extend(derived(&a.derived, t));
     }
@@ -325,7 +366,7 @@ fn derived(rows: &[crate::analysis::DerivedRow], t: &Theme) -> Vec<Line<'static>
 /// Each random coefficient's distribution across decision makers as a row of
 /// bars between its 0.5% and 99.5% points, zero marked `┃` where it falls
 /// inside, and the share below zero.
-fn spreads(fit: &Fit, width: usize, t: &Theme) -> Vec<Line<'static>> {
+fn spreads(fit: &Fit, space: Option<&Space>, width: usize, t: &Theme) -> Vec<Line<'static>> {
     let terms = fit.family.random_coefficients();
     if terms.is_empty() {
         return Vec::new();
@@ -362,13 +403,17 @@ fn spreads(fit: &Fit, width: usize, t: &Theme) -> Vec<Line<'static>> {
                 }
             })
             .collect();
-        out.push(Line::from(format!(
+        let mut line = Line::from(format!(
             "  {}{} {bars} {}   below 0: {:.1}%",
             left(&fit.names[term.location], name_w),
             right(&short(h.low), 8),
             short(h.high),
             100.0 * h.below_zero
-        )));
+        ));
+        if let Some(reads) = space.and_then(|s| s.reads(term.location)) {
+            line.push_span(Span::styled(format!("   {reads}"), t.dim()));
+        }
+        out.push(line);
     }
     out
 }

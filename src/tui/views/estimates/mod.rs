@@ -1,15 +1,19 @@
 //! The estimates view: the parameter table grouped by spec term, with a
 //! strip per row that shows where the interval lies against zero, the
-//! choice of classical or robust errors, sorting, and the value ratios.
+//! choice of classical or robust errors, sorting, and the value ratios; in
+//! willingness-to-pay space each row's unit, and for correlated tastes a
+//! grid of their correlations.
 
 mod draw;
+mod tastes;
 
 use ratatui::buffer::Buffer;
 use ratatui::layout::Rect;
 
 use crate::analysis::random::{log_median, Figure};
 use crate::estimate::{Fit, ParameterRow};
-use crate::report::walk::MEAN_OF_LOG;
+use crate::report::walk::{Space, MEAN_OF_LOG};
+use crate::spec::Spec;
 use crate::tui::keys::Action;
 use crate::tui::part::{Ctx, Key, Reply, View};
 
@@ -68,6 +72,8 @@ pub struct Shown {
     /// Where the value is the mean of the logarithm of a (negative-)lognormal
     /// coefficient: the coefficient's median across decision makers ± s.e.
     pub median: Option<Figure>,
+    /// In willingness-to-pay space: "price scale" or the unit of a value.
+    pub unit: Option<String>,
 }
 
 /// Whether the fit's own t, p and intervals use robust errors.
@@ -96,13 +102,15 @@ pub fn shown(r: &ParameterRow, robust: bool, fit_is_robust: bool) -> Shown {
         fixed: r.fixed,
         null: r.null,
         median: None,
+        unit: None,
     }
 }
 
 /// The rows in display order: (group heading, row) where a heading starts a group.
-pub fn ordered(fit: &Fit, st: &State) -> Vec<(Option<String>, Shown)> {
+pub fn ordered(spec: &Spec, fit: &Fit, st: &State) -> Vec<(Option<String>, Shown)> {
     let robust = st.robust.unwrap_or_else(|| fit_robust(fit));
     let logs = fit.family.random_coefficients();
+    let space = Space::of(spec, fit);
     let rows: Vec<Shown> = fit
         .parameters
         .iter()
@@ -114,6 +122,7 @@ pub fn ordered(fit: &Fit, st: &State) -> Vec<(Option<String>, Shown)> {
             if s.median.is_some() {
                 s.name = format!("{} ({MEAN_OF_LOG})", s.name);
             }
+            s.unit = space.as_ref().and_then(|w| w.unit(k)).map(str::to_string);
             s
         })
         .collect();

@@ -82,14 +82,18 @@ pub struct ModelFigures {
 }
 
 /// Splits the progress reports (seconds since the fit began, phase) into
-/// stages: a stage is a run of quasi-Newton reports then Newton reports, so a
-/// quasi-Newton report after a Newton one opens the next; the first stage of
-/// a fit that starts from the logit is Newton's alone.
+/// stages: a stage is a run of quasi-Newton reports then Newton reports, or
+/// of the quasi-Newton reports of a search for a start alone
+/// (`optimise::APPROACH`), so any other change of phase opens the next; the
+/// first stage of a fit that starts from the logit is Newton's alone.
 fn stages(steps: &[(f64, &'static str)], names: &[&'static str]) -> Vec<Stage> {
     let mut out: Vec<Stage> = Vec::new();
     let mut last = "";
     for &(t, phase) in steps {
-        let opens = out.is_empty() || (phase == "quasi-Newton" && last == "Newton");
+        // A search's quasi-Newton reports are followed by its Newton ones;
+        // any other change of phase opens the next stage.
+        let opens =
+            out.is_empty() || (phase != last && !(last == "quasi-Newton" && phase == "Newton"));
         if opens {
             if let Some(prev) = out.last_mut() {
                 prev.seconds = t - prev.seconds;
@@ -184,7 +188,7 @@ pub fn measure(o: &MixedOptions, dir: &Path) -> Result<ExitCode> {
         o.repeats,
         &[
             "logit",
-            "independent mixed (Cholesky entries held at 0)",
+            "independent mixed, approached (Cholesky entries held at 0)",
             "correlated mixed",
         ],
     )?;

@@ -21,6 +21,9 @@ use crate::model::{Eval, Family};
 /// Tolerance on the Newton decrement g' (-H)^-1 g (log-likelihood units).
 pub const NEWTON_TOLERANCE: f64 = 1e-10;
 
+/// The phase `approach` reports: a quasi-Newton search for a start.
+pub const APPROACH: &str = "quasi-Newton (start)";
+
 /// The most passes over the data the quasi-Newton phase (with its line
 /// searches) may take: past it the phase stops with a named failure rather than
 /// searching for ever (huge start values can leave a line search without a
@@ -71,6 +74,8 @@ struct Objective<'a> {
     passes: &'a AtomicUsize,
     progress: Progress<'a>,
     iteration: AtomicUsize,
+    /// The phase its progress reports name.
+    phase: &'static str,
 }
 
 impl<'a> Objective<'a> {
@@ -93,6 +98,7 @@ impl<'a> Objective<'a> {
             passes,
             progress,
             iteration: AtomicUsize::new(0),
+            phase: "quasi-Newton",
         }
     }
 
@@ -135,7 +141,7 @@ impl<'a> Objective<'a> {
             .sum::<f64>()
             .sqrt();
         (self.progress)(Step {
-            phase: "quasi-Newton",
+            phase: self.phase,
             iteration: self.iteration.load(Ordering::Relaxed),
             log_likelihood: e.ll,
             gradient_norm: gn,
@@ -278,7 +284,8 @@ pub fn approach(
 ) -> Outcome {
     let passes = AtomicUsize::new(1);
     let h0 = crate::model::hessian::outer_product(family, d, start, free);
-    let objective = Objective::new(d, family, free, start, &passes, progress);
+    let mut objective = Objective::new(d, family, free, start, &passes, progress);
+    objective.phase = APPROACH;
     let (beta, bfgs_iterations, note) = quasi_newton(
         &objective,
         start.to_vec(),

@@ -650,8 +650,13 @@ fn a_page_is_built_for_every_registered_family() {
         if let Some(t) = random {
             let rs = rows(t);
             for r in &a.random_coefficients {
+                // In willingness space the label goes on to say what the
+                // coefficient is (the price scale, or a value and its unit).
                 let label = format!("{} ({})", r.coefficient, r.distribution);
-                let shown = &row(&rs, &label)[1];
+                let shown = &rs
+                    .iter()
+                    .find(|x| x.first().is_some_and(|c| c.starts_with(&label)))
+                    .unwrap_or_else(|| panic!("{}: no row `{label}`", e.name))[1];
                 assert!(
                     shown.starts_with(&format!("{:.4}", r.mean.value)),
                     "{}: mean of {} shown as {shown}",

@@ -196,6 +196,24 @@ impl Gradient for Negated<'_, '_> {
 }
 
 /// The free block of the negative Hessian.
+/// The negative Hessian (free block, log-likelihood units) that a
+/// quasi-Newton inverse Hessian of the scaled objective stands for, when it
+/// is positive definite.
+fn learnt(inv: Option<&[Vec<f64>]>, scale: f64) -> Option<DMatrix<f64>> {
+    let inv = inv?;
+    let m = inv.len();
+    if m == 0
+        || inv
+            .iter()
+            .any(|r| r.len() != m || r.iter().any(|v| !v.is_finite()))
+    {
+        return None;
+    }
+    let sym = DMatrix::from_fn(m, m, |a, b| 0.5 * (inv[a][b] + inv[b][a]));
+    let h = sym.cholesky()?.inverse() / scale;
+    h.iter().all(|v| v.is_finite()).then_some(h)
+}
+
 pub fn negative_free_hessian(hess: &[f64], k: usize, free: &[usize]) -> DMatrix<f64> {
     let m = free.len();
     DMatrix::from_fn(m, m, |a, b| -hess[free[a] * k + free[b]])
@@ -228,20 +246,27 @@ fn initial_inverse(h0: &DMatrix<f64>) -> Vec<Vec<f64>> {
     }
 }
 
-/// The quasi-Newton phase from `beta`; returns the best point, the iterations
-/// and a note when it stopped early.
-fn quasi_newton(
-    objective: &Objective,
-    beta: Vec<f64>,
-    inv0: Vec<Vec<f64>>,
-) -> (Vec<f64>, usize, Option<String>) {
+/// What the quasi-Newton phase ends with: the best point, the iterations, a
+/// note when it stopped early, and its last inverse Hessian (of the scaled
+/// objective) when it finished normally.
+type QuasiNewton = (Vec<f64>, usize, Option<String>, Option<Vec<Vec<f64>>>);
+
+/// The quasi-Newton phase from `beta`.
+fn quasi_newton(objective: &Objective, beta: Vec<f64>, inv0: Vec<Vec<f64>>) -> QuasiNewton {
     let x0: Vec<f64> = objective.free.iter().map(|&i| beta[i]).collect();
     let solver = BFGS::new(MoreThuenteLineSearch::new())
         .with_tolerance_grad(1e-7)
         .and_then(|s| s.with_tolerance_cost(1e-13));
     let solver = match solver {
         Ok(s) => s,
-        Err(e) => return (beta, 0, Some(format!("quasi-Newton setup failed: {e}"))),
+        Err(e) => {
+            return (
+                beta,
+                0,
+                Some(format!("quasi-Newton setup failed: {e}")),
+                None,
+            )
+        }
     };
     let run = Executor::new(Negated(objective), solver)
         .configure(|state| state.param(x0).inv_hessian(inv0).max_iters(300))
@@ -249,11 +274,12 @@ fn quasi_newton(
     match run {
         Ok(mut res) => {
             let iterations = res.state().get_iter() as usize;
+            let inv = res.state.take_inv_hessian();
             match res.state.take_best_param() {
                 Some(best) if best.iter().all(|v| v.is_finite()) => {
-                    (objective.full(&best), iterations, None)
+                    (objective.full(&best), iterations, None, inv)
                 }
-                _ => (beta, iterations, None),
+                _ => (beta, iterations, None, None),
             }
         }
         Err(e) => {
@@ -268,6 +294,7 @@ fn quasi_newton(
                 Some(format!(
                     "the quasi-Newton phase stopped early ({e}); Newton steps continued"
                 )),
+                None,
             )
         }
     }
@@ -286,7 +313,7 @@ pub fn approach(
     let h0 = crate::model::hessian::outer_product(family, d, start, free);
     let mut objective = Objective::new(d, family, free, start, &passes, progress);
     objective.phase = APPROACH;
-    let (beta, bfgs_iterations, note) = quasi_newton(
+    let (beta, bfgs_iterations, note, _) = quasi_newton(
         &objective,
         start.to_vec(),
         initial_inverse(&(&h0 * objective.scale)),
@@ -359,11 +386,14 @@ pub fn maximise(
     };
     passes.fetch_add(1, Ordering::Relaxed);
     let objective = Objective::new(d, family, free, &beta, &passes, progress);
-    let (beta, bfgs_iterations, note) =
+    let (beta, bfgs_iterations, note, inv) =
         quasi_newton(&objective, beta, initial_inverse(&(&h0 * objective.scale)));
-    // A family without an analytic Hessian reuses the one differenced at the
-    // start (each costs two gradient passes per parameter) until a step fails.
-    let reuse = (!family.abilities().analytic_hessian).then_some(h0);
+    // A family without an analytic Hessian reuses a metric (each differenced
+    // Hessian costs two gradient passes per parameter) until a step fails:
+    // the quasi-Newton phase's last one, which has learnt the curvature near
+    // the optimum, else the one the search started with.
+    let reuse = (!family.abilities().analytic_hessian)
+        .then(|| learnt(inv.as_deref(), objective.scale).unwrap_or(h0));
     let mut out = newton(d, family, beta, free, progress, &passes, reuse);
     out.bfgs_iterations = bfgs_iterations;
     if out.note.is_none() {

@@ -35,6 +35,14 @@ pub struct RandomRow {
     pub distribution: String,
     pub location: f64,
     pub spread: f64,
+    /// Correlated with other random coefficients (`[model].correlated`):
+    /// `spread` is then its Cholesky row's diagonal entry, and the standard
+    /// deviation of its underlying normal is `underlying_std_dev`.
+    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    pub correlated: bool,
+    /// The standard deviation of the underlying distribution (of the
+    /// logarithm, for a lognormal): |spread|, or its Cholesky row's length.
+    pub underlying_std_dev: f64,
     pub mean: Figure,
     pub std_dev: Figure,
     pub median: Figure,
@@ -55,8 +63,12 @@ fn figures(t: &RandomCoefficient, beta: &[f64]) -> Vec<f64> {
 
 /// Every random coefficient of the fit's family (none for fixed coefficients).
 pub fn rows(fit: &Fit) -> Vec<RandomRow> {
-    fit.family
-        .random_coefficients()
+    let terms = fit.family.random_coefficients();
+    let grouped: Vec<usize> = crate::model::correlated_group(&terms)
+        .into_iter()
+        .map(|i| terms[i].location)
+        .collect();
+    terms
         .iter()
         .map(|t| {
             let value = figures(t, &fit.beta);
@@ -71,6 +83,8 @@ pub fn rows(fit: &Fit) -> Vec<RandomRow> {
                 distribution: t.distribution.name().to_string(),
                 location: fit.beta[t.location],
                 spread: fit.beta[t.spread],
+                correlated: grouped.contains(&t.location),
+                underlying_std_dev: t.scale(&fit.beta),
                 mean: fig(0),
                 std_dev: fig(1),
                 median: fig(2),

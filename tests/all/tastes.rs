@@ -207,6 +207,19 @@ fn correlated_and_willingness_estimates_match_the_reference() {
         classical.robust_covariance = classical.covariance.clone();
         let reported = sharecast::analysis::correlation::correlations(&classical).unwrap();
         assert_eq!(reported.coefficients, list, "{name}: Cholesky order");
+        // Each listed coefficient's row says it is correlated and gives its
+        // normal's standard deviation, the diagonal's square root of L L'.
+        let rows = sharecast::analysis::random::rows(&classical);
+        for (k, coefficient) in list.iter().enumerate() {
+            let row = rows.iter().find(|r| &r.coefficient == coefficient).unwrap();
+            assert!(row.correlated, "{name}: {coefficient}");
+            assert_close(
+                &format!("{name}: {coefficient} s.d."),
+                row.underlying_std_dev,
+                reported.std_devs[k].value,
+                1e-12,
+            );
+        }
         let ses = c["correlation_std_errors"].as_array().unwrap();
         for (i, row) in c["correlations_at_estimates"]
             .as_array()

@@ -101,10 +101,18 @@ impl Section for Tastes {
                 Some(reads) => format!(" · {reads}"),
                 None => String::new(),
             };
+            let spread = if r.correlated {
+                format!(
+                    "Cholesky diagonal {:.4}, its normal's s.d. {:.4}",
+                    r.spread, r.underlying_std_dev
+                )
+            } else {
+                format!("spread {:.4}", r.spread)
+            };
             let _ = writeln!(
                 s,
-                "  {} · {} ({} {:.4}, spread {:.4}){what}",
-                r.coefficient, r.distribution, x.location_label, r.location, r.spread
+                "  {} · {} ({} {:.4}, {spread}){what}",
+                r.coefficient, r.distribution, x.location_label, r.location
             );
             let _ = writeln!(
                 s,

@@ -257,23 +257,13 @@ impl Family for Mixed {
         // between 0.01 and 100) the floors are those of unit variables.
         // In willingness space a value moves utility by the price scale times
         // its variable.
-        let alpha = match &self.space {
-            None => 1.0,
-            Some(w) => {
-                let log = self.terms.iter().any(|t| t.location == w.price);
-                let a = beta[w.price];
-                let a = if by_simpler || !log {
-                    a.abs()
-                } else {
-                    a.min(700.0).exp()
-                };
-                if a > 0.0 && a.is_finite() {
-                    a
-                } else {
-                    1.0
-                }
-            }
-        };
+        // (Just mapped from the preference logit, the price's parameter is
+        // alpha itself, not yet its logarithm.)
+        let alpha = match (&self.space, by_simpler) {
+            (Some(w), true) => Some(beta[w.price].abs()).filter(|a| *a > 0.0 && a.is_finite()),
+            _ => super::space::price_scale(self, beta),
+        }
+        .unwrap_or(1.0);
         let unit = |p: usize| {
             let value = self.space.as_ref().is_some_and(|w| w.values.contains(&p));
             let s = super::hessian::variable_spread(d, p) * if value { alpha } else { 1.0 };

@@ -130,13 +130,13 @@ pub struct DerivedRow {
 
 /// The family's derived figures at the estimates with delta-method errors.
 pub fn derived(spec: &Spec, fit: &Fit) -> Vec<DerivedRow> {
-    let rows = fit.family.derived(spec, &fit.beta);
+    let rows = fit.family.derived(spec, &fit.design, &fit.beta);
     if rows.is_empty() {
         return Vec::new();
     }
     let f = |b: &[f64]| -> Vec<f64> {
         fit.family
-            .derived(spec, b)
+            .derived(spec, &fit.design, b)
             .into_iter()
             .map(|r| r.value)
             .collect()

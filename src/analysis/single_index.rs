@@ -40,6 +40,7 @@ fn unordered(spec: &Spec) -> Spec {
         fixed: None,
         null: 0.0,
         in_reference: false,
+        class: 0,
     };
     for a in 1..j {
         parameters.push(param(

@@ -33,7 +33,8 @@ pub struct Observations {
     pub groups: usize,
     /// One array per spec attribute, `[i * J + j]`; 0 where absent or unavailable.
     pub attributes: Vec<Vec<f64>>,
-    /// One array per spec characteristic, one value per situation.
+    /// One array per spec characteristic, one value per situation, then
+    /// one per family column (`Spec::family_columns`).
     pub characteristics: Vec<Vec<f64>>,
     /// The file row (from 1) where each situation starts.
     pub first_row: Vec<usize>,
@@ -172,6 +173,9 @@ fn columns(spec: &Spec, extra: &Extra, choices: bool) -> (Vec<String>, Vec<Strin
     }
     for c in &spec.characteristics {
         add(&mut numeric, &c.column);
+    }
+    for (c, _) in &spec.family_columns {
+        add(&mut numeric, c);
     }
     if let Some(crate::spec::Holdout::Column(c)) = &spec.holdout {
         add(&mut numeric, c);

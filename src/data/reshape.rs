@@ -208,9 +208,8 @@ pub(super) fn wide(spec: &Spec, table: &Table, choice: &str) -> Result<Observati
         attributes.push(x);
     }
     let mut characteristics = Vec::with_capacity(spec.characteristics.len());
-    for c in &spec.characteristics {
-        let role = format!("characteristic {}", c.name);
-        characteristics.push(table.numbers(&c.column, &role)?.to_vec());
+    for (column, role) in situation_columns(spec) {
+        characteristics.push(table.numbers(&column, &role)?.to_vec());
     }
     let rows: Vec<usize> = (0..n).collect();
     let (weight, weight_total) = weights(spec, table, &rows)?;
@@ -228,4 +227,14 @@ pub(super) fn wide(spec: &Spec, table: &Table, choice: &str) -> Result<Observati
         characteristics,
         first_row: rows.iter().map(|r| table.offset + r + 1).collect(),
     })
+}
+
+/// The columns read once per situation, with their roles for messages: the
+/// characteristics, then the family's own columns.
+pub(crate) fn situation_columns(spec: &Spec) -> Vec<(String, String)> {
+    spec.characteristics
+        .iter()
+        .map(|c| (c.column.clone(), format!("characteristic {}", c.name)))
+        .chain(spec.family_columns.iter().cloned())
+        .collect()
 }

@@ -63,6 +63,11 @@ impl Design {
         let nalt = spec.alternatives.len();
         let mut features = vec![Vec::new(); nalt];
         for (k, p) in spec.parameters.iter().enumerate() {
+            if p.class > 1 {
+                // Another latent class's copy: its family maps it onto the
+                // first class's features.
+                continue;
+            }
             match &p.term {
                 Term::Constant => {
                     if let Some(j) = p.alternative {

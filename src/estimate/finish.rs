@@ -289,5 +289,6 @@ fn statistics(
             "classical"
         }
         .to_string(),
+        starts: out.starts.clone(),
     }
 }

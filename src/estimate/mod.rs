@@ -116,6 +116,9 @@ pub struct FitStats {
     pub estimated_parameters: usize,
     /// "robust" when `[data].group` is set, else "classical": which errors t, p and intervals use.
     pub inference: String,
+    /// How the family's own starts fared (a latent class model's EM starts).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub starts: Option<crate::model::Starts>,
 }
 
 #[derive(Clone, Debug, Serialize, Deserialize)]
@@ -260,6 +263,15 @@ fn search(
     free: &[usize],
     progress: Progress,
 ) -> optimise::Outcome {
+    // A family may run its own starts (a latent class model's EM).
+    if let Some((start, starts)) = family.search_starts(spec, design, &start, free) {
+        let mut out = optimise::maximise(design, &**family, &start, free, progress);
+        if family.canonical(design, &mut out.beta) {
+            out.hessian = None; // of the parameters in their former order
+        }
+        out.starts = Some(starts);
+        return out;
+    }
     // A family may start from a simpler model: its own parameters held first.
     let held = family.held_in_first_search();
     let first: Vec<usize> = free.iter().copied().filter(|p| !held.contains(p)).collect();
@@ -362,6 +374,7 @@ pub fn restore(spec: &Spec, obs: Arc<Observations>, doc: &document::FitDocument)
         note: None,
         restart: None,
         hessian: None,
+        starts: f.starts.clone(),
     };
     let constants_ll = Some(f.constants_log_likelihood).filter(|x| x.is_finite());
     finish::finish(spec, obs, design, family, free, out, started, constants_ll)

@@ -26,9 +26,7 @@ pub(super) fn newton(
 ) -> Outcome {
     let mut s = Newton::new(d, family, free, passes, reuse);
     let m = free.len();
-    let mut note = None;
-    let mut newton_steps = 0;
-    let mut converged = false;
+    let (mut note, mut newton_steps, mut converged) = (None, 0, false);
     let mut criterion = f64::INFINITY;
     let mut stalls = 0;
     let mut e = s.eval(&beta);
@@ -93,6 +91,7 @@ pub(super) fn newton(
         note,
         restart: None,
         hessian: confirmed,
+        starts: None,
     }
 }
 

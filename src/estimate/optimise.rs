@@ -59,6 +59,8 @@ pub struct Outcome {
     /// an analytic one at the estimates, or the differenced one that confirmed
     /// convergence, at the estimates up to the last tiny Newton step.
     pub hessian: Option<Vec<f64>>,
+    /// How the family's own starts fared, when it ran them.
+    pub starts: Option<crate::model::Starts>,
 }
 
 struct Objective<'a> {
@@ -336,6 +338,7 @@ pub fn approach(
         note,
         restart: None,
         hessian: None,
+        starts: None,
     }
 }
 
@@ -364,6 +367,7 @@ pub fn maximise(
             note: None,
             restart: None,
             hessian: None,
+            starts: None,
         };
     }
     // With an analytic Hessian, Newton's method from the start: a logit's

@@ -126,6 +126,7 @@ struct Mix {
     points: Arc<dyn Points>,
     k: usize,
     coefs: Vec<f64>,
+    weights: Vec<f64>,
     v0: Vec<f64>,
     p0: Vec<f64>,
     v1: Vec<f64>,
@@ -139,6 +140,7 @@ impl Mix {
             points,
             k,
             coefs: vec![0.0; r * k],
+            weights: vec![0.0; r],
             v0: vec![0.0; j],
             p0: vec![0.0; j],
             v1: vec![0.0; m],
@@ -161,12 +163,11 @@ impl Mix {
         p1: &mut [f64],
     ) {
         self.points.fill(beta, i, &mut self.coefs);
-        let r = self.points.count();
-        let share = 1.0 / r as f64;
+        self.points.weights(beta, i, &mut self.weights);
         let j = self.v0.len();
         p0.iter_mut().for_each(|x| *x = 0.0);
         p1.iter_mut().for_each(|x| *x = 0.0);
-        for c in self.coefs.chunks(self.k) {
+        for (c, &share) in self.coefs.chunks(self.k).zip(&self.weights) {
             d.utilities(c, i, &mut self.v0);
             family.probabilities(c, &self.v0, &mut self.p0);
             p0[..j]
@@ -275,13 +276,17 @@ impl<'a> Enumeration<'a> {
             let mut state = init(&range);
             let r = self.mixture.as_ref().map(|m| m.count()).unwrap_or(1);
             let mut coefs = vec![0.0; r * k];
+            let mut weights = vec![1.0; r];
             let (mut v, mut p) = (vec![0.0; j], vec![0.0; j]);
             for i in range {
                 match &self.mixture {
-                    Some(m) => m.fill(beta, i, &mut coefs),
+                    Some(m) => {
+                        m.fill(beta, i, &mut coefs);
+                        m.weights(beta, i, &mut weights);
+                    }
                     None => coefs.copy_from_slice(beta),
                 }
-                for c in coefs.chunks(k) {
+                for (c, &weight) in coefs.chunks(k).zip(&weights) {
                     match (self.baseline, &self.mixture) {
                         (Some(b), None) => {
                             v.copy_from_slice(&b.utilities[i * j..(i + 1) * j]);
@@ -294,7 +299,7 @@ impl<'a> Enumeration<'a> {
                     }
                     let point = Point {
                         i,
-                        weight: 1.0 / r as f64,
+                        weight,
                         coefficients: c,
                         v: &v,
                         p: &p,

@@ -94,6 +94,7 @@ pub fn outer_product(
 /// of a coefficient's logarithm are unitless (scale 1).
 pub fn scales(family: &dyn Family, d: &Design) -> Vec<f64> {
     let mut out: Vec<f64> = (0..d.params).map(|p| variable_spread(d, p)).collect();
+    family.adjust_scales(d, &mut out);
     for rc in family.random_coefficients() {
         if rc.location >= out.len() {
             continue;

@@ -10,6 +10,7 @@
 //! Code outside this room asks a family what it can do and never matches on
 //! which family it is.
 
+pub mod classes;
 pub mod distribution;
 pub mod draws;
 pub mod enumerate;
@@ -332,9 +333,53 @@ pub trait Family: Send + Sync + std::fmt::Debug {
     /// Figures the family derives from its parameters, reported with
     /// delta-method errors (the multinomial probit's implied error covariance
     /// and correlations); the same list, in the same order, at any `beta`.
-    fn derived(&self, spec: &Spec, beta: &[f64]) -> Vec<Derived> {
-        let _ = (spec, beta);
+    fn derived(&self, spec: &Spec, d: &Design, beta: &[f64]) -> Vec<Derived> {
+        let _ = (spec, d, beta);
         Vec::new()
+    }
+
+    /// A search the family starts itself from several points (a latent
+    /// class model's EM runs from random starts): the best point found,
+    /// from which maximum likelihood continues, and how the starts fared.
+    /// `None` (the default): the search starts from `start`.
+    fn search_starts(
+        &self,
+        spec: &Spec,
+        d: &Design,
+        start: &[f64],
+        free: &[usize],
+    ) -> Option<(Vec<f64>, Starts)> {
+        let _ = (spec, d, start, free);
+        None
+    }
+
+    /// Puts estimates identified only up to a relabelling into the family's
+    /// one order (latent classes by their share, largest first), in place;
+    /// `true` when they moved (the likelihood is the same).
+    fn canonical(&self, d: &Design, beta: &mut [f64]) -> bool {
+        let _ = (d, beta);
+        false
+    }
+
+    /// Adjusts `scales` (each parameter's size in the data's units, from
+    /// `hessian::scales`) for parameters the design's features do not name:
+    /// another latent class's copy takes its first class's scale.
+    fn adjust_scales(&self, d: &Design, scales: &mut [f64]) {
+        let _ = (d, scales);
+    }
+
+    /// Latent classes: each decision maker's probabilities of belonging to
+    /// each class given their choices (`None`: the family has no classes).
+    fn posterior_classes(&self, d: &Design, beta: &[f64]) -> Option<Posteriors> {
+        let _ = (d, beta);
+        None
+    }
+
+    /// Latent classes: each situation's prior class shares (the membership
+    /// model's), `[i * classes + c]` (`None`: the family has no classes).
+    fn prior_classes(&self, d: &Design, beta: &[f64]) -> Option<Posteriors> {
+        let _ = (d, beta);
+        None
     }
 
     /// Lines describing the model's structure for reports and the workbench
@@ -354,6 +399,14 @@ pub trait Points: Send + Sync {
     fn count(&self) -> usize;
     /// The `count()` coefficient vectors of situation `i` into `out` (rows of K).
     fn fill(&self, beta: &[f64], i: usize, out: &mut [f64]);
+    /// Each point's weight in situation `i`'s average (summing to 1): equal
+    /// for simulation draws (the default), the class shares of a latent
+    /// class model.
+    fn weights(&self, beta: &[f64], i: usize, out: &mut [f64]) {
+        let _ = (beta, i);
+        let r = out.len().max(1) as f64;
+        out.iter_mut().for_each(|w| *w = 1.0 / r);
+    }
 }
 
 /// A coefficient that varies across decision makers: its location and spread
@@ -424,6 +477,39 @@ pub struct Conditional {
     /// Per decision maker, the conditional mean of each random coefficient
     /// (in `random_coefficients` order), `[unit * D + d]`.
     pub means: Vec<f64>,
+}
+
+/// How a family's own multi-start search fared (`Family::search_starts`).
+#[derive(Clone, Debug, Default, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct Starts {
+    /// Starts run.
+    pub tried: usize,
+    /// Starts that ended within `tolerance` of the best log-likelihood.
+    pub reached_best: usize,
+    pub tolerance: f64,
+    /// The log-likelihood each start ended at, in start order.
+    pub log_likelihoods: Vec<f64>,
+    /// Seconds each start took.
+    pub seconds: Vec<f64>,
+    /// The start the search continued from (from 0).
+    pub best: usize,
+    /// Starts stopped because a class ran off towards a maximum at infinity
+    /// (they are passed over when another start stayed inside).
+    #[serde(default)]
+    pub ran_off: usize,
+    /// The seed of the starts.
+    pub seed: u64,
+}
+
+/// Decision makers' class probabilities (`Family::posterior_classes`, `prior_classes`).
+#[derive(Clone, Debug, Default)]
+pub struct Posteriors {
+    pub classes: usize,
+    /// The first situation of each decision maker (to name them); for prior
+    /// shares, every situation.
+    pub first: Vec<usize>,
+    /// `[unit * classes + c]`.
+    pub probabilities: Vec<f64>,
 }
 
 /// A figure derived from a family's parameters (`Family::derived`).

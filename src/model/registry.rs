@@ -5,7 +5,7 @@
 use std::path::Path;
 use std::sync::Arc;
 
-use super::{logit, mixed, mnp, nested, ordered, probit, FamilyRef};
+use super::{classes, logit, mixed, mnp, nested, ordered, probit, FamilyRef};
 use crate::error::{Error, Result};
 use crate::spec::{Catalog, FamilyRules, Spec};
 
@@ -139,6 +139,20 @@ pub static FAMILIES: &[Entry] = &[
             ("asc_a1_spread", 1.0),
             ("chol_asc_a1_x", 0.6),
         ],
+    },
+    // Two latent classes, shares constant, apart in x's coefficient alone,
+    // the constants and the characteristic's coefficients common to both (a
+    // cross-section identifies the classes only from the shape of the
+    // choice probabilities).
+    Entry {
+        name: "latent-class",
+        rules: &classes::Rules,
+        build: |spec| Ok(Arc::new(classes::LatentClass::new(spec)?)),
+        example_alternatives: 4,
+        example_spec: "",
+        example_attribute: "",
+        example_model: "classes = 2\nstarts = 4\ncommon = [\"asc_a1\", \"asc_a2\", \"asc_a3\", \"z_a1\", \"z_a2\", \"z_a3\"]\n",
+        example_truth: &[("x_class2", -2.5), ("member_class2", -0.3)],
     },
 ];
 

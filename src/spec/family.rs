@@ -22,6 +22,27 @@ pub struct FamilyParameter {
     pub in_reference: bool,
 }
 
+/// The copies of the linear utility a family estimates (`FamilyRules::copies`).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Copies {
+    /// 1: the utility once (every family but a latent class model).
+    pub count: usize,
+    /// Linear parameters that all copies share, by name (one parameter each).
+    pub common: Vec<String>,
+    /// The key `common` came from, for messages.
+    pub common_key: &'static str,
+}
+
+impl Default for Copies {
+    fn default() -> Self {
+        Copies {
+            count: 1,
+            common: Vec::new(),
+            common_key: "",
+        }
+    }
+}
+
 /// The validated spec as far as it is known when the family is asked.
 pub struct SpecView<'a> {
     pub layout: &'a Layout,
@@ -63,6 +84,19 @@ pub trait FamilyRules: Sync {
     fn check_parameters(&self, parameters: &[super::Parameter]) -> Result<(), String> {
         let _ = parameters;
         Ok(())
+    }
+    /// How many copies of the linear utility's parameters the family
+    /// estimates (one per latent class) and which of them all copies share,
+    /// read from its keys before the parameters are listed. An error names the key.
+    fn copies(&self, keys: &Table) -> Result<Copies, String> {
+        let _ = keys;
+        Ok(Copies::default())
+    }
+    /// Data columns the family reads per situation beyond the utility's
+    /// terms, each with the role messages name it by (`[model].membership`).
+    fn columns(&self, keys: &Table) -> Vec<(String, String)> {
+        let _ = keys;
+        Vec::new()
     }
     /// Checks the family's constraints and keys; returns the parameters it adds.
     /// An error is a message naming the key at fault.

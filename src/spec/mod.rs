@@ -11,7 +11,7 @@ mod validate;
 use std::path::{Path, PathBuf};
 
 pub use expr::Expr;
-pub use family::{Catalog, FamilyParameter, FamilyRules, SpecView};
+pub use family::{Catalog, Copies, FamilyParameter, FamilyRules, SpecView};
 pub use restriction::parse_restriction;
 pub use validate::parse_targets;
 
@@ -103,6 +103,10 @@ pub struct Parameter {
     pub null: f64,
     /// A family parameter that stays free in the constants-only reference model.
     pub in_reference: bool,
+    /// For a family that estimates one copy of the utility per latent class
+    /// (`FamilyRules::copies`): the class (from 1) this parameter belongs to;
+    /// 0 for a parameter every class shares, and in every other model.
+    pub class: usize,
 }
 
 /// The field of application a spec declares (top-level `field`).
@@ -194,6 +198,11 @@ pub struct Spec {
     pub derived: Vec<(String, Expr)>,
     pub parameters: Vec<Parameter>,
     pub ratios: Vec<Ratio>,
+    /// Data columns the family reads per situation beyond the utility's
+    /// terms (a latent class model's membership columns), with the role
+    /// messages name them by: loaded after the characteristics, so
+    /// `Observations::characteristics[characteristics.len() + m]` is column m.
+    pub family_columns: Vec<(String, String)>,
     pub holdout: Option<Holdout>,
     pub calibration: Option<Calibration>,
     pub restrictions: Vec<Restriction>,
@@ -257,6 +266,9 @@ impl Spec {
     /// a family's own parameters stay, held at their starting values unless
     /// they belong to the reference model (cut-points).
     pub fn constants_only(&self) -> Spec {
+        if self.parameters.iter().any(|p| p.class > 0) {
+            return self.market_shares();
+        }
         let mut s = self.clone();
         s.attributes.clear();
         s.characteristics.clear();
@@ -278,6 +290,34 @@ impl Spec {
             m.remove("space");
             m.remove("price");
         }
+        s
+    }
+
+    /// The reference model of a spec with one copy of the utility per
+    /// latent class: the logit with the constants alone (one per
+    /// alternative), the market-share model that every number of classes
+    /// nests.
+    fn market_shares(&self) -> Spec {
+        let mut s = self.clone();
+        s.attributes.clear();
+        s.characteristics.clear();
+        s.family_columns.clear();
+        s.family = "logit".into();
+        s.family_keys = toml::Table::new();
+        s.parameters
+            .retain(|p| p.term == Term::Constant && p.class <= 1);
+        for p in s.parameters.iter_mut() {
+            if p.class == 1 {
+                if let Some(base) = p.name.strip_suffix("_class1") {
+                    p.name = base.to_string();
+                }
+            }
+            p.class = 0;
+            p.fixed = None;
+            p.start = 0.0;
+        }
+        s.ratios.clear();
+        s.restrictions.clear();
         s
     }
 }

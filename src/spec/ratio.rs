@@ -1,5 +1,7 @@
 //! `[[ratio]]` entries checked against the model's parameters: numerator and
 //! denominator by name, a usable scale, the `per` direction and the `unit`.
+//! In a model with one copy of the utility per latent class, a ratio named
+//! by the utility's names is one ratio per class (`<name>_class<k>`).
 
 use super::raw::RawRatio;
 use super::{Parameter, Ratio};
@@ -42,6 +44,32 @@ pub fn ratios(raw: &[RawRatio], parameters: &[Parameter]) -> Result<Vec<Ratio>, 
                 "[[ratio]] {}: scale must be a finite number other than 0",
                 r.name
             ));
+        }
+        let classes = parameters.iter().map(|p| p.class).max().unwrap_or(0);
+        let per_class = |name: &str| {
+            classes > 0
+                && !parameters.iter().any(|p| p.name == name)
+                && parameters
+                    .iter()
+                    .any(|p| p.name == format!("{name}_class1"))
+        };
+        if per_class(&r.numerator) || per_class(&r.denominator) {
+            // One ratio per latent class, of that class's copies.
+            let named = |name: &str, k: usize| match per_class(name) {
+                true => format!("{name}_class{k}"),
+                false => name.to_string(),
+            };
+            for k in 1..=classes {
+                ratios.push(Ratio {
+                    name: format!("{}_class{k}", r.name),
+                    numerator: find("numerator", &named(&r.numerator, k))?,
+                    denominator: find("denominator", &named(&r.denominator, k))?,
+                    scale,
+                    unit: r.unit.clone(),
+                    per_less,
+                });
+            }
+            continue;
         }
         ratios.push(Ratio {
             name: r.name.clone(),

@@ -272,7 +272,16 @@ fn every_family_recovers_its_generating_parameters() {
         let (spec, _, truth, d) = setup(e, 6000, 14);
         let quiet = |_s: Step| {};
         let fit = estimate::fit(&spec, d.obs.clone(), &quiet).unwrap();
-        assert!(fit.stats.converged, "{}: did not converge", e.name);
+        assert!(
+            fit.stats.converged,
+            "{}: did not converge: {:?} {:?}",
+            e.name,
+            fit.stats,
+            fit.parameters
+                .iter()
+                .map(|p| (&p.name, p.estimate, p.std_error))
+                .collect::<Vec<_>>()
+        );
         for (k, row) in fit.parameters.iter().enumerate() {
             let z = (row.estimate - truth[k]) / row.std_error;
             assert!(

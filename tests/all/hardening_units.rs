@@ -145,7 +145,13 @@ fn fits_do_not_depend_on_the_units_of_a_variable_in_any_family() {
             .parameters
             .iter()
             .enumerate()
-            .filter(|(_, p)| p.name == var || p.name == format!("{var}_spread"))
+            .filter(|(_, p)| {
+                p.name == var
+                    || p.name == format!("{var}_spread")
+                    || p.name
+                        .strip_prefix(var)
+                        .is_some_and(|r| r.starts_with("_class"))
+            })
             .map(|(k, _)| k)
             .collect();
         // In willingness-to-pay space with x the price, every value (and the

@@ -4,6 +4,7 @@
 mod analysis;
 mod analytic;
 mod catalogue;
+mod classes;
 mod common;
 mod demo_specs;
 mod demo_tastes;

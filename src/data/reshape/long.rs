@@ -267,10 +267,9 @@ fn per_situation(
 ) -> Result<Vec<Vec<f64>>> {
     let (members, sit_keys) = (&sits.members, &sits.keys);
     let mut characteristics = Vec::with_capacity(spec.characteristics.len());
-    for c in &spec.characteristics {
-        let role = format!("characteristic {}", c.name);
-        let v = table.numbers(&c.column, &role)?;
-        let what = format!("column `{}` ({role})", c.column);
+    for (column, role) in super::situation_columns(spec) {
+        let v = table.numbers(&column, &role)?;
+        let what = format!("column `{column}` ({role})");
         constant_within(table, v, members, sit_keys, &what)?;
         characteristics.push(first.iter().map(|&r| v[r]).collect());
     }

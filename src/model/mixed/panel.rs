@@ -26,7 +26,7 @@ pub struct Panel {
 impl Panel {
     /// Decision makers of `obs` with standardised draws from `uniforms`
     /// (`[unit][dim][draw]`).
-    pub(super) fn new(
+    pub(crate) fn new(
         obs: &Observations,
         terms: &[RandomCoefficient],
         draws: usize,

@@ -417,7 +417,7 @@ impl Family for Mnp {
             .then(|| Arc::new(self.with_draws(BAND_DRAWS)) as FamilyRef)
     }
 
-    fn derived(&self, spec: &Spec, beta: &[f64]) -> Vec<Derived> {
+    fn derived(&self, spec: &Spec, _d: &Design, beta: &[f64]) -> Vec<Derived> {
         report::derived(self, spec, beta)
     }
 

@@ -39,7 +39,7 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         terms::characteristics(&raw.characteristic, &cx, &mut names).map_err(fail)?;
     let derived = sections::derived(&raw.derived).map_err(fail)?;
     let single = rules.single_index();
-    let mut parameters = parameters::linear(
+    let linear = parameters::linear(
         &alternatives,
         base,
         constants,
@@ -47,6 +47,9 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         &characteristics,
         single,
     );
+    let copies = rules.copies(&family_keys).map_err(fail)?;
+    let mut parameters = parameters::copied(linear, &copies).map_err(fail)?;
+    let family_columns = rules.columns(&family_keys);
     let view = SpecView {
         layout: &data.layout,
         alternatives: &alternatives,
@@ -82,6 +85,7 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         derived,
         parameters,
         ratios,
+        family_columns,
         holdout,
         calibration,
         restrictions,

@@ -4,8 +4,8 @@
 
 use crate::spec::raw::RawParameter;
 use crate::spec::{
-    parse_restriction, Alternative, Attribute, Characteristic, Coefficient, FamilyParameter,
-    Parameter, Restriction, Term,
+    parse_restriction, Alternative, Attribute, Characteristic, Coefficient, Copies,
+    FamilyParameter, Parameter, Restriction, Term,
 };
 
 fn push(parameters: &mut Vec<Parameter>, name: String, term: Term, alternative: Option<usize>) {
@@ -17,7 +17,46 @@ fn push(parameters: &mut Vec<Parameter>, name: String, term: Term, alternative: 
         fixed: None,
         null: 0.0,
         in_reference: false,
+        class: 0,
     })
+}
+
+/// The linear parameters once per class when the family estimates `copies`
+/// of them: class k's copy of `name` is `name_class<k>`, class by class;
+/// the common ones stay once, unrenamed, where they were.
+pub(super) fn copied(linear: Vec<Parameter>, copies: &Copies) -> Result<Vec<Parameter>, String> {
+    for c in &copies.common {
+        if !linear.iter().any(|p| &p.name == c) {
+            return Err(format!(
+                "{}: `{c}` is not a parameter of the utility (it has: {})",
+                copies.common_key,
+                linear
+                    .iter()
+                    .map(|p| p.name.as_str())
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            ));
+        }
+    }
+    if copies.count <= 1 {
+        return Ok(linear);
+    }
+    let mut out = Vec::with_capacity(linear.len() * copies.count);
+    for k in 1..=copies.count {
+        for p in &linear {
+            if copies.common.contains(&p.name) {
+                if k == 1 {
+                    out.push(p.clone());
+                }
+                continue;
+            }
+            let mut q = p.clone();
+            q.name = format!("{}_class{k}", p.name);
+            q.class = k;
+            out.push(q);
+        }
+    }
+    Ok(out)
 }
 
 /// The linear utility's parameters: constants, then attributes, then characteristics.
@@ -80,6 +119,7 @@ pub(super) fn add_family(
             fixed: None,
             null: p.null,
             in_reference: p.in_reference,
+            class: 0,
         });
     }
     for (i, p) in parameters.iter().enumerate() {

@@ -5,6 +5,7 @@ mod analysis;
 mod analytic;
 mod catalogue;
 mod common;
+mod demo_garden;
 mod demo_specs;
 mod demo_tastes;
 mod derivatives;

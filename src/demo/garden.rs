@@ -67,7 +67,7 @@ const COLUMNS: [&str; 13] = [
 
 /// The true probability that a shopper with this garden (tens of square
 /// metres) is an instant gardener (class 2).
-pub fn garden_class2_probability(garden_size: f64) -> f64 {
+fn class2_probability(garden_size: f64) -> f64 {
     let t = |n: &str| truth(GARDEN_TRUTH, n);
     let u = t("member_class2") + t("member_class2_garden_size") * garden_size;
     1.0 / (1.0 + (-u).exp())
@@ -86,7 +86,7 @@ impl Shopper {
         // Garden sizes skewed to the right: median about 75 square metres.
         let garden_size = round((2.0 + 0.7 * rng.normal()).exp().clamp(1.0, 30.0), 1);
         let age = 22 + rng.below(60) as i64;
-        let class = if rng.uniform() < garden_class2_probability(garden_size) {
+        let class = if rng.uniform() < class2_probability(garden_size) {
             2
         } else {
             1

@@ -11,9 +11,7 @@ mod garden;
 use std::path::Path;
 
 pub use express::{express, EXPRESS_TRUTH};
-pub use garden::{
-    garden, garden_class2_probability, GARDEN_ALTERNATIVES, GARDEN_SHARES, GARDEN_TRUTH,
-};
+pub use garden::{garden, GARDEN_ALTERNATIVES, GARDEN_SHARES, GARDEN_TRUTH};
 
 use crate::data::write::{table, Values};
 use crate::error::Result;

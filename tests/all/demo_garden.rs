@@ -7,14 +7,19 @@
 
 use std::collections::BTreeMap;
 
-use sharecast::demo::{
-    garden_class2_probability, GARDEN_ALTERNATIVES, GARDEN_SHARES, GARDEN_TRUTH,
-};
+use sharecast::demo::{GARDEN_ALTERNATIVES, GARDEN_SHARES, GARDEN_TRUTH};
 
 use crate::common::*;
 
 fn truth(name: &str) -> f64 {
     GARDEN_TRUTH.iter().find(|t| t.0 == name).unwrap().1
+}
+
+/// The true probability that a shopper with this garden size is in class 2
+/// (the membership logit against class 1).
+fn garden_class2_probability(garden_size: f64) -> f64 {
+    let u = truth("member_class2") + truth("member_class2_garden_size") * garden_size;
+    1.0 / (1.0 + (-u).exp())
 }
 
 /// The shipped CSV as a header and rows of text fields.
@@ -99,6 +104,39 @@ fn share_check(shoppers: &[&[Row]], j: usize) -> (f64, f64, f64) {
     }
     let n = 8.0 * shoppers.len() as f64;
     (observed / n, mean / n, var.sqrt() / n)
+}
+
+#[test]
+fn the_garden_truth_names_the_spec_s_parameters() {
+    // The latent class logit's names: `<term>_class<k>` for each constant
+    // (every alternative but the base) and attribute of the spec, k = 1, 2,
+    // then `member_class2` and `member_class2_<column>` for each membership
+    // column; the spec is read as plain TOML (its family is not parsed here).
+    let text = std::fs::read_to_string(path("specs/garden_classes.toml")).unwrap();
+    let spec: toml::Table = toml::from_str(&text).unwrap();
+    let model = spec["model"].as_table().unwrap();
+    assert_eq!(model["family"].as_str(), Some("latent-class"));
+    assert_eq!(model["classes"].as_integer(), Some(2));
+    let base = model["base"].as_str().unwrap();
+    assert_eq!(base, GARDEN_ALTERNATIVES[0]);
+    let alternatives: Vec<&String> = spec["alternatives"].as_table().unwrap().keys().collect();
+    assert_eq!(alternatives, GARDEN_ALTERNATIVES);
+    let mut terms: Vec<String> = GARDEN_ALTERNATIVES[1..]
+        .iter()
+        .map(|a| format!("asc_{a}"))
+        .collect();
+    for a in spec["attribute"].as_array().unwrap() {
+        terms.push(a["name"].as_str().unwrap().to_string());
+    }
+    let mut want: Vec<String> = (1..=2)
+        .flat_map(|k| terms.iter().map(move |t| format!("{t}_class{k}")))
+        .collect();
+    want.push("member_class2".into());
+    for c in model["membership"].as_array().unwrap() {
+        want.push(format!("member_class2_{}", c.as_str().unwrap()));
+    }
+    let got: Vec<&str> = GARDEN_TRUTH.iter().map(|t| t.0).collect();
+    assert_eq!(got, want);
 }
 
 #[test]

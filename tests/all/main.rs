@@ -6,6 +6,7 @@ mod analytic;
 mod catalogue;
 mod classes;
 mod common;
+mod demo_garden;
 mod demo_specs;
 mod demo_tastes;
 mod derivatives;

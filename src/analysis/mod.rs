@@ -3,6 +3,7 @@
 //! sample enumeration over the estimation data with the spec's weights.
 
 pub mod analytic;
+pub mod classes;
 pub mod compare;
 pub mod correlation;
 pub mod delta;
@@ -100,6 +101,10 @@ pub struct Analysis {
     /// probit's error covariance and correlations), with delta-method errors.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub derived: Vec<DerivedRow>,
+    /// Latent classes: each class's size and predicted shares, and the
+    /// class shares by the values of each membership column.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub classes: Option<classes::Classes>,
     pub diversion: Vec<DiversionRow>,
     pub price_diversion: Vec<PriceDiversionRow>,
     pub segments: Vec<SegmentShareRow>,
@@ -260,6 +265,7 @@ pub fn analyse_with(
     let correlations = correlation::correlations(fit);
     phase.step();
     let derived = derived(spec, fit);
+    let classes = classes::classes(spec, fit, &derived);
     phase.step();
     let expected_category = expected_category(spec, fit);
     phase.finish();
@@ -272,6 +278,7 @@ pub fn analyse_with(
         random_coefficients,
         correlations,
         derived,
+        classes,
         diversion,
         price_diversion,
         segments,

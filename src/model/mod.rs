@@ -32,6 +32,7 @@ use crate::data::Observations;
 use crate::design::Design;
 use crate::spec::Spec;
 
+pub use classes::SHARES;
 pub use enumerate::{Baseline, Situation, WhatIf};
 pub use registry::{for_spec, parse_spec, read_spec, Registry};
 

@@ -3,6 +3,7 @@
 //! sample enumeration over the estimation data with the spec's weights.
 
 pub mod analytic;
+pub mod class_count;
 pub mod classes;
 pub mod compare;
 pub mod correlation;

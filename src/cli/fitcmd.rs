@@ -61,7 +61,7 @@ pub struct FitArgs {
     /// Also write the results document to this file (for reuse by other commands).
     #[arg(long, value_name = "FILE.json")]
     pub save: Option<PathBuf>,
-    /// Replace the --save file if it exists.
+    /// Replace the --save, --conditional or --classes-out file if it exists.
     #[arg(long)]
     pub force: bool,
     /// Exit 0 even when the fit did not converge.
@@ -71,6 +71,15 @@ pub struct FitArgs {
     /// choices to this CSV or Parquet file (families with random coefficients).
     #[arg(long, value_name = "FILE")]
     pub conditional: Option<PathBuf>,
+    /// Write each decision maker's class probabilities (the membership
+    /// model's and, given their choices, the posterior ones) to this CSV or
+    /// Parquet file (latent class models).
+    #[arg(long, value_name = "FILE")]
+    pub classes_out: Option<PathBuf>,
+    /// Instead of the report, fit the spec with each number of latent
+    /// classes in this range (such as 1..4) and set the fits side by side.
+    #[arg(long, value_name = "RANGE")]
+    pub classes: Option<String>,
     /// Fit again on the draws of the next seed and show how far each estimate
     /// moves, in standard errors (families that simulate their probabilities).
     #[arg(long)]
@@ -103,7 +112,10 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
         // Refused before the fit rather than after it.
         args.analysis.options().check(spec.parameters.len())?;
     }
-    if let Some(path) = &args.conditional {
+    if let Some(range) = &args.classes {
+        return super::fitclasses::counts(&spec, &ds, range, args.json);
+    }
+    for path in args.conditional.iter().chain(&args.classes_out) {
         // Refused before the fit rather than after it.
         crate::data::write::check_overwrite(path, args.force)?;
     }
@@ -118,6 +130,9 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
     };
     if let Some(path) = &args.conditional {
         write_conditional(&spec, &fit, &ds, path, args.force)?;
+    }
+    if let Some(path) = &args.classes_out {
+        super::fitclasses::write_classes(&spec, &fit, &ds, path, args.force)?;
     }
     let analysis = if args.analysis.no_analysis {
         None

@@ -3,6 +3,7 @@
 
 mod benchcmd;
 mod comparecmd;
+mod fitclasses;
 mod fitcmd;
 mod newcmd;
 mod progress;

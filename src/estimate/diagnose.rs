@@ -338,3 +338,43 @@ fn short(x: f64) -> String {
         format!("{x:.4}")
     }
 }
+
+/// Warnings on a search from several starts: few of them reached the best
+/// log-likelihood (fewer than a quarter, or only one: another start may
+/// find a higher maximum), or some ran off towards a maximum at infinity.
+pub fn starts(s: Option<&crate::model::Starts>) -> Vec<Diagnostic> {
+    let Some(s) = s else {
+        return Vec::new();
+    };
+    let mut out = Vec::new();
+    let few = s.reached_best < 2 || 4 * s.reached_best < s.tried;
+    if s.tried > 1 && few {
+        out.push(Diagnostic {
+            kind: DiagnosticKind::Starts,
+            code: None,
+            parameters: Vec::new(),
+            message: format!(
+                "only {} of {} starts reached the best log-likelihood (within {:.3}): the likelihood has several maxima here and another start may find a higher one; run more starts ([model].starts) or another seed ([model].seed) and compare",
+                s.reached_best, s.tried, s.tolerance
+            ),
+        });
+    }
+    if s.ran_off > 0 {
+        out.push(Diagnostic {
+            kind: DiagnosticKind::Starts,
+            code: None,
+            parameters: Vec::new(),
+            message: format!(
+                "{} of {} starts stopped because a class's coefficients ran off towards a maximum at infinity (a class predicting a few choices perfectly); {}",
+                s.ran_off,
+                s.tried,
+                if s.ran_off == s.tried {
+                    "every start did, so the fit continued from the best of them: its estimates are not meaningful; fit fewer classes or make parameters common"
+                } else {
+                    "the fit continued from the best start that did not"
+                }
+            ),
+        });
+    }
+    out
+}

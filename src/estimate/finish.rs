@@ -83,6 +83,7 @@ fn finish_with(
                 message: w.message,
             }),
     );
+    diagnostics.extend(diagnose::starts(out.starts.as_ref()));
     let (covariance, robust_covariance) =
         covariances_held(&design, &*family, &out.beta, (&free, &a, &flats), &scales);
     let robust_inference = obs.group.is_some();

@@ -26,6 +26,9 @@ pub enum DiagnosticKind {
     /// A (negative-)lognormal coefficient whose location runs to minus
     /// infinity: the data want the coefficient of the other sign.
     OppositeSign,
+    /// A search from several starts (a latent class model's): few reached
+    /// the best log-likelihood, or some ran off.
+    Starts,
 }
 
 /// A finding about the fit that names the parameters and spec terms involved.

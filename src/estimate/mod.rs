@@ -269,6 +269,7 @@ fn search(
         if family.canonical(design, &mut out.beta) {
             out.hessian = None; // of the parameters in their former order
         }
+        out.passes += starts.passes;
         out.starts = Some(starts);
         return out;
     }

@@ -498,6 +498,9 @@ pub struct Starts {
     /// (they are passed over when another start stayed inside).
     #[serde(default)]
     pub ran_off: usize,
+    /// Passes over the data the starts ran.
+    #[serde(default)]
+    pub passes: usize,
     /// The seed of the starts.
     pub seed: u64,
 }

@@ -97,11 +97,17 @@ pub fn calibrate_with(
         .iter()
         .map(|&(j, t)| {
             let p = params.iter().find(|x| x.0 == j).map(|x| x.1);
+            let named: Vec<&str> = params
+                .iter()
+                .filter(|x| x.0 == j)
+                .map(|x| spec.parameters[x.1].name.as_str())
+                .collect();
             CalibrationRow {
                 alternative: spec.alternatives[j].name.clone(),
-                parameter: p
-                    .map(|p| spec.parameters[p].name.clone())
-                    .unwrap_or_else(|| "(base, held at 0)".into()),
+                parameter: match named.is_empty() {
+                    true => "(base, held at 0)".into(),
+                    false => named.join(", "),
+                },
                 target: t,
                 estimated: p.map(|p| beta[p]).unwrap_or(0.0),
                 calibrated: p.map(|p| b[p]).unwrap_or(0.0),
@@ -119,24 +125,26 @@ pub fn calibrate_with(
 }
 
 /// The constant of each target's alternative (the base's is held at 0):
-/// (alternative, parameter, target).
+/// (alternative, parameter, target); in a latent class model each class's
+/// constant of the alternative, all moved by the same step.
 fn constants(spec: &Spec, targets: &[(usize, f64)]) -> Result<Vec<(usize, usize, f64)>> {
     let mut params = Vec::new();
     for &(j, t) in targets {
         if j == spec.base {
             continue;
         }
-        let p = spec
-            .parameters
-            .iter()
-            .position(|p| p.term == Term::Constant && p.alternative == Some(j))
-            .ok_or_else(|| {
-                Error::Usage(format!(
-                    "calibration: `{}` has no constant to adjust",
-                    spec.alternatives[j].name
-                ))
-            })?;
-        params.push((j, p, t));
+        let before = params.len();
+        for (p, q) in spec.parameters.iter().enumerate() {
+            if q.term == Term::Constant && q.alternative == Some(j) {
+                params.push((j, p, t));
+            }
+        }
+        if params.len() == before {
+            return Err(Error::Usage(format!(
+                "calibration: `{}` has no constant to adjust",
+                spec.alternatives[j].name
+            )));
+        }
     }
     Ok(params)
 }

@@ -5,6 +5,7 @@ mod analysis;
 mod analytic;
 mod catalogue;
 mod classes;
+mod classes_cli;
 mod common;
 mod demo_garden;
 mod demo_specs;

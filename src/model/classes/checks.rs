@@ -57,6 +57,10 @@ pub(super) fn observations(
     identifiable(lc, spec, units)
 }
 
+/// Decision makers needed per estimated parameter (common practice: a
+/// mixture's classes are identified only by enough decision makers in each).
+const PER_PARAMETER: usize = 5;
+
 /// Refuses more classes than the decision makers can identify.
 fn identifiable(lc: &LatentClass, spec: &Spec, units: usize) -> Result<(), String> {
     let k = lc.lay.classes;
@@ -64,9 +68,10 @@ fn identifiable(lc: &LatentClass, spec: &Spec, units: usize) -> Result<(), Strin
         return Ok(());
     }
     let free = spec.parameters.iter().filter(|p| p.fixed.is_none()).count();
-    if units < 2 * free {
+    if units < PER_PARAMETER * free {
         return Err(format!(
-            "[model].classes: {k} classes have {free} parameters to estimate but the data have only {units} decision makers; each class needs enough decision makers of its own to identify its copy of the utility (at least two per parameter overall): fit fewer classes, make some parameters common to all classes ([model].common), or collect more data"
+            "[model].classes: {k} classes have {free} parameters to estimate but the data have only {units} decision makers; each class needs enough decision makers of its own to identify its copy of the utility (here at least {PER_PARAMETER} per parameter overall, {} in all): fit fewer classes, make some parameters common to all classes ([model].common), or collect more data",
+            PER_PARAMETER * free
         ));
     }
     Ok(())

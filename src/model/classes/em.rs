@@ -8,6 +8,7 @@
 //! logit Hessians and the membership logit's (the EM gradient algorithm;
 //! Lange 1995): one pass per step, halved when the log-likelihood falls.
 
+use std::sync::atomic::Ordering;
 use std::time::Instant;
 
 use nalgebra::{DMatrix, DVector};
@@ -33,6 +34,7 @@ pub(super) fn run(
     start: &[f64],
     free: &[usize],
 ) -> (Vec<f64>, Starts) {
+    lc.em_passes.store(0, Ordering::Relaxed);
     let units = lc.units(d);
     let c = lc.lay.classes;
     let uniform = vec![1.0 / c as f64; units.units * c];
@@ -70,6 +72,7 @@ pub(super) fn run(
             seconds,
             best,
             ran_off,
+            passes: lc.em_passes.load(Ordering::Relaxed),
             seed: lc.settings.seed,
         },
     )
@@ -108,6 +111,7 @@ fn perturbed(
 
 /// A pass at `beta` with posteriors (or `given` weights), gradient and Q's Hessian.
 fn pass(lc: &LatentClass, d: &Design, beta: &[f64], given: Option<&[f64]>) -> Totals {
+    lc.em_passes.fetch_add(1, Ordering::Relaxed);
     let units = lc.units(d);
     Pass {
         lay: &lc.lay,

@@ -38,6 +38,8 @@ pub struct LatentClass {
     logit: Logit,
     /// Decision makers per data set, found again by its observations.
     units: Arc<PerData<Panel>>,
+    /// Passes the starts have run (`em`).
+    em_passes: std::sync::atomic::AtomicUsize,
 }
 
 impl LatentClass {
@@ -52,6 +54,7 @@ impl LatentClass {
                 binary: spec.alternatives.len() == 2,
             },
             units: Arc::new(PerData::default()),
+            em_passes: Default::default(),
         })
     }
 

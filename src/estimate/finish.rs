@@ -72,18 +72,7 @@ fn finish_with(
         scales: &scales,
     };
     let mut diagnostics = diagnose::diagnose(spec, &design, &obs, &*family, &found);
-    diagnostics.extend(
-        family
-            .warnings(spec, &design, &out.beta)
-            .into_iter()
-            .map(|w| Diagnostic {
-                kind: DiagnosticKind::Family,
-                code: Some(w.code.to_string()),
-                parameters: w.parameters,
-                message: w.message,
-            }),
-    );
-    diagnostics.extend(diagnose::starts(out.starts.as_ref()));
+    diagnostics.extend(family_diagnostics(spec, &design, &*family, &out));
     let (covariance, robust_covariance) =
         covariances_held(&design, &*family, &out.beta, (&free, &a, &flats), &scales);
     let robust_inference = obs.group.is_some();
@@ -292,4 +281,25 @@ fn statistics(
         .to_string(),
         starts: out.starts.clone(),
     }
+}
+
+/// The family's warnings at the estimates and those on its own starts.
+fn family_diagnostics(
+    spec: &Spec,
+    design: &Design,
+    family: &dyn Family,
+    out: &optimise::Outcome,
+) -> Vec<Diagnostic> {
+    let mut d: Vec<Diagnostic> = family
+        .warnings(spec, design, &out.beta)
+        .into_iter()
+        .map(|w| Diagnostic {
+            kind: DiagnosticKind::Family,
+            code: Some(w.code.to_string()),
+            parameters: w.parameters,
+            message: w.message,
+        })
+        .collect();
+    d.extend(diagnose::starts(out.starts.as_ref()));
+    d
 }

@@ -98,10 +98,15 @@ pub struct ByClass {
 /// The classes' predicted shares, each class's logit weighted by every
 /// situation's membership probability of it (`None`: no classes).
 pub fn by_class(fit: &Fit, what_if: Option<&dyn WhatIf>) -> Option<ByClass> {
+    by_class_at(fit, &fit.beta, what_if)
+}
+
+/// `by_class` at parameters `beta` (calibrated constants, a parameter draw).
+pub fn by_class_at(fit: &Fit, beta: &[f64], what_if: Option<&dyn WhatIf>) -> Option<ByClass> {
     let d = &fit.design;
     let points = fit.family.mixture(d)?;
     let c = points.count();
-    let (j, k) = (d.alternatives(), fit.beta.len());
+    let (j, k) = (d.alternatives(), beta.len());
     let m = what_if.map_or(j, |w| w.alternatives(j));
     let after_family = what_if.and_then(|w| w.family()).unwrap_or(&*fit.family);
     let width = c * (1 + j + m);
@@ -111,8 +116,8 @@ pub fn by_class(fit: &Fit, what_if: Option<&dyn WhatIf>) -> Option<ByClass> {
         let (mut v0, mut p0, mut v1, mut p1) =
             (vec![0.0; j], vec![0.0; j], vec![0.0; m], vec![0.0; m]);
         for i in r {
-            points.fill(&fit.beta, i, &mut coefs);
-            points.weights(&fit.beta, i, &mut pi);
+            points.fill(beta, i, &mut coefs);
+            points.weights(beta, i, &mut pi);
             let w = d.obs.weight[i];
             for (cc, b) in coefs.chunks(k).enumerate() {
                 let f = w * pi[cc];

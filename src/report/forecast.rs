@@ -51,6 +51,7 @@ pub fn text(f: &Forecast) -> String {
         }
     }
     segments(&mut s, f);
+    classes(&mut s, f);
     for w in &f.warnings {
         let _ = writeln!(s, "  ! {w}");
     }
@@ -157,4 +158,43 @@ pub fn sweep(sw: &Sweep) -> String {
         let _ = writeln!(s);
     }
     s
+}
+
+/// Latent classes: each class's shares at the base and under the scenario.
+fn classes(s: &mut String, f: &Forecast) {
+    if f.classes.is_empty() {
+        return;
+    }
+    let _ = writeln!(
+        s,
+        "\nby latent class (point forecast; each class's logit weighted by its membership probabilities)"
+    );
+    let _ = writeln!(
+        s,
+        "  {:<10} {:>7}  {:<16} {:>9} {:>9} {:>9}",
+        "class", "size", "alternative", "base", "scenario", "change"
+    );
+    for c in &f.classes {
+        for (k, row) in f.shares.iter().enumerate() {
+            let (b, n) = (
+                c.base.get(k).copied().unwrap_or(0.0),
+                c.scenario.get(k).copied().unwrap_or(0.0),
+            );
+            let lead = if k == 0 {
+                (c.class.as_str(), format!("{:.3}", c.size))
+            } else {
+                ("", String::new())
+            };
+            let _ = writeln!(
+                s,
+                "  {:<10} {:>7}  {:<16} {:>9.4} {:>9.4} {:>+9.4}",
+                lead.0,
+                lead.1,
+                row.alternative,
+                b,
+                n,
+                n - b
+            );
+        }
+    }
 }

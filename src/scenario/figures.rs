@@ -81,6 +81,7 @@ pub(super) fn assemble(scenario: &Scenario, opts: &Options, fig: Figures) -> For
         stranded_situations,
         lost_share,
         warnings,
+        classes: Vec::new(),
     }
 }
 

@@ -119,6 +119,42 @@ pub struct Forecast {
     /// scenario shares add up to 1 minus this.
     pub lost_share: f64,
     pub warnings: Vec<String>,
+    /// Latent classes: each class's size and its shares at the base and
+    /// under the scenario (the point forecast; no bands).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub classes: Vec<ClassForecast>,
+}
+
+/// One latent class's shares at the base and under a scenario.
+#[derive(Clone, Debug, Serialize)]
+pub struct ClassForecast {
+    pub class: String,
+    /// Its share of the (weighted) situations.
+    pub size: f64,
+    /// Shares at the base, in the forecast's alternative order (0 for a new one).
+    pub base: Vec<f64>,
+    pub scenario: Vec<f64>,
+}
+
+/// Each latent class's shares at `beta` before and after the prepared
+/// scenario (empty for a family without classes).
+fn class_rows(fit: &Fit, beta: &[f64], prep: &prepare::Prepared) -> Vec<ClassForecast> {
+    let Some(b) = crate::analysis::classes::by_class_at(fit, beta, Some(prep)) else {
+        return Vec::new();
+    };
+    let m = prep.alternatives();
+    (0..b.size.len())
+        .map(|c| {
+            let mut base = b.base[c].clone();
+            base.resize(m, 0.0);
+            ClassForecast {
+                class: format!("class{}", c + 1),
+                size: b.size[c],
+                base,
+                scenario: b.after[c].clone(),
+            }
+        })
+        .collect()
 }
 
 /// Segment index of every situation and the labels, for a situation-level column.
@@ -244,7 +280,8 @@ pub fn forecast_with(
         Some(Market::Weights) => Some(d.obs.weight_total),
         None => None,
     };
-    Ok(assemble(
+    let classes = class_rows(fit, &beta, &prep);
+    let mut f = assemble(
         scenario,
         opts,
         Figures {
@@ -261,7 +298,9 @@ pub fn forecast_with(
             calibration,
             warnings,
         },
-    ))
+    );
+    f.classes = classes;
+    Ok(f)
 }
 
 /// The shares under each parameter draw: per alternative the scenario share

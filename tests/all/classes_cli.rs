@@ -234,3 +234,66 @@ fn the_spec_refuses_what_classes_cannot_do_naming_the_key() {
         }
     }
 }
+
+#[test]
+fn forecasts_are_the_class_sized_sum_of_the_classes_and_calibrate_every_class() {
+    let dir = scratch("classes_forecast");
+    // A new alternative like the plugs in each class's tastes.
+    let (c, out, err) = run(&[
+        "simulate",
+        SPEC,
+        "--scenario",
+        "specs/scenarios/garden_quick_plugs.toml",
+        "--draws",
+        "0",
+        "--json",
+    ]);
+    assert_eq!(c, 0, "{err}");
+    let f: Value = serde_json::from_str(&out).unwrap();
+    let classes = f["classes"].as_array().unwrap();
+    assert_eq!(classes.len(), 2);
+    // The mixture's forecast is the class-size-weighted sum of the classes'
+    // (fact of the model: each situation's probabilities are the
+    // membership-weighted average of the classes' logits).
+    for (k, row) in f["shares"].as_array().unwrap().iter().enumerate() {
+        let sum: f64 = classes
+            .iter()
+            .map(|c| c["size"].as_f64().unwrap() * c["scenario"][k].as_f64().unwrap())
+            .sum();
+        assert!(
+            (sum - row["scenario"].as_f64().unwrap()).abs() < 1e-12,
+            "{}",
+            row["alternative"]
+        );
+    }
+    // Calibration moves every class's constant of an alternative by the
+    // same step until the predicted shares meet the targets (common practice).
+    write(
+        &dir,
+        "calibrated.toml",
+        "name = \"counted\"\n[calibration]\ntargets = { packet = 0.35, plugs = 0.35, potted = 0.30 }\n",
+    );
+    let sc = dir.join("calibrated.toml");
+    let (c, out, err) = run(&[
+        "simulate",
+        SPEC,
+        "--scenario",
+        sc.to_str().unwrap(),
+        "--draws",
+        "0",
+        "--json",
+    ]);
+    assert_eq!(c, 0, "{err}");
+    let f: Value = serde_json::from_str(&out).unwrap();
+    for row in f["calibration"]["rows"].as_array().unwrap() {
+        assert!(
+            (row["share_after"].as_f64().unwrap() - row["target"].as_f64().unwrap()).abs() < 1e-6
+        );
+        if row["alternative"] != "packet" {
+            assert!(
+                row["parameter"].as_str().unwrap().contains("_class2"),
+                "{row}"
+            );
+        }
+    }
+}

@@ -40,6 +40,8 @@ fn every_shipped_scenario_simulates() {
         // Scenarios name the demo they belong to by the alternatives they use.
         let spec = if text.contains("marrowby") || text.contains("own_label") {
             "specs/grocery.toml"
+        } else if text.contains("potted") || text.contains("plugs") {
+            "specs/garden_classes.toml"
         } else if text.contains("coach") {
             "specs/express_survey.toml"
         } else {
@@ -57,6 +59,8 @@ fn every_shipped_scenario_simulates() {
                 "district"
             } else if spec.contains("express") {
                 "task"
+            } else if spec.contains("garden") {
+                "occasion"
             } else {
                 "week"
             },

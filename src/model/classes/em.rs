@@ -1,12 +1,15 @@
-//! The latent class model's starts: EM from random points, then the best
-//! start's end goes on to maximum likelihood (`estimate`). The pooled logit
-//! is fitted first (every class with equal weight); each start perturbs its
-//! coefficients per class (seeded), then runs EM steps until the
-//! log-likelihood stops rising. An EM step here is one Newton step on the
-//! expected complete-data log-likelihood Q, whose gradient at the current
-//! point is the log-likelihood's and whose Hessian is the classes' weighted
-//! logit Hessians and the membership logit's (the EM gradient algorithm;
-//! Lange 1995): one pass per step, halved when the log-likelihood falls.
+//! The latent class model's starts: random points climbed to a maximum,
+//! then the best start's end goes on to maximum likelihood (`estimate`).
+//! The pooled logit is fitted first (every class with equal weight); each
+//! start perturbs its coefficients per class (seeded) and climbs. Far from
+//! a maximum a step is an EM step: one Newton step on the expected
+//! complete-data log-likelihood Q, whose gradient at the current point is
+//! the log-likelihood's and whose Hessian is the classes' weighted logit
+//! Hessians and the membership logit's (the EM gradient algorithm; Lange
+//! 1995), halved when the log-likelihood falls; where the log-likelihood's
+//! own Hessian is negative definite, Newton's step on it (quadratic
+//! convergence, so every start ends at its maximum to rounding and the
+//! starts can be compared).
 
 use std::sync::atomic::Ordering;
 use std::time::Instant;

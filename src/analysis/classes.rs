@@ -104,6 +104,9 @@ pub fn by_class(fit: &Fit, what_if: Option<&dyn WhatIf>) -> Option<ByClass> {
 /// `by_class` at parameters `beta` (calibrated constants, a parameter draw).
 pub fn by_class_at(fit: &Fit, beta: &[f64], what_if: Option<&dyn WhatIf>) -> Option<ByClass> {
     let d = &fit.design;
+    if !fit.family.abilities().latent_classes {
+        return None;
+    }
     let points = fit.family.mixture(d)?;
     let c = points.count();
     let (j, k) = (d.alternatives(), beta.len());

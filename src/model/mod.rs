@@ -109,6 +109,9 @@ pub struct Abilities {
     /// Ordered categories on one latent index: no base, and categories are
     /// neither withdrawn nor added (no diversion between them).
     pub ordered: bool,
+    /// The coefficient points of `mixture` are latent classes weighted by
+    /// membership shares (figures are then also reported by class).
+    pub latent_classes: bool,
 }
 
 /// A model family, built for one spec by `registry::for_spec`.

@@ -138,7 +138,7 @@ pub struct ClassForecast {
 
 /// Each latent class's shares at `beta` before and after the prepared
 /// scenario (empty for a family without classes).
-fn class_rows(fit: &Fit, beta: &[f64], prep: &prepare::Prepared) -> Vec<ClassForecast> {
+pub(crate) fn class_rows(fit: &Fit, beta: &[f64], prep: &prepare::Prepared) -> Vec<ClassForecast> {
     let Some(b) = crate::analysis::classes::by_class_at(fit, beta, Some(prep)) else {
         return Vec::new();
     };
@@ -155,6 +155,29 @@ fn class_rows(fit: &Fit, beta: &[f64], prep: &prepare::Prepared) -> Vec<ClassFor
             }
         })
         .collect()
+}
+
+impl ClassForecast {
+    /// Adds `other` (a part of the population with weight `w`) to these
+    /// running sums: size, and shares times size, all times the weight.
+    fn add(&mut self, other: &ClassForecast, w: f64) {
+        let mass = other.size * w;
+        self.size += mass;
+        for (a, b) in self.base.iter_mut().zip(&other.base) {
+            *a += b * mass;
+        }
+        for (a, b) in self.scenario.iter_mut().zip(&other.scenario) {
+            *a += b * mass;
+        }
+    }
+
+    /// Running sums over a population of weight `total` back into a row.
+    fn settle(&mut self, total: f64) {
+        let mass = self.size.max(f64::MIN_POSITIVE);
+        self.base.iter_mut().for_each(|x| *x /= mass);
+        self.scenario.iter_mut().for_each(|x| *x /= mass);
+        self.size /= total.max(f64::MIN_POSITIVE);
+    }
 }
 
 /// Segment index of every situation and the labels, for a situation-level column.

@@ -62,6 +62,8 @@ struct Totals {
     units: usize,
     /// Decision makers of earlier chunks (hashed keys), when their draws depend on it.
     seen: Option<HashSet<u64>>,
+    /// Latent classes: running sums of each class's size and shares.
+    classes: Vec<super::ClassForecast>,
 }
 
 /// Forecasts `scenario` over the population `chunks` reads, with the fit's
@@ -115,6 +117,7 @@ pub fn forecast_with(
         stranded_weight: 0.0,
         units: 0,
         seen: (spec.data.group.is_some() && fit.family.at_unit(0).is_some()).then(HashSet::new),
+        classes: Vec::new(),
     };
     let path = chunks.path().to_path_buf();
     let phase = Phase::start(ticks, "forecast over the file", PER_FILE);
@@ -237,6 +240,17 @@ fn one_chunk(
     t.stranded_weight += stranded_weight * factor;
     t.situations += d.situations();
     t.weight += raw_total;
+    for (k, row) in super::class_rows(&cfit, beta, &prep).iter().enumerate() {
+        if t.classes.len() <= k {
+            t.classes.push(super::ClassForecast {
+                class: row.class.clone(),
+                size: 0.0,
+                base: vec![0.0; m],
+                scenario: vec![0.0; m],
+            });
+        }
+        t.classes[k].add(row, raw_total);
+    }
     if let Some(all) = parameter_draws {
         let family = cfit
             .family
@@ -395,7 +409,9 @@ fn finish(
             .map(|&g| t.segments.labels[g].clone())
             .collect()
     });
-    Ok(assemble(
+    let mut classes = t.classes;
+    classes.iter_mut().for_each(|c| c.settle(t.weight));
+    let mut f = assemble(
         scenario,
         opts,
         Figures {
@@ -412,5 +428,7 @@ fn finish(
             calibration: None,
             warnings,
         },
-    ))
+    );
+    f.classes = classes;
+    Ok(f)
 }

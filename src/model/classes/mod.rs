@@ -40,6 +40,9 @@ pub struct LatentClass {
     units: Arc<PerData<Panel>>,
     /// Passes the starts have run (`em`).
     em_passes: std::sync::atomic::AtomicUsize,
+    /// `[parameters]` fixes a class's parameter: the classes keep the
+    /// numbering the search found, so that a fixed value keeps its name.
+    pinned: bool,
 }
 
 impl LatentClass {
@@ -47,6 +50,17 @@ impl LatentClass {
         let settings = Settings::from_keys(&spec.family_keys)
             .map_err(|m| crate::error::Error::spec(&spec.path, m))?;
         let lay = Layout::new(spec, settings.classes, &settings.membership);
+        let pinned = (1..lay.classes)
+            .flat_map(|c| lay.index[c].iter().zip(&lay.slots).filter(|(p, s)| p != s))
+            .map(|(p, _)| *p)
+            .chain(
+                lay.index[0]
+                    .iter()
+                    .copied()
+                    .filter(|&p| spec.parameters[p].class == 1),
+            )
+            .chain(lay.member.iter().flatten().copied())
+            .any(|p| spec.parameters[p].fixed.is_some());
         Ok(LatentClass {
             settings,
             lay,
@@ -55,6 +69,7 @@ impl LatentClass {
             },
             units: Arc::new(PerData::default()),
             em_passes: Default::default(),
+            pinned,
         })
     }
 
@@ -97,6 +112,7 @@ impl Family for LatentClass {
         }
         Abilities {
             analytic_hessian: true,
+            latent_classes: true,
             new_alternatives: true,
             per_decision_maker: true,
             ..Abilities::default()
@@ -187,7 +203,7 @@ impl Family for LatentClass {
     }
 
     fn canonical(&self, d: &Design, beta: &mut [f64]) -> bool {
-        !self.single() && order::canonical(self, d, beta)
+        !self.single() && !self.pinned && order::canonical(self, d, beta)
     }
 
     fn adjust_scales(&self, d: &Design, scales: &mut [f64]) {

@@ -240,17 +240,12 @@ fn one_chunk(
     t.stranded_weight += stranded_weight * factor;
     t.situations += d.situations();
     t.weight += raw_total;
-    for (k, row) in super::class_rows(&cfit, beta, &prep).iter().enumerate() {
-        if t.classes.len() <= k {
-            t.classes.push(super::ClassForecast {
-                class: row.class.clone(),
-                size: 0.0,
-                base: vec![0.0; m],
-                scenario: vec![0.0; m],
-            });
-        }
-        t.classes[k].add(row, raw_total);
-    }
+    add_classes(
+        &mut t.classes,
+        &super::class_rows(&cfit, beta, &prep),
+        raw_total,
+        m,
+    );
     if let Some(all) = parameter_draws {
         let family = cfit
             .family
@@ -431,4 +426,25 @@ fn finish(
     );
     f.classes = classes;
     Ok(f)
+}
+
+/// Adds one chunk's class rows (weight `w` in the file's units) to the
+/// population's running sums.
+fn add_classes(
+    sums: &mut Vec<super::ClassForecast>,
+    rows: &[super::ClassForecast],
+    w: f64,
+    m: usize,
+) {
+    for (k, row) in rows.iter().enumerate() {
+        if sums.len() <= k {
+            sums.push(super::ClassForecast {
+                class: row.class.clone(),
+                size: 0.0,
+                base: vec![0.0; m],
+                scenario: vec![0.0; m],
+            });
+        }
+        sums[k].add(row, w);
+    }
 }

@@ -194,8 +194,7 @@ fn one_chunk(
     beta: &[f64],
     t: &mut Totals,
 ) -> Result<(Fit, Prepared)> {
-    let Chunk { ds, .. } = chunk;
-    let Dataset { obs, table } = ds;
+    let Dataset { obs, table } = chunk.ds;
     check_groups(spec, &table, t)?;
     let raw_total = obs.weight_total;
     let (cfit, factor) = chunk_fit(spec, fit, template, obs, path, t)?;

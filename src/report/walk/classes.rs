@@ -236,9 +236,9 @@ impl LatentClasses {
     /// Whether the decision makers are a panel, in words.
     pub fn structure_line(&self) -> &'static str {
         if self.panel {
-            "a panel: each decision maker belongs to one class in all of their situations, so their choices together say which class they are likely in"
+            "a panel: each decision maker is in one class for all of their situations"
         } else {
-            "a cross-section: each situation is its own decision maker (no [data].group), so each choice belongs to a class on its own"
+            "a cross-section: each situation is its own decision maker, with a class of its own (no [data].group)"
         }
     }
 

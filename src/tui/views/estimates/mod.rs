@@ -215,6 +215,11 @@ impl View for Estimates {
             Action::Command('c') => {
                 if l.walk.as_ref().is_some_and(|w| w.classes.is_some()) {
                     st.per_parameter = !st.per_parameter;
+                } else if crate::report::walk::class_count(&l.model.spec) > 1 {
+                    reply.say(
+                        crate::tui::part::Tone::Info,
+                        "the classes stand side by side once the analysis is in",
+                    );
                 } else {
                     reply.say(
                         crate::tui::part::Tone::Info,

@@ -3,8 +3,8 @@
 //! model, the starts, the predicted shares and the class shares by garden
 //! size equal the JSON results of the same fit (`fit --json`: `classes`,
 //! `parameters`, `fit.starts`); a common parameter stands once across the
-//! classes, one start is warned about, and a model without classes says why
-//! the section is empty.
+//! classes, one start is warned about, data without groups are called a
+//! cross-section, and a model without classes says why the section is empty.
 
 use scraper::{ElementRef, Html};
 use serde_json::Value;
@@ -158,6 +158,42 @@ fn a_shared_parameter_stands_once_and_a_single_start_is_warned_about() {
         warn.iter().any(|w| w.starts_with("only one start was run")),
         "{warn:?}"
     );
+    // Without [data].group the data are a cross-section, and the cells
+    // carry the errors the fit's inference names.
+    let body = garden
+        .replace("../demo-data/garden_panel.csv", data.to_str().unwrap())
+        .replace("group = \"shopper\"", "");
+    let cross = write(&dir, "cross.toml", &body);
+    let cross = cross.to_str().unwrap();
+    let apart = dir.join("cross");
+    std::fs::create_dir_all(&apart).unwrap();
+    let page = report(&apart, cross, &[]);
+    let fit = json(&["fit", cross, "--json"]);
+    assert_eq!(fit["classes"]["structure"], "cross-section");
+    let first = page
+        .select(&sel("section#classes p.note"))
+        .next()
+        .map(text_of)
+        .unwrap();
+    assert!(first.starts_with("a cross-section:"), "{first}");
+    let key = if fit["fit"]["inference"] == "robust" {
+        "robust_std_error"
+    } else {
+        "std_error"
+    };
+    let p = fit["parameters"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|p| p["name"] == "price_class2")
+        .unwrap();
+    let want = (p["estimate"].as_f64().unwrap(), p[key].as_f64().unwrap());
+    assert_pair(
+        "price class 2",
+        &row(&rows(table(&page, "classes")), "price")[2],
+        want,
+    );
+
     // The terminal report carries the same warning.
     let (code, out, err) = run(&["fit", spec]);
     assert_eq!(code, 0, "{err}");

@@ -1,7 +1,8 @@
 //! The workbench on the garden demo's latent classes: the estimates view
 //! sets the classes side by side under their shares (the analysis's
 //! `classes`), each cell a parameter's estimate ± the error its inference
-//! uses, the membership model and the class shares by garden size; `c`
+//! uses (`e` the Hessian's), the membership model and the class shares by
+//! garden size; `c`
 //! turns back to one row per parameter. The what-if's `b` shows each class's
 //! shares, which equal `analysis::classes::by_class` at the base and after a
 //! step of a lever. A model without classes says so.
@@ -75,6 +76,18 @@ fn the_estimates_view_sets_the_classes_side_by_side() {
             has(row, &[&format!("{} / {}", fixed(*p, 3), fixed(*q, 3))]);
         }
     }
+    // `e`: the Hessian's errors in every cell.
+    keys(&mut app, "e");
+    let s = screen(&app, 140, 60);
+    has(&s, &["value ± s.e. from the Hessian"]);
+    let p = fit
+        .parameters
+        .iter()
+        .find(|p| p.name == "price_class2")
+        .unwrap();
+    assert_ne!(p.std_error, p.robust_std_error);
+    has(line(&s, "price"), &[&plus_minus(p.estimate, p.std_error)]);
+    keys(&mut app, "e");
     // The cursor walks the rows of the side-by-side table.
     keys(&mut app, "G");
     assert!(line(&screen(&app, 140, 60), "garden_size").contains('›'));

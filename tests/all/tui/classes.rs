@@ -3,8 +3,8 @@
 //! `classes`), each cell a parameter's estimate ± the error its inference
 //! uses (`e` the Hessian's), the membership model and the class shares by
 //! garden size; `c` turns back to one row per parameter. The what-if's `b`
-//! shows each class's shares, which equal `analysis::classes::by_class` at the base and after a
-//! step of a lever. A model without classes says so.
+//! shows each class's shares, which equal `analysis::classes::by_class` at
+//! the base and after a step of a lever. A model without classes says so.
 
 use ratatui::crossterm::event::KeyCode;
 use sharecast::analysis::classes::by_class;

@@ -12,6 +12,7 @@ use serde_json::Value;
 
 use crate::common::{path, run, scratch};
 
+mod classes;
 mod tastes;
 
 fn sel(s: &str) -> Selector {

@@ -22,6 +22,7 @@ use sharecast::tui::{estimates, keys, levers};
 
 use crate::common::*;
 
+mod classes;
 mod tastes;
 
 fn model(rel: &str) -> Model {

@@ -5,6 +5,7 @@
 //! from that list.
 
 mod cautions;
+mod classes;
 mod correlated;
 mod covariance;
 mod curve;
@@ -28,6 +29,7 @@ pub const REGISTRY: &[&dyn Section] = &[
     &fitted::Fitted,
     &statistics::Statistics,
     &estimates::EstimatesSection,
+    &classes::Segments,
     &random::Tastes,
     &correlated::CorrelatedTastes,
     &covariance::ErrorCovariance,

@@ -1,15 +1,20 @@
 //! One typed walk of a fit's analysis, read by the text report, the HTML
 //! report and the workbench: elasticity, marginal-effect and diversion
 //! matrices with their axes named, value ratios with their units, random
-//! coefficients, the family's derived figures grouped, validation and tests;
+//! coefficients, latent classes side by side, the family's derived figures
+//! grouped, validation and tests;
 //! and the estimates grouped by term (`estimates`). Pure data with plain-text
 //! words: no markup, no colour, no statistic computed here.
 
 mod build;
+mod classes;
 mod estimates;
 mod matrix;
 mod tastes;
 
+pub use classes::{
+    count as class_count, Across, Block, ByColumn, Class, Estimated, LatentClasses, Row,
+};
 pub use estimates::{estimates, Estimate, Estimates, Term, MEAN_OF_LOG};
 pub use matrix::{Axis, Cell, Holds, Matrix, Measure};
 pub use tastes::{Correlated, Space};
@@ -172,6 +177,8 @@ pub struct Walk {
     pub random: Vec<Random>,
     /// Random coefficients that move together (none when independent).
     pub correlated: Option<Correlated>,
+    /// Latent classes side by side (none without classes).
+    pub classes: Option<LatentClasses>,
     pub derived: Vec<Group>,
     pub validation: Validation,
     pub segments: Vec<SegmentShareRow>,
@@ -206,6 +213,7 @@ impl Walk {
             ratios: a.ratios.iter().map(ratio).collect(),
             random: random(spec, fit, a),
             correlated: tastes::correlated(fit, a.correlations.as_ref()),
+            classes: a.classes.as_ref().map(|c| LatentClasses::of(spec, fit, c)),
             derived: derived(a),
             validation: a.validation.clone(),
             segments: a.segments.clone(),

@@ -2,7 +2,8 @@
 //! headings and interval strips, the cut-point axis, the random
 //! coefficients' spreads (and the grid of correlated ones), the family's
 //! derived figures, and the value ratios; in willingness-to-pay space a
-//! line saying so and each row's unit.
+//! line saying so and each row's unit; latent classes side by side
+//! (`classes`).
 
 use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Layout, Rect};
@@ -62,7 +63,10 @@ pub fn render(st: &State, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
     } else {
         "value ± s.e. from the Hessian"
     };
-    let title = format!("estimates · {errors} · {}", st.sort.label());
+    let title = match super::side_by_side(st, l) {
+        Some(_) => format!("estimates · classes side by side · {errors}"),
+        None => format!("estimates · {errors} · {}", st.sort.label()),
+    };
     let block = panel(title, t);
     let inner = block.inner(table);
     block.render(table, buf);
@@ -153,6 +157,10 @@ fn ratio_panel(
 /// the line the cursor is on and how many lines stay on top when scrolling.
 fn table_lines(st: &State, l: &Loaded, w: usize, t: &Theme) -> (Vec<Line<'static>>, usize, usize) {
     let fit = &l.model.fit;
+    if let Some(c) = super::side_by_side(st, l) {
+        let names = l.model.spec.alternative_names();
+        return super::classes::lines(c, fit, &names, st, t);
+    }
     let rows = ordered(&l.model.spec, fit, st);
     let longest = rows
         .iter()

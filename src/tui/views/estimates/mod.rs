@@ -1,9 +1,10 @@
 //! The estimates view: the parameter table grouped by spec term, with a
 //! strip per row that shows where the interval lies against zero, the
 //! choice of classical or robust errors, sorting, and the value ratios; in
-//! willingness-to-pay space each row's unit, and for correlated tastes a
-//! grid of their correlations.
+//! willingness-to-pay space each row's unit, for correlated tastes a grid
+//! of their correlations, and for latent classes the classes side by side.
 
+mod classes;
 mod draw;
 mod tastes;
 
@@ -42,6 +43,9 @@ pub struct State {
     pub robust: Option<bool>,
     pub sort: Sort,
     pub grouped: bool,
+    /// A model with latent classes: one row per parameter instead of the
+    /// classes side by side.
+    pub per_parameter: bool,
 }
 
 impl Default for State {
@@ -51,6 +55,7 @@ impl Default for State {
             robust: None,
             sort: Sort::Spec,
             grouped: true,
+            per_parameter: false,
         }
     }
 }
@@ -166,6 +171,7 @@ const KEYS: &[Key] = &[
     Key::command("e", "e", "Hessian/clustered s.e."),
     Key::command("s", "s", "sort: spec, |t|, name"),
     Key::command("t", "t", "group by spec term"),
+    Key::command("c", "c", "classes side by side / list"),
 ];
 
 impl View for Estimates {
@@ -185,11 +191,11 @@ impl View for Estimates {
         "e errors  s sort  t terms  ? help  q quit "
     }
 
-    fn act(&mut self, ctx: &Ctx, a: Action, _reply: &mut Reply) {
+    fn act(&mut self, ctx: &Ctx, a: Action, reply: &mut Reply) {
         let Some(l) = ctx.loaded() else {
             return;
         };
-        let n = l.model.fit.parameters.len();
+        let n = side_by_side(&self.state, l).map_or(l.model.fit.parameters.len(), classes::rows);
         let robust_now = fit_robust(&l.model.fit);
         let st = &mut self.state;
         match a {
@@ -206,6 +212,21 @@ impl View for Estimates {
                 }
             }
             Action::Command('t') => st.grouped = !st.grouped,
+            Action::Command('c') => {
+                if l.walk.as_ref().is_some_and(|w| w.classes.is_some()) {
+                    st.per_parameter = !st.per_parameter;
+                } else if crate::report::walk::class_count(&l.model.spec) > 1 {
+                    reply.say(
+                        crate::tui::part::Tone::Info,
+                        "the classes stand side by side once the analysis is in",
+                    );
+                } else {
+                    reply.say(
+                        crate::tui::part::Tone::Info,
+                        "no latent classes to set side by side",
+                    );
+                }
+            }
             _ => {}
         }
     }
@@ -217,4 +238,15 @@ impl View for Estimates {
     fn as_any(&self) -> &dyn std::any::Any {
         self
     }
+}
+
+/// The walk's latent classes when the view sets them side by side.
+pub fn side_by_side<'a>(
+    st: &State,
+    l: &'a crate::tui::app::Loaded,
+) -> Option<&'a crate::report::walk::LatentClasses> {
+    if st.per_parameter {
+        return None;
+    }
+    l.walk.as_ref()?.classes.as_ref()
 }

@@ -1,6 +1,7 @@
 //! The what-if view's drawing: base against what-if shares as bars on top
 //! (the band fills in when the worker's draws arrive), the levers on the
-//! left and the list of changes on the right.
+//! left and the list of changes on the right; between them, when asked,
+//! each latent class's shares (`classes`).
 
 use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Layout, Rect};
@@ -27,8 +28,10 @@ pub fn render(w: &WhatIf, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
         .unwrap_or(spec.alternatives.len());
     // One more line says that the figures are simulated.
     let simulated = u16::from(l.model.fit.family.abilities().simulation_draws);
-    let [top, bottom] = Layout::vertical([
+    let by_class = if w.by_class { j as u16 + 3 } else { 0 };
+    let [top, classes, bottom] = Layout::vertical([
         Constraint::Length(j as u16 + 4 + simulated),
+        Constraint::Length(by_class),
         Constraint::Min(3),
     ])
     .areas(area);
@@ -36,6 +39,9 @@ pub fn render(w: &WhatIf, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
         Layout::horizontal([Constraint::Percentage(50), Constraint::Percentage(50)]).areas(bottom);
 
     shares_panel(w, l, t, top, buf);
+    if by_class > 0 {
+        super::classes::render(w, l, t, classes, buf);
+    }
     levers_panel(w, spec, t, levers, buf);
     changes_panel(w, spec, t, changes, buf);
 }

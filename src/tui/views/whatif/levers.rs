@@ -1,10 +1,12 @@
 //! The what-if's state: one lever per (alternative, attribute) and per
 //! characteristic, each holding at most one change; withdrawn alternatives;
 //! the point forecast (computed at once, no draws) and the band forecast
-//! (with draws, from the worker, kept only if its generation is current).
+//! (with draws, from the worker, kept only if its generation is current);
+//! for a model with latent classes, each class's shares from the same job.
 
 use std::any::Any;
 
+use crate::analysis::classes::ByClass;
 use crate::scenario::{self, Change, Forecast, Op, Scenario, Target};
 use crate::spec::Spec;
 use crate::tui::worker::{Job, Model, SEED};
@@ -37,6 +39,19 @@ pub struct WhatIf {
     /// The point shown is a quick one (fewer simulation draws); the full
     /// forecast replaces it when the worker's band arrives.
     pub quick: bool,
+    /// Each latent class's shares at the base and after the what-if (from
+    /// the worker, with the band; none without classes or while computed).
+    pub classes: Option<ByClass>,
+    /// The panel of shares by class is shown.
+    pub by_class: bool,
+}
+
+/// What the worker returns for a what-if: its forecast with the band and,
+/// for a model with latent classes, each class's shares.
+#[derive(Debug)]
+pub struct Banded {
+    pub forecast: Forecast,
+    pub classes: Option<ByClass>,
 }
 
 /// Situations above which a family that simulates gives a quick point
@@ -147,6 +162,8 @@ impl WhatIf {
             error: None,
             band_error: None,
             quick: false,
+            classes: None,
+            by_class: false,
         }
     }
 
@@ -216,6 +233,7 @@ impl WhatIf {
         self.generation = generation;
         self.band = None;
         self.band_error = None;
+        self.classes = None;
         match scenario::forecast(&model.spec, &model.fit, &model.ds, &sc, &opts) {
             Ok(f) => {
                 self.point = Some(f);
@@ -231,18 +249,23 @@ impl WhatIf {
     }
 
     /// A band result from the worker: kept only when it belongs to the current what-if.
-    pub fn banded(&mut self, generation: u64, result: Result<Box<Forecast>, String>) {
+    pub fn banded(&mut self, generation: u64, result: Result<Box<Banded>, String>) {
         if generation != self.generation {
             return;
         }
         match result {
-            Ok(f) => {
+            Ok(b) => {
+                let Banded {
+                    forecast: f,
+                    classes,
+                } = *b;
+                self.classes = classes;
                 if self.quick {
                     // The worker's forecast has the full point figures too.
-                    self.point = Some((*f).clone());
+                    self.point = Some(f.clone());
                     self.quick = false;
                 }
-                self.band = Some(*f)
+                self.band = Some(f)
             }
             Err(e) => self.band_error = Some(e),
         }
@@ -262,7 +285,8 @@ impl WhatIf {
     }
 }
 
-/// The what-if forecast with parameter draws, for the band, on the worker.
+/// The what-if forecast with parameter draws, for the band, on the worker;
+/// for a model with latent classes, each class's shares first.
 fn band_job(index: usize, generation: u64, model: Model, sc: Scenario) -> Job {
     let opts = scenario::Options {
         draws: crate::tui::worker::DRAWS,
@@ -276,8 +300,15 @@ fn band_job(index: usize, generation: u64, model: Model, sc: Scenario) -> Job {
         index,
         generation,
         work: Box::new(move || {
-            scenario::forecast(&model.spec, &model.fit, &model.ds, &sc, &opts)
-                .map(|f| Box::new(f) as Box<dyn Any + Send>)
+            let classes = if crate::report::walk::class_count(&model.spec) > 1 {
+                let prep =
+                    scenario::prepare::prepare(&model.spec, &model.fit, &model.ds.table, &sc)?;
+                crate::analysis::classes::by_class(&model.fit, Some(&prep))
+            } else {
+                None
+            };
+            let forecast = scenario::forecast(&model.spec, &model.fit, &model.ds, &sc, &opts)?;
+            Ok(Box::new(Banded { forecast, classes }) as Box<dyn Any + Send>)
         }),
     }
 }

@@ -1,9 +1,10 @@
 //! The what-if view: levers that change attributes and characteristics,
 //! withdrawn alternatives, the point forecast at once and its band from the
 //! worker. Its keys step, type, reset, withdraw, save and export, and open the
-//! demand curve of a lever; `levers` holds its per-model state, `draw` its
+//! demand curve of a lever, and show the shares by latent class; `levers` holds its per-model state, `draw` its
 //! drawing, `files` the scenario and forecast it writes.
 
+mod classes;
 mod draw;
 mod files;
 pub mod levers;
@@ -14,12 +15,12 @@ use std::path::Path;
 use ratatui::buffer::Buffer;
 use ratatui::layout::Rect;
 
-use crate::scenario::{Forecast, Op, Target};
+use crate::scenario::{Op, Target};
 use crate::tui::keys::Action;
 use crate::tui::part::{Answer, Ctx, Focus, Key, PerModel, Reply, Tone, View};
 use crate::tui::worker::Job;
-pub use levers::WhatIf;
 use levers::{parse_change, stepped};
+pub use levers::{Banded, WhatIf};
 
 /// The view's title, also the name its jobs carry.
 pub const TITLE: &str = "what-if";
@@ -62,6 +63,7 @@ const KEYS: &[Key] = &[
     Key::command("s", "s", "save as scenario TOML"),
     Key::command("x", "x", "export csv/json/parquet"),
     Key::command("c", "c", "demand curve of lever"),
+    Key::command("b", "b", "shares by latent class"),
 ];
 
 impl View for WhatIfView {
@@ -130,6 +132,12 @@ impl View for WhatIfView {
                 "whatif.csv",
             ),
             Action::Command('c') => curve_of_lever(w, reply),
+            Action::Command('b') => match ctx.loaded() {
+                Some(l) if crate::report::walk::class_count(&l.model.spec) > 1 => {
+                    w.by_class = !w.by_class
+                }
+                _ => reply.say(Tone::Info, "the model has no latent classes"),
+            },
             _ => {}
         }
     }
@@ -141,7 +149,7 @@ impl View for WhatIfView {
         result: Result<Box<dyn Any + Send>, String>,
     ) {
         self.models
-            .arrived::<Forecast>(index, result, |x, r| x.banded(generation, r));
+            .arrived::<Banded>(index, result, |x, r| x.banded(generation, r));
     }
 
     fn answered(&mut self, ctx: &Ctx, ask: u8, text: &str, reply: &mut Reply) -> Answer {

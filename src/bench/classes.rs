@@ -202,6 +202,13 @@ pub fn run(o: ClassesOptions) -> Result<ExitCode> {
     crate::error::check_count("--decision-makers", o.decision_makers, 1_000_000, 0)?;
     crate::error::check_count("--tasks", o.tasks, 1_000, 0)?;
     crate::error::check_count("--starts", o.starts, 10_000, 0)?;
+    // About 1 kB per situation: the CSV, the loaded columns and the design.
+    crate::error::check_count(
+        "--decision-makers x --tasks",
+        o.decision_makers * o.tasks,
+        super::MAX_SITUATIONS / 5,
+        1000,
+    )?;
     super::in_folder(o.keep.as_deref(), "classes", |dir| measure(&o, dir))
 }
 

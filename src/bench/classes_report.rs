@@ -134,7 +134,7 @@ fn print_timeline(tl: &Timeline, hessian_s: f64) -> Result<()> {
     let total: f64 = secs.iter().sum();
     let per = median(secs.clone());
     crate::outln!(
-        "    before the starts         {}   (pooled logit, scales)",
+        "    before the starts         {}   (checks, design, pooled logit, scales)",
         ms(tl.before_starts_s)
     );
     crate::outln!(
@@ -157,7 +157,7 @@ fn print_timeline(tl: &Timeline, hessian_s: f64) -> Result<()> {
         );
     }
     crate::outln!(
-        "    search from the best      {}   ({} passes counted)",
+        "    search from the best start {}  ({} passes counted)",
         ms(tl.search_s),
         tl.search_passes
     );

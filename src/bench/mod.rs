@@ -5,6 +5,8 @@
 //! of passes, the whole fit, `sharecast fit` as a separate process, and the
 //! peak memory. `docs/performance.md` reports the figures.
 
+pub mod classes;
+mod classes_report;
 pub mod correlated;
 mod figures;
 mod measure;

@@ -28,6 +28,11 @@ pub enum BenchModel {
     /// A forecast over a Parquet population of --situations situations read
     /// in chunks (`simulate --data`), the full model fitted on a sample.
     Stream,
+    /// A latent class logit panel: --decision-makers x --tasks situations of
+    /// 4 alternatives from 3 classes, membership on 2 columns, --starts
+    /// random starts; side by side with an independent numpy/scipy latent
+    /// class code (bench/classes_peer.py).
+    Classes,
 }
 
 #[derive(Args, Debug)]
@@ -61,23 +66,30 @@ pub struct BenchArgs {
     /// With --profile: passes with the Hessian.
     #[arg(long, requires = "profile")]
     pub hessian: bool,
-    /// --model mixed: decision makers in the panel.
+    /// --model mixed and classes: decision makers in the panel.
     #[arg(long, default_value_t = 5_000)]
     pub decision_makers: usize,
-    /// --model mixed: choice tasks per decision maker.
+    /// --model mixed and classes: choice tasks per decision maker.
     #[arg(long, default_value_t = 10)]
     pub tasks: usize,
     /// --model mixed: Halton draws per decision maker (default 1,000);
     /// --model probit: GHK draws per situation (default 500).
     #[arg(long)]
     pub draws: Option<usize>,
-    /// --model mixed: do not run the numpy peer.
+    /// --model mixed and classes: do not run the numpy peer.
     #[arg(long)]
     pub no_peer: bool,
     /// --model mixed: simulate correlated tastes and fit the independent and
     /// the correlated model on them in the same run (no numpy peer).
     #[arg(long)]
     pub correlated: bool,
+    /// --model classes: random starts of the latent class search.
+    #[arg(long, default_value_t = 20)]
+    pub starts: usize,
+    /// --model classes: the numpy peer begins no new start after this many
+    /// seconds (it runs at least one).
+    #[arg(long, default_value_t = 180.0)]
+    pub peer_seconds: f64,
     /// --model stream: rows of the population read at a time.
     #[arg(long, default_value_t = crate::data::stream::DEFAULT_CHUNK_ROWS)]
     pub chunk_rows: usize,
@@ -94,6 +106,9 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
     }
     if args.model == BenchModel::Stream {
         return stream(args);
+    }
+    if args.model == BenchModel::Classes {
+        return classes(args);
     }
     let draws = args.draws.unwrap_or(if args.model == BenchModel::Probit {
         500
@@ -147,7 +162,10 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
             BenchModel::Full => bench::Model::Full,
             BenchModel::Characteristics => bench::Model::Characteristics,
             BenchModel::Nested => bench::Model::Nested,
-            BenchModel::Mixed | BenchModel::Probit | BenchModel::Stream => bench::Model::Full, // handled above
+            // handled above
+            BenchModel::Mixed | BenchModel::Probit | BenchModel::Stream | BenchModel::Classes => {
+                bench::Model::Full
+            }
         },
         keep: args.keep,
         write_only: args.write_only,
@@ -175,5 +193,31 @@ fn stream(args: BenchArgs) -> Result<ExitCode> {
         keep: args.keep,
         write_only: args.write_only,
         json: args.json,
+    })
+}
+
+/// `--model classes`: the latent class logit panel.
+fn classes(args: BenchArgs) -> Result<ExitCode> {
+    if args.profile.is_some() || args.draws.is_some() || args.situations.is_some() {
+        return Err(crate::error::Error::Usage(
+            "--model classes: the size is --decision-makers x --tasks; --situations, --draws and --profile do not apply".into(),
+        ));
+    }
+    if !(args.peer_seconds >= 0.0 && args.peer_seconds <= 86_400.0) {
+        return Err(crate::error::Error::Usage(
+            "--peer-seconds must be between 0 and 86400".into(),
+        ));
+    }
+    bench::classes::run(bench::classes::ClassesOptions {
+        decision_makers: args.decision_makers,
+        tasks: args.tasks,
+        starts: args.starts,
+        repeats: args.repeats.min(5),
+        keep: args.keep,
+        no_process: args.no_process,
+        no_peer: args.no_peer,
+        peer_seconds: args.peer_seconds,
+        json: args.json,
+        write_only: args.write_only,
     })
 }

@@ -3,6 +3,7 @@
 
 mod analysis;
 mod analytic;
+mod bench_classes;
 mod catalogue;
 mod classes;
 mod classes_cli;

@@ -297,3 +297,64 @@ fn forecasts_are_the_class_sized_sum_of_the_classes_and_calibrate_every_class() 
         }
     }
 }
+
+#[test]
+fn three_segments_of_three_thousand_decision_makers_are_recovered() {
+    // The benchmark's invented panel (src/bench/classes.rs: 3 classes, a
+    // membership logit on two columns) at 3,000 decision makers x 8 tasks.
+    let dir = scratch("classes_recovery");
+    let keep = dir.join("panel");
+    let k = keep.to_str().unwrap();
+    let (c, out, err) = run(&[
+        "bench",
+        "--model",
+        "classes",
+        "--decision-makers",
+        "3000",
+        "--tasks",
+        "8",
+        "--starts",
+        "5",
+        "--peer-seconds",
+        "0",
+        "--no-process",
+        "--keep",
+        k,
+        "--json",
+    ]);
+    assert_eq!(c, 0, "{err}");
+    let b: Value = serde_json::from_str(&out).unwrap();
+    // Recovery within 3.5 standard errors (consistency and asymptotic
+    // normality of maximum likelihood; Train 2009 ch. 8): every parameter.
+    for p in b["recovery"]["parameters"].as_array().unwrap() {
+        let (est, se, truth) = (
+            p["estimate"].as_f64().unwrap(),
+            p["std_error"].as_f64().unwrap(),
+            p["truth"].as_f64().unwrap(),
+        );
+        assert!(
+            ((est - truth) / se).abs() < 3.5,
+            "{}: {est} ± {se}, truth {truth}",
+            p["name"]
+        );
+    }
+    // And the class shares, against the sample's true ones, with their
+    // delta-method errors from the fit's analysis.
+    let spec = keep.join("classes.toml");
+    let (c, out, err) = run(&["fit", spec.to_str().unwrap(), "--json", "--draws", "0"]);
+    assert_eq!(c, 0, "{err}");
+    let f: Value = serde_json::from_str(&out).unwrap();
+    let truth = b["recovery"]["true_shares"].as_array().unwrap();
+    for (r, t) in f["classes"]["rows"].as_array().unwrap().iter().zip(truth) {
+        let (s, se, t) = (
+            r["share"].as_f64().unwrap(),
+            r["share_std_error"].as_f64().unwrap(),
+            t.as_f64().unwrap(),
+        );
+        assert!(
+            ((s - t) / se).abs() < 3.5,
+            "{}: {s} ± {se}, truth {t}",
+            r["class"]
+        );
+    }
+}

@@ -268,9 +268,11 @@ pub(super) fn random(spec: &Spec, fit: &Fit, a: &Analysis) -> Vec<Random> {
         .collect()
 }
 
+/// The derived figures by group; the latent classes' shares are left to
+/// the classes' own tables (`walk::classes`).
 pub(super) fn derived(a: &Analysis) -> Vec<Group> {
     let mut groups: Vec<Group> = Vec::new();
-    for r in &a.derived {
+    for r in a.derived.iter().filter(|r| r.group != crate::model::SHARES) {
         let row = labelled(&r.name, r.value, r.std_error);
         match groups.iter_mut().find(|g| g.name == r.group) {
             Some(g) => g.rows.push(row),

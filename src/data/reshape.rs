@@ -86,7 +86,43 @@ fn groups(spec: &Spec, table: &Table, rows: &[usize]) -> Result<(Option<Vec<u32>
         let n = index.len() as u32;
         out.push(*index.entry(keys[r].as_str()).or_insert(n));
     }
+    same_within(spec, table, (&keys, g), rows, (&out, index.len()))?;
     Ok((Some(out), index.len()))
+}
+
+/// Refuses a family column (`Spec::family_columns`: they describe the
+/// decision maker) that varies within a decision maker, naming them and two
+/// of their rows.
+fn same_within(
+    spec: &Spec,
+    table: &Table,
+    (keys, g): (&[String], &str),
+    rows: &[usize],
+    (unit_of, units): (&[u32], usize),
+) -> Result<()> {
+    for (column, role) in &spec.family_columns {
+        let v = table.numbers(column, role)?;
+        let mut first = vec![usize::MAX; units];
+        for (&r, &u) in rows.iter().zip(unit_of) {
+            let f = &mut first[u as usize];
+            if *f == usize::MAX {
+                *f = r;
+            } else if v[r] != v[*f] {
+                return Err(Error::data(
+                    &table.file,
+                    format!(
+                        "column `{column}` ({role}) varies within decision maker `{}` ([data].group `{g}`): rows {} and {} hold {} and {}; it describes the decision maker, so it must be the same in all of their situations",
+                        keys[r],
+                        table.offset + *f + 1,
+                        table.offset + r + 1,
+                        v[*f],
+                        v[r]
+                    ),
+                ));
+            }
+        }
+    }
+    Ok(())
 }
 
 /// The chosen alternative of each row of a wide file. The few distinct values of

@@ -199,7 +199,12 @@ fn the_spec_refuses_what_classes_cannot_do_naming_the_key() {
         (
             "classes = 2\nmembership = [\"garden_size\"]\n",
             "vary",
-            vec!["[model].membership", "garden_size", "rows 9 and 10"],
+            vec![
+                "[model].membership",
+                "garden_size",
+                "decision maker `2`",
+                "rows 9 and 10",
+            ],
         ),
         (
             "classes = 60\n",

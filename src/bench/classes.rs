@@ -11,7 +11,7 @@
 //! prints the figures.
 
 use std::path::{Path, PathBuf};
-use std::process::{Command, ExitCode, Stdio};
+use std::process::ExitCode;
 use std::sync::{Arc, Mutex};
 use std::time::Instant;
 
@@ -254,7 +254,7 @@ fn measure(o: &ClassesOptions, dir: &Path) -> Result<ExitCode> {
         Err("skipped (--no-peer)".to_string())
     } else {
         write_peer(&dir.join("peer"), &spec, &d, o, &sim.membership, &theta)?;
-        run_peer(&dir.join("peer"))
+        super::run_peer("classes_peer.py", &dir.join("peer"), &[])
     };
     drop((family, d));
     let (timeline, rec) = fit_timed(&spec, obs, &theta)?;
@@ -401,30 +401,4 @@ fn write_peer(
         std::fs::write(&p, bytes).map_err(|e| Error::io(&p, e))?;
     }
     Ok(())
-}
-
-/// Runs the peer on `dir`: its JSON line, or why it could not run.
-fn run_peer(dir: &Path) -> std::result::Result<serde_json::Value, String> {
-    let script = [
-        PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("bench/classes_peer.py"),
-        PathBuf::from("bench/classes_peer.py"),
-    ]
-    .into_iter()
-    .find(|p| p.exists())
-    .ok_or("bench/classes_peer.py not found")?;
-    let out = Command::new("python3")
-        .arg(&script)
-        .arg(dir)
-        .stdin(Stdio::null())
-        .output()
-        .map_err(|e| format!("python3 did not start: {e}"))?;
-    if !out.status.success() {
-        let err = String::from_utf8_lossy(&out.stderr);
-        return Err(format!(
-            "the numpy peer failed: {}",
-            err.lines().last().unwrap_or("")
-        ));
-    }
-    let text = String::from_utf8_lossy(&out.stdout);
-    serde_json::from_str(text.lines().last().unwrap_or("")).map_err(|e| e.to_string())
 }

@@ -9,7 +9,7 @@
 
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
-use std::process::{Command, ExitCode, Stdio};
+use std::process::ExitCode;
 use std::sync::Arc;
 use std::time::Instant;
 
@@ -243,34 +243,6 @@ fn write_peer(
     Ok(())
 }
 
-/// Runs the numpy peer on `dir`: its JSON line, or why it could not run.
-fn run_peer(dir: &Path, repeats: usize) -> std::result::Result<serde_json::Value, String> {
-    let script = [
-        PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("bench/mixed_peer.py"),
-        PathBuf::from("bench/mixed_peer.py"),
-    ]
-    .into_iter()
-    .find(|p| p.exists())
-    .ok_or("bench/mixed_peer.py not found")?;
-    let out = Command::new("python3")
-        .arg(&script)
-        .arg(dir)
-        .arg("--repeats")
-        .arg(repeats.to_string())
-        .stdin(Stdio::null())
-        .output()
-        .map_err(|e| format!("python3 did not start: {e}"))?;
-    if !out.status.success() {
-        let err = String::from_utf8_lossy(&out.stderr);
-        return Err(format!(
-            "the numpy peer failed: {}",
-            err.lines().last().unwrap_or("")
-        ));
-    }
-    let text = String::from_utf8_lossy(&out.stdout);
-    serde_json::from_str(text.lines().last().unwrap_or("")).map_err(|e| e.to_string())
-}
-
 pub fn run(o: MixedOptions) -> Result<ExitCode> {
     if o.decision_makers == 0 || o.tasks == 0 || o.draws == 0 {
         return Err(Error::Usage(
@@ -325,7 +297,7 @@ fn measure(o: &MixedOptions, dir: &Path) -> Result<ExitCode> {
     } else {
         let pdir = dir.join("peer");
         write_peer(&pdir, &d, o, &theta, &random)?;
-        run_peer(&pdir, 3)
+        super::run_peer("mixed_peer.py", &pdir, &["--repeats", "3"])
     };
     let (fit_s, peak, ok) = if o.no_process {
         (f64::NAN, None, true)

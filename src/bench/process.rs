@@ -113,3 +113,36 @@ pub(crate) fn ms(s: f64) -> String {
         format!("{:.2} s", s)
     }
 }
+
+/// Runs the numpy peer `bench/<script>` on `dir` with `args`: the JSON of
+/// its last line, or why it could not run.
+pub(crate) fn run_peer(
+    script: &str,
+    dir: &Path,
+    args: &[&str],
+) -> std::result::Result<serde_json::Value, String> {
+    let rel = PathBuf::from("bench").join(script);
+    let path = [
+        PathBuf::from(env!("CARGO_MANIFEST_DIR")).join(&rel),
+        rel.clone(),
+    ]
+    .into_iter()
+    .find(|p| p.exists())
+    .ok_or_else(|| format!("{} not found", rel.display()))?;
+    let out = Command::new("python3")
+        .arg(&path)
+        .arg(dir)
+        .args(args)
+        .stdin(Stdio::null())
+        .output()
+        .map_err(|e| format!("python3 did not start: {e}"))?;
+    if !out.status.success() {
+        let err = String::from_utf8_lossy(&out.stderr);
+        return Err(format!(
+            "the numpy peer failed: {}",
+            err.lines().last().unwrap_or("")
+        ));
+    }
+    let text = String::from_utf8_lossy(&out.stdout);
+    serde_json::from_str(text.lines().last().unwrap_or("")).map_err(|e| e.to_string())
+}

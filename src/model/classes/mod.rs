@@ -222,7 +222,6 @@ impl Family for LatentClass {
     }
 
     fn mixture(&self, d: &Design) -> Option<Arc<dyn Points>> {
-        let _ = d;
         (!self.single()).then(|| {
             Arc::new(points::ClassPoints {
                 lay: self.lay.clone(),

@@ -9,7 +9,7 @@ use serde::Serialize;
 
 use crate::design::on_pieces;
 use crate::estimate::Fit;
-use crate::model::{WhatIf, SHARES};
+use crate::model::{Posteriors, WhatIf, SHARES};
 use crate::spec::Spec;
 
 /// One class: its size and predicted shares.
@@ -50,6 +50,7 @@ pub struct Classes {
 /// The latent class analysis of a fit (`None`: the family has no classes).
 pub fn classes(spec: &Spec, fit: &Fit, derived: &[super::DerivedRow]) -> Option<Classes> {
     let post = fit.family.posterior_classes(&fit.design, &fit.beta)?;
+    let prior = fit.family.prior_classes(&fit.design, &fit.beta)?;
     if post.classes < 2 {
         return None;
     }
@@ -70,7 +71,7 @@ pub fn classes(spec: &Spec, fit: &Fit, derived: &[super::DerivedRow]) -> Option<
         .family_columns
         .iter()
         .enumerate()
-        .map(|(m, (name, _))| (name.clone(), by_column(fit, columns + m)))
+        .map(|(m, (name, _))| (name.clone(), by_column(fit, (&prior, &post), columns + m)))
         .collect();
     Some(Classes {
         rows,
@@ -182,15 +183,15 @@ const DISTINCT: usize = 8;
 
 /// The class shares by the values of membership column `col` (its index in
 /// the observations' per-situation columns): prior and posterior averages
-/// over the decision makers with each value, or in each fifth of them.
-pub fn by_column(fit: &Fit, col: usize) -> Vec<ColumnBand> {
+/// over the decision makers with each value, or in each fifth of them,
+/// from the fit's prior (per situation) and posterior (per decision maker)
+/// class probabilities.
+pub fn by_column(
+    fit: &Fit,
+    (prior, post): (&Posteriors, &Posteriors),
+    col: usize,
+) -> Vec<ColumnBand> {
     let d = &fit.design;
-    let (Some(post), Some(prior)) = (
-        fit.family.posterior_classes(d, &fit.beta),
-        fit.family.prior_classes(d, &fit.beta),
-    ) else {
-        return Vec::new();
-    };
     let c = post.classes;
     let mut units: Vec<(f64, usize)> = post
         .first

@@ -8,9 +8,13 @@ mod placeholder;
 mod reshape;
 pub mod stream;
 pub mod table;
+pub mod tables;
 pub mod write;
 
+use std::sync::Arc;
+
 pub use table::{Column, Table};
+pub use tables::Tables;
 
 use crate::error::{Error, Result};
 use crate::spec::{Layout, Source, Spec};
@@ -38,6 +42,12 @@ pub struct Observations {
     pub characteristics: Vec<Vec<f64>>,
     /// The file row (from 1) where each situation starts.
     pub first_row: Vec<usize>,
+    /// Added to each utility, `[i * J + j]`: the correction of sampled
+    /// choice sets drawn with unequal probabilities (`tables::sample`).
+    pub offset: Option<Vec<f64>>,
+    /// Layout "tables": the tables the full sets were built from (the
+    /// alternatives are theirs, in order).
+    pub tables: Option<Arc<Tables>>,
 }
 
 /// Observations plus the situation-level columns that scenarios and
@@ -57,17 +67,27 @@ pub struct Extra {
 
 /// Loads the spec's data file.
 pub fn load(spec: &Spec, extra: &Extra) -> Result<Dataset> {
+    let tables = tables_of(spec)?;
     let (numeric, text) = needed_columns(spec, extra);
     let table = load::read(&spec.data.file, &numeric, &text)?;
-    from_table(spec, table, true)
+    from_table(spec, table, true, tables)
+}
+
+/// Layout "tables": the spec's tables, loaded once for all the situations.
+pub(crate) fn tables_of(spec: &Spec) -> Result<Option<Arc<Tables>>> {
+    Ok(match spec.data.layout {
+        Layout::Tables { .. } => Some(Arc::new(Tables::load(spec)?)),
+        _ => None,
+    })
 }
 
 /// Loads another file with the same columns (e.g. `simulate --data`); the
 /// file may lack the observed choices (see `population_columns`).
 pub fn load_file(spec: &Spec, file: &std::path::Path, extra: &Extra) -> Result<Dataset> {
+    let tables = tables_of(spec)?;
     let (numeric, text, choices) = population_columns(spec, file, extra)?;
     let table = load::read(file, &numeric, &text)?;
-    from_table(spec, table, choices)
+    from_table(spec, table, choices, tables)
 }
 
 /// The columns to read of a population file (one to forecast over, not to
@@ -81,7 +101,7 @@ pub(crate) fn population_columns(
     extra: &Extra,
 ) -> Result<(Vec<String>, Vec<String>, bool)> {
     let column = match &spec.data.layout {
-        Layout::Wide { choice } => choice,
+        Layout::Wide { choice } | Layout::Tables { choice, .. } => choice,
         Layout::Long { chosen, .. } => chosen,
     };
     let choices = spec.derived_names().contains(&column.as_str())
@@ -93,8 +113,21 @@ pub(crate) fn population_columns(
 /// The `Dataset` of the needed columns of a file (or of a chunk of its rows):
 /// `[derived]` columns added, then reshaped. Without observed `choices`,
 /// placeholders stand in for them (`placeholder::choices`).
-fn from_table(spec: &Spec, mut table: Table, choices: bool) -> Result<Dataset> {
+fn from_table(
+    spec: &Spec,
+    mut table: Table,
+    choices: bool,
+    tables: Option<Arc<Tables>>,
+) -> Result<Dataset> {
     add_derived(spec, &mut table)?;
+    if let Some(t) = &tables {
+        if !choices {
+            tables::stand_in(spec, t, &mut table)?;
+        }
+        let mut obs = tables::observations(spec, t, &table)?;
+        obs.tables = Some(t.clone());
+        return Ok(Dataset { obs, table });
+    }
     if !choices {
         placeholder::choices(spec, &mut table)?;
     }
@@ -108,6 +141,12 @@ fn from_table(spec: &Spec, mut table: Table, choices: bool) -> Result<Dataset> {
             alternative,
             chosen,
         } => reshape::long(spec, &table, situation, alternative, chosen)?,
+        Layout::Tables { .. } => {
+            return Err(Error::spec(
+                &spec.path,
+                "[data]: layout \"tables\" needs its tables loaded",
+            ))
+        }
     };
     Ok(Dataset {
         obs,
@@ -149,7 +188,16 @@ fn columns(spec: &Spec, extra: &Extra, choices: bool) -> (Vec<String>, Vec<Strin
                 add(&mut numeric, chosen);
             }
         }
+        Layout::Tables { choice, pairs, .. } => {
+            if choices {
+                add(&mut text, choice);
+            }
+            if let Some(p) = pairs {
+                add(&mut text, &p.from);
+            }
+        }
     }
+    let tables = matches!(spec.data.layout, Layout::Tables { .. });
     if let Some(g) = &spec.data.group {
         add(&mut text, g);
     }
@@ -165,8 +213,12 @@ fn columns(spec: &Spec, extra: &Extra, choices: bool) -> (Vec<String>, Vec<Strin
         }
     }
     for a in &spec.attributes {
+        // In layout "tables" the values are in the tables; `times` is here.
+        if let Some(t) = &a.times {
+            add(&mut numeric, t);
+        }
         for s in a.sources.iter().flatten() {
-            if let Source::Column(c) = s {
+            if let (Source::Column(c), false) = (s, tables) {
                 add(&mut numeric, c);
             }
         }
@@ -265,6 +317,12 @@ impl Observations {
         let weight: Vec<f64> = idx.iter().map(|&i| self.weight[i]).collect();
         let weight_total = weight.iter().sum::<f64>() * raw_per_unit;
         Observations {
+            offset: self.offset.as_ref().map(|o| {
+                idx.iter()
+                    .flat_map(|&i| o[i * j..(i + 1) * j].to_vec())
+                    .collect()
+            }),
+            tables: self.tables.clone(),
             situations: idx.len(),
             alternatives: j,
             chosen: idx.iter().map(|&i| self.chosen[i]).collect(),

@@ -23,6 +23,8 @@ pub(super) fn choices(spec: &Spec, table: &mut Table) -> Result<()> {
             alternative,
             chosen,
         } => long(spec, table, situation, alternative, chosen),
+        // Its stand-ins need the tables (`tables::stand_in`).
+        Layout::Tables { .. } => Ok(()),
     }
 }
 

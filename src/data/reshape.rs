@@ -40,7 +40,7 @@ fn declared(spec: &Spec) -> String {
 }
 
 /// Weights of the situations, rescaled to average 1, and their total as written.
-fn weights(spec: &Spec, table: &Table, rows: &[usize]) -> Result<(Vec<f64>, f64)> {
+pub(crate) fn weights(spec: &Spec, table: &Table, rows: &[usize]) -> Result<(Vec<f64>, f64)> {
     let raw = raw_weights(spec, table, rows)?;
     let total = match &spec.data.weight {
         Some(w) => {
@@ -75,7 +75,11 @@ fn raw_weights(spec: &Spec, table: &Table, rows: &[usize]) -> Result<Vec<f64>> {
     }
 }
 
-fn groups(spec: &Spec, table: &Table, rows: &[usize]) -> Result<(Option<Vec<u32>>, usize)> {
+pub(crate) fn groups(
+    spec: &Spec,
+    table: &Table,
+    rows: &[usize],
+) -> Result<(Option<Vec<u32>>, usize)> {
     let Some(g) = &spec.data.group else {
         return Ok((None, 0));
     };
@@ -251,6 +255,8 @@ pub(super) fn wide(spec: &Spec, table: &Table, choice: &str) -> Result<Observati
     let (weight, weight_total) = weights(spec, table, &rows)?;
     let (group, ngroups) = groups(spec, table, &rows)?;
     Ok(Observations {
+        offset: None,
+        tables: None,
         situations: n,
         alternatives: nalt,
         chosen,

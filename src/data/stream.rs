@@ -64,7 +64,12 @@ pub struct Chunks<'a> {
     ahead: Option<Vec<u8>>,
     /// Whether the file holds observed choices (a population may not).
     choices: bool,
+    /// Layout "tables": the tables, loaded once.
+    tables: Option<std::sync::Arc<super::Tables>>,
 }
+
+/// Situations x alternatives per chunk of a file in layout "tables".
+const TABLES_CELLS: usize = 4_000_000;
 
 impl<'a> Chunks<'a> {
     /// Opens `file` for chunks of `rows` rows (at least 1), checking that
@@ -78,7 +83,14 @@ impl<'a> Chunks<'a> {
         let key = match (&spec.data.group, &spec.data.layout) {
             (Some(g), _) => Some(g.clone()),
             (None, Layout::Long { situation, .. }) => Some(situation.clone()),
-            (None, Layout::Wide { .. }) => None,
+            (None, Layout::Wide { .. } | Layout::Tables { .. }) => None,
+        };
+        // A chunk of a file in layout "tables" holds every alternative of
+        // each of its situations: fewer rows keep its arrays bounded.
+        let tables = super::tables_of(spec)?;
+        let rows = match &tables {
+            Some(t) => rows.min((TABLES_CELLS / t.alternatives().max(1)).max(1)),
+            None => rows,
         };
         let source = if load::is_parquet(file)? {
             let (meta, total) = load::parquet_rows(file)?;
@@ -111,6 +123,7 @@ impl<'a> Chunks<'a> {
             key,
             ahead: None,
             choices,
+            tables,
         };
         if let Source::Csv { .. } = chunks.source {
             chunks.read_header()?;
@@ -183,7 +196,7 @@ impl<'a> Chunks<'a> {
                 }
             }
             let n_rows = table.nrows;
-            let mut ds = super::from_table(self.spec, table, self.choices)?;
+            let mut ds = super::from_table(self.spec, table, self.choices, self.tables.clone())?;
             if let Layout::Long { .. } = self.spec.data.layout {
                 // The situation-level table of a long file counts situations.
                 ds.table.offset = self.situations;

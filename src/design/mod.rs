@@ -110,6 +110,10 @@ impl Design {
                 Term::Family(_) => {}
             }
         }
+        // Sampled sets have a slot per sampled alternative, fewer than the
+        // alternatives; `[sampling]` gives every alternative the same
+        // features, so the slots take the first ones'.
+        features.truncate(obs.alternatives);
         Design {
             obs,
             params: spec.parameters.len(),
@@ -147,7 +151,10 @@ impl Design {
                 *o = f64::NEG_INFINITY;
                 continue;
             }
-            let mut v = 0.0;
+            let mut v = match &self.obs.offset {
+                Some(o) => o[i * self.obs.alternatives + j],
+                None => 0.0,
+            };
             for f in &self.features[j] {
                 v += beta[f.param] * self.value(i, j, f.value);
             }

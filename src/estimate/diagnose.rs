@@ -284,7 +284,17 @@ fn alternatives(
         flats,
         never_chosen,
     } = *unused;
+    if design.alternatives() != spec.alternatives.len() {
+        // Sampled sets: slots, not alternatives (the full sets are not here).
+        return;
+    }
+    let tables = matches!(spec.data.layout, crate::spec::Layout::Tables { .. });
     for (a, alt) in spec.alternatives.iter().enumerate() {
+        if tables && !spec.constants {
+            // Hundreds of alternatives without constants: one never chosen
+            // or closed everywhere leaves no parameter unidentified.
+            break;
+        }
         let avail = (0..design.situations())
             .filter(|&i| design.available(i, a))
             .count();

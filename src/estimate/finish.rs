@@ -280,6 +280,7 @@ fn statistics(
         }
         .to_string(),
         starts: out.starts.clone(),
+        sampled: None,
     }
 }
 

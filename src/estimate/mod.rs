@@ -8,6 +8,7 @@ pub mod inference;
 mod newton;
 pub mod optimise;
 mod reference;
+pub mod sampled;
 pub mod simcheck;
 mod start;
 
@@ -119,6 +120,9 @@ pub struct FitStats {
     /// How the family's own starts fared (a latent class model's EM starts).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub starts: Option<crate::model::Starts>,
+    /// How the choice sets were sampled, when the spec has `[sampling]`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub sampled: Option<sampled::SampledSets>,
 }
 
 #[derive(Clone, Debug, Serialize, Deserialize)]
@@ -178,16 +182,25 @@ fn normal_p(t: f64) -> f64 {
     }
 }
 
-/// Log-likelihood with equal probabilities over each situation's available alternatives.
+/// Log-likelihood with every coefficient 0: equal probabilities over each
+/// situation's available alternatives (or, with a sampling correction, the
+/// probabilities the corrections alone give).
 pub fn null_log_likelihood(obs: &Observations) -> f64 {
     let j = obs.alternatives;
     (0..obs.situations)
         .map(|i| {
-            let n = obs.available[i * j..(i + 1) * j]
-                .iter()
-                .filter(|a| **a)
-                .count() as f64;
-            -obs.weight[i] * n.ln()
+            let open = &obs.available[i * j..(i + 1) * j];
+            let Some(o) = &obs.offset else {
+                let n = open.iter().filter(|a| **a).count() as f64;
+                return -obs.weight[i] * n.ln();
+            };
+            let o = &o[i * j..(i + 1) * j];
+            let m = (0..j)
+                .filter(|&a| open[a])
+                .map(|a| o[a])
+                .fold(f64::NEG_INFINITY, f64::max);
+            let sum: f64 = (0..j).filter(|&a| open[a]).map(|a| (o[a] - m).exp()).sum();
+            obs.weight[i] * (o[obs.chosen[i] as usize] - m - sum.ln())
         })
         .sum()
 }
@@ -206,6 +219,10 @@ fn shares_from(
     baseline: Option<&Baseline>,
 ) -> Vec<ShareRow> {
     let j = d.alternatives();
+    if j != spec.alternatives.len() {
+        // Sampled sets: the shares are the full sets' (`sampled::onto_full`).
+        return Vec::new();
+    }
     let obs = &d.obs;
     let enumeration = model::enumerate::Enumeration::new(family, d, beta).baseline(baseline);
     let sums = enumeration.fold(2 * j, |acc, s| {
@@ -228,8 +245,17 @@ fn shares_from(
 }
 
 /// Fits the spec's model to the observations.
+/// With `[sampling]` and full sets from tables, the fit runs on sampled sets
+/// and is then moved onto the full sets (`sampled`).
 pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fit> {
-    fit_family(spec, obs, model::for_spec(spec)?, progress)
+    let family = model::for_spec(spec)?;
+    match sampled::sampled(spec, &obs) {
+        Some((drawn, info)) => {
+            let fit = fit_family(spec, drawn, family, progress)?;
+            Ok(sampled::onto_full(spec, fit, obs, info))
+        }
+        None => fit_family(spec, obs, family, progress),
+    }
 }
 
 /// Fits the spec's model with a family built by the caller (a family on
@@ -332,6 +358,17 @@ fn search(
 /// estimates are taken from the document; covariances, statistics and diagnostics
 /// are recomputed at them in a few passes. The caller checks the fingerprint.
 pub fn restore(spec: &Spec, obs: Arc<Observations>, doc: &document::FitDocument) -> Result<Fit> {
+    match sampled::sampled(spec, &obs) {
+        Some((drawn, info)) => {
+            let fit = restore_on(spec, drawn, doc)?;
+            Ok(sampled::onto_full(spec, fit, obs, info))
+        }
+        None => restore_on(spec, obs, doc),
+    }
+}
+
+/// `restore` on the observations the fit was made on.
+fn restore_on(spec: &Spec, obs: Arc<Observations>, doc: &document::FitDocument) -> Result<Fit> {
     let started = Instant::now();
     let bad = |m: &str| Error::Usage(format!("the saved results do not match this spec: {m}"));
     if doc.family != spec.family {

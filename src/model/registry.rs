@@ -169,6 +169,9 @@ fn build_probit(spec: &Spec) -> Result<FamilyRef> {
 pub struct Registry;
 
 impl Catalog for Registry {
+    fn table_ids(&self, file: &Path, id: &str) -> Result<Vec<String>> {
+        crate::data::tables::ids(file, id)
+    }
     fn rules(&self, name: &str) -> Option<&dyn FamilyRules> {
         FAMILIES.iter().find(|e| e.name == name).map(|e| e.rules)
     }

@@ -14,10 +14,7 @@ pub fn summary(spec: &Spec, obs: &Observations) -> String {
         s,
         "data      {} ({} layout)",
         spec.data.file.display(),
-        match spec.data.layout {
-            crate::spec::Layout::Wide { .. } => "wide",
-            crate::spec::Layout::Long { .. } => "long",
-        }
+        spec.data.layout.name()
     );
     let _ = writeln!(
         s,

@@ -98,6 +98,12 @@ pub trait FamilyRules: Sync {
         let _ = keys;
         Vec::new()
     }
+    /// Whether estimation on sampled choice sets (`[sampling]`) stays
+    /// consistent for this family as its keys set it up (the logit's does).
+    fn sampled_sets(&self, keys: &Table) -> bool {
+        let _ = keys;
+        false
+    }
     /// Checks the family's constraints and keys; returns the parameters it adds.
     /// An error is a message naming the key at fault.
     fn check(&self, spec: &SpecView) -> Result<Vec<FamilyParameter>, String>;
@@ -113,4 +119,8 @@ pub trait Catalog {
     fn owners_of(&self, section: &str) -> Vec<&'static str>;
     /// The families that read `[model]` key `key` (for messages).
     fn model_key_owners(&self, key: &str) -> Vec<&'static str>;
+    /// The ids in column `id` of a table of alternatives, in file order
+    /// (layout "tables"; the data room reads the file). An error names the
+    /// file, the column and the row.
+    fn table_ids(&self, file: &std::path::Path, id: &str) -> crate::error::Result<Vec<String>>;
 }

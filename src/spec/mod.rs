@@ -6,6 +6,7 @@ pub mod family;
 mod ratio;
 pub mod raw;
 mod restriction;
+pub mod tables;
 mod validate;
 
 use std::path::{Path, PathBuf};
@@ -13,6 +14,7 @@ use std::path::{Path, PathBuf};
 pub use expr::Expr;
 pub use family::{Catalog, Copies, FamilyParameter, FamilyRules, SpecView};
 pub use restriction::parse_restriction;
+pub use tables::{AlternativesTable, PairsTable, Sampling, Scheme};
 pub use validate::parse_targets;
 
 use crate::error::{Error, Result};
@@ -27,6 +29,24 @@ pub enum Layout {
         alternative: String,
         chosen: String,
     },
+    /// One row per situation; the alternatives come from a table of their
+    /// own, values by situation and alternative from an optional table of pairs.
+    Tables {
+        choice: String,
+        alternatives: AlternativesTable,
+        pairs: Option<PairsTable>,
+    },
+}
+
+impl Layout {
+    /// The layout's name as a spec writes it.
+    pub fn name(&self) -> &'static str {
+        match self {
+            Layout::Wide { .. } => "wide",
+            Layout::Long { .. } => "long",
+            Layout::Tables { .. } => "tables",
+        }
+    }
 }
 
 #[derive(Clone, Debug)]
@@ -69,6 +89,9 @@ pub struct Attribute {
     /// `random = "..."`: the distribution of its coefficient across decision
     /// makers (read by a family with random coefficients).
     pub random: Option<String>,
+    /// `times = "column"` (layout "tables"): a column of the situations file
+    /// that multiplies the values (an interaction with a characteristic).
+    pub times: Option<String>,
 }
 
 #[derive(Clone, Debug)]
@@ -190,7 +213,10 @@ pub struct Spec {
     pub family: String,
     /// The family's own keys, as written: its sections by name, extra `[model]` keys under `model`.
     pub family_keys: toml::Table,
+    /// The reference alternative: index 0, unused, when none is named (the
+    /// constants are off and no characteristic enters; `base_named` false).
     pub base: usize,
+    pub base_named: bool,
     pub constants: bool,
     pub alternatives: Vec<Alternative>,
     pub attributes: Vec<Attribute>,
@@ -206,6 +232,8 @@ pub struct Spec {
     pub holdout: Option<Holdout>,
     pub calibration: Option<Calibration>,
     pub restrictions: Vec<Restriction>,
+    /// `[sampling]`: estimate on sampled choice sets (layout "tables").
+    pub sampling: Option<Sampling>,
 }
 
 impl Spec {

@@ -12,8 +12,9 @@ pub struct RawSpec {
     pub field: Option<String>,
     pub data: RawData,
     pub model: RawModel,
-    /// Kept as a table so that the written order of alternatives survives.
-    pub alternatives: toml::Table,
+    /// Kept as a table so that the written order of alternatives survives;
+    /// absent in layout "tables" (the alternatives come from a file).
+    pub alternatives: Option<toml::Table>,
     #[serde(default)]
     pub attribute: Vec<RawAttribute>,
     #[serde(default)]
@@ -28,6 +29,8 @@ pub struct RawSpec {
     pub calibration: Option<RawCalibration>,
     #[serde(default)]
     pub restrictions: Vec<String>,
+    /// Estimation on sampled choice sets (layout "tables").
+    pub sampling: Option<RawSampling>,
     /// Keys no common section claims: a family's sections, or mistakes.
     #[serde(flatten)]
     pub extra: toml::Table,
@@ -44,6 +47,34 @@ pub struct RawData {
     pub chosen: Option<String>,
     pub weight: Option<String>,
     pub group: Option<String>,
+    /// Layout "tables": the table of alternatives.
+    pub alternatives: Option<RawAlternativesTable>,
+    /// Layout "tables": values by situation and alternative.
+    pub pairs: Option<RawPairsTable>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawAlternativesTable {
+    pub file: String,
+    pub id: String,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawPairsTable {
+    pub file: String,
+    pub from: String,
+    pub id: String,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawSampling {
+    pub alternatives: i64,
+    pub scheme: Option<String>,
+    pub weight: Option<String>,
+    pub seed: Option<u64>,
 }
 
 #[derive(Debug, Deserialize)]
@@ -76,6 +107,8 @@ pub struct RawAttribute {
     pub column: Option<String>,
     /// Long layout: which alternatives get the term (default all).
     pub alternatives: Option<Vec<String>>,
+    /// Layout "tables": a column of the situations file multiplying the values.
+    pub times: Option<String>,
     /// A distribution name: the coefficient varies across decision makers
     /// (checked by a family with random coefficients).
     pub random: Option<String>,

@@ -96,6 +96,8 @@ fn simulate(family: &dyn Family, spec: &Spec, beta: &[f64], n: usize, seed: u64)
     let z: Vec<f64> = (0..n).map(|_| 20.0 + 10.0 * rng.normal()).collect();
     let weight: Vec<f64> = (0..n).map(|_| 0.5 + rng.uniform()).collect();
     let mut obs = Observations {
+        offset: None,
+        tables: None,
         situations: n,
         alternatives: j,
         chosen: vec![0; n],

@@ -12,6 +12,7 @@ mod demo_garden;
 mod demo_specs;
 mod demo_tastes;
 mod derivatives;
+mod destinations;
 mod diagnostics;
 mod draft;
 mod edge_cases;

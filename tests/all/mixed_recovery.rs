@@ -66,6 +66,8 @@ fn simulate(people: usize, tasks: usize, rng: &mut Rng) -> Observations {
         }
     }
     Observations {
+        offset: None,
+        tables: None,
         situations: n,
         alternatives: 3,
         chosen,

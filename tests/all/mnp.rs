@@ -234,6 +234,8 @@ fn binary_design(n: usize) -> (Spec, Design) {
         chosen.push(u32::from(v > 0.0));
     }
     let obs = sharecast::data::Observations {
+        offset: None,
+        tables: None,
         situations: n,
         alternatives: 2,
         chosen,
@@ -357,6 +359,8 @@ fn simulated(n: usize, beta: &[f64], l: &[f64], seed: u64) -> (Spec, Design) {
         available.extend([true, true, true, open]);
     }
     let obs = sharecast::data::Observations {
+        offset: None,
+        tables: None,
         situations: n,
         alternatives: 4,
         chosen,

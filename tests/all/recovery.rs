@@ -114,6 +114,8 @@ fn simulate(n: usize, rng: &mut Rng) -> Observations {
         chosen.push(best as u32);
     }
     Observations {
+        offset: None,
+        tables: None,
         situations: n,
         alternatives: j,
         chosen,

@@ -120,6 +120,8 @@ impl Process {
             }
         }
         Observations {
+            offset: None,
+            tables: None,
             situations: n,
             alternatives: 3,
             chosen,

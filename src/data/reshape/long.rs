@@ -56,6 +56,8 @@ pub(crate) fn long(
     let (group, ngroups) = groups(spec, table, &first)?;
     Ok((
         Observations {
+            offset: None,
+            tables: None,
             situations: n,
             alternatives: nalt,
             chosen,

@@ -227,6 +227,11 @@ impl Block {
                 *vi = madd::<F>(*ti, *xi, *vi);
             }
         }
+        if let Some(o) = &plan.obs.offset {
+            for (vi, oi) in v.iter_mut().zip(&o[base..base + l]) {
+                *vi += oi;
+            }
+        }
         for (vi, &a) in v.iter_mut().zip(av) {
             *vi = if a { *vi } else { f64::NEG_INFINITY };
         }

@@ -51,6 +51,16 @@ impl FamilyRules for Rules {
         &super::space::KEYS
     }
 
+    /// Sampled choice sets keep the logit's estimates consistent (McFadden
+    /// 1978); in willingness-to-pay space they are not supported.
+    fn sampled_sets(&self, keys: &toml::Table) -> bool {
+        let space = keys
+            .get("model")
+            .and_then(|m| m.get("space"))
+            .and_then(|v| v.as_str());
+        space.is_none_or(|s| s == "preference")
+    }
+
     fn check(&self, spec: &SpecView) -> Result<Vec<FamilyParameter>, String> {
         super::space::check(spec)?;
         Ok(Vec::new())

@@ -67,6 +67,8 @@ fn design(n: usize, j: usize, seed: u64) -> Design {
         k += 1;
     }
     let obs = Observations {
+        offset: None,
+        tables: None,
         situations: n,
         alternatives: j,
         chosen,

@@ -432,6 +432,8 @@ mod tests {
         }
         k += 1;
         let obs = Observations {
+            offset: None,
+            tables: None,
             situations: n,
             alternatives: j,
             chosen,

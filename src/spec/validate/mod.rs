@@ -8,6 +8,7 @@ mod data;
 mod model;
 mod parameters;
 mod sections;
+mod tables;
 mod terms;
 
 use std::path::Path;
@@ -20,15 +21,19 @@ use super::*;
 pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Result<Spec> {
     let fail = |msg: String| Error::spec(path, msg);
     let data = data::data(&raw.data, path).map_err(fail)?;
+    let alternatives =
+        tables::alternatives(raw.alternatives.as_ref(), &data.layout, families, path)?;
     let (family, rules) = model::family(&raw.model, families).map_err(fail)?;
     let family_keys = model::family_keys(&raw, families, rules, &family).map_err(fail)?;
-    let alternatives = alternatives::alternatives(&raw.alternatives).map_err(fail)?;
-    let base = model::base(&raw.model, rules, &family, &alternatives).map_err(fail)?;
     let constants = model::constants(&raw.model, rules, &family).map_err(fail)?;
+    let base_named = raw.model.base.is_some();
+    let needed = constants || !raw.characteristic.is_empty();
+    let base = model::base(&raw.model, rules, &family, &alternatives, needed).map_err(fail)?;
     let cx = terms::Context {
         alternatives: &alternatives,
         base,
-        long: matches!(data.layout, Layout::Long { .. }),
+        long: !matches!(data.layout, Layout::Wide { .. }),
+        tables: matches!(data.layout, Layout::Tables { .. }),
         rules,
         families,
         family: &family,
@@ -38,6 +43,17 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
     let characteristics =
         terms::characteristics(&raw.characteristic, &cx, &mut names).map_err(fail)?;
     let derived = sections::derived(&raw.derived).map_err(fail)?;
+    let terms = tables::Terms {
+        layout: &data.layout,
+        alternatives: alternatives.len(),
+        constants,
+        attributes: &attributes,
+        characteristics: &characteristics,
+        rules,
+        keys: &family_keys,
+        family: &family,
+    };
+    let sampling = tables::sampling(raw.sampling.as_ref(), &terms).map_err(fail)?;
     let single = rules.single_index();
     let linear = parameters::linear(
         &alternatives,
@@ -78,6 +94,7 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         family,
         family_keys,
         base,
+        base_named,
         constants,
         alternatives,
         attributes,
@@ -89,5 +106,6 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         holdout,
         calibration,
         restrictions,
+        sampling,
     })
 }

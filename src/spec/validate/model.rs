@@ -32,14 +32,16 @@ pub(super) fn base(
     rules: &dyn FamilyRules,
     family: &str,
     alternatives: &[Alternative],
+    needed: bool,
 ) -> Result<usize, String> {
     match (&model.base, rules.single_index()) {
         (Some(_), true) => Err(format!(
             "[model].base: family \"{family}\" has no base alternative (one latent index for all categories); remove `base`"
         )),
         (None, true) => Ok(0),
+        (None, false) if !needed => Ok(0),
         (None, false) => Err(
-            "[model].base: missing: name the reference alternative (it gets no constant)".into(),
+            "[model].base: missing: name the reference alternative (it gets no constant; characteristics enter the others)".into(),
         ),
         (Some(b), false) => alternatives.iter().position(|a| &a.name == b).ok_or_else(|| {
             format!(

@@ -12,7 +12,10 @@ use crate::spec::{
 pub(super) struct Context<'a> {
     pub alternatives: &'a [Alternative],
     pub base: usize,
+    /// One `column` per attribute (layouts "long" and "tables").
     pub long: bool,
+    /// Layout "tables": `times` is allowed.
+    pub tables: bool,
     pub rules: &'a dyn FamilyRules,
     pub families: &'a dyn Catalog,
     pub family: &'a str,
@@ -56,11 +59,15 @@ pub(super) fn attributes(
             return Err(at("the attribute enters no alternative".into()));
         }
         check_random(a.random.as_deref(), cx.rules, cx.families, cx.family).map_err(at)?;
+        if a.times.is_some() && !cx.tables {
+            return Err(at("`times` is for layout \"tables\"; in this layout write the product as a [derived] column".into()));
+        }
         attributes.push(Attribute {
             name: a.name.clone(),
             coefficient,
             sources,
             random: a.random.clone(),
+            times: a.times.clone(),
         });
     }
     Ok(attributes)
@@ -70,14 +77,16 @@ pub(super) fn attributes(
 fn long_sources(a: &RawAttribute, cx: &Context) -> Result<Vec<Option<Source>>, String> {
     let mut sources = vec![None; cx.alternatives.len()];
     if a.columns.is_some() {
-        return Err(
-            "`columns` is for layout \"wide\"; in layout \"long\" write `column = \"...\"`".into(),
-        );
+        return Err(format!(
+            "`columns` is for layout \"wide\"; in layout \"{}\" write `column = \"...\"`",
+            if cx.tables { "tables" } else { "long" }
+        ));
     }
+    let layout = if cx.tables { "tables" } else { "long" };
     let column = a
         .column
         .clone()
-        .ok_or_else(|| "layout \"long\" needs `column`".to_string())?;
+        .ok_or_else(|| format!("layout \"{layout}\" needs `column`"))?;
     match &a.alternatives {
         None => sources
             .iter_mut()

@@ -8,7 +8,6 @@ use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Widget, Wrap};
 
-use crate::spec::Layout as DataLayout;
 use crate::tui::app::{Loaded, Pending};
 use crate::tui::keys::Action;
 use crate::tui::part::{Ctx, Key, Reply, Scroll, View};
@@ -74,10 +73,7 @@ fn data_panel(l: &Loaded, t: &Theme, area: Rect, buf: &mut Buffer) {
     let fit = &l.model.fit;
     let obs = &l.model.ds.obs;
     let s = &fit.stats;
-    let layout = match spec.data.layout {
-        DataLayout::Wide { .. } => "wide",
-        DataLayout::Long { .. } => "long",
-    };
+    let layout = spec.data.layout.name();
     let mut lines = vec![
         Line::from(vec![
             Span::styled("spec  ", t.dim()),

@@ -103,12 +103,15 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
         Command::DemoData { dir, force } => {
             crate::demo::write_all(&dir, force)?;
             crate::outln!(
-                "wrote {}, {}, {}, {} and {}",
+                "wrote {}, {}, {}, {}, {}, {}, {} and {}",
                 dir.join("commute.csv").display(),
                 dir.join("grocery.parquet").display(),
                 dir.join("ratings.csv").display(),
                 dir.join("express_survey.csv").display(),
-                dir.join("garden_panel.csv").display()
+                dir.join("garden_panel.csv").display(),
+                dir.join("velmora_zones.csv").display(),
+                dir.join("velmora_skims.parquet").display(),
+                dir.join("velmora_trips.csv").display()
             );
             Ok(ExitCode::SUCCESS)
         }

@@ -1,15 +1,18 @@
 //! The invented demo data sets, simulated from known parameters with a fixed
 //! seed: commute mode choice in the invented city of Velmora (wide CSV) and
 //! product choice at the invented Larkspur Market grocery (long Parquet),
-//! delivery ratings (ordered), a stated-choice express survey (`express`) and
-//! a panel of bedding-plant purchases by two hidden segments (`garden`).
+//! delivery ratings (ordered), a stated-choice express survey (`express`), a
+//! panel of bedding-plant purchases by two hidden segments (`garden`) and
+//! destination choice over Velmora's zones (`destinations`).
 //! `demo-data/README.md` lists the true parameters written here.
 
+mod destinations;
 mod express;
 mod garden;
 
 use std::path::Path;
 
+pub use destinations::{destinations, DESTINATIONS_TRUTH};
 pub use express::{express, EXPRESS_TRUTH};
 pub use garden::{garden, GARDEN_ALTERNATIVES, GARDEN_SHARES, GARDEN_TRUTH};
 
@@ -482,11 +485,12 @@ pub fn ratings(path: &Path, force: bool) -> Result<()> {
     table(path, force, &out)
 }
 
-/// Writes the five demo sets into `dir`.
+/// Writes the six demo sets into `dir` (the destination demo's three files).
 pub fn write_all(dir: &Path, force: bool) -> Result<()> {
     commute(&dir.join("commute.csv"), force)?;
     grocery(&dir.join("grocery.parquet"), force)?;
     ratings(&dir.join("ratings.csv"), force)?;
     express(&dir.join("express_survey.csv"), force)?;
-    garden(&dir.join("garden_panel.csv"), force)
+    garden(&dir.join("garden_panel.csv"), force)?;
+    destinations(dir, force)
 }

@@ -29,6 +29,9 @@ fn the_shipped_demo_data_are_what_the_generator_writes() {
         "grocery.parquet",
         "ratings.csv",
         "express_survey.csv",
+        "velmora_zones.csv",
+        "velmora_skims.parquet",
+        "velmora_trips.csv",
     ] {
         let shipped = std::fs::read(path(&format!("demo-data/{f}"))).unwrap();
         let written = std::fs::read(dir.join(f)).unwrap();

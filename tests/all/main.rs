@@ -8,6 +8,7 @@ mod catalogue;
 mod classes;
 mod classes_cli;
 mod common;
+mod demo_destinations;
 mod demo_garden;
 mod demo_specs;
 mod demo_tastes;

@@ -96,7 +96,7 @@ pub const FORECAST_SEED: u64 = 7;
 /// `ticks` (the analysis's, `forecast bands` per scenario, `demand curve` per curve).
 pub fn report_results(
     spec_path: &Path,
-    scenarios: &[std::path::PathBuf],
+    (scenarios, options): (&[std::path::PathBuf], &crate::analysis::Options),
     load: Option<&Path>,
     progress: Progress,
     ticks: Sink,
@@ -120,8 +120,7 @@ pub fn report_results(
     let ds = data::load(&spec, &extra)?;
     crate::model::admit(&spec, &ds.obs)?;
     let (fit, note) = fit_or_restore(&spec, Arc::new(ds.obs.clone()), load, progress)?;
-    let options = crate::analysis::Options::default();
-    let analysis = crate::analysis::analyse_with(&spec, &fit, &ds, &options, ticks)?;
+    let analysis = crate::analysis::analyse_with(&spec, &fit, &ds, options, ticks)?;
     let opts = scenario::Options {
         draws: FORECAST_DRAWS,
         seed: FORECAST_SEED,

@@ -29,7 +29,9 @@ pub fn sensitivities_with_jacobian(
     free: &[usize],
     baseline: Option<&Baseline>,
 ) -> Option<(Sens, Vec<Vec<f64>>)> {
-    if family.mixture(d).is_some() || !applies(family, beta, d.alternatives()) {
+    // With some alternatives out of focus the figures are differenced
+    // instead (the one-pass sums are over every alternative).
+    if !map.whole() || family.mixture(d).is_some() || !applies(family, beta, d.alternatives()) {
         return None;
     }
     let lay = Layout::new(d, map);
@@ -53,7 +55,10 @@ pub fn sensitivities_with_jacobian(
                 wi,
                 pt.coefficients,
                 pt.p,
-                &s.dp,
+                super::sensitivity::Derivatives {
+                    dp: &s.dp,
+                    focused: false,
+                },
                 &mut s.values,
             );
             s.add_derivatives(family, d, map, &column, pt, wi);
@@ -174,7 +179,7 @@ impl Scratch {
         pt: &Point,
         wi: f64,
     ) {
-        let Layout { j, na, nc } = self.sz.lay;
+        let Layout { j, na, nc, .. } = self.sz.lay;
         let (rows, width) = (self.sz.rows(), self.sz.width());
         let kf = self.sz.kf;
         let jq = kf * j;
@@ -275,7 +280,7 @@ impl Scratch {
     /// The Jacobian of `Sens::flat()` by the free parameters from the summed
     /// `values` and `sums`.
     fn jacobian(&self, map: &TermMap, beta: &[f64], free: &[usize], tw: f64) -> Vec<Vec<f64>> {
-        let Layout { j, na, nc } = self.sz.lay;
+        let Layout { j, na, nc, .. } = self.sz.lay;
         let kf = self.sz.kf;
         let (rows, width) = (self.sz.rows(), self.sz.width());
         let jq = kf * j;

@@ -34,14 +34,14 @@ pub fn removal(
     d: &Design,
     beta: &[f64],
     baseline: Option<&Baseline>,
-    names: &[String],
+    (names, focus): (&[String], &[usize]),
 ) -> Vec<DiversionRow> {
-    let j = d.alternatives();
     // With the cached base, every withdrawal in one pass over it.
     let (base, withdrawn) = match baseline {
         Some(b) => {
-            let edits: Vec<Box<EditFn>> = (0..j)
-                .map(|k| {
+            let edits: Vec<Box<EditFn>> = focus
+                .iter()
+                .map(|&k| {
                     Box::new(move |_: usize, _: &[f64], v: &mut [f64]| v[k] = f64::NEG_INFINITY)
                         as Box<EditFn>
                 })
@@ -53,17 +53,17 @@ pub fn removal(
         None => (shares(family, d, beta), None),
     };
     let mut out = Vec::new();
-    for k in 0..j {
+    for (kf, &k) in focus.iter().enumerate() {
         if base[k] <= 0.0 {
             continue;
         }
         let after = match &withdrawn {
-            Some(w) => w[k].clone(),
+            Some(w) => w[kf].clone(),
             None => shares_with(family, d, beta, baseline, |_, _, v| {
                 v[k] = f64::NEG_INFINITY
             }),
         };
-        for to in 0..j {
+        for &to in focus {
             if to != k {
                 out.push(DiversionRow {
                     removed: names[k].clone(),
@@ -82,25 +82,25 @@ pub fn price(
     a: usize,
     attribute: &str,
     present: &[bool],
-    names: &[String],
+    (names, focus): (&[String], &[usize]),
 ) -> Vec<PriceDiversionRow> {
     let j = sens.alternatives;
     let mut out = Vec::new();
-    for k in 0..j {
+    for (kf, &k) in focus.iter().enumerate() {
         if !present[k] {
             continue;
         }
-        let own = sens.attr_me[(a * j + k) * j + k];
+        let own = sens.attr_me[(a * j + kf) * j + kf];
         if own == 0.0 {
             continue;
         }
-        for to in 0..j {
+        for (tf, &to) in focus.iter().enumerate() {
             if to != k {
                 out.push(PriceDiversionRow {
                     attribute: attribute.to_string(),
                     changed: names[k].clone(),
                     to: names[to].clone(),
-                    ratio: -sens.attr_me[(a * j + k) * j + to] / own,
+                    ratio: -sens.attr_me[(a * j + kf) * j + tf] / own,
                 });
             }
         }

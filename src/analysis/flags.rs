@@ -165,7 +165,8 @@ pub fn flag_rows_with(
     let j = d.alternatives();
     let mut out = Vec::new();
     for (n, (variable, changed, _)) in switches.iter().enumerate() {
-        for (jj, affected) in names.iter().enumerate() {
+        for &jj in &map.focus {
+            let affected = &names[jj];
             let idx = n * j + jj;
             out.push(FlagRow {
                 variable: variable.clone(),

@@ -10,6 +10,7 @@ pub mod correlation;
 pub mod delta;
 pub mod diversion;
 pub mod flags;
+pub mod grouped;
 pub mod hypothesis;
 pub mod random;
 mod ratio_terms;
@@ -51,6 +52,41 @@ pub struct Options {
     pub iia_drop: Option<String>,
     /// Restrictions for a Wald test besides the spec's own.
     pub restrictions: Vec<String>,
+    /// How many alternatives the elasticity, marginal-effect, flag and
+    /// diversion tables cover (those with the largest predicted shares);
+    /// `None`: all of them up to `WHOLE_UP_TO`, else `TOP_DEFAULT`.
+    pub top: Option<usize>,
+    /// Layout "tables": group the alternatives by this column of their table
+    /// (shares by group, diversion between groups).
+    pub by_alternative: Option<String>,
+}
+
+/// A model with at most this many alternatives has its tables cover every one by default.
+pub const WHOLE_UP_TO: usize = 12;
+/// How many alternatives the tables of a model with more cover by default.
+pub const TOP_DEFAULT: usize = 10;
+
+/// The alternatives the tables cover: every one in spec order, or the `top`
+/// ones by predicted share (largest first).
+pub fn focus(fit: &Fit, top: Option<usize>) -> Vec<usize> {
+    let j = fit.design.alternatives();
+    let n = match top {
+        Some(n) => n.clamp(1, j),
+        None if j <= WHOLE_UP_TO => j,
+        None => TOP_DEFAULT,
+    };
+    if n >= j || fit.shares.len() != j {
+        return (0..j).collect();
+    }
+    let mut order: Vec<usize> = (0..j).collect();
+    order.sort_by(|&a, &b| {
+        fit.shares[b]
+            .predicted
+            .total_cmp(&fit.shares[a].predicted)
+            .then(a.cmp(&b))
+    });
+    order.truncate(n);
+    order
 }
 
 impl Default for Options {
@@ -63,6 +99,8 @@ impl Default for Options {
             by: None,
             iia_drop: None,
             restrictions: Vec::new(),
+            top: None,
+            by_alternative: None,
         }
     }
 }
@@ -84,6 +122,14 @@ impl Options {
 
 #[derive(Clone, Debug, Serialize)]
 pub struct Analysis {
+    /// The alternatives the elasticity, marginal-effect, flag and diversion
+    /// tables cover when they are not all (largest predicted share first).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub top: Option<Vec<String>>,
+    /// Shares by a column of the table of alternatives and diversion between
+    /// its groups (`--by-alternative`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub by_alternative: Option<grouped::Grouped>,
     pub arc_change: f64,
     pub elasticities: Vec<ElasticityRow>,
     pub marginal_effects: Vec<MarginalRow>,
@@ -249,12 +295,18 @@ pub fn analyse_with(
     sink: Sink,
 ) -> Result<Analysis> {
     opts.check(fit.beta.len())?;
+    let focus = focus(fit, opts.top);
     let (elasticities, marginal_effects, sens) =
-        sensitivity_rows_with(spec, fit, opts.arc_change, sink);
-    let flag_effects = flags::flag_rows_with(spec, fit, &TermMap::new(spec, &fit.design), sink);
+        sensitivity_rows_with(spec, fit, (opts.arc_change, &focus), sink);
+    let map = TermMap::focused(spec, &fit.design, &focus);
+    let flag_effects = flags::flag_rows_with(spec, fit, &map, sink);
     let (ratios, warnings) = ratio_section(spec, fit, opts, sink);
     let phase = Phase::start(sink, "diversion", 1);
-    let (diversion, price_diversion) = diversion_section(spec, fit, opts, &sens)?;
+    let (diversion, price_diversion) = diversion_section(spec, fit, opts, (&sens, &focus))?;
+    let by_alternative = match &opts.by_alternative {
+        Some(c) => Some(grouped::by_alternative(fit, c)?),
+        None => None,
+    };
     phase.finish();
     let validation = progress::one(sink, "validation", || {
         validation_section(spec, fit, ds, opts)
@@ -270,7 +322,12 @@ pub fn analyse_with(
     phase.step();
     let expected_category = expected_category(spec, fit);
     phase.finish();
+    let names = spec.alternative_names();
+    let top =
+        (focus.len() < names.len()).then(|| focus.iter().map(|&k| names[k].clone()).collect());
     Ok(Analysis {
+        top,
+        by_alternative,
         arc_change: opts.arc_change,
         elasticities,
         marginal_effects,
@@ -330,7 +387,7 @@ fn diversion_section(
     spec: &Spec,
     fit: &Fit,
     opts: &Options,
-    sens: &Sens,
+    (sens, focus): (&Sens, &[usize]),
 ) -> Result<(Vec<DiversionRow>, Vec<PriceDiversionRow>)> {
     let names = spec.alternative_names();
     // Ordered categories are not withdrawn: no diversion between them.
@@ -342,7 +399,7 @@ fn diversion_section(
             &fit.design,
             &fit.beta,
             Some(fit.baseline()),
-            &names,
+            (&names, focus),
         )
     };
     let price_diversion = match diversion_attribute(spec, opts.diversion_attribute.as_deref())? {
@@ -351,7 +408,7 @@ fn diversion_section(
             a,
             &spec.attributes[a].name,
             &attribute_present(spec, a),
-            &names,
+            (&names, focus),
         ),
         None => Vec::new(),
     };

@@ -15,7 +15,8 @@ pub fn sensitivity_rows(
     fit: &Fit,
     arc_change: f64,
 ) -> (Vec<ElasticityRow>, Vec<MarginalRow>, Sens) {
-    sensitivity_rows_with(spec, fit, arc_change, QUIET)
+    let all: Vec<usize> = (0..fit.design.alternatives()).collect();
+    sensitivity_rows_with(spec, fit, (arc_change, &all), QUIET)
 }
 
 /// `sensitivity_rows`, reporting the phase `elasticities` to `sink`: the
@@ -24,11 +25,10 @@ pub fn sensitivity_rows(
 pub fn sensitivity_rows_with(
     spec: &Spec,
     fit: &Fit,
-    arc_change: f64,
+    (arc_change, focus): (f64, &[usize]),
     sink: Sink,
 ) -> (Vec<ElasticityRow>, Vec<MarginalRow>, Sens) {
-    let d = &fit.design;
-    let map = TermMap::new(spec, d);
+    let map = TermMap::focused(spec, &fit.design, focus);
     let phase = Phase::start(sink, "elasticities", fit.free.len() + 2);
     let (sens, se) = figures_and_errors(fit, &map, &phase);
     let (base_shares, arcs) = arc_shares(spec, fit, &map, arc_change);
@@ -42,7 +42,7 @@ pub fn sensitivity_rows_with(
     };
     let mut out = (Vec::new(), Vec::new());
     let next = attribute_rows(spec, fit, &map, &fig, &mut out);
-    characteristic_rows(spec, fit, &fig, next, &mut out);
+    characteristic_rows(spec, fit, (&map, &fig), next, &mut out);
     (out.0, out.1, sens)
 }
 
@@ -95,20 +95,20 @@ type Rows = (Vec<ElasticityRow>, Vec<MarginalRow>);
 /// The rows of every attribute in every alternative it enters; returns the
 /// number of arc steps read.
 fn attribute_rows(spec: &Spec, fit: &Fit, map: &TermMap, fig: &Figures, out: &mut Rows) -> usize {
-    let j = fit.design.alternatives();
+    let j = map.focus.len();
     let names = spec.alternative_names();
     let flag_attr = flags::flag_attributes(&fit.design, map);
     let off_me = spec.attributes.len() * j * j;
     let mut next = 0;
     for (a, attr) in spec.attributes.iter().enumerate() {
-        for k in 0..j {
+        for (kf, &k) in map.focus.iter().enumerate() {
             if map.attribute[a][k].is_none() {
                 continue;
             }
             let arc = next;
             next += 1;
-            for jj in 0..j {
-                let idx = (a * j + k) * j + jj;
+            for (jf, &jj) in map.focus.iter().enumerate() {
+                let idx = (a * j + kf) * j + jf;
                 // A 0/1 flag has no elasticity (see `flags`); its derivative is kept.
                 if !flag_attr[a] {
                     out.0.push(ElasticityRow {
@@ -134,16 +134,23 @@ fn attribute_rows(spec: &Spec, fit: &Fit, map: &TermMap, fig: &Figures, out: &mu
 }
 
 /// The rows of every characteristic, whose arc steps follow the attributes' from `next`.
-fn characteristic_rows(spec: &Spec, fit: &Fit, fig: &Figures, next: usize, out: &mut Rows) {
-    let j = fit.design.alternatives();
+fn characteristic_rows(
+    spec: &Spec,
+    fit: &Fit,
+    (map, fig): (&TermMap, &Figures),
+    next: usize,
+    out: &mut Rows,
+) {
+    let j = map.focus.len();
     let names = spec.alternative_names();
     let flag_char = flags::flag_characteristics(&fit.design);
     let off_ce = 2 * spec.attributes.len() * j * j;
     let off_cm = off_ce + spec.characteristics.len() * j;
     for (c, ch) in spec.characteristics.iter().enumerate() {
         let arc = next + c;
-        for (jj, name) in names.iter().enumerate() {
-            let idx = c * j + jj;
+        for (jf, &jj) in map.focus.iter().enumerate() {
+            let name = &names[jj];
+            let idx = c * j + jf;
             if !flag_char[c] {
                 out.0.push(ElasticityRow {
                     variable: ch.name.clone(),
@@ -173,7 +180,8 @@ fn arc_shares(spec: &Spec, fit: &Fit, map: &TermMap, arc_change: f64) -> (Vec<f6
     let j = d.alternatives();
     let mut edits: Vec<Box<simulate::EditFn>> = Vec::new();
     for a in 0..spec.attributes.len() {
-        for k in 0..j {
+        // In the rows' order: the focus's alternatives in turn.
+        for &k in &map.focus {
             let Some(param) = map.attribute[a][k] else {
                 continue;
             };

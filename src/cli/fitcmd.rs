@@ -36,6 +36,15 @@ pub struct AnalysisArgs {
     /// A linear restriction for a Wald test, e.g. "cost_bus = cost_rail" (repeatable).
     #[arg(long = "restrict", value_name = "RESTRICTION")]
     pub restrictions: Vec<String>,
+    /// Tables of elasticities, marginal effects, flags and diversion over the N
+    /// alternatives with the largest predicted shares (default: all up to 12,
+    /// else 10); the shares table shows as many.
+    #[arg(long, value_name = "N")]
+    pub top: Option<usize>,
+    /// Layout "tables": shares by a column of the table of alternatives
+    /// (e.g. district), and diversion between its groups.
+    #[arg(long, value_name = "COLUMN")]
+    pub by_alternative: Option<String>,
 }
 
 impl AnalysisArgs {
@@ -48,6 +57,8 @@ impl AnalysisArgs {
             by: self.by.clone(),
             iia_drop: self.iia_drop.clone(),
             restrictions: self.restrictions.clone(),
+            top: self.top,
+            by_alternative: self.by_alternative.clone(),
         }
     }
 }

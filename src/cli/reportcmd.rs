@@ -27,6 +27,12 @@ pub struct ReportArgs {
     /// Replace the report and chart files if they exist.
     #[arg(long)]
     pub force: bool,
+    /// Tables over the N alternatives with the largest predicted shares (as `fit --top`).
+    #[arg(long, value_name = "N")]
+    pub top: Option<usize>,
+    /// Layout "tables": shares and diversion by a column of the table of alternatives.
+    #[arg(long, value_name = "COLUMN")]
+    pub by_alternative: Option<String>,
 }
 
 pub fn run(args: ReportArgs) -> Result<ExitCode> {
@@ -38,9 +44,14 @@ pub fn run(args: ReportArgs) -> Result<ExitCode> {
         }
     }
     let results = super::with_line(|line| {
+        let options = crate::analysis::Options {
+            top: args.top,
+            by_alternative: args.by_alternative.clone(),
+            ..Default::default()
+        };
         crate::workspace::report_results(
             &args.spec,
-            &args.scenarios,
+            (&args.scenarios, &options),
             args.load.as_deref(),
             &|s| line.step(s),
             &|t| line.tick(t),

@@ -49,6 +49,13 @@ pub struct SimulateArgs {
     /// longer file is forecast chunk by chunk in bounded memory.
     #[arg(long, value_name = "N")]
     pub chunk_rows: Option<usize>,
+    /// Show the N alternatives whose share changes most (default: all up to
+    /// 12, else 10); --json and --out keep every one.
+    #[arg(long, value_name = "N")]
+    pub top: Option<usize>,
+    /// Layout "tables": shares summed by a column of the table of alternatives.
+    #[arg(long, value_name = "COLUMN")]
+    pub by_alternative: Option<String>,
 }
 
 #[derive(Args, Debug)]
@@ -162,10 +169,14 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
             }
         }
     };
+    let mut f = f;
+    if let Some(c) = &args.by_alternative {
+        f.by_alternative = Some(scenario::grouped::by_alternative(&f, &fit, c)?);
+    }
     if args.json {
         crate::outln!("{}", serde_json::to_string_pretty(&f).unwrap_or_default());
     } else {
-        crate::out!("{}", report::forecast::text(&f));
+        crate::out!("{}", report::forecast::text_top(&f, args.top));
         crate::outln!();
         crate::out!("{}", report::text::closing(&spec, &fit));
         if let Some(out) = &args.out {

@@ -150,6 +150,27 @@ pub trait Family: Send + Sync + std::fmt::Debug {
     /// dP_j/dV_k of one situation into `dp` (J x J row-major, row = affected j).
     fn dprob(&self, beta: &[f64], v: &[f64], p: &[f64], dp: &mut [f64]);
 
+    /// dP_j/dV_k of one situation for the alternatives k in `columns` only,
+    /// into `dp` (J x columns, row = affected j): what an analysis of a few of
+    /// many alternatives reads. By default taken from `dprob` into `full`
+    /// (J x J scratch); a family may give them directly.
+    fn dprob_columns(
+        &self,
+        beta: &[f64],
+        (v, p): (&[f64], &[f64]),
+        columns: &[usize],
+        full: &mut [f64],
+        dp: &mut [f64],
+    ) {
+        self.dprob(beta, v, p, full);
+        let (n, c) = (p.len(), columns.len());
+        for j in 0..n {
+            for (q, &k) in columns.iter().enumerate() {
+                dp[j * c + q] = full[j * n + k];
+            }
+        }
+    }
+
     /// Second derivatives d²P_j/(dV_k dV_m) of one situation into `d2p`
     /// (J x J x J row-major, `[(j * J + k) * J + m]`; zero where an alternative
     /// is unavailable), for a family whose probabilities depend on the

@@ -30,6 +30,36 @@ pub(crate) fn bands(f: &Forecast) -> String {
 }
 
 pub fn text(f: &Forecast) -> String {
+    text_top(f, None)
+}
+
+/// The rows shown: every alternative up to `WHOLE_UP_TO`, else the `top`
+/// (default `TOP_DEFAULT`) whose shares change most, largest change first;
+/// and how many are not shown.
+fn shown(f: &Forecast, top: Option<usize>) -> (Vec<&crate::scenario::ShareRow>, usize) {
+    use crate::analysis::{TOP_DEFAULT, WHOLE_UP_TO};
+    let n = f.shares.len();
+    let keep = match top {
+        Some(t) => t.clamp(1, n.max(1)),
+        None if n <= WHOLE_UP_TO => n,
+        None => TOP_DEFAULT,
+    };
+    if keep >= n {
+        return (f.shares.iter().collect(), 0);
+    }
+    let mut rows: Vec<&crate::scenario::ShareRow> = f.shares.iter().collect();
+    rows.sort_by(|a, b| {
+        b.change
+            .abs()
+            .total_cmp(&a.change.abs())
+            .then(b.base.total_cmp(&a.base))
+    });
+    rows.truncate(keep);
+    (rows, n - keep)
+}
+
+/// `text` with the shares table over the `top` alternatives whose shares change most.
+pub fn text_top(f: &Forecast, top: Option<usize>) -> String {
     let mut s = String::new();
     let _ = writeln!(s, "━━ sharecast forecast ━━ {}", f.scenario);
     let _ = writeln!(
@@ -41,15 +71,11 @@ pub fn text(f: &Forecast) -> String {
     if let Some(c) = &f.calibration {
         calibration(&mut s, c);
     }
-    shares(&mut s, f);
-    if !f.switching.is_empty() {
-        let _ = writeln!(s, "\nswitching: share of all demand that moves (losses paired with gains within each situation)");
-        for r in &f.switching {
-            if r.share >= 5e-5 {
-                let _ = writeln!(s, "  {:<16} → {:<16} {:>9.4}", r.from, r.to, r.share);
-            }
-        }
+    shares(&mut s, f, top);
+    if let Some(g) = &f.by_alternative {
+        grouped(&mut s, g);
     }
+    switching(&mut s, f);
     segments(&mut s, f);
     classes(&mut s, f);
     for w in &f.warnings {
@@ -78,8 +104,45 @@ fn calibration(s: &mut String, c: &crate::scenario::calibrate::Calibrated) {
     }
 }
 
+/// The largest flows of demand between alternatives (at most 20 with many alternatives).
+fn switching(s: &mut String, f: &Forecast) {
+    if f.switching.is_empty() {
+        return;
+    }
+    let _ = writeln!(s, "\nswitching: share of all demand that moves (losses paired with gains within each situation)");
+    let mut rows: Vec<&crate::scenario::SwitchRow> =
+        f.switching.iter().filter(|r| r.share >= 5e-5).collect();
+    let many = f.shares.len() > crate::analysis::WHOLE_UP_TO && rows.len() > 20;
+    if many {
+        rows.sort_by(|a, b| b.share.total_cmp(&a.share));
+        rows.truncate(20);
+    }
+    for r in &rows {
+        let _ = writeln!(s, "  {:<16} → {:<16} {:>9.4}", r.from, r.to, r.share);
+    }
+    if many {
+        let _ = writeln!(s, "  (the 20 largest flows; every one in --json)");
+    }
+}
+
+/// Shares summed by a column of the table of alternatives.
+fn grouped(s: &mut String, g: &crate::scenario::grouped::GroupedForecast) {
+    let _ = writeln!(
+        s,
+        "\nby {} (alternatives grouped)   alternatives       base   scenario     change",
+        g.column
+    );
+    for r in &g.groups {
+        let _ = writeln!(
+            s,
+            "  {:<30}{:>12}{:>11.4}{:>11.4}{:>+11.4}",
+            r.group, r.alternatives, r.base, r.scenario, r.change
+        );
+    }
+}
+
 /// Base and scenario shares with their bands, volumes and revenue.
-fn shares(s: &mut String, f: &Forecast) {
+fn shares(s: &mut String, f: &Forecast, top: Option<usize>) {
     let volumes = f.market.is_some();
     let revenue = f.shares.iter().any(|r| r.base_revenue.is_some());
     let _ = writeln!(
@@ -88,7 +151,8 @@ fn shares(s: &mut String, f: &Forecast) {
         if volumes { "          volume before → after" } else { "" },
         if revenue { "          revenue before → after" } else { "" }
     );
-    for r in &f.shares {
+    let (rows, hidden) = shown(f, top);
+    for r in rows {
         let relative = if r.relative_change.is_finite() {
             format!("{:+.1}%", 100.0 * r.relative_change)
         } else {
@@ -111,6 +175,12 @@ fn shares(s: &mut String, f: &Forecast) {
             let _ = write!(line, "   {b:>12.1} → {a:<12.1}");
         }
         let _ = writeln!(s, "{}", line.trim_end());
+    }
+    if hidden > 0 {
+        let _ = writeln!(
+            s,
+            "  … and {hidden} more alternatives (the largest changes are above; every one in --json and --out)"
+        );
     }
 }
 

@@ -82,6 +82,7 @@ pub(super) fn assemble(scenario: &Scenario, opts: &Options, fig: Figures) -> For
         lost_share,
         warnings,
         classes: Vec::new(),
+        by_alternative: None,
     }
 }
 

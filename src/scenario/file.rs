@@ -155,7 +155,7 @@ impl Scenario {
         })?;
         let mut changes = Vec::new();
         for (n, c) in raw.change.iter().enumerate() {
-            changes.push(r.change(n, c)?);
+            changes.extend(r.changes(n, c)?);
         }
         let mut remove = Vec::new();
         for name in &raw.remove {
@@ -261,9 +261,14 @@ impl Reader<'_> {
     /// The alternative `name` given at `key`.
     fn alt(&self, key: &str, name: &str) -> Result<usize> {
         self.spec.alternative_index(name).ok_or_else(|| {
+            let names = self.spec.alternative_names();
+            let listed = if names.len() > 12 {
+                format!("{}, … ({} in all)", names[..10].join(", "), names.len())
+            } else {
+                names.join(", ")
+            };
             self.fail(format!(
-                "{key}: `{name}` is not an alternative of the spec ({})",
-                self.spec.alternative_names().join(", ")
+                "{key}: `{name}` is not an alternative of the spec ({listed})"
             ))
         })
     }
@@ -272,9 +277,52 @@ impl Reader<'_> {
         Expr::parse(text).map_err(|e| self.fail(format!("{key}: {e}")))
     }
 
+    /// The `n`-th `[[change]]` (from 0): one change, or in layout "tables"
+    /// an attribute's change without `alternative` whose `where` picks the
+    /// alternatives from their table (one change per alternative picked).
+    fn changes(&self, n: usize, c: &RawChange) -> Result<Vec<Change>> {
+        let attribute = self
+            .spec
+            .attributes
+            .iter()
+            .position(|x| x.name == c.attribute);
+        if let (Some(a), None, Some(text)) = (attribute, &c.alternative, &c.filter) {
+            let key = format!("[[change]] #{} ({}).where", n + 1, c.attribute);
+            let e = self.expr(&key, text)?;
+            if let Some(picked) = super::pick::alternatives_where(self.spec, (self.path, &key), &e)?
+            {
+                let op = self.op(&format!("[[change]] #{} ({})", n + 1, c.attribute), c)?;
+                return Ok(picked
+                    .into_iter()
+                    .filter(|&k| self.spec.attributes[a].sources[k].is_some())
+                    .map(|k| Change {
+                        target: Target::Attribute {
+                            attribute: a,
+                            alternative: k,
+                        },
+                        op,
+                        filter: None,
+                    })
+                    .collect());
+            }
+        }
+        Ok(vec![self.change(n, c)?])
+    }
+
     /// The `n`-th `[[change]]` (from 0).
     fn change(&self, n: usize, c: &RawChange) -> Result<Change> {
         let key = format!("[[change]] #{} ({})", n + 1, c.attribute);
+        let op = self.op(&key, c)?;
+        let target = self.target(&key, c)?;
+        let filter = match &c.filter {
+            Some(t) => Some((t.clone(), self.expr(&format!("{key}.where"), t)?)),
+            None => None,
+        };
+        Ok(Change { target, op, filter })
+    }
+
+    /// A change's operation: exactly one of `multiply`, `add` or `set`, finite.
+    fn op(&self, key: &str, c: &RawChange) -> Result<Op> {
         let ops = [
             c.multiply.map(Op::Multiply),
             c.add.map(Op::Add),
@@ -294,12 +342,7 @@ impl Reader<'_> {
             Op::Set(v) => ("set", v),
         };
         finite_value(&format!("{key}.{word}"), v).map_err(|m| self.fail(m))?;
-        let target = self.target(&key, c)?;
-        let filter = match &c.filter {
-            Some(t) => Some((t.clone(), self.expr(&format!("{key}.where"), t)?)),
-            None => None,
-        };
-        Ok(Change { target, op, filter })
+        Ok(op)
     }
 
     /// What a `[[change]]` changes: an attribute of an alternative, or a characteristic.

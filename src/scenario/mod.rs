@@ -6,6 +6,8 @@ pub mod calibrate;
 pub mod export;
 mod figures;
 pub mod file;
+pub mod grouped;
+mod pick;
 pub mod prepare;
 pub mod simulate;
 pub mod stream;
@@ -123,6 +125,10 @@ pub struct Forecast {
     /// under the scenario (the point forecast; no bands).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub classes: Vec<ClassForecast>,
+    /// Layout "tables": the shares summed by a column of the table of
+    /// alternatives (`simulate --by-alternative`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub by_alternative: Option<grouped::GroupedForecast>,
 }
 
 /// One latent class's shares at the base and under a scenario.

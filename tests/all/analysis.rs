@@ -139,7 +139,9 @@ fn logit_identities_hold_for_one_situation() {
             }
             // removal diversion of k: P_j / (1 - P_k)
             let names = spec.alternative_names();
-            let div = analysis::diversion::removal(&*fit.family, &d, &fit.beta, None, &names);
+            let all: Vec<usize> = (0..names.len()).collect();
+            let div =
+                analysis::diversion::removal(&*fit.family, &d, &fit.beta, None, (&names, &all));
             for row in div.iter().filter(|r| r.removed == names[k]) {
                 let to = names.iter().position(|n| n == &row.to).unwrap();
                 let want = p[to] / (1.0 - p[k]);

@@ -14,6 +14,7 @@ mod demo_specs;
 mod demo_tastes;
 mod derivatives;
 mod destinations;
+mod destinations_cli;
 mod diagnostics;
 mod draft;
 mod edge_cases;

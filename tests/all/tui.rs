@@ -789,7 +789,7 @@ fn a_nested_model_shows_its_nests_and_the_pull_within_them() {
         &m.fit.design,
         &m.fit.beta,
         None,
-        &names,
+        (&names, &(0..names.len()).collect::<Vec<usize>>()),
     );
     let to = |n: &str| {
         d.iter()

@@ -185,6 +185,22 @@ impl Family for Logit {
         }
     }
 
+    fn dprob_columns(
+        &self,
+        _beta: &[f64],
+        (_v, p): (&[f64], &[f64]),
+        columns: &[usize],
+        _full: &mut [f64],
+        dp: &mut [f64],
+    ) {
+        let c = columns.len();
+        for (j, row) in dp.chunks_mut(c).enumerate().take(p.len()) {
+            for (d, &k) in row.iter_mut().zip(columns) {
+                *d = p[j] * (((j == k) as u8 as f64) - p[k]);
+            }
+        }
+    }
+
     fn dprob(&self, _beta: &[f64], _v: &[f64], p: &[f64], dp: &mut [f64]) {
         let n = p.len();
         dp.iter_mut().for_each(|x| *x = 0.0);

@@ -11,10 +11,40 @@ use crate::report::walk::Walk;
 
 pub struct Shares;
 
+/// The share rows shown (the analysis's top alternatives, or by default the
+/// top ones of a model with many; every one otherwise) and how many are not.
+fn shown<'a>(input: &Input<'a>) -> (Vec<&'a crate::estimate::ShareRow>, usize) {
+    let fit = input.m.fit;
+    let rows: Vec<&crate::estimate::ShareRow> = match input.m.analysis {
+        Some(a) => match &a.top {
+            Some(top) => top
+                .iter()
+                .filter_map(|n| fit.shares.iter().find(|r| &r.alternative == n))
+                .collect(),
+            None => fit.shares.iter().collect(),
+        },
+        None => crate::analysis::focus(fit, None)
+            .into_iter()
+            .filter_map(|k| fit.shares.get(k))
+            .collect(),
+    };
+    let hidden = fit.shares.len() - rows.len();
+    (rows, hidden)
+}
+
+/// The sentence under a table cut to the top alternatives.
+fn more(hidden: usize) -> String {
+    format!("… and {hidden} more alternatives, largest predicted share first above (every one in the results document, `--json`)")
+}
+
 /// Observed against predicted shares, one row per alternative.
-fn share_table(class: &str, first: &str, shares: &[crate::estimate::ShareRow]) -> String {
+fn share_table<'r>(
+    class: &str,
+    first: &str,
+    shares: impl IntoIterator<Item = &'r crate::estimate::ShareRow>,
+) -> String {
     let rows: Vec<String> = shares
-        .iter()
+        .into_iter()
         .map(|r| {
             format!(
                 "{}{}{}",
@@ -88,9 +118,8 @@ impl Section for Shares {
     }
 
     fn html(&self, input: &Input, charts: &mut Vec<Chart>) -> String {
-        let fit = input.m.fit;
-        let pairs: Vec<Pair> = fit
-            .shares
+        let (rows, hidden) = shown(input);
+        let pairs: Vec<Pair> = rows
             .iter()
             .map(|r| Pair {
                 label: r.alternative.clone(),
@@ -109,7 +138,13 @@ impl Section for Shares {
             name: "shares".into(),
             svg: chart,
         });
-        s.push_str(&share_table("shares", "alternative", &fit.shares));
+        s.push_str(&share_table("shares", "alternative", rows.iter().copied()));
+        if hidden > 0 {
+            let _ = writeln!(s, "<p>{}.</p>", more(hidden));
+        }
+        if let Some(g) = input.m.analysis.and_then(|a| a.by_alternative.as_ref()) {
+            s.push_str(&grouped_html(g));
+        }
         match &input.walk {
             Some(w) => s.push_str(&validation(w)),
             None => s.push_str(&not_applicable(
@@ -121,16 +156,97 @@ impl Section for Shares {
 
     fn text(&self, input: &Input) -> Option<String> {
         let mut s = String::from("shares (weighted)   observed   predicted\n");
-        for r in &input.m.fit.shares {
+        let (rows, hidden) = shown(input);
+        for r in rows {
             let _ = writeln!(
                 s,
                 "  {:<16}{:>11.4}{:>12.4}",
                 r.alternative, r.observed, r.predicted
             );
         }
+        if hidden > 0 {
+            let _ = writeln!(s, "  {}", more(hidden));
+        }
+        if let Some(g) = input.m.analysis.and_then(|a| a.by_alternative.as_ref()) {
+            grouped_text(&mut s, g);
+        }
         if let Some(w) = &input.walk {
             validation_text(&mut s, w);
         }
         Some(s)
     }
+}
+
+/// The text report's shares and diversion by a column of the table of alternatives.
+fn grouped_text(s: &mut String, g: &crate::analysis::grouped::Grouped) {
+    let _ = writeln!(
+        s,
+        "\nby {} (alternatives grouped)   alternatives   observed   predicted",
+        g.column
+    );
+    for r in &g.groups {
+        let _ = writeln!(
+            s,
+            "  {:<30}{:>12}{:>11.4}{:>12.4}",
+            r.group, r.alternatives, r.observed, r.predicted
+        );
+    }
+    if !g.diversion.is_empty() {
+        let _ = writeln!(
+            s,
+            "  when every alternative of one {} is withdrawn, the share of its demand each other one gains:",
+            g.column
+        );
+        for r in &g.diversion {
+            let _ = writeln!(s, "    {:<20} → {:<20}{:>9.4}", r.removed, r.to, r.share);
+        }
+    }
+}
+
+/// The HTML report's shares and diversion by a column of the table of alternatives.
+fn grouped_html(g: &crate::analysis::grouped::Grouped) -> String {
+    let rows: Vec<String> = g
+        .groups
+        .iter()
+        .map(|r| {
+            format!(
+                "{}{}{}{}",
+                label_cell(&r.group),
+                num_cell(&r.alternatives.to_string()),
+                num_cell(&format!("{:.4}", r.observed)),
+                num_cell(&format!("{:.4}", r.predicted))
+            )
+        })
+        .collect();
+    let first = format!("{} (alternatives grouped)", g.column);
+    let mut s = table(
+        "by-alternative",
+        &[first.as_str(), "alternatives", "observed", "predicted"],
+        &rows,
+    );
+    if !g.diversion.is_empty() {
+        let rows: Vec<String> = g
+            .diversion
+            .iter()
+            .map(|r| {
+                format!(
+                    "{}{}{}",
+                    label_cell(&r.removed),
+                    label_cell(&r.to),
+                    num_cell(&format!("{:.4}", r.share))
+                )
+            })
+            .collect();
+        let _ = writeln!(
+            s,
+            "<p>When every alternative of one {} is withdrawn, the share of its predicted demand each other one gains:</p>",
+            g.column
+        );
+        s.push_str(&table(
+            "by-alternative-diversion",
+            &["withdrawn", "to", "share"],
+            &rows,
+        ));
+    }
+    s
 }

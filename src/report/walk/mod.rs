@@ -189,7 +189,8 @@ pub struct Walk {
 
 impl Walk {
     pub fn new(spec: &Spec, fit: &Fit, a: &Analysis) -> Walk {
-        let names = spec.alternative_names();
+        // A model with many alternatives: the tables cover the top ones.
+        let names = a.top.clone().unwrap_or_else(|| spec.alternative_names());
         Walk {
             variables: variables(spec, a, &names),
             own: a

@@ -36,53 +36,8 @@ impl Pairs {
         let table = load::read(file, &numeric, &[spec.from.clone(), spec.id.clone()])?;
         let from = table.keys(&spec.from, "[data.pairs].from")?;
         let alt = table.keys(&spec.id, "[data.pairs].id")?;
-        let j_of: HashMap<&str, u32> = ids
-            .iter()
-            .enumerate()
-            .map(|(j, k)| (k.as_str(), j as u32))
-            .collect();
+        let (keys, index, row_of) = rows_by_pair(spec, ids, (&from, &alt))?;
         let nj = ids.len();
-        let mut index: HashMap<String, u32> = HashMap::new();
-        let mut keys = Vec::new();
-        let mut row_of: Vec<u32> = Vec::new();
-        for (r, (f, a)) in from.iter().zip(&alt).enumerate() {
-            let o = match index.get(f.as_str()) {
-                Some(&o) => o as usize,
-                None => {
-                    index.insert(f.clone(), keys.len() as u32);
-                    keys.push(f.clone());
-                    row_of.resize(keys.len() * nj, u32::MAX);
-                    keys.len() - 1
-                }
-            };
-            let Some(&j) = j_of.get(a.as_str()) else {
-                return Err(Error::data(
-                    file,
-                    format!(
-                        "column `{}` ([data.pairs].id), row {}: `{}` is not an id of the table of alternatives",
-                        spec.id,
-                        r + 1,
-                        quote(a)
-                    ),
-                ));
-            };
-            let cell = o * nj + j as usize;
-            if row_of[cell] != u32::MAX {
-                return Err(Error::data(
-                    file,
-                    format!(
-                        "rows {} and {} are both the pair `{}` -> `{}` (columns `{}` and `{}`); each pair has one row",
-                        row_of[cell] + 1,
-                        r + 1,
-                        quote(f),
-                        quote(a),
-                        spec.from,
-                        spec.id
-                    ),
-                ));
-            }
-            row_of[cell] = r as u32;
-        }
         let open = match marked {
             true => Some(table.numbers(AVAILABLE, "availability")?),
             false => None,
@@ -110,4 +65,64 @@ impl Pairs {
             alternatives: nj,
         })
     }
+}
+
+/// The keys in the order first seen, their index, and each (key, alternative)
+/// cell's row (`u32::MAX` where none); an unknown id or a pair written twice
+/// is refused naming its rows.
+#[allow(clippy::type_complexity)]
+fn rows_by_pair(
+    spec: &PairsTable,
+    ids: &[String],
+    (from, alt): (&[String], &[String]),
+) -> Result<(Vec<String>, HashMap<String, u32>, Vec<u32>)> {
+    let file = &spec.file;
+    let j_of: HashMap<&str, u32> = ids
+        .iter()
+        .enumerate()
+        .map(|(j, k)| (k.as_str(), j as u32))
+        .collect();
+    let nj = ids.len();
+    let mut index: HashMap<String, u32> = HashMap::new();
+    let mut keys = Vec::new();
+    let mut row_of: Vec<u32> = Vec::new();
+    for (r, (f, a)) in from.iter().zip(alt).enumerate() {
+        let o = match index.get(f.as_str()) {
+            Some(&o) => o as usize,
+            None => {
+                index.insert(f.clone(), keys.len() as u32);
+                keys.push(f.clone());
+                row_of.resize(keys.len() * nj, u32::MAX);
+                keys.len() - 1
+            }
+        };
+        let Some(&j) = j_of.get(a.as_str()) else {
+            return Err(Error::data(
+                    file,
+                    format!(
+                        "column `{}` ([data.pairs].id), row {}: `{}` is not an id of the table of alternatives",
+                        spec.id,
+                        r + 1,
+                        quote(a)
+                    ),
+                ));
+        };
+        let cell = o * nj + j as usize;
+        if row_of[cell] != u32::MAX {
+            return Err(Error::data(
+                    file,
+                    format!(
+                        "rows {} and {} are both the pair `{}` -> `{}` (columns `{}` and `{}`); each pair has one row",
+                        row_of[cell] + 1,
+                        r + 1,
+                        quote(f),
+                        quote(a),
+                        spec.from,
+                        spec.id
+                    ),
+                ));
+        }
+        row_of[cell] = r as u32;
+    }
+    Ok((keys, index, row_of))
 }

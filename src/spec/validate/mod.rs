@@ -26,7 +26,6 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
     let (family, rules) = model::family(&raw.model, families).map_err(fail)?;
     let family_keys = model::family_keys(&raw, families, rules, &family).map_err(fail)?;
     let constants = model::constants(&raw.model, rules, &family).map_err(fail)?;
-    let base_named = raw.model.base.is_some();
     let needed = constants || !raw.characteristic.is_empty();
     let base = model::base(&raw.model, rules, &family, &alternatives, needed).map_err(fail)?;
     let cx = terms::Context {
@@ -43,26 +42,8 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
     let characteristics =
         terms::characteristics(&raw.characteristic, &cx, &mut names).map_err(fail)?;
     let derived = sections::derived(&raw.derived).map_err(fail)?;
-    let terms = tables::Terms {
-        layout: &data.layout,
-        alternatives: alternatives.len(),
-        constants,
-        attributes: &attributes,
-        characteristics: &characteristics,
-        rules,
-        keys: &family_keys,
-        family: &family,
-    };
-    let sampling = tables::sampling(raw.sampling.as_ref(), &terms).map_err(fail)?;
-    let single = rules.single_index();
-    let linear = parameters::linear(
-        &alternatives,
-        base,
-        constants,
-        &attributes,
-        &characteristics,
-        single,
-    );
+    let terms = (&attributes[..], &characteristics[..]);
+    let linear = parameters::linear(&alternatives, base, constants, terms, rules.single_index());
     let copies = rules.copies(&family_keys).map_err(fail)?;
     let mut parameters = parameters::copied(linear, &copies).map_err(fail)?;
     let family_columns = rules.columns(&family_keys);
@@ -77,6 +58,8 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         keys: &family_keys,
     };
     let extra = rules.check(&view).map_err(fail)?;
+    let sampling =
+        tables::sampling(raw.sampling.as_ref(), &view, (rules, &family)).map_err(fail)?;
     parameters::add_family(&mut parameters, extra).map_err(fail)?;
     parameters::starts(&raw.parameters, &mut parameters).map_err(fail)?;
     rules.check_parameters(&parameters).map_err(fail)?;
@@ -94,7 +77,7 @@ pub(super) fn validate(raw: RawSpec, path: &Path, families: &dyn Catalog) -> Res
         family,
         family_keys,
         base,
-        base_named,
+        base_named: raw.model.base.is_some(),
         constants,
         alternatives,
         attributes,

@@ -64,8 +64,7 @@ pub(super) fn linear(
     alternatives: &[Alternative],
     base: usize,
     constants: bool,
-    attributes: &[Attribute],
-    characteristics: &[Characteristic],
+    (attributes, characteristics): (&[Attribute], &[Characteristic]),
     single: bool,
 ) -> Vec<Parameter> {
     let mut parameters = Vec::new();

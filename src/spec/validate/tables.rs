@@ -5,8 +5,7 @@
 use crate::error::{Error, Result};
 use crate::spec::raw::RawSampling;
 use crate::spec::{
-    Alternative, Attribute, Catalog, Characteristic, Coefficient, FamilyRules, Layout, Sampling,
-    Scheme,
+    Alternative, Catalog, Coefficient, FamilyRules, Layout, Sampling, Scheme, SpecView,
 };
 
 /// The alternatives: `[alternatives.*]`, or the ids of the table of
@@ -51,24 +50,13 @@ pub(super) fn alternatives(
         .collect())
 }
 
-/// What `[sampling]` is checked against.
-pub(super) struct Terms<'a> {
-    pub layout: &'a Layout,
-    pub alternatives: usize,
-    pub constants: bool,
-    pub attributes: &'a [Attribute],
-    pub characteristics: &'a [Characteristic],
-    pub rules: &'a dyn FamilyRules,
-    pub keys: &'a toml::Table,
-    pub family: &'a str,
-}
-
 /// `[sampling]`: layout "tables", a family for which it is consistent, fewer
 /// draws than the set, a known scheme, and a utility with the same terms in
 /// every alternative (a sampled set's members are not told apart).
 pub(super) fn sampling(
     raw: Option<&RawSampling>,
-    t: &Terms,
+    t: &SpecView,
+    (rules, family): (&dyn FamilyRules, &str),
 ) -> std::result::Result<Option<Sampling>, String> {
     let Some(raw) = raw else {
         return Ok(None);
@@ -76,13 +64,13 @@ pub(super) fn sampling(
     if !matches!(t.layout, Layout::Tables { .. }) {
         return Err("[sampling]: sampled choice sets need [data].layout = \"tables\"".into());
     }
-    if !t.rules.sampled_sets(t.keys) {
+    if !rules.sampled_sets(t.keys) {
         return Err(format!(
             "[sampling]: estimation on sampled choice sets is consistent for the logit in preference space, not for family \"{}\" as specified; remove [sampling]",
-            t.family
+            family
         ));
     }
-    let largest = t.alternatives - 1;
+    let largest = t.alternatives.len() - 1;
     let drawn = raw.alternatives;
     if drawn < 1 {
         return Err(format!(
@@ -92,7 +80,7 @@ pub(super) fn sampling(
     if drawn as usize >= largest {
         return Err(format!(
             "[sampling].alternatives: {drawn} drawn besides the chosen one, but the set has only {} alternatives, so a sample is no smaller than the set; remove [sampling] and estimate on the full sets",
-            t.alternatives
+            t.alternatives.len()
         ));
     }
     let scheme = match (raw.scheme.as_deref().unwrap_or("uniform"), &raw.weight) {
@@ -119,7 +107,7 @@ pub(super) fn sampling(
 }
 
 /// Refuses terms that differ between alternatives under `[sampling]`.
-fn generic(t: &Terms) -> std::result::Result<(), String> {
+fn generic(t: &SpecView) -> std::result::Result<(), String> {
     let why = "sampled estimation needs a utility with the same terms in every alternative";
     if t.constants {
         return Err(format!("[sampling]: {why}; set [model].constants = false (an alternative's own appeal enters as a column of the alternatives table)"));

@@ -23,6 +23,16 @@ pub fn open(spec_path: &Path, extra: &Extra) -> Result<(Spec, Dataset)> {
     Ok((spec, ds))
 }
 
+/// `open` for a fit that no analysis follows: a spec estimated on sampled
+/// sets whose full sets are large gets only its sampled sets
+/// (`data::load_for_fit`).
+pub fn open_for_fit(spec_path: &Path, extra: &Extra) -> Result<(Spec, Dataset)> {
+    let spec = crate::model::read_spec(spec_path)?;
+    let ds = data::load_for_fit(&spec, extra)?;
+    crate::model::admit(&spec, &ds.obs)?;
+    Ok((spec, ds))
+}
+
 /// Reads a results document written by `fit --save` or `fit --json`.
 pub fn read_document(path: &Path) -> Result<FitDocument> {
     let text = std::fs::read_to_string(path).map_err(|e| Error::io(path, e))?;

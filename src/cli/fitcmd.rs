@@ -118,7 +118,11 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
         numeric: Vec::new(),
         text: args.analysis.by.iter().cloned().collect(),
     };
-    let (spec, ds) = super::open(&args.spec, &extra)?;
+    let (spec, ds) = match args.analysis.no_analysis && args.classes.is_none() {
+        // Sampled sets drawn straight from the tables when the full sets are large.
+        true => crate::workspace::open_for_fit(&args.spec, &extra)?,
+        false => super::open(&args.spec, &extra)?,
+    };
     if !args.analysis.no_analysis {
         // Refused before the fit rather than after it.
         args.analysis.options().check(spec.parameters.len())?;

@@ -73,6 +73,25 @@ pub fn load(spec: &Spec, extra: &Extra) -> Result<Dataset> {
     from_table(spec, table, true, tables)
 }
 
+/// The data of a fit that no analysis follows (`fit --no-analysis`): as
+/// `load`, except that a spec estimated on sampled sets whose full sets
+/// would pass `tables::lean::LEAN_CELLS` gets its sampled sets drawn
+/// straight from the tables (the `Dataset`'s observations are then those
+/// sets: one slot per sampled alternative, no full sets).
+pub fn load_for_fit(spec: &Spec, extra: &Extra) -> Result<Dataset> {
+    let (Some(s), Some(tables)) = (&spec.sampling, tables_of(spec)?) else {
+        return load(spec, extra);
+    };
+    let (numeric, text) = needed_columns(spec, extra);
+    let mut table = load::read(&spec.data.file, &numeric, &text)?;
+    if table.nrows.saturating_mul(tables.alternatives()) <= tables::lean::LEAN_CELLS {
+        return from_table(spec, table, true, Some(tables));
+    }
+    add_derived(spec, &mut table)?;
+    let obs = tables::lean::observations(spec, &tables, &table, s)?;
+    Ok(Dataset { obs, table })
+}
+
 /// Layout "tables": the spec's tables, loaded once for all the situations.
 pub(crate) fn tables_of(spec: &Spec) -> Result<Option<Arc<Tables>>> {
     Ok(match spec.data.layout {

@@ -254,7 +254,13 @@ pub fn fit(spec: &Spec, obs: Arc<Observations>, progress: Progress) -> Result<Fi
             let fit = fit_family(spec, drawn, family, progress)?;
             Ok(sampled::onto_full(spec, fit, obs, info))
         }
-        None => fit_family(spec, obs, family, progress),
+        None => {
+            // Sets already drawn from the tables (`data::load_for_fit`).
+            let drawn = sampled::drawn_sets(spec, &obs);
+            let mut fit = fit_family(spec, obs, family, progress)?;
+            fit.stats.sampled = drawn;
+            Ok(fit)
+        }
     }
 }
 

@@ -27,8 +27,9 @@ pub struct SampledSets {
     pub seed: u64,
     /// Mean number of distinct alternatives in a sampled set (the chosen one included).
     pub mean_set: f64,
-    /// Mean number of available alternatives in a full set.
-    pub mean_full: f64,
+    /// Mean number of available alternatives in a full set (null when the
+    /// sets were drawn straight from the tables, the full sets never made).
+    pub mean_full: Option<f64>,
 }
 
 /// The sampled observations when the spec samples and `obs` holds full sets
@@ -38,22 +39,33 @@ pub(super) fn sampled(spec: &Spec, obs: &Observations) -> Option<(Arc<Observatio
     let tables = obs.tables.as_ref()?;
     let weights = tables.sampling_weight.as_deref();
     let sets = sample::sets_of(obs, s, weights);
-    let filled = sets.members.iter().filter(|&&j| j != sample::EMPTY).count();
+    let drawn = Arc::new(sample::sampled(obs, &sets, weights));
+    let mut info = drawn_sets(spec, &drawn)?;
     let open = obs.available.iter().filter(|&&a| a).count();
-    let n = obs.situations.max(1) as f64;
+    info.mean_full = Some(open as f64 / obs.situations.max(1) as f64);
+    Some((drawn, info))
+}
+
+/// How the sets of sampled observations `obs` were drawn; `None` unless the
+/// spec samples and `obs` holds sampled sets (fewer slots than alternatives).
+pub(super) fn drawn_sets(spec: &Spec, obs: &Observations) -> Option<SampledSets> {
+    let s = spec.sampling.as_ref()?;
+    if obs.alternatives >= spec.alternatives.len() {
+        return None;
+    }
+    let filled = obs.available.iter().filter(|&&a| a).count();
     let (scheme, weight) = match &s.scheme {
         Scheme::Uniform => ("uniform", None),
         Scheme::Weighted(w) => ("weighted", Some(w.clone())),
     };
-    let info = SampledSets {
+    Some(SampledSets {
         scheme: scheme.into(),
         weight,
         drawn: s.alternatives,
         seed: s.seed,
-        mean_set: filled as f64 / n,
-        mean_full: open as f64 / n,
-    };
-    Some((Arc::new(sample::sampled(obs, &sets, weights)), info))
+        mean_set: filled as f64 / obs.situations.max(1) as f64,
+        mean_full: None,
+    })
 }
 
 /// The fit on sampled sets moved onto the full sets `full`: its design, its

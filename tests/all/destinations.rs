@@ -419,3 +419,29 @@ fn tables_over_the_top_alternatives_equal_those_rows_of_the_whole_tables() {
         "intrazonal of each top zone on each"
     );
 }
+
+#[test]
+fn sets_drawn_straight_from_the_tables_are_those_drawn_from_the_full_sets() {
+    // The large-data path (`data::tables::lean`, used by `fit --no-analysis`
+    // when the full sets are large) must draw the very sets, values and
+    // corrections that sampling the full sets gives (common practice: one
+    // sampler, two routes to it).
+    for extra in [
+        "[sampling]\nalternatives = 7\nseed = 4\n",
+        "[sampling]\nalternatives = 7\nscheme = \"weighted\"\nweight = \"jobs\"\nseed = 4\n",
+    ] {
+        let (_, spec) = tables_spec("lean", extra);
+        let ds = data::load(&spec, &Extra::default()).unwrap();
+        let t = ds.obs.tables.clone().unwrap();
+        let s = spec.sampling.clone().unwrap();
+        let w = t.sampling_weight.as_deref();
+        let via_full = sample::sampled(&ds.obs, &sample::sets_of(&ds.obs, &s, w), w);
+        let lean = sharecast::data::tables::lean::observations(&spec, &t, &ds.table, &s).unwrap();
+        assert_eq!(lean, via_full, "{extra}");
+        // And the fit on them says how they were drawn.
+        let fit = fit_obs(&spec, lean);
+        let info = fit.stats.sampled.clone().unwrap();
+        assert_eq!((info.drawn, info.mean_full), (7, None));
+        assert!(fit.shares.is_empty());
+    }
+}

@@ -5,6 +5,7 @@
 //! (`full`), or sampled ones for estimation (`sample`).
 
 mod full;
+pub mod lean;
 mod pairs;
 pub mod sample;
 

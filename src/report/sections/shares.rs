@@ -11,6 +11,10 @@ use crate::report::walk::Walk;
 
 pub struct Shares;
 
+/// What stands in for the shares of a fit on sampled sets drawn straight
+/// from the tables (`fit --no-analysis` on large data).
+const NOT_OVER_FULL_SETS: &str = "shares over the full sets: not computed (the fit drew its sampled sets straight from the tables, the full sets being large; `sharecast simulate` forecasts over them in chunks)";
+
 /// The share rows shown (the analysis's top alternatives, or by default the
 /// top ones of a model with many; every one otherwise) and how many are not.
 fn shown<'a>(input: &Input<'a>) -> (Vec<&'a crate::estimate::ShareRow>, usize) {
@@ -155,6 +159,9 @@ impl Section for Shares {
     }
 
     fn text(&self, input: &Input) -> Option<String> {
+        if input.m.fit.shares.is_empty() {
+            return Some(NOT_OVER_FULL_SETS.to_string() + "\n");
+        }
         let mut s = String::from("shares (weighted)   observed   predicted\n");
         let (rows, hidden) = shown(input);
         for r in rows {

@@ -87,12 +87,12 @@ pub fn observations(
     });
     let times = multipliers(spec, table)?;
     let mut attributes = Vec::with_capacity(spec.attributes.len());
-    for a in 0..spec.attributes.len() {
+    for (a, times) in times.iter().enumerate() {
         let mut x = vec![0.0; n * slots];
         for (t, (xv, &j)) in x.iter_mut().zip(&members).enumerate() {
             if j != EMPTY {
                 let i = t / slots;
-                let m = times[a].map_or(1.0, |v| v[i]);
+                let m = times.map_or(1.0, |v| v[i]);
                 *xv = tables.value(a, k.from[i] as usize, j as usize) * m;
             }
         }

@@ -117,16 +117,20 @@ pub fn report_results(
     for p in scenarios {
         read.push((p.display().to_string(), Scenario::from_file(p, &spec)?));
     }
-    let mut numeric: Vec<String> = Vec::new();
-    for c in read.iter().flat_map(|(_, sc)| sc.columns()) {
-        if !numeric.contains(&c) {
-            numeric.push(c);
+    let mut extra = Extra::default();
+    for (_, sc) in &read {
+        let more = sc.extra(&spec);
+        for (list, cs) in [
+            (&mut extra.numeric, more.numeric),
+            (&mut extra.text, more.text),
+        ] {
+            for c in cs {
+                if !list.contains(&c) {
+                    list.push(c);
+                }
+            }
         }
     }
-    let extra = Extra {
-        numeric,
-        text: Vec::new(),
-    };
     let ds = data::load(&spec, &extra)?;
     crate::model::admit(&spec, &ds.obs)?;
     let (fit, note) = fit_or_restore(&spec, Arc::new(ds.obs.clone()), load, progress)?;

@@ -1,4 +1,4 @@
-//! Fuzzes the expression parser and evaluator on a few columns.
+//! Fuzzes the expression parser and evaluator on a few columns, numeric and text.
 #![no_main]
 use libfuzzer_sys::fuzz_target;
 
@@ -13,7 +13,14 @@ fuzz_target!(|data: &[u8]| {
                 _ => None,
             };
             let _ = e.eval(&lookup, 3);
+            let t = [Some("x".to_string()), None, Some("it's".to_string())];
+            let texts = |c: &str| match c {
+                "t" => Some(&t[..]),
+                _ => None,
+            };
+            let _ = e.eval_with_text(&lookup, &texts, 3);
             let _ = e.columns();
+            let _ = e.text_columns();
         }
     }
 });

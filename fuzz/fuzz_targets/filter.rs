@@ -1,7 +1,7 @@
 //! Fuzzes scenario `where` filters: the text is parsed as an expression and,
 //! when it parses, applied to a small data set through `scenario::prepare`
-//! (evaluation over the table's columns): changed values or an error, never a
-//! panic or a stack overflow.
+//! (evaluation over the table's numeric and text columns): changed values or
+//! an error, never a panic or a stack overflow.
 #![no_main]
 use std::path::PathBuf;
 use std::sync::{Arc, OnceLock};
@@ -13,7 +13,7 @@ use sharecast::scenario::{prepare, Change, Op, Scenario, Target};
 use sharecast::spec::{Expr, Spec};
 
 const SPEC: &str = "[data]\nfile = \"d.csv\"\nlayout = \"wide\"\nchoice = \"m\"\n[model]\nfamily = \"logit\"\nbase = \"car\"\n[alternatives.car]\n[alternatives.bus]\n[[attribute]]\nname = \"cost\"\ncolumns = { car = \"c1\", bus = \"c2\" }\n[[characteristic]]\nname = \"income\"\ncolumn = \"inc\"\n[derived]\nhalf = \"inc / 2\"\n[parameters]\nasc_bus = { fixed = 0.3 }\ncost = { fixed = -0.5 }\nincome_bus = { fixed = 0.01 }\n";
-const CSV: &str = "m,c1,c2,inc,zone\ncar,1,2,10,1\nbus,2,1,0,2\ncar,1.5,0.5,-3,3\nbus,0,1e10,5,1\n";
+const CSV: &str = "m,c1,c2,inc,zone,district\ncar,1,2,10,1,east\nbus,2,1,0,2,west\ncar,1.5,0.5,-3,3,\nbus,0,1e10,5,1,it's\n";
 
 struct Fixed {
     spec: Spec,
@@ -31,7 +31,7 @@ fn fixed() -> &'static Fixed {
             Ok(s) => s,
             Err(e) => panic!("fixed spec invalid: {e}"),
         };
-        let extra = Extra { numeric: vec!["zone".into()], text: Vec::new() };
+        let extra = Extra { numeric: vec!["zone".into()], text: vec!["district".into()] };
         let ds = match data::load(&spec, &extra) {
             Ok(d) => d,
             Err(e) => panic!("fixed data invalid: {e}"),

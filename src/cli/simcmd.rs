@@ -127,10 +127,8 @@ pub fn simulate(args: SimulateArgs) -> Result<ExitCode> {
         crate::data::write::check_overwrite(out, args.force)?;
     }
     // The fit uses the estimation data; the forecast may run over another file.
-    let extra = Extra {
-        numeric: sc.columns(),
-        text: args.by.iter().cloned().collect(),
-    };
+    let mut extra = sc.extra(&spec);
+    extra.text.extend(args.by.iter().cloned());
     let est = data::load(&spec, &extra)?;
     let (fit, note) = super::fit_or_restore(&spec, &est, args.load.as_deref())?;
     if let Some(n) = note {

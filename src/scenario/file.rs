@@ -212,38 +212,60 @@ impl Scenario {
         })
     }
 
+    /// The scenario's expressions: `where` filters, then new alternatives' values.
+    fn expressions(&self) -> impl Iterator<Item = &Expr> {
+        let filters = self.changes.iter().filter_map(|c| c.filter.as_ref());
+        let values = self
+            .new_alternatives
+            .iter()
+            .flat_map(|n| n.attributes.iter())
+            .filter_map(|(_, v)| match v {
+                NewValue::Expression(_, e) => Some(e),
+                NewValue::Number(_) => None,
+            });
+        filters.map(|(_, e)| e).chain(values)
+    }
+
     /// Columns of the data that the scenario's expressions read.
     pub fn columns(&self) -> Vec<String> {
         let mut out: Vec<String> = Vec::new();
-        {
-            let mut add = |e: &Expr| {
-                for c in e.columns() {
-                    if !out.contains(&c) {
-                        out.push(c);
-                    }
-                }
-            };
-            for c in &self.changes {
-                if let Some((_, e)) = &c.filter {
-                    add(e);
-                }
-            }
-            for n in &self.new_alternatives {
-                for (_, v) in &n.attributes {
-                    if let NewValue::Expression(_, e) = v {
-                        add(e);
-                    }
-                }
-            }
-        }
-        for n in &self.new_alternatives {
-            if let Some(a) = &n.available {
-                if !out.contains(a) {
-                    out.push(a.clone());
-                }
+        let read = self.expressions().flat_map(|e| e.columns());
+        let available = self
+            .new_alternatives
+            .iter()
+            .filter_map(|n| n.available.clone());
+        for c in read.chain(available) {
+            if !out.contains(&c) {
+                out.push(c);
             }
         }
         out
+    }
+
+    /// Columns the scenario's expressions compare with a text value in
+    /// quotes, less those the spec reads as numbers (where the text value is
+    /// read as a number): a loader reads these as text.
+    pub fn text_columns(&self, spec: &Spec) -> Vec<String> {
+        let (numeric, _) = crate::data::needed_columns(spec, &crate::data::Extra::default());
+        let mut out: Vec<String> = Vec::new();
+        for c in self.expressions().flat_map(|e| e.text_columns()) {
+            if !numeric.contains(&c) && !out.contains(&c) {
+                out.push(c);
+            }
+        }
+        out
+    }
+
+    /// The columns a loader reads for the scenario beside the spec's own:
+    /// `text_columns` as text, the rest of `columns` as numbers.
+    pub fn extra(&self, spec: &Spec) -> crate::data::Extra {
+        let text = self.text_columns(spec);
+        let numeric = self
+            .columns()
+            .into_iter()
+            .filter(|c| !text.contains(c))
+            .collect();
+        crate::data::Extra { numeric, text }
     }
 }
 

@@ -6,7 +6,7 @@
 
 use super::file::{NewAlternative, NewValue, Scenario, Target};
 use crate::analysis::TermMap;
-use crate::data::Table;
+use crate::data::{Column, Table};
 use crate::design::Design;
 use crate::error::{Error, Result};
 use crate::estimate::Fit;
@@ -47,9 +47,16 @@ pub struct Prepared {
     pub family: Option<crate::model::FamilyRef>,
 }
 
+/// Evaluates a scenario expression over the table's rows: numeric columns,
+/// and text columns where it compares them with `==` or `!=`.
 fn eval(table: &Table, key: &str, text: &str, e: &Expr, spec: &Spec) -> Result<Vec<f64>> {
-    let lookup = |c: &str| table.raw_numbers(c);
-    let v = e.eval(&lookup, table.nrows).map_err(|m| {
+    read_as_numbers(table, key, text, e, spec)?;
+    let numbers = |c: &str| table.raw_numbers(c);
+    let texts = |c: &str| match table.column(c) {
+        Some(Column::Text(v)) => Some(v.as_slice()),
+        _ => None,
+    };
+    let v = e.eval_with_text(&numbers, &texts, table.nrows).map_err(|m| {
         Error::spec(&spec.path, format!("{key} `{text}`: {m} (the data file's columns and the spec's [derived] names can be used)"))
     })?;
     if let Some(r) = v.iter().position(|x| !x.is_finite()) {
@@ -62,6 +69,32 @@ fn eval(table: &Table, key: &str, text: &str, e: &Expr, spec: &Spec) -> Result<V
         ));
     }
     Ok(v)
+}
+
+/// Refuses a column read as numbers that holds nothing but text (every
+/// value missing, text in its cells): a comparison with it would be false
+/// everywhere without saying so. The message shows how to compare text.
+fn read_as_numbers(table: &Table, key: &str, text: &str, e: &Expr, spec: &Spec) -> Result<()> {
+    for c in e.columns() {
+        let Some(values) = table.raw_numbers(&c) else {
+            continue;
+        };
+        let Some((row, example)) = table.text_cells(&c).first() else {
+            continue;
+        };
+        if values.iter().all(|x| x.is_nan()) {
+            return Err(Error::spec(
+                &spec.path,
+                format!(
+                    "{key} `{text}`: column `{c}` holds text (`{}` at row {} of {}), but is read as numbers here: a text column is compared with `==` or `!=` to a text value in quotes, as in `{c} == 'east'`, and is read as text unless the spec reads it as numbers",
+                    crate::error::quote(example),
+                    table.offset + row + 1,
+                    table.file.display()
+                ),
+            ));
+        }
+    }
+    Ok(())
 }
 
 pub fn prepare(spec: &Spec, fit: &Fit, table: &Table, s: &Scenario) -> Result<Prepared> {

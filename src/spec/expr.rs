@@ -1,14 +1,25 @@
 //! The small expression language of `[derived]` columns, scenario `where`
 //! filters and new-alternative attributes: numbers, column names,
-//! `+ - * / ^`, parentheses, unary minus, `log exp sqrt abs min max` and
-//! comparisons giving 0/1. Parsed once, evaluated column-wise over f64 data.
+//! `+ - * / ^`, parentheses, unary minus, `log exp sqrt abs min max`,
+//! comparisons giving 0/1, and text values in single quotes compared with
+//! `==`/`!=` to columns (`expr_text.rs`). Parsed once, evaluated column-wise
+//! over f64 data and, for text comparisons, text columns.
 
-use std::fmt;
+#[path = "expr_lex.rs"]
+mod lex;
+#[path = "expr_text.rs"]
+mod text;
+
+pub use lex::ParseError;
+use lex::{tokenize, Tok};
 
 #[derive(Clone, Debug, PartialEq)]
 pub enum Expr {
     Num(f64),
     Col(String),
+    /// A text value in single quotes: only ever one side of `==` or `!=`
+    /// whose other side is a column (`parse` refuses it anywhere else).
+    Text(String),
     Neg(Box<Expr>),
     Bin(BinOp, Box<Expr>, Box<Expr>),
     Call(Func, Vec<Expr>),
@@ -39,155 +50,6 @@ pub enum Func {
     Max,
 }
 
-/// A parse error: `position` counts characters from 0 in the expression text.
-#[derive(Clone, Debug, PartialEq)]
-pub struct ParseError {
-    pub position: usize,
-    pub message: String,
-    pub text: String,
-}
-
-impl fmt::Display for ParseError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        // No text: the error is about the whole expression (its length).
-        if self.text.is_empty() {
-            return write!(f, "{}", self.message);
-        }
-        // A long text is shown as a window of 60 characters around the position.
-        let chars: Vec<char> = self.text.chars().collect();
-        let from = self.position.saturating_sub(30);
-        let to = (from + 60).min(chars.len());
-        let from = from.min(to);
-        let lead = if from > 0 { "…" } else { "" };
-        let tail = if to < chars.len() { "…" } else { "" };
-        let shown: String = chars[from..to].iter().collect();
-        write!(
-            f,
-            "{} at character {}\n    {lead}{shown}{tail}\n    {}{}^",
-            self.message,
-            self.position + 1,
-            " ".repeat(lead.chars().count()),
-            " ".repeat(self.position - from)
-        )
-    }
-}
-
-#[derive(Clone, Debug, PartialEq)]
-enum Tok {
-    Num(f64),
-    Ident(String),
-    Op(&'static str),
-    LParen,
-    RParen,
-    Comma,
-}
-
-fn tokenize(text: &str) -> Result<Vec<(usize, Tok)>, ParseError> {
-    let chars: Vec<char> = text.chars().collect();
-    let err = |position: usize, message: String| ParseError {
-        position,
-        message,
-        text: text.to_string(),
-    };
-    let mut out = Vec::new();
-    let mut i = 0;
-    while i < chars.len() {
-        let c = chars[i];
-        if c.is_whitespace() {
-            i += 1;
-            continue;
-        }
-        let start = i;
-        if c.is_ascii_digit() || (c == '.' && chars.get(i + 1).is_some_and(|d| d.is_ascii_digit()))
-        {
-            i = number_end(&chars, i);
-            let s: String = chars[start..i].iter().collect();
-            let v: f64 = s
-                .parse()
-                .map_err(|_| err(start, format!("malformed number `{s}`")))?;
-            out.push((start, Tok::Num(v)));
-            continue;
-        }
-        if c.is_alphabetic() || c == '_' {
-            while i < chars.len()
-                && (chars[i].is_alphanumeric() || chars[i] == '_' || chars[i] == '.')
-            {
-                i += 1;
-            }
-            out.push((start, Tok::Ident(chars[start..i].iter().collect())));
-            continue;
-        }
-        if c == '`' {
-            i += 1;
-            while i < chars.len() && chars[i] != '`' {
-                i += 1;
-            }
-            if i >= chars.len() {
-                return Err(err(start, "unclosed ` around a column name".into()));
-            }
-            out.push((start, Tok::Ident(chars[start + 1..i].iter().collect())));
-            i += 1;
-            continue;
-        }
-        let (tok, len) = operator(&chars, i).map_err(|m| err(start, m))?;
-        out.push((start, tok));
-        i += len;
-    }
-    Ok(out)
-}
-
-/// Where the number starting at `i` ends: digits and points, then an exponent
-/// if digits follow the `e` (and its sign).
-fn number_end(chars: &[char], mut i: usize) -> usize {
-    while i < chars.len() && (chars[i].is_ascii_digit() || chars[i] == '.') {
-        i += 1;
-    }
-    if i < chars.len() && (chars[i] == 'e' || chars[i] == 'E') {
-        let mut j = i + 1;
-        if j < chars.len() && (chars[j] == '+' || chars[j] == '-') {
-            j += 1;
-        }
-        if j < chars.len() && chars[j].is_ascii_digit() {
-            i = j;
-            while i < chars.len() && chars[i].is_ascii_digit() {
-                i += 1;
-            }
-        }
-    }
-    i
-}
-
-/// The operator or punctuation at `i`, and its length in characters.
-fn operator(chars: &[char], i: usize) -> Result<(Tok, usize), String> {
-    let c = chars[i];
-    let two: String = chars[i..(i + 2).min(chars.len())].iter().collect();
-    let op2 = match two.as_str() {
-        "<=" => Some("<="),
-        ">=" => Some(">="),
-        "==" => Some("=="),
-        "!=" => Some("!="),
-        _ => None,
-    };
-    if let Some(op) = op2 {
-        return Ok((Tok::Op(op), 2));
-    }
-    let tok = match c {
-        '+' => Tok::Op("+"),
-        '-' => Tok::Op("-"),
-        '*' => Tok::Op("*"),
-        '/' => Tok::Op("/"),
-        '^' => Tok::Op("^"),
-        '<' => Tok::Op("<"),
-        '>' => Tok::Op(">"),
-        '(' => Tok::LParen,
-        ')' => Tok::RParen,
-        ',' => Tok::Comma,
-        '=' => return Err("`=` is not an operator (write `==` to compare)".into()),
-        _ => return Err(format!("unexpected character `{c}`")),
-    };
-    Ok((tok, 1))
-}
-
 /// The longest expression text accepted, in characters: long enough for any
 /// formula a person writes, short enough that evaluating it cannot exhaust the stack.
 pub const MAX_LENGTH: usize = 4000;
@@ -199,6 +61,9 @@ struct Parser<'a> {
     pos: usize,
     text: &'a str,
     depth: usize,
+    /// Where each text value starts, in the order met (the order of a
+    /// left-to-right walk of the tree).
+    texts: Vec<usize>,
 }
 
 impl Parser<'_> {
@@ -297,6 +162,11 @@ impl Parser<'_> {
                 self.pos += 1;
                 Ok(Expr::Num(v))
             }
+            Some(Tok::Text(value)) => {
+                self.texts.push(self.here());
+                self.pos += 1;
+                Ok(Expr::Text(value))
+            }
             Some(Tok::LParen) => {
                 self.pos += 1;
                 self.enter()?;
@@ -380,15 +250,18 @@ impl Expr {
             pos: 0,
             text,
             depth: 0,
+            texts: Vec::new(),
         };
         let e = p.comparison()?;
         if p.pos < p.toks.len() {
             return Err(p.err("unexpected text after the expression"));
         }
+        text::check(&e, &p.texts, text)?;
         Ok(e)
     }
 
-    /// Column names the expression reads, in first-use order.
+    /// Column names the expression reads, in first-use order (those compared
+    /// as text too: `text_columns` says which).
     pub fn columns(&self) -> Vec<String> {
         let mut out = Vec::new();
         self.collect(&mut out);
@@ -397,7 +270,7 @@ impl Expr {
 
     fn collect(&self, out: &mut Vec<String>) {
         match self {
-            Expr::Num(_) => {}
+            Expr::Num(_) | Expr::Text(_) => {}
             Expr::Col(c) => {
                 if !out.contains(c) {
                     out.push(c.clone())
@@ -413,25 +286,46 @@ impl Expr {
     }
 
     /// Evaluates over `n` rows; `lookup` gives a column's values by name.
-    /// The error names a column that `lookup` does not know.
+    /// The error names a column that `lookup` does not know. A comparison
+    /// with a text value reads the column's numbers (see `eval_with_text`).
     pub fn eval<'a>(
         &self,
         lookup: &dyn Fn(&str) -> Option<&'a [f64]>,
         n: usize,
     ) -> Result<Vec<f64>, String> {
+        self.eval_with_text(lookup, &|_| None, n)
+    }
+
+    /// Evaluates over `n` rows; `numbers` gives a numeric column by name,
+    /// `texts` a text column (a missing cell is `None`). A column that both
+    /// know is read as numbers, except beside a text value in quotes. The
+    /// error names a column neither knows, a text column used as a number,
+    /// or a numeric column compared with a text value that is not a number.
+    pub fn eval_with_text<'a>(
+        &self,
+        numbers: &dyn Fn(&str) -> Option<&'a [f64]>,
+        texts: &dyn Fn(&str) -> Option<&'a [Option<String>]>,
+        n: usize,
+    ) -> Result<Vec<f64>, String> {
+        self.values(&Lookups { numbers, texts, n })
+    }
+
+    fn values(&self, l: &Lookups) -> Result<Vec<f64>, String> {
         Ok(match self {
-            Expr::Num(v) => vec![*v; n],
-            Expr::Col(c) => lookup(c)
-                .ok_or_else(|| format!("unknown column `{c}`"))?
-                .to_vec(),
+            Expr::Num(v) => vec![*v; l.n],
+            Expr::Text(value) => return Err(text::alone(value)),
+            Expr::Col(c) => l.numbers(c)?.to_vec(),
             Expr::Neg(e) => {
-                let mut v = e.eval(lookup, n)?;
+                let mut v = e.values(l)?;
                 v.iter_mut().for_each(|x| *x = -*x);
                 v
             }
             Expr::Bin(op, a, b) => {
-                let mut x = a.eval(lookup, n)?;
-                let y = b.eval(lookup, n)?;
+                if let Some(v) = text::compare(*op, a, b, l)? {
+                    return Ok(v);
+                }
+                let mut x = a.values(l)?;
+                let y = b.values(l)?;
                 let f: fn(f64, f64) -> f64 = match op {
                     BinOp::Add => |a, b| a + b,
                     BinOp::Sub => |a, b| a - b,
@@ -449,14 +343,14 @@ impl Expr {
                 x
             }
             Expr::Call(func, args) => {
-                let mut x = args[0].eval(lookup, n)?;
+                let mut x = args[0].values(l)?;
                 match func {
                     Func::Log => x.iter_mut().for_each(|v| *v = v.ln()),
                     Func::Exp => x.iter_mut().for_each(|v| *v = v.exp()),
                     Func::Sqrt => x.iter_mut().for_each(|v| *v = v.sqrt()),
                     Func::Abs => x.iter_mut().for_each(|v| *v = v.abs()),
                     Func::Min | Func::Max => {
-                        let y = args[1].eval(lookup, n)?;
+                        let y = args[1].values(l)?;
                         let min = *func == Func::Min;
                         x.iter_mut()
                             .zip(&y)
@@ -465,6 +359,26 @@ impl Expr {
                 }
                 x
             }
+        })
+    }
+}
+
+/// The column lookups of one evaluation over `n` rows.
+struct Lookups<'l, 'a> {
+    numbers: &'l dyn Fn(&str) -> Option<&'a [f64]>,
+    texts: &'l dyn Fn(&str) -> Option<&'a [Option<String>]>,
+    n: usize,
+}
+
+impl<'a> Lookups<'_, 'a> {
+    /// A column's numbers; the error says whether it holds text or is unknown.
+    fn numbers(&self, c: &str) -> Result<&'a [f64], String> {
+        if let Some(v) = (self.numbers)(c) {
+            return Ok(v);
+        }
+        Err(match (self.texts)(c) {
+            Some(_) => text::used_as_number(c),
+            None => format!("unknown column `{c}`"),
         })
     }
 }

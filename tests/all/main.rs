@@ -36,6 +36,7 @@ mod recovery;
 mod references;
 mod report_html;
 mod report_render;
+mod scenario_text;
 mod scenarios;
 mod spec_errors;
 mod stream;

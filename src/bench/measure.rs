@@ -277,7 +277,7 @@ fn time_whatif(spec: &Spec, fit: &Fit, reps: usize) -> Result<f64> {
             &fit.beta,
             &prep,
             None,
-            None,
+            crate::scenario::simulate::What::point(None),
             Some(fit.baseline()),
         );
         std::hint::black_box(pass.scenario[0]);

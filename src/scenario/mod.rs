@@ -290,7 +290,8 @@ pub fn forecast_with(
     let quick = opts.quick.then(|| fit.family.for_bands()).flatten();
     let baseline = (beta == fit.beta && quick.is_none()).then(|| fit.baseline());
     let family = quick.as_deref().unwrap_or(&*fit.family);
-    let point = simulate::run(family, d, &beta, &prep, seg_arg, scenario.price, baseline);
+    let what = simulate::What::point(scenario.price);
+    let point = simulate::run(family, d, &beta, &prep, seg_arg, what, baseline);
     let mut warnings = Vec::new();
     let (stranded_situations, stranded_weight) = prep.stranded(d);
     let lost_share = stranded_weight / d.total_weight().max(1e-300);

@@ -1,8 +1,8 @@
 //! Layout "tables": a scenario's change picks its alternatives by a filter
-//! over the table of alternatives (`where = "district_east == 1"` with no
+//! over the table of alternatives (`where = "district == 'east'"` with no
 //! `alternative`), evaluated once per alternative.
 
-use crate::data::load;
+use crate::data::{load, Column};
 use crate::error::{Error, Result};
 use crate::spec::{Expr, Layout, Spec};
 
@@ -29,10 +29,15 @@ pub(super) fn alternatives_where(
             ),
         ));
     }
+    // Every column both ways: numbers stay numbers, text stays text.
     let table = load::read(file, &wanted, &wanted)?;
-    let lookup = |c: &str| table.raw_numbers(c);
+    let numbers = |c: &str| table.raw_numbers(c);
+    let texts = |c: &str| match table.column(c) {
+        Some(Column::Text(v)) => Some(v.as_slice()),
+        _ => None,
+    };
     let v = expr
-        .eval(&lookup, table.nrows)
+        .eval_with_text(&numbers, &texts, table.nrows)
         .map_err(|m| Error::spec(path, format!("{key}: {m}")))?;
     if let Some(r) = v.iter().position(|x| !x.is_finite()) {
         return Err(Error::spec(

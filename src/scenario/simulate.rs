@@ -45,6 +45,31 @@ pub fn pair(p0: &[f64], p1: &[f64], flows: &mut [f64], w: f64) {
     }
 }
 
+/// What a pass sums besides the shares: revenue over a price attribute, and
+/// the switching matrix (alternatives² per situation: only the point pass
+/// wants it, not the bands' draws).
+#[derive(Clone, Copy, Debug)]
+pub struct What {
+    pub price: Option<usize>,
+    pub switching: bool,
+}
+
+impl What {
+    /// Shares alone (a band's draw, a sweep).
+    pub const SHARES: What = What {
+        price: None,
+        switching: false,
+    };
+
+    /// The point forecast: switching, and revenue with a price attribute.
+    pub fn point(price: Option<usize>) -> What {
+        What {
+            price,
+            switching: true,
+        }
+    }
+}
+
 /// Point simulation at `beta`. `segments` gives each situation's segment index (and the count of segments).
 /// `baseline`, when given, holds the base utilities and probabilities at this `beta`.
 pub fn run(
@@ -53,10 +78,10 @@ pub fn run(
     beta: &[f64],
     prep: &Prepared,
     segments: Option<(&[u32], usize)>,
-    price: Option<usize>,
+    what: What,
     baseline: Option<&Baseline>,
 ) -> Pass {
-    sums(family, d, beta, prep, segments, price, baseline).pass(d.total_weight())
+    sums(family, d, beta, prep, segments, what, baseline).pass(d.total_weight())
 }
 
 /// The weighted sums of one pass, before they are divided by the weights:
@@ -173,9 +198,10 @@ pub fn sums(
     beta: &[f64],
     prep: &Prepared,
     segments: Option<(&[u32], usize)>,
-    price: Option<usize>,
+    what: What,
     baseline: Option<&Baseline>,
 ) -> Sums {
+    let price = what.price;
     let j = d.alternatives();
     let m = prep.alternatives();
     let ns = segments.map(|s| s.1).unwrap_or(0);
@@ -213,7 +239,9 @@ pub fn sums(
                 acc[a] += wi * p0[a];
                 acc[m + a] += wi * p1[a];
             }
-            pair(p0, p1, &mut acc[o_sw..o_seg], wi);
+            if what.switching {
+                pair(p0, p1, &mut acc[o_sw..o_seg], wi);
+            }
             if let Some((seg, _)) = segments {
                 let base = o_seg + seg[i] as usize * (2 * m + 2);
                 for a in 0..m {
@@ -256,6 +284,6 @@ pub fn shares_only(
     prep: &Prepared,
     segments: Option<(&[u32], usize)>,
 ) -> (Vec<f64>, Vec<f64>, SegmentShares) {
-    let p = run(family, d, beta, prep, segments, None, None);
+    let p = run(family, d, beta, prep, segments, What::SHARES, None);
     (p.base, p.scenario, p.segments)
 }

@@ -224,7 +224,7 @@ fn one_chunk(
         beta,
         &prep,
         seg_arg,
-        scenario.price,
+        simulate::What::point(scenario.price),
         Some(cfit.baseline()),
     );
     let total = t
@@ -321,7 +321,15 @@ fn add_draws(family: &dyn Family, all: &[Vec<f64>], part: &Part, draws: &mut Vec
     let factor = part.factor;
     let scaled = |x: f64| if factor == 1.0 { x } else { x * factor };
     for (b, acc) in all.iter().zip(draws.iter_mut()) {
-        let s = simulate::sums(family, part.d, b, part.prep, part.seg, None, None);
+        let s = simulate::sums(
+            family,
+            part.d,
+            b,
+            part.prep,
+            part.seg,
+            simulate::What::SHARES,
+            None,
+        );
         for a in 0..m {
             acc.base[a] += scaled(s.acc[a]);
             acc.scenario[a] += scaled(s.acc[m + a]);

@@ -44,6 +44,8 @@ fn every_shipped_scenario_simulates() {
             "specs/garden_classes.toml"
         } else if text.contains("coach") {
             "specs/express_survey.toml"
+        } else if text.contains("jobs_work") {
+            "specs/velmora_destinations.toml"
         } else {
             "specs/commute.toml"
         };
@@ -61,6 +63,8 @@ fn every_shipped_scenario_simulates() {
                 "task"
             } else if spec.contains("garden") {
                 "occasion"
+            } else if spec.contains("velmora") {
+                "purpose"
             } else {
                 "week"
             },

@@ -33,6 +33,11 @@ pub enum BenchModel {
     /// random starts; side by side with an independent numpy/scipy latent
     /// class code (bench/classes_peer.py).
     Classes,
+    /// Destination choice: --situations trips (default 1,000,000) over
+    /// --zones zones (1,000) with a zones x zones pairs table in Parquet:
+    /// `fit --no-analysis` on --sampled (50) sampled zones per trip, and a
+    /// forecast over the full sets streamed in chunks.
+    Destinations,
 }
 
 #[derive(Args, Debug)]
@@ -96,6 +101,12 @@ pub struct BenchArgs {
     /// --model stream: parameter draws of the timed run with bands (0: none).
     #[arg(long, default_value_t = 10)]
     pub band_draws: usize,
+    /// --model destinations: zones (alternatives), at most 5,000.
+    #[arg(long, default_value_t = 1_000, value_parser = clap::value_parser!(u64).range(2..=5_000))]
+    pub zones: u64,
+    /// --model destinations: zones drawn per trip besides the chosen one.
+    #[arg(long, default_value_t = 50)]
+    pub sampled: usize,
 }
 
 pub fn run(args: BenchArgs) -> Result<ExitCode> {
@@ -109,6 +120,17 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
     }
     if args.model == BenchModel::Classes {
         return classes(args);
+    }
+    if args.model == BenchModel::Destinations {
+        return bench::destinations::run(bench::destinations::DestinationOptions {
+            situations: args.situations.unwrap_or(1_000_000),
+            zones: args.zones as usize,
+            sampled: args.sampled,
+            keep: args.keep,
+            write_only: args.write_only,
+            json: args.json,
+            chunk_rows: args.chunk_rows,
+        });
     }
     let draws = args.draws.unwrap_or(if args.model == BenchModel::Probit {
         500
@@ -163,9 +185,11 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
             BenchModel::Characteristics => bench::Model::Characteristics,
             BenchModel::Nested => bench::Model::Nested,
             // handled above
-            BenchModel::Mixed | BenchModel::Probit | BenchModel::Stream | BenchModel::Classes => {
-                bench::Model::Full
-            }
+            BenchModel::Mixed
+            | BenchModel::Probit
+            | BenchModel::Stream
+            | BenchModel::Classes
+            | BenchModel::Destinations => bench::Model::Full,
         },
         keep: args.keep,
         write_only: args.write_only,

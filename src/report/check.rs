@@ -16,11 +16,10 @@ pub fn summary(spec: &Spec, obs: &Observations) -> String {
         spec.data.file.display(),
         spec.data.layout.name()
     );
-    let _ = writeln!(
-        s,
-        "model     {}, base alternative `{}`",
-        spec.family, spec.alternatives[spec.base].name
-    );
+    let _ = match spec.base_name() {
+        Some(b) => writeln!(s, "model     {}, base alternative `{b}`", spec.family),
+        None => writeln!(s, "model     {}, no base alternative", spec.family),
+    };
     let _ = writeln!(s, "situations {}", obs.situations);
     match &obs.group {
         Some(_) => {

@@ -275,6 +275,25 @@ impl Spec {
         self.alternatives.iter().map(|a| a.name.clone()).collect()
     }
 
+    /// The base alternative's name when the spec names one.
+    pub fn base_name(&self) -> Option<&str> {
+        self.base_named
+            .then(|| self.alternatives[self.base].name.as_str())
+    }
+
+    /// The alternatives' names for a sentence: all of them, or with many
+    /// the first ten and how many there are.
+    pub fn alternatives_listed(&self) -> String {
+        let n = self.alternatives.len();
+        let names = self.alternatives.iter().map(|a| a.name.as_str());
+        if n > 12 {
+            let first: Vec<&str> = names.take(10).collect();
+            format!("{}, … ({n} in all)", first.join(", "))
+        } else {
+            names.collect::<Vec<_>>().join(", ")
+        }
+    }
+
     /// A readable label for the spec term a parameter comes from.
     pub fn term_label(&self, term: &Term) -> String {
         match term {

@@ -35,7 +35,7 @@ impl Section for Fitted {
         let mut s = String::from("<dl class=\"facts\">\n");
         fact(&mut s, "spec", &m.spec_label);
         fact(&mut s, "model", fit.family.name());
-        let names = spec.alternative_names().join(", ");
+        let names = spec.alternatives_listed();
         if fit.family.abilities().ordered {
             let n = spec.alternatives.len();
             fact(
@@ -46,7 +46,9 @@ impl Section for Fitted {
         } else {
             let n = spec.alternatives.len();
             fact(&mut s, "alternatives", &format!("{n}: {names}"));
-            fact(&mut s, "base", &spec.alternatives[spec.base].name);
+            if let Some(b) = spec.base_name() {
+                fact(&mut s, "base", b);
+            }
         }
         for line in fit.family.structure(spec) {
             let (label, value) = labelled(&line);
@@ -91,11 +93,10 @@ impl Section for Fitted {
         let shape = if fit.family.abilities().ordered {
             format!("{} ordered categories", spec.alternatives.len())
         } else {
-            format!(
-                "{} alternatives · base `{}`",
-                spec.alternatives.len(),
-                spec.alternatives[spec.base].name
-            )
+            match spec.base_name() {
+                Some(b) => format!("{} alternatives · base `{b}`", spec.alternatives.len()),
+                None => format!("{} alternatives · no base", spec.alternatives.len()),
+            }
         };
         let _ = writeln!(
             s,

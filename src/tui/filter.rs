@@ -224,11 +224,9 @@ pub fn largest(positions: &[usize], value: impl Fn(usize) -> f64) -> Vec<usize> 
     out
 }
 
-/// "showing k of N" (with what the rows are, and how they are ordered when cut).
+/// "showing k of N" (and how the rows are ordered, when given).
 pub fn showing(k: usize, n: usize, order: &str) -> String {
-    if k >= n {
-        format!("all {n}")
-    } else if order.is_empty() {
+    if order.is_empty() {
         format!("showing {k} of {n}")
     } else {
         format!("showing {k} of {n}, {order}")

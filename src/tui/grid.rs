@@ -8,7 +8,7 @@
 use ratatui::text::{Line, Span};
 
 use super::app::Loaded;
-use super::filter::{largest, showing, Filter, MOST};
+use super::filter::{largest, Filter, MOST};
 use super::theme::Theme;
 use super::widgets::{left, right};
 use crate::report::num;
@@ -102,14 +102,13 @@ impl Picked {
             return None;
         }
         let shown = self.matrix.rows.labels.len();
-        let rows = showing(shown, self.kept, order);
         let rows = if self.kept < self.rows {
-            format!("rows {rows} matching (of {})", self.rows)
+            format!("rows {shown} of {} matching", self.kept)
         } else {
-            format!("rows {rows}")
+            format!("rows {shown} of {}", self.rows)
         };
         let (c, of) = self.columns;
-        Some(format!("{rows} · columns {}", showing(c, of, order)))
+        Some(format!("showing {rows} · columns {c} of {of}, {order}"))
     }
 }
 
@@ -125,7 +124,13 @@ fn names_alternatives(holds: &Holds) -> bool {
 pub fn columns_fit(m: &Matrix, width: usize) -> usize {
     let longest = m.rows.labels.iter().map(|l| l.chars().count()).max();
     let lw = (m.corner().chars().count().max(longest.unwrap_or(0)) + 2).clamp(16, 30);
-    (width.saturating_sub(lw) / 8).clamp(1, MOST)
+    // All columns at the grid's narrowest cells when they fit (few
+    // alternatives); else a little wider, for the largest.
+    let room = width.saturating_sub(lw);
+    if m.columns.labels.len() <= room / 8 {
+        return m.columns.labels.len().max(1);
+    }
+    (room / 9).clamp(1, MOST)
 }
 
 /// The rows and columns shown: all when they fit; otherwise the largest by

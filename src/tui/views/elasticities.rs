@@ -159,8 +159,9 @@ fn render(view: &Elasticities, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
         return;
     };
     let m = shown(v, view.arc);
-    let kept = view.filter.kept(&m.rows.labels).len();
-    let area = view.filter.split(area, kept, m.rows.labels.len(), t, buf);
+    let names = l.model.spec.alternative_names();
+    let kept = view.filter.kept(&names).len();
+    let area = view.filter.split(area, kept, names.len(), t, buf);
     // Rows that fit beside the marginal effects' panel (at least 3 lines).
     let room = (area.height as usize)
         .saturating_sub(6 + 1 + 3)

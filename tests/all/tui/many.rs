@@ -108,13 +108,16 @@ fn matrices_show_at_most_the_top_rows_and_the_filter_picks_them() {
     let mut app = app();
     keys(&mut app, "3");
     let s = screen(&app, 140, 50);
-    has(&s, &["rows showing", "of 40, largest shares first"]);
+    has(
+        &s,
+        &["showing rows ", " of 40 · columns ", "largest shares first"],
+    );
     assert!(zone_rows(&s) <= 2 * MOST, "{s}");
     let header = s.lines().find(|l| l.contains("of ↓ / share of →")).unwrap();
     assert!(header.contains(&largest()), "{header}");
     keys(&mut app, "4");
     let s = screen(&app, 140, 50);
-    has(&s, &["withdrawn ↓ / moves to →", "rows showing"]);
+    has(&s, &["withdrawn ↓ / moves to →", "showing rows "]);
     let rows = zone_rows(&s);
     assert!(rows > 0 && rows <= 2 * MOST, "{s}");
     keys(&mut app, "/a1");

@@ -56,7 +56,7 @@ pub fn shown(f: &Forecast, filter: &Filter, offset: usize, room: usize) -> Shown
         n.to_string()
     };
     let note = format!(
-        "rows {}–{} of {of}, {by} · PgUp PgDn",
+        "showing rows {}–{} of {of}, {by} · PgUp PgDn",
         start + 1,
         start + rows.len()
     );

@@ -75,8 +75,13 @@ fn typing_a_filter_narrows_the_what_if_to_matching_zones() {
     let mut app = app();
     keys(&mut app, "5");
     let all = screen(&app, 120, 40);
-    has(&all, &["largest shares first", "PgUp PgDn"]);
+    has(&all, &["showing rows 1–12 of 40, largest shares first"]);
     assert!(zone_rows(&all) > 0);
+    // PgDn scrolls the shares by the rows shown; PgUp back.
+    press(&mut app, KeyCode::PageDown);
+    has(&screen(&app, 120, 40), &["showing rows 13–24 of 40"]);
+    press(&mut app, KeyCode::PageUp);
+    has(&screen(&app, 120, 40), &["showing rows 1–12 of 40"]);
     keys(&mut app, "/A0");
     let s = screen(&app, 120, 40);
     has(&s, &["/ A0", "9 of 40 alternatives match", "Esc clears"]);

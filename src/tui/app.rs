@@ -97,9 +97,10 @@ pub enum Msg {
         index: usize,
         tick: Tick,
     },
+    /// The analysis of model `index`, walked once for display.
     Analysed {
         index: usize,
-        result: Result<Box<Analysis>, String>,
+        result: Result<(Box<Analysis>, Box<Walk>), String>,
     },
     /// A view's job finished.
     Done {
@@ -197,6 +198,7 @@ impl App {
             (Some(Prompt::Line { .. }), _, _) => Context::Typing,
             (Some(Prompt::Overwrite { .. }), _, _) => Context::Confirm,
             (None, true, _) => Context::Help,
+            (None, false, Stage::Ready) if self.shown().typing() => Context::Filter,
             (None, false, Stage::Ready) => Context::View {
                 keys: self.shown().keys(),
                 views: self.views.len(),
@@ -261,14 +263,9 @@ pub fn update(app: &mut App, msg: Msg) -> Vec<Job> {
         Msg::Analysed { index, result } => {
             if let Some(l) = app.models.get_mut(index) {
                 l.progress = None;
-                let m = &l.model;
-                l.walk = result
-                    .as_ref()
-                    .ok()
-                    .map(|a| Box::new(Walk::new(&m.spec, &m.fit, a)));
-                l.analysis = match result {
-                    Ok(a) => Pending::Ready(a),
-                    Err(e) => Pending::Failed(e),
+                (l.analysis, l.walk) = match result {
+                    Ok((a, w)) => (Pending::Ready(a), Some(w)),
+                    Err(e) => (Pending::Failed(e), None),
                 };
             }
             Vec::new()
@@ -319,7 +316,9 @@ fn act(app: &mut App, a: Action) -> Vec<Job> {
             app.help_scroll = 0;
             return Vec::new();
         }
-        Action::Close if !matches!(app.prompt, Some(Prompt::Overwrite { .. })) => {
+        // Esc closes a prompt or the help; with neither open, the view has it
+        // (a filter clears).
+        Action::Close if matches!(app.prompt, Some(Prompt::Line { .. })) || app.help => {
             if app.prompt.take().is_some() {
                 app.say(Tone::Info, "cancelled");
             }

@@ -26,6 +26,8 @@ pub enum Action {
     BigRight,
     Top,
     Bottom,
+    PageUp,
+    PageDown,
     /// One of the view's own keys (`part::Key::chars`).
     Command(char),
     Char(char),
@@ -45,6 +47,9 @@ pub enum Context<'a> {
     Typing,
     /// "overwrite?" — y or anything else.
     Confirm,
+    /// The view's filter line is open: typed keys go to it, the movement
+    /// keys still move.
+    Filter,
     /// A view is shown: its own keys, and how many views there are.
     View {
         keys: &'a [Key],
@@ -63,6 +68,17 @@ pub fn action(ctx: Context, key: KeyEvent) -> Option<Action> {
     }
     match ctx {
         Context::Typing => typing(key.code, ctrl),
+        Context::Filter => match key.code {
+            KeyCode::Up => Some(Action::Up),
+            KeyCode::Down => Some(Action::Down),
+            KeyCode::PageUp => Some(Action::PageUp),
+            KeyCode::PageDown => Some(Action::PageDown),
+            KeyCode::Home => Some(Action::Top),
+            KeyCode::End => Some(Action::Bottom),
+            KeyCode::Tab => Some(Action::NextView),
+            KeyCode::BackTab => Some(Action::PrevView),
+            code => typing(code, ctrl),
+        },
         Context::Confirm => match key.code {
             KeyCode::Char('y') | KeyCode::Char('Y') => Some(Action::Yes),
             _ => Some(Action::Close),
@@ -118,9 +134,10 @@ fn on_view(key: KeyEvent, keys: &[Key], views: usize) -> Option<Action> {
         KeyCode::Char('L') => Some(Action::BigRight),
         KeyCode::Home | KeyCode::Char('g') => Some(Action::Top),
         KeyCode::End | KeyCode::Char('G') => Some(Action::Bottom),
-        KeyCode::PageUp => Some(Action::Top),
-        KeyCode::PageDown => Some(Action::Bottom),
+        KeyCode::PageUp => Some(Action::PageUp),
+        KeyCode::PageDown => Some(Action::PageDown),
         KeyCode::Enter => Some(Action::Enter),
+        KeyCode::Char(super::filter::KEY) => Some(Action::Command(super::filter::KEY)),
         _ => None,
     };
     if shared.is_some() {
@@ -159,6 +176,8 @@ pub fn help(views: &[Box<dyn View>]) -> Vec<HelpSection> {
             ("q  Ctrl-C", "quit"),
             ("↑↓  j k", "move or scroll"),
             ("g G", "first / last (Home End)"),
+            ("PgUp PgDn", "a page up / down"),
+            ("/  Esc", "filter by name · clear"),
         ]),
     )];
     out.push((

@@ -6,6 +6,7 @@
 
 pub mod app;
 mod cutaxis;
+pub mod filter;
 pub mod grid;
 pub mod help;
 pub mod keys;

@@ -170,6 +170,12 @@ pub trait View: Any {
         Vec::new()
     }
 
+    /// The view's filter line is open: the keys typed go to the view
+    /// (`Action::Char`, `Backspace`, `Enter`, `Close`), not to the key map.
+    fn typing(&self) -> bool {
+        false
+    }
+
     /// An action while the view is shown.
     fn act(&mut self, ctx: &Ctx, action: Action, reply: &mut Reply);
 
@@ -200,6 +206,9 @@ pub trait View: Any {
     fn as_any(&self) -> &dyn Any;
 }
 
+/// Lines a page key scrolls in a text panel.
+const PAGE: u16 = 10;
+
 /// A scroll offset kept below the content's height.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 pub struct Scroll(pub u16);
@@ -211,6 +220,8 @@ impl Scroll {
         match action {
             Action::Up => self.0 = self.0.saturating_sub(1),
             Action::Down => self.0 = (self.0 + 1).min(most),
+            Action::PageUp => self.0 = self.0.saturating_sub(PAGE),
+            Action::PageDown => self.0 = self.0.saturating_add(PAGE).min(most),
             Action::Top => self.0 = 0,
             Action::Bottom => self.0 = most,
             _ => {}

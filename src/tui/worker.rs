@@ -1,8 +1,9 @@
-//! The background worker: fits, analyses and the views' own jobs (parameter
-//! draws, demand curves) run here, one job at a time, and report back as
-//! messages over a channel. A queued view job that a newer one of the same
-//! view and model replaces is skipped; a panic inside a job becomes an error
-//! message, not a crash.
+//! The background worker: fits and the views' own jobs (parameter draws,
+//! demand curves) run here, one job at a time, and report back as messages
+//! over a channel; each analysis runs on a thread of its own, so that a long
+//! one (many alternatives) holds up no view. A queued view job that a newer
+//! one of the same view and model replaces is skipped; a panic inside a job
+//! becomes an error message, not a crash.
 
 use std::any::Any;
 use std::collections::VecDeque;
@@ -15,6 +16,7 @@ use super::app::Msg;
 use crate::data::{Dataset, Extra};
 use crate::error::Result;
 use crate::estimate::{Fit, Progress, Step};
+use crate::report::walk::Walk;
 use crate::spec::Spec;
 
 /// A fitted spec with its data: cheap to clone, shared by the state and the worker.
@@ -156,18 +158,19 @@ pub fn execute(job: Job, send: &(dyn Fn(Msg) + Sync)) {
         Job::Analyse { index, model } => {
             let ticks = |tick: crate::progress::Tick| send(Msg::Ticked { index, tick });
             let result = guarded(|| {
-                crate::analysis::analyse_with(
+                let a = crate::analysis::analyse_with(
                     &model.spec,
                     &model.fit,
                     &model.ds,
                     &crate::analysis::Options::default(),
                     &ticks,
-                )
+                )?;
+                // Walked here, not on the screen's thread: with many
+                // alternatives the matrices are large.
+                let walk = Walk::new(&model.spec, &model.fit, &a);
+                Ok((Box::new(a), Box::new(walk)))
             });
-            send(Msg::Analysed {
-                index,
-                result: result.map(Box::new),
-            });
+            send(Msg::Analysed { index, result });
         }
         Job::Part {
             view,
@@ -187,8 +190,9 @@ pub fn execute(job: Job, send: &(dyn Fn(Msg) + Sync)) {
 }
 
 fn serve(jobs: Receiver<Job>, out: Sender<Msg>) {
+    let sink = out.clone();
     let send = move |m: Msg| {
-        let _ = out.send(m);
+        let _ = sink.send(m);
     };
     let mut queue: VecDeque<Job> = VecDeque::new();
     loop {
@@ -203,6 +207,25 @@ fn serve(jobs: Receiver<Job>, out: Sender<Msg>) {
             continue;
         };
         if queue.iter().any(|newer| newer.supersedes(&job)) {
+            continue;
+        }
+        if let Job::Analyse { index, .. } = job {
+            // The analysis can take long (many alternatives): on a thread of
+            // its own, it holds up no band or curve.
+            let tx = out.clone();
+            let spawned = std::thread::Builder::new()
+                .name("sharecast-analysis".into())
+                .spawn(move || {
+                    execute(job, &move |m: Msg| {
+                        let _ = tx.send(m);
+                    })
+                });
+            if spawned.is_err() {
+                let _ = out.send(Msg::Analysed {
+                    index,
+                    result: Err("the analysis could not start: no thread left".into()),
+                });
+            }
             continue;
         }
         execute(job, &send);

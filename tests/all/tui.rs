@@ -23,6 +23,7 @@ use sharecast::tui::{estimates, keys, levers};
 use crate::common::*;
 
 mod classes;
+mod many;
 mod tastes;
 
 fn model(rel: &str) -> Model {

@@ -9,6 +9,8 @@ use super::{
     Axis, Cell, Group, Holds, Labelled, Matrix, Measure, Random, Ratio, Role, Simulated, Test,
     TestKind, Variable,
 };
+use std::collections::{HashMap, HashSet};
+
 use crate::analysis::random::Figure;
 use crate::analysis::Analysis;
 use crate::estimate::Fit;
@@ -43,12 +45,13 @@ fn value(value: f64, std_error: f64) -> Cell {
 /// order, those with a figure) for an attribute, the variable itself for a
 /// characteristic.
 fn rows_of(name: &str, role: Role, names: &[String], changed: &[Option<&str>]) -> Axis {
+    let changed: HashSet<&str> = changed.iter().flatten().copied().collect();
     match role {
         Role::Attribute => Axis {
             holds: Holds::Changed(name.to_string()),
             labels: names
                 .iter()
-                .filter(|n| changed.contains(&Some(n.as_str())))
+                .filter(|n| changed.contains(n.as_str()))
                 .cloned()
                 .collect(),
         },
@@ -69,12 +72,27 @@ pub(super) fn variables(spec: &Spec, a: &Analysis, names: &[String]) -> Vec<Vari
         .collect()
 }
 
-/// The key a row of a variable's matrix is found by.
-fn key(role: Role, changed: &Option<String>, row: &str) -> bool {
-    match role {
-        Role::Attribute => changed.as_deref() == Some(row),
-        Role::Characteristic => changed.is_none(),
+/// Figures by (changed alternative, column): the first of each pair, as a
+/// search in list order would find it (with many alternatives a search per
+/// cell would take minutes).
+type Index<'a, T> = HashMap<(Option<&'a str>, &'a str), &'a T>;
+
+fn index<'a, T>(rows: &[&'a T], key: impl Fn(&'a T) -> (Option<&'a str>, &'a str)) -> Index<'a, T> {
+    let mut out = HashMap::with_capacity(rows.len());
+    for &r in rows {
+        out.entry(key(r)).or_insert(r);
     }
+    out
+}
+
+/// The figure of a row of a variable's matrix (the changed alternative for
+/// an attribute, the variable itself for a characteristic) and a column.
+fn at<'a, T>(ix: &Index<'a, T>, role: Role, row: &str, column: &str) -> Option<&'a T> {
+    let changed = match role {
+        Role::Attribute => Some(row),
+        Role::Characteristic => None,
+    };
+    ix.get(&(changed, column)).copied()
 }
 
 fn variable(a: &Analysis, names: &[String], name: &str, role: Role) -> Option<Variable> {
@@ -88,10 +106,8 @@ fn variable(a: &Analysis, names: &[String], name: &str, role: Role) -> Option<Va
     }
     let changed: Vec<Option<&str>> = el.iter().map(|e| e.changed.as_deref()).collect();
     let rows = rows_of(name, role, names, &changed);
-    let find = |r: &str, c: &str| {
-        el.iter()
-            .find(|e| key(role, &e.changed, r) && e.affected == c)
-    };
+    let ix = index(&el, |e| (e.changed.as_deref(), e.affected.as_str()));
+    let find = |r: &str, c: &str| at(&ix, role, r, c);
     let figures = Matrix::build(
         Measure::PointElasticity,
         rows.clone(),
@@ -111,11 +127,10 @@ fn variable(a: &Analysis, names: &[String], name: &str, role: Role) -> Option<Va
         .iter()
         .filter(|e| e.variable == name)
         .collect();
+    let ix = index(&me, |e| (e.changed.as_deref(), e.alternative.as_str()));
     let marginal = (!me.is_empty()).then(|| {
         Matrix::build(Measure::MarginalEffect, rows, shares(names), |r, c| {
-            me.iter()
-                .find(|e| key(role, &e.changed, r) && e.alternative == c)
-                .map_or(Cell::Missing, |e| value(e.value, e.std_error))
+            at(&ix, role, r, c).map_or(Cell::Missing, |e| value(e.value, e.std_error))
         })
     });
     Some(Variable {
@@ -140,10 +155,9 @@ fn flag(a: &Analysis, names: &[String], name: &str, role: Role) -> Option<Variab
     }
     let changed: Vec<Option<&str>> = rows.iter().map(|f| f.changed.as_deref()).collect();
     let axis = rows_of(name, role, names, &changed);
+    let ix = index(&rows, |f| (f.changed.as_deref(), f.affected.as_str()));
     let figures = Matrix::build(Measure::FlagSwitch, axis, shares(names), |r, c| {
-        rows.iter()
-            .find(|f| key(role, &f.changed, r) && f.affected == c)
-            .map_or(Cell::Missing, |f| value(f.change, f.std_error))
+        at(&ix, role, r, c).map_or(Cell::Missing, |f| value(f.change, f.std_error))
     });
     Some(Variable {
         name: name.to_string(),
@@ -179,19 +193,31 @@ fn diversion(
     })
 }
 
+/// Figures by (row, column) alternative, the first of each pair, and the rows.
+fn pairs<'a, T>(
+    d: &'a [T],
+    key: impl Fn(&'a T) -> (&'a str, &'a str, f64),
+) -> (HashMap<(&'a str, &'a str), f64>, HashSet<&'a str>) {
+    let mut ix = HashMap::with_capacity(d.len());
+    let mut rows = HashSet::new();
+    for x in d {
+        let (r, c, v) = key(x);
+        ix.entry((r, c)).or_insert(v);
+        rows.insert(r);
+    }
+    (ix, rows)
+}
+
 pub(super) fn withdrawal(a: &Analysis, names: &[String]) -> Option<Matrix> {
     let d = &a.diversion;
+    let (ix, rows) = pairs(d, |x| (x.removed.as_str(), x.to.as_str(), x.share));
     (!d.is_empty()).then(|| {
         diversion(
             Measure::Withdrawal,
             Holds::Withdrawn,
             names,
-            |n| d.iter().any(|x| x.removed == n),
-            |r, c| {
-                d.iter()
-                    .find(|x| x.removed == r && x.to == c)
-                    .map(|x| x.share)
-            },
+            |n| rows.contains(n),
+            |r, c| ix.get(&(r, c)).copied(),
         )
     })
 }
@@ -199,16 +225,13 @@ pub(super) fn withdrawal(a: &Analysis, names: &[String]) -> Option<Matrix> {
 pub(super) fn price_diversion(a: &Analysis, names: &[String]) -> Option<Matrix> {
     let d = &a.price_diversion;
     let first = d.first()?;
+    let (ix, rows) = pairs(d, |x| (x.changed.as_str(), x.to.as_str(), x.ratio));
     Some(diversion(
         Measure::PriceDiversion,
         Holds::Changed(first.attribute.clone()),
         names,
-        |n| d.iter().any(|x| x.changed == n),
-        |r, c| {
-            d.iter()
-                .find(|x| x.changed == r && x.to == c)
-                .map(|x| x.ratio)
-        },
+        |n| rows.contains(n),
+        |r, c| ix.get(&(r, c)).copied(),
     ))
 }
 

@@ -1,6 +1,8 @@
 //! The diversion view: where an alternative's demand goes when it is
 //! withdrawn, and the price diversion ratios for a change in the row's price
-//! attribute, both from the analysis and shaded by size.
+//! attribute, both from the analysis and shaded by size. With many
+//! alternatives both show the largest by share (rows narrowed by the filter,
+//! scrolled with ↑↓ PgUp PgDn).
 
 use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Layout, Rect};
@@ -9,6 +11,7 @@ use ratatui::widgets::{Paragraph, Widget};
 
 use crate::report::walk::{Holds, Matrix};
 use crate::tui::app::Pending;
+use crate::tui::filter::{Filter, Took, MOST};
 use crate::tui::grid::{self, Shade};
 use crate::tui::keys::Action;
 use crate::tui::part::{Ctx, Key, Reply, View};
@@ -16,9 +19,13 @@ use crate::tui::theme::{Theme, SHARE_CUTS};
 use crate::tui::widgets::panel;
 use crate::tui::worker::Model;
 
-/// The diversion view: nothing to choose, nothing to scroll.
+/// The diversion view: with many alternatives, the filter of the rows and
+/// the first row shown.
 #[derive(Debug, Default)]
-pub struct Diversion;
+pub struct Diversion {
+    pub filter: Filter,
+    pub offset: usize,
+}
 
 impl View for Diversion {
     fn title(&self) -> &'static str {
@@ -33,6 +40,10 @@ impl View for Diversion {
         &[]
     }
 
+    fn typing(&self) -> bool {
+        self.filter.typing()
+    }
+
     fn applies(&self, model: &Model) -> Result<(), String> {
         if model.fit.family.abilities().ordered {
             return Err(format!(
@@ -43,10 +54,23 @@ impl View for Diversion {
         Ok(())
     }
 
-    fn act(&mut self, _ctx: &Ctx, _action: Action, _reply: &mut Reply) {}
+    fn act(&mut self, ctx: &Ctx, action: Action, _reply: &mut Reply) {
+        match self.filter.on(action) {
+            Took::Changed => self.offset = 0,
+            Took::Kept => {}
+            Took::Not => {
+                let rows = ctx
+                    .loaded()
+                    .and_then(|l| l.walk.as_ref())
+                    .and_then(|w| w.withdrawal.as_ref().or(w.price_diversion.as_ref()))
+                    .map_or(0, |m| self.filter.kept(&m.rows.labels).len());
+                self.offset = self.filter.scroll(self.offset, rows, action);
+            }
+        }
+    }
 
     fn render(&self, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
-        render(ctx, area, buf);
+        render(self, ctx, area, buf);
     }
 
     fn as_any(&self) -> &dyn std::any::Any {
@@ -54,7 +78,7 @@ impl View for Diversion {
     }
 }
 
-fn render(ctx: &Ctx, area: Rect, buf: &mut Buffer) {
+fn render(view: &Diversion, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
     let Some(l) = ctx.loaded() else {
         return;
     };
@@ -72,7 +96,35 @@ fn render(ctx: &Ctx, area: Rect, buf: &mut Buffer) {
             return;
         }
     };
-    let rows = walk.withdrawal.as_ref().map_or(0, |m| m.rows.labels.len());
+    let names = l.model.spec.alternative_names();
+    let area = view
+        .filter
+        .split(area, view.filter.kept(&names).len(), names.len(), t, buf);
+    let share = grid::share_of(l);
+    let width = area.width.saturating_sub(4) as usize;
+    // Rows that fit above the price panel (at least 3 lines).
+    let room = (area.height as usize)
+        .saturating_sub(5 + 1 + 3)
+        .clamp(1, MOST);
+    let pick = |m: &Matrix, room: usize| {
+        grid::pick(
+            m,
+            &share,
+            &view.filter,
+            view.offset,
+            (room, grid::columns_fit(m, width)),
+        )
+    };
+    let withdrawal = walk.withdrawal.as_ref().map(|m| pick(m, room));
+    if let Some(p) = &withdrawal {
+        view.filter.seen(p.matrix.rows.labels.len());
+    }
+    let note = withdrawal
+        .as_ref()
+        .and_then(|p| p.note("largest shares first"));
+    let rows = withdrawal.as_ref().map_or(0, |p| {
+        p.matrix.rows.labels.len() + usize::from(note.is_some())
+    });
     let [top, bottom] =
         Layout::vertical([Constraint::Length(rows as u16 + 4), Constraint::Min(3)]).areas(area);
     let block = panel(
@@ -81,13 +133,19 @@ fn render(ctx: &Ctx, area: Rect, buf: &mut Buffer) {
     );
     let inner = block.inner(top);
     block.render(top, buf);
-    let mut lines = match &walk.withdrawal {
-        Some(m) => grid::lines(m, Shade::Share(&SHARE_CUTS), inner.width as usize, t),
-        None => vec![Line::from(Span::styled("no withdrawal figures", t.dim()))],
-    };
+    let mut lines: Vec<Line> = note
+        .map(|n| Line::from(Span::styled(n, t.dim())))
+        .into_iter()
+        .collect();
+    match &withdrawal {
+        Some(p) => lines.extend(grid::lines(&p.matrix, Shade::Share(&SHARE_CUTS), width, t)),
+        None => lines.push(Line::from(Span::styled("no withdrawal figures", t.dim()))),
+    }
     lines.push(Line::from(grid::legend("share", &SHARE_CUTS, false, t)));
     Paragraph::new(lines).render(inner, buf);
-    price_panel(walk.price_diversion.as_ref(), t, bottom, buf);
+    let price_room = (bottom.height as usize).saturating_sub(3).clamp(1, MOST);
+    let price = walk.price_diversion.as_ref().map(|m| pick(m, price_room));
+    price_panel(price.as_ref().map(|p| &p.matrix), t, bottom, buf);
 }
 
 /// Diversion ratios for a change in the price attribute, or why there are none.

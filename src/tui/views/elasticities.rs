@@ -1,6 +1,8 @@
 //! The elasticities view: for one variable at a time, the matrix of the
 //! changed alternative's attribute against each affected share (point or arc
 //! values from the analysis), shaded by magnitude, and the marginal effects.
+//! With many alternatives the matrices show the largest by share (rows
+//! narrowed by the filter, scrolled with ↑↓ PgUp PgDn).
 
 use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Layout, Rect};
@@ -9,6 +11,7 @@ use ratatui::widgets::{Paragraph, Widget};
 
 use crate::report::walk::{Matrix, Measure, Role, Variable};
 use crate::tui::app::Pending;
+use crate::tui::filter::{Filter, Took, MOST};
 use crate::tui::grid::{self, Shade};
 use crate::tui::keys::Action;
 use crate::tui::part::{Ctx, Key, Reply, View};
@@ -16,10 +19,13 @@ use crate::tui::theme::{Theme, ELASTICITY_CUTS};
 use crate::tui::widgets::panel;
 
 /// The elasticities view: which variable is shown, and arc rather than point values.
+/// With many alternatives: the filter of the rows and the first row shown.
 #[derive(Debug, Default)]
 pub struct Elasticities {
     pub variable: usize,
     pub arc: bool,
+    pub filter: Filter,
+    pub offset: usize,
 }
 
 /// The view's own keys and what the shared keys do on it.
@@ -45,13 +51,15 @@ impl View for Elasticities {
         "←→ variable  a arc  ? help  q quit "
     }
 
+    fn typing(&self) -> bool {
+        self.filter.typing()
+    }
+
     fn act(&mut self, ctx: &Ctx, action: Action, _reply: &mut Reply) {
-        let count = variables(ctx).len().max(1);
-        match action {
-            Action::Right | Action::BigRight => self.variable = (self.variable + 1) % count,
-            Action::Left | Action::BigLeft => self.variable = (self.variable + count - 1) % count,
-            Action::Command('a') => self.arc = !self.arc,
-            _ => {}
+        match self.filter.on(action) {
+            Took::Changed => self.offset = 0,
+            Took::Kept => {}
+            Took::Not => self.moved(ctx, action),
         }
     }
 
@@ -61,6 +69,42 @@ impl View for Elasticities {
 
     fn as_any(&self) -> &dyn std::any::Any {
         self
+    }
+}
+
+impl Elasticities {
+    fn moved(&mut self, ctx: &Ctx, action: Action) {
+        let count = variables(ctx).len().max(1);
+        match action {
+            Action::Right | Action::BigRight => self.variable = (self.variable + 1) % count,
+            Action::Left | Action::BigLeft => self.variable = (self.variable + count - 1) % count,
+            Action::Command('a') => self.arc = !self.arc,
+            _ => {
+                let rows = self.rows(ctx);
+                self.offset = self.filter.scroll(self.offset, rows, action);
+            }
+        }
+    }
+
+    /// The rows the filter keeps of the matrix shown.
+    fn rows(&self, ctx: &Ctx) -> usize {
+        let Some(w) = ctx.loaded().and_then(|l| l.walk.as_ref()) else {
+            return 0;
+        };
+        let n = w.variables.len();
+        w.variables
+            .get(self.variable.min(n.saturating_sub(1)))
+            .map_or(0, |v| {
+                self.filter.kept(&shown(v, self.arc).rows.labels).len()
+            })
+    }
+}
+
+/// The matrix shown: arc values when asked for and there are some.
+fn shown(v: &Variable, arc: bool) -> &Matrix {
+    match (&v.arc, arc) {
+        (Some(a), true) => a,
+        _ => &v.figures,
     }
 }
 
@@ -114,15 +158,25 @@ fn render(view: &Elasticities, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
         Paragraph::new("the spec has no variables").render(area, buf);
         return;
     };
-    let shown = match (&v.arc, view.arc) {
-        (Some(arc), true) => arc,
-        _ => &v.figures,
-    };
-    let el_h = shown.rows.labels.len() as u16 + 5;
+    let m = shown(v, view.arc);
+    let names = l.model.spec.alternative_names();
+    let kept = view.filter.kept(&names).len();
+    let area = view.filter.split(area, kept, names.len(), t, buf);
+    // Rows that fit beside the marginal effects' panel (at least 3 lines).
+    let room = (area.height as usize)
+        .saturating_sub(6 + 1 + 3)
+        .clamp(1, MOST);
+    let share = grid::share_of(l);
+    let width = area.width.saturating_sub(4) as usize;
+    let cols = grid::columns_fit(m, width);
+    let picked = grid::pick(m, &share, &view.filter, view.offset, (room, cols));
+    view.filter.seen(picked.matrix.rows.labels.len());
+    let note = picked.note("largest shares first");
+    let el_h = picked.matrix.rows.labels.len() as u16 + 5 + u16::from(note.is_some());
     let [top, bottom] =
         Layout::vertical([Constraint::Length(el_h), Constraint::Min(3)]).areas(area);
     let pos = view.variable.min(n.saturating_sub(1)) + 1;
-    let kind = match shown.measure {
+    let kind = match m.measure {
         Measure::FlagSwitch => "0/1 flag".to_string(),
         Measure::ArcElasticity { change } => format!("arc (+{:.0}%)", change * 100.0),
         _ => "point".into(),
@@ -134,11 +188,11 @@ fn render(view: &Elasticities, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
     let block = panel(title, t);
     let inner = block.inner(top);
     block.render(top, buf);
-    let mut lines = vec![Line::from(Span::styled(
-        what(shown, &v.name, v.role),
-        t.dim(),
-    ))];
-    let width = inner.width as usize;
+    let mut lines = vec![Line::from(Span::styled(what(m, &v.name, v.role), t.dim()))];
+    if let Some(note) = note {
+        lines.push(Line::from(Span::styled(note, t.dim())));
+    }
+    let shown = &picked.matrix;
     lines.extend(grid::lines(
         shown,
         Shade::Signed(&ELASTICITY_CUTS),
@@ -152,11 +206,16 @@ fn render(view: &Elasticities, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
     ));
     lines.push(Line::from(legend));
     Paragraph::new(lines).render(inner, buf);
-    marginal_panel(v, t, bottom, buf);
+    let marginal = v.marginal.as_ref().map(|m| {
+        let rows = (bottom.height as usize).saturating_sub(3).clamp(1, MOST);
+        let cols = grid::columns_fit(m, width);
+        grid::pick(m, &share, &view.filter, view.offset, (rows, cols)).matrix
+    });
+    marginal_panel(v, marginal.as_ref(), t, bottom, buf);
 }
 
 /// The average marginal effects of the variable, or why a 0/1 flag has none.
-fn marginal_panel(v: &Variable, t: &Theme, area: Rect, buf: &mut Buffer) {
+fn marginal_panel(v: &Variable, m: Option<&Matrix>, t: &Theme, area: Rect, buf: &mut Buffer) {
     let var = &v.name;
     let block = panel(
         format!("average marginal effects · change in share per unit more of {var}"),
@@ -164,7 +223,7 @@ fn marginal_panel(v: &Variable, t: &Theme, area: Rect, buf: &mut Buffer) {
     );
     let inner = block.inner(area);
     block.render(area, buf);
-    let lines = match (&v.marginal, v.flag) {
+    let lines = match (m, v.flag) {
         (_, true) => vec![Line::from(Span::styled(
             format!("{var} is a 0/1 flag: its effect is the switch from 0 to 1 above, not a marginal effect"),
             t.dim(),

@@ -18,7 +18,7 @@ pub fn all() -> Vec<Box<dyn View>> {
         Box::new(overview::Overview::default()),
         Box::new(estimates::Estimates::default()),
         Box::new(elasticities::Elasticities::default()),
-        Box::new(diversion::Diversion),
+        Box::new(diversion::Diversion::default()),
         Box::new(whatif::WhatIfView::default()),
         Box::new(curve::CurveView::default()),
         Box::new(compare::Compare::default()),

@@ -1,7 +1,8 @@
 //! The overview view: the data (situations, decision makers, alternatives with
-//! observed and predicted shares and availability), the fit statistics and
-//! search, then the findings: how the fit was obtained, diagnostics, the
-//! analysis warnings and the cautions line.
+//! observed and predicted shares and availability; with many alternatives
+//! their count and the largest few, or those the filter keeps), the fit
+//! statistics and search, then the findings: how the fit was obtained,
+//! diagnostics, the analysis warnings and the cautions line.
 
 use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Layout, Rect};
@@ -9,16 +10,21 @@ use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Widget, Wrap};
 
 use crate::tui::app::{Loaded, Pending};
+use crate::tui::filter::{self, Filter, Took};
 use crate::tui::keys::Action;
 use crate::tui::part::{Ctx, Key, Reply, Scroll, View};
 use crate::tui::theme::Theme;
 use crate::tui::widgets::{fixed, left, panel, right};
 
-/// The overview: it scrolls its findings.
+/// The overview: it scrolls its findings and filters its alternatives.
 #[derive(Debug, Default)]
 pub struct Overview {
     pub scroll: Scroll,
+    pub filter: Filter,
 }
+
+/// Alternatives listed in full up to this many; beyond it, the largest few.
+const FEW: usize = 5;
 
 impl View for Overview {
     fn title(&self) -> &'static str {
@@ -33,12 +39,18 @@ impl View for Overview {
         &[]
     }
 
+    fn typing(&self) -> bool {
+        self.filter.typing()
+    }
+
     fn act(&mut self, ctx: &Ctx, action: Action, _reply: &mut Reply) {
-        self.scroll.on(action, findings_height(ctx));
+        if self.filter.on(action) == Took::Not {
+            self.scroll.on(action, findings_height(ctx));
+        }
     }
 
     fn render(&self, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
-        render(ctx, self.scroll.0, area, buf);
+        render(self, ctx, area, buf);
     }
 
     fn as_any(&self) -> &dyn std::any::Any {
@@ -46,29 +58,52 @@ impl View for Overview {
     }
 }
 
-fn render(ctx: &Ctx, scroll: u16, area: Rect, buf: &mut Buffer) {
+fn render(view: &Overview, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
     let Some(l) = ctx.loaded() else {
         return;
     };
     let t = ctx.theme;
-    let j = l.model.spec.alternatives.len();
+    let names = l.model.spec.alternative_names();
+    let kept = view.filter.kept(&names);
+    let area = view.filter.split(area, kept.len(), names.len(), t, buf);
+    let listed = listed(l, &kept);
+    // With more alternatives than FEW, a line says how many and which are shown.
+    let j = listed.len() + usize::from(names.len() > FEW || view.filter.active());
     let top_h = ((j + 6).max(11) as u16 + 2).min(area.height.saturating_sub(5));
     let [top, bottom] =
         Layout::vertical([Constraint::Length(top_h), Constraint::Min(3)]).areas(area);
     let [data, stats] =
         Layout::horizontal([Constraint::Percentage(52), Constraint::Percentage(48)]).areas(top);
-    data_panel(l, t, data, buf);
+    data_panel(l, (&listed, kept.len()), t, data, buf);
     fit_panel(l, t, stats, buf);
     let lines = findings(ctx);
     Paragraph::new(lines)
         .wrap(Wrap { trim: true })
-        .scroll((scroll, 0))
+        .scroll((view.scroll.0, 0))
         .block(panel("findings  ↑↓ scroll", t))
         .render(bottom, buf);
 }
 
-/// The data: files, situations, decision makers, weights and shares.
-fn data_panel(l: &Loaded, t: &Theme, area: Rect, buf: &mut Buffer) {
+/// The alternatives listed: all of those kept when they are few, in spec
+/// order; else the FEW largest by predicted share.
+fn listed(l: &Loaded, kept: &[usize]) -> Vec<usize> {
+    if kept.len() <= FEW {
+        return kept.to_vec();
+    }
+    let shares = &l.model.fit.shares;
+    let by = filter::largest(kept, |a| shares.get(a).map_or(f64::NAN, |r| r.predicted));
+    by.into_iter().take(FEW).collect()
+}
+
+/// The data: files, situations, decision makers, weights and shares of the
+/// `listed` alternatives (`kept` of them match the filter).
+fn data_panel(
+    l: &Loaded,
+    (listed, kept): (&[usize], usize),
+    t: &Theme,
+    area: Rect,
+    buf: &mut Buffer,
+) {
     let spec = &l.model.spec;
     let fit = &l.model.fit;
     let obs = &l.model.ds.obs;
@@ -98,18 +133,25 @@ fn data_panel(l: &Loaded, t: &Theme, area: Rect, buf: &mut Buffer) {
             Some(w) => format!("weights `{w}`, total {:.1}", obs.weight_total),
             None => "unweighted".to_string(),
         }),
-        Line::from(Span::styled(
-            format!(
-                "{}{}{}{}",
-                left("alternative", 12),
-                right("observed", 9),
-                right("predicted", 10),
-                right("avail", 6)
-            ),
-            t.header(),
-        )),
     ];
-    for (a, alt) in spec.alternatives.iter().enumerate() {
+    let n = spec.alternatives.len();
+    if n > FEW || kept < n {
+        lines.push(count_line(n, listed.len(), kept, t));
+    }
+    lines.push(Line::from(Span::styled(
+        format!(
+            "{}{}{}{}",
+            left("alternative", 12),
+            right("observed", 9),
+            right("predicted", 10),
+            right("avail", 6)
+        ),
+        t.header(),
+    )));
+    for &a in listed {
+        let Some(alt) = spec.alternatives.get(a) else {
+            continue;
+        };
         let avail = obs.available_count(a);
         let share = fit.shares.get(a);
         let pct = 100.0 * avail as f64 / obs.situations.max(1) as f64;
@@ -131,6 +173,24 @@ fn data_panel(l: &Loaded, t: &Theme, area: Rect, buf: &mut Buffer) {
     Paragraph::new(lines)
         .block(panel("data · ◆ base · weighted shares", t))
         .render(area, buf);
+}
+
+/// How many alternatives there are and which are listed.
+fn count_line(n: usize, listed: usize, kept: usize, t: &Theme) -> Line<'static> {
+    let head = if kept < n {
+        format!("{kept} of {n} match")
+    } else {
+        format!("{n} alternatives")
+    };
+    let tail = if listed < kept {
+        format!(" · the {listed} largest")
+    } else {
+        String::new()
+    };
+    Line::from(vec![
+        Span::styled(head, t.bold()),
+        Span::styled(tail, t.dim()),
+    ])
 }
 
 /// The fit: statistics, the search, and the hit rate once the analysis is in.

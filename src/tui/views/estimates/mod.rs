@@ -192,6 +192,8 @@ impl View for Estimates {
     }
 
     fn act(&mut self, ctx: &Ctx, a: Action, reply: &mut Reply) {
+        /// Rows a page key moves the cursor.
+        const PAGE: usize = 10;
         let Some(l) = ctx.loaded() else {
             return;
         };
@@ -199,10 +201,14 @@ impl View for Estimates {
         let robust_now = fit_robust(&l.model.fit);
         let st = &mut self.state;
         match a {
-            Action::Up => st.cursor = st.cursor.saturating_sub(1),
-            Action::Down => st.cursor = (st.cursor + 1).min(n.saturating_sub(1)),
-            Action::Top => st.cursor = 0,
-            Action::Bottom => st.cursor = n.saturating_sub(1),
+            Action::Up
+            | Action::Down
+            | Action::PageUp
+            | Action::PageDown
+            | Action::Top
+            | Action::Bottom => {
+                st.cursor = crate::tui::filter::step(st.cursor, n, PAGE, a).unwrap_or(st.cursor)
+            }
             Action::Command('e') => st.robust = Some(!st.robust.unwrap_or(robust_now)),
             Action::Command('s') => {
                 st.sort = match st.sort {

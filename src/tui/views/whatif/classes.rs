@@ -15,8 +15,16 @@ use crate::tui::widgets::{fixed, left, panel, right, signed};
 /// Columns of each class: base → what-if and the change.
 const CLASS_W: usize = 30;
 
-/// The panel: a heading per class with its size, then one line per alternative.
-pub fn render(w: &WhatIf, l: &Loaded, t: &Theme, area: Rect, buf: &mut Buffer) {
+/// The panel: a heading per class with its size, then one line per
+/// alternative (those of `rows` when the shares panel shows only some).
+pub fn render(
+    w: &WhatIf,
+    rows: Option<&[usize]>,
+    l: &Loaded,
+    t: &Theme,
+    area: Rect,
+    buf: &mut Buffer,
+) {
     let block = panel(
         "shares by latent class: base → what-if (change) · b hides",
         t,
@@ -43,7 +51,11 @@ pub fn render(w: &WhatIf, l: &Loaded, t: &Theme, area: Rect, buf: &mut Buffer) {
         ));
     }
     let mut lines = vec![Line::from(Span::styled(head, t.header()))];
-    for (j, name) in names.iter().enumerate() {
+    let all: Vec<usize> = (0..names.len()).collect();
+    for &j in rows.unwrap_or(&all) {
+        let Some(name) = names.get(j) else {
+            continue;
+        };
         let mut text = left(name, 12);
         for (base, after) in c.base.iter().zip(&c.after) {
             let (b, a) = (base.get(j).copied(), after.get(j).copied());

@@ -1,7 +1,8 @@
 //! The what-if view's drawing: base against what-if shares as bars on top
 //! (the band fills in when the worker's draws arrive), the levers on the
 //! left and the list of changes on the right; between them, when asked,
-//! each latent class's shares (`classes`).
+//! each latent class's shares (`classes`). With many alternatives the shares
+//! show the rows the filter keeps, the largest changes (or shares) first.
 
 use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Layout, Rect};
@@ -9,25 +10,91 @@ use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Widget, Wrap};
 
 use super::levers::{describe, WhatIf};
+use crate::scenario::Forecast;
 use crate::spec::Spec;
 use crate::tui::app::Loaded;
+use crate::tui::filter::{self, Filter, MOST};
 use crate::tui::part::Ctx;
 use crate::tui::theme::Theme;
 use crate::tui::widgets::{fixed, left, panel, right, share_bar, share_scale, signed};
 use crate::tui::worker::DRAWS;
 
-pub fn render(w: &WhatIf, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
+/// The rows of the shares shown (positions in the forecast's shares) and
+/// the note on what they are when some are left out.
+pub struct Shown {
+    pub rows: Vec<usize>,
+    pub note: Option<String>,
+}
+
+/// The shares the filter keeps: all in spec order when they fit in `room`
+/// lines, else the largest changes first (the largest shares when nothing
+/// changed), from `offset`.
+pub fn shown(f: &Forecast, filter: &Filter, offset: usize, room: usize) -> Shown {
+    let kept = filter.kept(f.shares.iter().map(|r| r.alternative.as_str()));
+    let n = f.shares.len();
+    if kept.len() <= room {
+        let note = (kept.len() < n).then(|| filter::showing(kept.len(), n, ""));
+        return Shown { rows: kept, note };
+    }
+    let changed = f.shares.iter().any(|r| r.change.abs() >= 5e-5);
+    let (order, by) = if changed {
+        (
+            filter::largest(&kept, |i| f.shares[i].change.abs()),
+            "largest changes first",
+        )
+    } else {
+        (
+            filter::largest(&kept, |i| f.shares[i].base),
+            "largest shares first",
+        )
+    };
+    let start = offset.min(order.len().saturating_sub(room));
+    let rows: Vec<usize> = order.into_iter().skip(start).take(room).collect();
+    let of = if kept.len() < n {
+        format!("{} matching of {n}", kept.len())
+    } else {
+        n.to_string()
+    };
+    let note = format!(
+        "showing rows {}–{} of {of}, {by} · PgUp PgDn",
+        start + 1,
+        start + rows.len()
+    );
+    Shown {
+        rows,
+        note: Some(note),
+    }
+}
+
+pub fn render(
+    w: &WhatIf,
+    (filter, offset): (&Filter, usize),
+    ctx: &Ctx,
+    area: Rect,
+    buf: &mut Buffer,
+) {
     let Some(l) = ctx.loaded() else {
         return;
     };
     let t = ctx.theme;
     let spec = &l.model.spec;
-    let j = w
-        .best()
-        .map(|f| f.shares.len())
-        .unwrap_or(spec.alternatives.len());
+    let kept = filter.kept(w.lever_names(spec));
+    let matching = filter.kept(spec.alternative_names()).len();
+    let area = filter.split(area, matching, spec.alternatives.len(), t, buf);
     // One more line says that the figures are simulated.
     let simulated = u16::from(l.model.fit.family.abilities().simulation_draws);
+    let room = (area.height as usize)
+        .saturating_sub(4 + 8 + simulated as usize)
+        .clamp(1, MOST);
+    let rows = w.best().map(|f| shown(f, filter, offset, room));
+    if let Some(r) = &rows {
+        filter.seen(r.rows.len());
+    }
+    let j = rows
+        .as_ref()
+        .map_or(spec.alternatives.len().min(room), |r| {
+            r.rows.len() + usize::from(r.note.is_some())
+        });
     let by_class = if w.by_class { j as u16 + 3 } else { 0 };
     let [top, classes, bottom] = Layout::vertical([
         Constraint::Length(j as u16 + 4 + simulated),
@@ -38,16 +105,24 @@ pub fn render(w: &WhatIf, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
     let [levers, changes] =
         Layout::horizontal([Constraint::Percentage(50), Constraint::Percentage(50)]).areas(bottom);
 
-    shares_panel(w, l, t, top, buf);
+    shares_panel(w, rows.as_ref(), l, t, top, buf);
     if by_class > 0 {
-        super::classes::render(w, l, t, classes, buf);
+        let picked = rows.as_ref().map(|r| r.rows.as_slice());
+        super::classes::render(w, picked, l, t, classes, buf);
     }
-    levers_panel(w, spec, t, levers, buf);
+    levers_panel(w, (spec, &kept), t, levers, buf);
     changes_panel(w, spec, t, changes, buf);
 }
 
 /// Base against what-if shares as bars, with the band and its notes.
-fn shares_panel(w: &WhatIf, l: &Loaded, t: &Theme, top: Rect, buf: &mut Buffer) {
+fn shares_panel(
+    w: &WhatIf,
+    shown: Option<&Shown>,
+    l: &Loaded,
+    t: &Theme,
+    top: Rect,
+    buf: &mut Buffer,
+) {
     let spec = &l.model.spec;
     let block = panel("shares: base ┃ and what-if █, 95% band ▓░", t);
     let inner = block.inner(top);
@@ -70,7 +145,12 @@ fn shares_panel(w: &WhatIf, l: &Loaded, t: &Theme, top: Rect, buf: &mut Buffer) 
         (Some(f), _) => {
             let scale = share_scale(f.shares.iter().flat_map(|r| [r.base, r.scenario, r.high]));
             let banded = w.band.is_some();
-            for r in &f.shares {
+            if let Some(note) = shown.and_then(|s| s.note.clone()) {
+                lines.push(Line::from(Span::styled(note, t.dim())));
+            }
+            let all: Vec<usize> = (0..f.shares.len()).collect();
+            let rows = shown.map_or(all.as_slice(), |s| s.rows.as_slice());
+            for r in rows.iter().filter_map(|&i| f.shares.get(i)) {
                 let gone = spec
                     .alternative_index(&r.alternative)
                     .is_some_and(|k| w.removed.contains(&k));
@@ -109,13 +189,29 @@ fn shares_panel(w: &WhatIf, l: &Loaded, t: &Theme, top: Rect, buf: &mut Buffer) 
     Paragraph::new(lines).render(inner, buf);
 }
 
-/// The levers, the cursor's selected.
-fn levers_panel(w: &WhatIf, spec: &Spec, t: &Theme, levers: Rect, buf: &mut Buffer) {
-    let block = panel("levers · ↑↓ choose · ←→ step", t);
+/// The levers the filter keeps (`kept`), the cursor's selected.
+fn levers_panel(
+    w: &WhatIf,
+    (spec, kept): (&Spec, &[usize]),
+    t: &Theme,
+    levers: Rect,
+    buf: &mut Buffer,
+) {
+    let title = if kept.len() < w.levers.len() {
+        format!(
+            "levers · {} of {} · ↑↓ choose · ←→ step",
+            kept.len(),
+            w.levers.len()
+        )
+    } else {
+        "levers · ↑↓ choose · ←→ step".to_string()
+    };
+    let block = panel(title, t);
     let inner = block.inner(levers);
     block.render(levers, buf);
     let rows = inner.height.saturating_sub(1) as usize;
-    let first = w.cursor.saturating_sub(rows.saturating_sub(1));
+    let at = kept.iter().position(|&i| i == w.cursor).unwrap_or(0);
+    let first = filter::first(at, kept.len(), rows);
     let cw = inner.width as usize;
     let (aw, vw) = (13, 9);
     let mut lines = vec![Line::from(Span::styled(
@@ -127,14 +223,10 @@ fn levers_panel(w: &WhatIf, spec: &Spec, t: &Theme, levers: Rect, buf: &mut Buff
         ),
         t.header(),
     ))];
-    for (i, (lever, op)) in w
-        .levers
-        .iter()
-        .zip(&w.ops)
-        .enumerate()
-        .skip(first)
-        .take(rows)
-    {
+    for &i in kept.iter().skip(first).take(rows) {
+        let (Some(lever), Some(op)) = (w.levers.get(i), w.ops.get(i)) else {
+            continue;
+        };
         let alt = match lever.alternative {
             Some(k) if w.removed.contains(&k) => format!("{} ✕", spec.alternatives[k].name),
             Some(k) => spec.alternatives[k].name.clone(),

@@ -276,6 +276,20 @@ impl WhatIf {
         self.band.as_ref().or(self.point.as_ref())
     }
 
+    /// The name of each lever's alternative, "(everyone)" for a
+    /// characteristic: what the view's filter reads.
+    pub fn lever_names<'a>(&self, spec: &'a Spec) -> Vec<&'a str> {
+        self.levers
+            .iter()
+            .map(
+                |l| match l.alternative.and_then(|k| spec.alternatives.get(k)) {
+                    Some(a) => a.name.as_str(),
+                    None => "(everyone)",
+                },
+            )
+            .collect()
+    }
+
     pub fn lever(&self) -> Option<&Lever> {
         self.levers.get(self.cursor)
     }

@@ -1,8 +1,10 @@
 //! The what-if view: levers that change attributes and characteristics,
 //! withdrawn alternatives, the point forecast at once and its band from the
 //! worker. Its keys step, type, reset, withdraw, save and export, and open the
-//! demand curve of a lever, and show the shares by latent class; `levers` holds its per-model state, `draw` its
-//! drawing, `files` the scenario and forecast it writes.
+//! demand curve of a lever, and show the shares by latent class; `/` filters
+//! the levers and the shares by the alternative's name and PgUp PgDn scroll
+//! the shares. `levers` holds its per-model state, `draw` its drawing,
+//! `files` the scenario and forecast it writes.
 
 mod classes;
 mod draw;
@@ -16,6 +18,7 @@ use ratatui::buffer::Buffer;
 use ratatui::layout::Rect;
 
 use crate::scenario::{Op, Target};
+use crate::tui::filter::{self, Filter, Took};
 use crate::tui::keys::Action;
 use crate::tui::part::{Answer, Ctx, Focus, Key, PerModel, Reply, Tone, View};
 use crate::tui::worker::Job;
@@ -30,10 +33,13 @@ const VALUE: u8 = 0;
 const SAVE: u8 = 1;
 const EXPORT: u8 = 2;
 
-/// The what-if of every opened model.
+/// The what-if of every opened model; the filter of the levers and shares,
+/// and the first row of the shares shown.
 #[derive(Debug, Default)]
 pub struct WhatIfView {
     pub models: PerModel<WhatIf>,
+    pub filter: Filter,
+    pub offset: usize,
 }
 
 impl WhatIfView {
@@ -55,6 +61,7 @@ impl WhatIfView {
 /// The view's own keys and what the shared keys do on it.
 const KEYS: &[Key] = &[
     Key::shared("↑↓  j k", "choose a lever"),
+    Key::shared("PgUp PgDn", "scroll the shares"),
     Key::shared("←→  h l", "step −/+ 1% (or 0.1)"),
     Key::shared("⇧←→  H L", "step −/+ 10% (or 1)"),
     Key::command("e", "Enter  e", "type +10% x1.2 +2 =3.5"),
@@ -92,17 +99,43 @@ impl View for WhatIfView {
             .open(index, w, |w, g| w.refresh(index, &l.model, g))
     }
 
+    fn typing(&self) -> bool {
+        self.filter.typing()
+    }
+
     fn act(&mut self, ctx: &Ctx, a: Action, reply: &mut Reply) {
+        let took = self.filter.on(a);
         let Some(w) = self.models.get_mut(ctx.current) else {
             return;
         };
+        let kept = match ctx.loaded() {
+            Some(l) => self.filter.kept(w.lever_names(&l.model.spec)),
+            None => Vec::new(),
+        };
+        match took {
+            Took::Changed => {
+                w.cursor = filter::settle(w.cursor, &kept);
+                self.offset = 0;
+                return;
+            }
+            Took::Kept => return,
+            Took::Not => {}
+        }
         let n = w.levers.len();
         let c = w.cursor.min(n.saturating_sub(1));
         match a {
-            Action::Up => w.cursor = c.saturating_sub(1),
-            Action::Down => w.cursor = (c + 1).min(n.saturating_sub(1)),
-            Action::Top => w.cursor = 0,
-            Action::Bottom => w.cursor = n.saturating_sub(1),
+            Action::Up | Action::Down | Action::Top | Action::Bottom => {
+                if let Some(to) = filter::cursor(c, &kept, 1, a) {
+                    w.cursor = to;
+                }
+            }
+            Action::PageUp | Action::PageDown => {
+                let rows = w.best().map_or(0, |f| {
+                    let names = f.shares.iter().map(|r| r.alternative.as_str());
+                    self.filter.kept(names).len()
+                });
+                self.offset = self.filter.scroll(self.offset, rows, a);
+            }
             Action::Left | Action::Right | Action::BigLeft | Action::BigRight if n > 0 => {
                 let up = matches!(a, Action::Right | Action::BigRight);
                 let big = matches!(a, Action::BigLeft | Action::BigRight);
@@ -181,7 +214,7 @@ impl View for WhatIfView {
 
     fn render(&self, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
         if let Some(w) = self.models.get(ctx.current) {
-            draw::render(w, ctx, area, buf);
+            draw::render(w, (&self.filter, self.offset), ctx, area, buf);
         }
     }
 

@@ -1,22 +1,21 @@
 //! The demand-curve view: one attribute of one alternative, or one
 //! characteristic of everyone, multiplied over a range (the library's
 //! `scenario::sweep`, run on the worker), and the share of a chosen
-//! alternative drawn as a line chart with a movable marker.
+//! alternative drawn as a line chart with a movable marker. `/` filters the
+//! list to sweep and the alternatives `a` draws by the alternative's name.
+
+mod draw;
 
 use ratatui::buffer::Buffer;
-use ratatui::layout::{Constraint, Layout, Rect};
-use ratatui::symbols::Marker;
-use ratatui::text::{Line, Span};
-use ratatui::widgets::{Axis, Chart, Dataset as Series, GraphType, Paragraph, Widget};
+use ratatui::layout::Rect;
 
 use std::any::Any;
 
 use crate::scenario::sweep::{Request, Sweep};
 use crate::spec::Spec;
+use crate::tui::filter::{self, Filter, Took};
 use crate::tui::keys::Action;
 use crate::tui::part::{Ctx, Focus, Key, PerModel, Reply, View};
-use crate::tui::theme::Theme;
-use crate::tui::widgets::{fixed, left, panel, signed};
 use crate::tui::worker::{Job, Model};
 
 /// Half-widths of the multiplier range around 1.
@@ -118,7 +117,7 @@ impl Curve {
 }
 
 /// The name of a lever's variable: an attribute, or a characteristic after them.
-fn variable(spec: &Spec, v: usize) -> String {
+pub(crate) fn variable(spec: &Spec, v: usize) -> String {
     let na = spec.attributes.len();
     if v < na {
         spec.attributes[v].name.clone()
@@ -130,10 +129,11 @@ fn variable(spec: &Spec, v: usize) -> String {
 /// The view's title, also the name its jobs carry.
 pub const TITLE: &str = "curve";
 
-/// The demand curve of every opened model.
+/// The demand curve of every opened model, and the filter of its lists.
 #[derive(Debug, Default)]
 pub struct CurveView {
     pub models: PerModel<Curve>,
+    pub filter: Filter,
 }
 
 impl CurveView {
@@ -178,12 +178,28 @@ impl View for CurveView {
             .open(index, c, |c, g| c.request(index, &l.model, g))
     }
 
+    fn typing(&self) -> bool {
+        self.filter.typing()
+    }
+
     fn act(&mut self, ctx: &Ctx, a: Action, reply: &mut Reply) {
         let index = ctx.current;
+        let took = self.filter.on(a);
         let (Some(c), Some(l)) = (self.models.get_mut(index), ctx.loaded()) else {
             return;
         };
-        if c.on(a, l.model.spec.alternatives.len().max(1)) {
+        let spec = &l.model.spec;
+        let kept = Kept {
+            levers: self.filter.kept(lever_names(&c.levers, spec)),
+            alternatives: self.filter.kept(spec.alternative_names()),
+            page: self.filter.page(),
+        };
+        let again = match took {
+            Took::Changed => c.settle(&kept),
+            Took::Kept => false,
+            Took::Not => c.on(a, &kept),
+        };
+        if again {
             let g = self.models.next_generation();
             if let Some(c) = self.models.get_mut(index) {
                 reply.job(c.request(index, &l.model, g));
@@ -219,7 +235,7 @@ impl View for CurveView {
 
     fn render(&self, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
         if let Some(c) = self.models.get(ctx.current) {
-            render(c, ctx, area, buf);
+            draw::render(self, c, ctx, area, buf);
         }
     }
 
@@ -228,21 +244,52 @@ impl View for CurveView {
     }
 }
 
+/// What the filter keeps: levers and alternatives by position, and a page.
+struct Kept {
+    levers: Vec<usize>,
+    alternatives: Vec<usize>,
+    page: usize,
+}
+
+/// The name of each lever's alternative ("(everyone)" for a characteristic).
+pub(crate) fn lever_names<'a>(levers: &[(usize, Option<usize>)], spec: &'a Spec) -> Vec<&'a str> {
+    levers
+        .iter()
+        .map(|&(_, k)| match k.and_then(|k| spec.alternatives.get(k)) {
+            Some(a) => a.name.as_str(),
+            None => "(everyone)",
+        })
+        .collect()
+}
+
 impl Curve {
+    /// The filter changed: the cursor and the alternative drawn move to kept
+    /// ones; true when the sweep must be requested again.
+    fn settle(&mut self, kept: &Kept) -> bool {
+        let before = self.cursor;
+        self.cursor = filter::settle(self.cursor, &kept.levers);
+        self.shown = filter::settle(self.shown, &kept.alternatives);
+        if before == self.cursor {
+            return false;
+        }
+        if let Some(&(_, Some(k))) = self.levers.get(self.cursor) {
+            self.shown = k;
+        }
+        true
+    }
+
     /// Applies a key; true when the sweep must be requested again.
-    fn on(&mut self, a: Action, alts: usize) -> bool {
-        let n = self.levers.len();
+    fn on(&mut self, a: Action, kept: &Kept) -> bool {
         let before = (self.cursor, self.width);
+        if let Some(to) = filter::cursor(self.cursor, &kept.levers, kept.page, a) {
+            self.cursor = to;
+        }
         match a {
-            Action::Up => self.cursor = self.cursor.saturating_sub(1),
-            Action::Down => self.cursor = (self.cursor + 1).min(n.saturating_sub(1)),
-            Action::Top => self.cursor = 0,
-            Action::Bottom => self.cursor = n.saturating_sub(1),
             Action::Left => self.marker = self.marker.saturating_sub(1),
             Action::Right => self.marker = (self.marker + 1).min(STEPS - 1),
             Action::BigLeft => self.marker = self.marker.saturating_sub(5),
             Action::BigRight => self.marker = (self.marker + 5).min(STEPS - 1),
-            Action::Command('a') => self.shown = (self.shown + 1) % alts,
+            Action::Command('a') => self.shown = next(self.shown, &kept.alternatives),
             Action::Command('+' | '=') => self.width = (self.width + 1).min(WIDTHS.len() - 1),
             Action::Command('-') => self.width = self.width.saturating_sub(1),
             _ => {}
@@ -259,186 +306,11 @@ impl Curve {
     }
 }
 
-fn render(c: &Curve, ctx: &Ctx, area: Rect, buf: &mut Buffer) {
-    let Some(l) = ctx.loaded() else {
-        return;
-    };
-    let t = ctx.theme;
-    let spec = &l.model.spec;
-    let [list, right] =
-        Layout::horizontal([Constraint::Length(26), Constraint::Min(40)]).areas(area);
-    lever_list(c, spec, t, list, buf);
-    let Some(&(v, k)) = c.levers.get(c.cursor) else {
-        Paragraph::new("the spec has no attribute or characteristic to sweep")
-            .block(panel("demand curve", t))
-            .render(right, buf);
-        return;
-    };
-    let attr = variable(spec, v);
-    let alt = k
-        .map(|k| spec.alternatives[k].name.clone())
-        .unwrap_or_else(|| "everyone".into());
-    let shown = spec
-        .alternatives
-        .get(c.shown)
-        .map(|x| x.name.clone())
-        .unwrap_or_default();
-    let title = format!("share of {shown} · {attr} of {alt} scaled");
-    let [chart_area, readout] =
-        Layout::vertical([Constraint::Min(6), Constraint::Length(5)]).areas(right);
-    let Some(sw) = &c.sweep else {
-        let msg = c
-            .error
-            .clone()
-            .unwrap_or_else(|| "computing the curve…".into());
-        Paragraph::new(msg)
-            .block(panel(title, t))
-            .render(right, buf);
-        return;
-    };
-    chart(c, sw, (&title, &attr, &alt, &shown), t, chart_area, buf);
-    readout_panel(c, sw, &shown, t, readout, buf);
-}
-
-/// The list of what can be swept, the cursor's entry selected.
-fn lever_list(c: &Curve, spec: &Spec, t: &Theme, area: Rect, buf: &mut Buffer) {
-    let block = panel("sweep  ↑↓", t);
-    let inner = block.inner(area);
-    block.render(area, buf);
-    let rows = inner.height as usize;
-    let first = c.cursor.saturating_sub(rows.saturating_sub(1));
-    let lines: Vec<Line> = c
-        .levers
-        .iter()
-        .enumerate()
-        .skip(first)
-        .take(rows)
-        .map(|(i, &(v, k))| {
-            let who = k
-                .map(|k| spec.alternatives[k].name.as_str())
-                .unwrap_or("(everyone)");
-            let text = left(
-                &format!(
-                    "{}{:<10} {}",
-                    if i == c.cursor { '›' } else { ' ' },
-                    who,
-                    variable(spec, v)
-                ),
-                inner.width as usize,
-            );
-            let style = if i == c.cursor {
-                t.selected()
-            } else {
-                Default::default()
-            };
-            Line::from(Span::styled(text, style))
-        })
-        .collect();
-    Paragraph::new(lines).render(inner, buf);
-}
-
-/// The share of the drawn alternative against the multiplier, with the base and the marker.
-fn chart(
-    c: &Curve,
-    sw: &Sweep,
-    (title, attr, alt, shown): (&str, &str, &str, &str),
-    t: &Theme,
-    chart_area: Rect,
-    buf: &mut Buffer,
-) {
-    let pts: Vec<(f64, f64)> = sw
-        .points
-        .iter()
-        .filter_map(|p| p.shares.get(c.shown).map(|s| (p.multiplier, *s)))
-        .collect();
-    let (from, to) = c.range();
-    let lo = pts.iter().map(|p| p.1).fold(f64::INFINITY, f64::min);
-    let hi = pts.iter().map(|p| p.1).fold(f64::NEG_INFINITY, f64::max);
-    let pad = ((hi - lo) * 0.08).max(0.002);
-    let (y0, y1) = ((lo - pad).max(0.0), (hi + pad).min(1.0));
-    let base_pt: Vec<(f64, f64)> = pts
-        .iter()
-        .filter(|p| (p.0 - 1.0).abs() < 1e-9)
+/// The kept alternative after `at` (the first after the last).
+fn next(at: usize, kept: &[usize]) -> usize {
+    kept.iter()
+        .find(|&&k| k > at)
+        .or(kept.first())
         .copied()
-        .collect();
-    let mark_pt: Vec<(f64, f64)> = pts.get(c.marker).copied().into_iter().collect();
-    let series = vec![
-        Series::default()
-            .name(format!("{shown} share"))
-            .marker(Marker::Braille)
-            .graph_type(GraphType::Line)
-            .style(t.bar_now())
-            .data(&pts),
-        Series::default()
-            .name("base (×1)")
-            .marker(Marker::Dot)
-            .graph_type(GraphType::Scatter)
-            .style(t.bar_base())
-            .data(&base_pt),
-        Series::default()
-            .name("marker")
-            .marker(Marker::Block)
-            .graph_type(GraphType::Scatter)
-            .style(t.band())
-            .data(&mark_pt),
-    ];
-    let x_labels = vec![
-        Span::raw(format!("×{from:.2}")),
-        Span::raw("×1.00"),
-        Span::raw(format!("×{to:.2}")),
-    ];
-    let y_labels = vec![
-        Span::raw(fixed(y0, 3)),
-        Span::raw(fixed((y0 + y1) / 2.0, 3)),
-        Span::raw(fixed(y1, 3)),
-    ];
-    Chart::new(series)
-        .block(panel(title, t))
-        .x_axis(
-            Axis::default()
-                .title(format!("{attr} of {alt} × base"))
-                .style(t.dim())
-                .bounds([from, to])
-                .labels(x_labels),
-        )
-        .y_axis(
-            Axis::default()
-                .title("share")
-                .style(t.dim())
-                .bounds([y0, y1])
-                .labels(y_labels),
-        )
-        .render(chart_area, buf);
-}
-
-/// The shares at the marker against the base.
-fn readout_panel(c: &Curve, sw: &Sweep, shown: &str, t: &Theme, readout: Rect, buf: &mut Buffer) {
-    let mut lines = Vec::new();
-    if let (Some(p), Some(b)) = (
-        sw.points.get(c.marker),
-        sw.points.iter().find(|p| (p.multiplier - 1.0).abs() < 1e-9),
-    ) {
-        let s = p.shares.get(c.shown).copied().unwrap_or(f64::NAN);
-        let s0 = b.shares.get(c.shown).copied().unwrap_or(f64::NAN);
-        lines.push(Line::from(vec![
-            Span::styled(format!("at ×{:.2}: ", p.multiplier), t.bold()),
-            Span::raw(format!("{shown} {} (base {}, ", fixed(s, 4), fixed(s0, 4))),
-            Span::styled(signed(s - s0, 4), t.bold()),
-            Span::raw(")"),
-        ]));
-        let all: Vec<String> = sw
-            .alternatives
-            .iter()
-            .zip(&p.shares)
-            .map(|(n, v)| format!("{n} {}", fixed(*v, 4)))
-            .collect();
-        lines.push(Line::from(Span::styled(all.join("  "), t.dim())));
-    }
-    lines.push(Line::from(Span::styled(
-        "←→ marker · a alternative · +/- range",
-        t.dim(),
-    )));
-    Paragraph::new(lines)
-        .block(panel("at the marker", t))
-        .render(readout, buf);
+        .unwrap_or(at)
 }

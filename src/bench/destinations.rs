@@ -89,35 +89,7 @@ fn write(dir: &Path, o: &DestinationOptions) -> Result<()> {
             ("time".into(), Values::Num(time.clone())),
         ],
     )?;
-    // Exact logit draws: each (origin, work) has one probability vector.
-    let cdf: Vec<Vec<f64>> = (0..2 * n)
-        .map(|ow| {
-            let (o, work) = (ow / 2, (ow % 2) as f64);
-            let v: Vec<f64> = (0..n)
-                .map(|j| {
-                    TRUTH[0].1 * time[o * n + j] + TRUTH[1].1 * jobs[j] * work + TRUTH[2].1 * mix[j]
-                })
-                .collect();
-            let m = v.iter().copied().fold(f64::NEG_INFINITY, f64::max);
-            let mut c = 0.0;
-            v.iter()
-                .map(|x| {
-                    c += (x - m).exp();
-                    c
-                })
-                .collect()
-        })
-        .collect();
-    let (mut origin, mut work, mut dest) = (Vec::new(), Vec::new(), Vec::new());
-    for _ in 0..o.situations {
-        let (or, w) = (rng.below(n), usize::from(rng.uniform() < 0.5));
-        let c = &cdf[2 * or + w];
-        let u = rng.uniform() * c[n - 1];
-        let j = c.partition_point(|&x| x <= u).min(n - 1);
-        origin.push(ids[or].clone());
-        work.push(w as f64);
-        dest.push(ids[j].clone());
-    }
+    let (origin, work, dest) = trips(o.situations, (&ids, &time), (&jobs, &mix), &mut rng);
     let head = o.situations.min(2_000);
     let cols = |k: usize| -> Vec<(String, Values)> {
         vec![
@@ -229,4 +201,44 @@ pub fn run(o: DestinationOptions) -> Result<ExitCode> {
         }
         Ok(ExitCode::SUCCESS)
     })
+}
+
+/// Trips drawn from the true logit: origin, work (0/1) and the chosen zone.
+fn trips(
+    count: usize,
+    (ids, time): (&[String], &[f64]),
+    (jobs, mix): (&[f64], &[f64]),
+    rng: &mut Rng,
+) -> (Vec<String>, Vec<f64>, Vec<String>) {
+    let n = ids.len();
+    // Exact logit draws: each (origin, work) has one probability vector.
+    let cdf: Vec<Vec<f64>> = (0..2 * n)
+        .map(|ow| {
+            let (o, work) = (ow / 2, (ow % 2) as f64);
+            let v: Vec<f64> = (0..n)
+                .map(|j| {
+                    TRUTH[0].1 * time[o * n + j] + TRUTH[1].1 * jobs[j] * work + TRUTH[2].1 * mix[j]
+                })
+                .collect();
+            let m = v.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+            let mut c = 0.0;
+            v.iter()
+                .map(|x| {
+                    c += (x - m).exp();
+                    c
+                })
+                .collect()
+        })
+        .collect();
+    let (mut origin, mut work, mut dest) = (Vec::new(), Vec::new(), Vec::new());
+    for _ in 0..count {
+        let (or, w) = (rng.below(n), usize::from(rng.uniform() < 0.5));
+        let c = &cdf[2 * or + w];
+        let u = rng.uniform() * c[n - 1];
+        let j = c.partition_point(|&x| x <= u).min(n - 1);
+        origin.push(ids[or].clone());
+        work.push(w as f64);
+        dest.push(ids[j].clone());
+    }
+    (origin, work, dest)
 }

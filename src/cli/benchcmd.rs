@@ -115,22 +115,11 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
             "--correlated applies to --model mixed".into(),
         ));
     }
-    if args.model == BenchModel::Stream {
-        return stream(args);
-    }
-    if args.model == BenchModel::Classes {
-        return classes(args);
-    }
-    if args.model == BenchModel::Destinations {
-        return bench::destinations::run(bench::destinations::DestinationOptions {
-            situations: args.situations.unwrap_or(1_000_000),
-            zones: args.zones as usize,
-            sampled: args.sampled,
-            keep: args.keep,
-            write_only: args.write_only,
-            json: args.json,
-            chunk_rows: args.chunk_rows,
-        });
+    match args.model {
+        BenchModel::Stream => return stream(args),
+        BenchModel::Classes => return classes(args),
+        BenchModel::Destinations => return destinations(args),
+        _ => {}
     }
     let draws = args.draws.unwrap_or(if args.model == BenchModel::Probit {
         500
@@ -243,5 +232,17 @@ fn classes(args: BenchArgs) -> Result<ExitCode> {
         peer_seconds: args.peer_seconds,
         json: args.json,
         write_only: args.write_only,
+    })
+}
+
+fn destinations(args: BenchArgs) -> Result<ExitCode> {
+    bench::destinations::run(bench::destinations::DestinationOptions {
+        situations: args.situations.unwrap_or(1_000_000),
+        zones: args.zones as usize,
+        sampled: args.sampled,
+        keep: args.keep,
+        write_only: args.write_only,
+        json: args.json,
+        chunk_rows: args.chunk_rows,
     })
 }

@@ -19,6 +19,11 @@ use crate::estimate::{Fit, Progress, Step};
 use crate::report::walk::Walk;
 use crate::spec::Spec;
 
+/// With many alternatives the workbench's analysis covers the 30 with the
+/// largest predicted shares (its matrices show the top of them; the filter
+/// picks among them). The command line's default is 10 (`fit --top`).
+pub const WORKBENCH_TOP: usize = 30;
+
 /// A fitted spec with its data: cheap to clone, shared by the state and the worker.
 #[derive(Clone, Debug)]
 pub struct Model {
@@ -162,7 +167,10 @@ pub fn execute(job: Job, send: &(dyn Fn(Msg) + Sync)) {
                     &model.spec,
                     &model.fit,
                     &model.ds,
-                    &crate::analysis::Options::default(),
+                    &crate::analysis::Options {
+                        top: Some(WORKBENCH_TOP),
+                        ..Default::default()
+                    },
                     &ticks,
                 )?;
                 // Walked here, not on the screen's thread: with many

@@ -57,34 +57,7 @@ pub fn observations(
     let n = table.nrows;
     let slots = sampling.alternatives + 1;
     let k = keys(spec, tables, table)?;
-    let cand = candidates(tables);
-    let mut members = vec![EMPTY; n * slots];
-    let mut counts = vec![0u32; n * slots];
-    let threads = std::thread::available_parallelism()
-        .map_or(1, |t| t.get())
-        .clamp(1, 64);
-    let step = n.div_ceil(threads).max(1);
-    std::thread::scope(|scope| {
-        let parts = members
-            .chunks_mut(step * slots)
-            .zip(counts.chunks_mut(step * slots));
-        for (t, (m, c)) in parts.enumerate() {
-            let (k, cand) = (&k, &cand);
-            scope.spawn(move || {
-                let mut scratch = Scratch::new(tables.alternatives());
-                for (b, (m, c)) in m.chunks_mut(slots).zip(c.chunks_mut(slots)).enumerate() {
-                    let i = t * step + b;
-                    let (open, cum) = &cand[k.from[i] as usize];
-                    let cs = Candidates {
-                        open,
-                        cumulative: tables.sampling_weight.as_ref().map(|_| cum.as_slice()),
-                    };
-                    let mut rng = generator(sampling.seed, table.offset + i + 1);
-                    draw(sampling, &mut rng, (k.chosen[i], &cs), &mut scratch, (m, c));
-                }
-            });
-        }
-    });
+    let (members, counts) = draw_all(tables, (table, &k), sampling);
     let times = multipliers(spec, table)?;
     let mut attributes = Vec::with_capacity(spec.attributes.len());
     for (a, times) in times.iter().enumerate() {
@@ -133,4 +106,43 @@ pub fn observations(
         offset,
         tables: None,
     })
+}
+
+/// Every situation's sampled set: members and counts, `slots` per situation.
+fn draw_all(
+    tables: &Tables,
+    (table, k): (&Table, &super::full::Keys),
+    sampling: &Sampling,
+) -> (Vec<u32>, Vec<u32>) {
+    let n = table.nrows;
+    let slots = sampling.alternatives + 1;
+    let cand = candidates(tables);
+    let mut members = vec![EMPTY; n * slots];
+    let mut counts = vec![0u32; n * slots];
+    let threads = std::thread::available_parallelism()
+        .map_or(1, |t| t.get())
+        .clamp(1, 64);
+    let step = n.div_ceil(threads).max(1);
+    std::thread::scope(|scope| {
+        let parts = members
+            .chunks_mut(step * slots)
+            .zip(counts.chunks_mut(step * slots));
+        for (t, (m, c)) in parts.enumerate() {
+            let cand = &cand;
+            scope.spawn(move || {
+                let mut scratch = Scratch::new(tables.alternatives());
+                for (b, (m, c)) in m.chunks_mut(slots).zip(c.chunks_mut(slots)).enumerate() {
+                    let i = t * step + b;
+                    let (open, cum) = &cand[k.from[i] as usize];
+                    let cs = Candidates {
+                        open,
+                        cumulative: tables.sampling_weight.as_ref().map(|_| cum.as_slice()),
+                    };
+                    let mut rng = generator(sampling.seed, table.offset + i + 1);
+                    draw(sampling, &mut rng, (k.chosen[i], &cs), &mut scratch, (m, c));
+                }
+            });
+        }
+    });
+    (members, counts)
 }

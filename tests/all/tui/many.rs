@@ -115,7 +115,7 @@ fn matrices_show_at_most_the_top_rows_and_the_filter_picks_them() {
     let s = screen(&app, 140, 50);
     has(
         &s,
-        &["showing rows ", " of 40 · columns ", "largest shares first"],
+        &["showing rows ", " of 30 · columns ", "largest shares first"],
     );
     assert!(zone_rows(&s) <= 2 * MOST, "{s}");
     let header = s.lines().find(|l| l.contains("of ↓ / share of →")).unwrap();

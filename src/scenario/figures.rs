@@ -56,6 +56,12 @@ pub(super) fn assemble(scenario: &Scenario, opts: &Options, fig: Figures) -> For
         warnings.insert(0, w);
     }
     let shares = share_rows(&names, &point, market, &mut band_scen, &mut band_change);
+    if names.len() > simulate::SWITCHING_UP_TO {
+        warnings.push(format!(
+            "no switching matrix: with more than {} alternatives pairing each situation's losses with its gains is alternatives² work per situation; the changes of the shares say where demand goes (`--by-alternative COLUMN` sums them by a column of the table of alternatives)",
+            simulate::SWITCHING_UP_TO
+        ));
+    }
     if point.revenue.is_some() && market.is_none() {
         warnings.push("a price attribute is named but no market size is given (--market), so no revenue is shown".into());
     }

@@ -45,6 +45,11 @@ pub fn pair(p0: &[f64], p1: &[f64], flows: &mut [f64], w: f64) {
     }
 }
 
+/// The most alternatives (new ones included) for which a forecast pairs
+/// each situation's losses with its gains (the switching matrix): beyond,
+/// that work grows as alternatives² per situation.
+pub const SWITCHING_UP_TO: usize = 60;
+
 /// What a pass sums besides the shares: revenue over a price attribute, and
 /// the switching matrix (alternatives² per situation: only the point pass
 /// wants it, not the bands' draws).
@@ -239,7 +244,7 @@ pub fn sums(
                 acc[a] += wi * p0[a];
                 acc[m + a] += wi * p1[a];
             }
-            if what.switching {
+            if what.switching && m <= SWITCHING_UP_TO {
                 pair(p0, p1, &mut acc[o_sw..o_seg], wi);
             }
             if let Some((seg, _)) = segments {

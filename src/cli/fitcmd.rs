@@ -134,7 +134,22 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
         // Refused before the fit rather than after it.
         crate::data::write::check_overwrite(path, args.force)?;
     }
-    let fit = super::fit_quietly(&spec, &ds)?;
+    let alone = args.analysis.no_analysis
+        && !args.draws_check
+        && args.conditional.is_none()
+        && args.classes_out.is_none();
+    let fit = if alone {
+        // Nothing reads the observations after the fit but the fit itself:
+        // handed over rather than copied (large sampled sets are gigabytes).
+        let mut ds = ds;
+        let none = ds.obs.subset(&vec![false; ds.obs.situations]);
+        let obs = std::mem::replace(&mut ds.obs, none);
+        drop(ds);
+        let fit = super::fit_quietly(&spec, std::sync::Arc::new(obs))?;
+        return output(&args, &spec, &fit, (None, None));
+    } else {
+        super::fit_quietly(&spec, &ds)?
+    };
     let draws_check = if args.draws_check {
         let obs = ds.obs.clone().into();
         Some(super::with_line(|line| {
@@ -157,14 +172,32 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
             analysis::analyse_with(&spec, &fit, &ds, &opts, &|t| line.tick(t))
         })?)
     };
+    output(
+        &args,
+        &spec,
+        &fit,
+        (analysis.as_ref(), draws_check.as_ref()),
+    )
+}
+
+/// Prints or saves the fit (and its analysis and simulation check).
+fn output(
+    args: &FitArgs,
+    spec: &crate::spec::Spec,
+    fit: &crate::estimate::Fit,
+    (analysis, draws_check): (
+        Option<&Analysis>,
+        Option<&crate::estimate::simcheck::DrawsCheck>,
+    ),
+) -> Result<ExitCode> {
     // The results document is made only when it is printed or saved.
     let body = (args.json || args.save.is_some()).then(|| {
         let label = args.spec.display().to_string();
-        let mut doc = report::json::results(&spec, &fit, &label);
-        if let Some(a) = &analysis {
+        let mut doc = report::json::results(spec, fit, &label);
+        if let Some(a) = analysis {
             add_analysis(&mut doc, a);
         }
-        if let Some(c) = &draws_check {
+        if let Some(c) = draws_check {
             if let Ok(v) = serde_json::to_value(c) {
                 doc.insert("draws_check".into(), v);
             }
@@ -177,13 +210,7 @@ pub fn run(args: FitArgs) -> Result<ExitCode> {
     if let (true, Some(body)) = (args.json, &body) {
         crate::outln!("{body}");
     } else {
-        let text = report::text::report(
-            &spec,
-            &fit,
-            analysis.as_ref(),
-            draws_check.as_ref(),
-            report::colour(),
-        );
+        let text = report::text::report(spec, fit, analysis, draws_check, report::colour());
         crate::out!("{text}");
     }
     if !fit.stats.converged && !args.allow_unconverged {

@@ -99,8 +99,14 @@ fn finish_with(
     );
     // The base utilities and probabilities at the estimates, which the shares
     // below and every analysis read (kept with the fit).
-    let baseline = Baseline::new(&*family, &design, &out.beta);
-    let shares = shares_from(spec, &design, &*family, &out.beta, Some(&baseline));
+    // Sampled sets (slots, not alternatives) have no shares of their own:
+    // the fit moved onto the full sets computes them, or none are made.
+    let sampled = design.alternatives() != spec.alternatives.len();
+    let baseline = std::sync::OnceLock::new();
+    if !sampled {
+        let _ = baseline.set(Baseline::new(&*family, &design, &out.beta));
+    }
+    let shares = shares_from(spec, &design, &*family, &out.beta, baseline.get());
     Ok(Fit {
         design,
         family,
@@ -113,7 +119,7 @@ fn finish_with(
         stats,
         shares,
         diagnostics,
-        baseline: std::sync::OnceLock::from(baseline),
+        baseline,
     })
 }
 

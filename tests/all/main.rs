@@ -15,6 +15,7 @@ mod demo_tastes;
 mod derivatives;
 mod destinations;
 mod destinations_cli;
+mod destinations_mc;
 mod diagnostics;
 mod draft;
 mod edge_cases;

@@ -6,10 +6,10 @@
 //! `sharecast simulate --data`, with its time per situation.
 
 use std::path::Path;
-use std::process::{Command, ExitCode, Stdio};
-use std::time::{Duration, Instant};
+use std::process::ExitCode;
+use std::time::Instant;
 
-use super::{in_folder, mb, own_path, status_bytes};
+use super::{in_folder, mb, time_command};
 use crate::data::write::{table, Values};
 use crate::error::{Error, Result};
 use crate::rng::Rng;
@@ -117,33 +117,8 @@ fn write(dir: &Path, o: &DestinationOptions) -> Result<()> {
     Ok(())
 }
 
-/// Runs `sharecast ARGS` as a separate process: wall seconds, peak resident
-/// memory (polled from /proc) and whether it succeeded.
 fn timed(args: &[&str], dir: &Path) -> Result<(f64, Option<u64>, bool)> {
-    let started = Instant::now();
-    let mut child = Command::new(own_path()?)
-        .args(args)
-        .current_dir(dir)
-        .stdin(Stdio::null())
-        .stdout(Stdio::null())
-        .stderr(Stdio::null())
-        .spawn()
-        .map_err(|e| Error::Usage(format!("bench: could not start sharecast: {e}")))?;
-    let status_path = format!("/proc/{}/status", child.id());
-    let mut peak = None;
-    let status = loop {
-        if let Ok(s) = std::fs::read_to_string(&status_path) {
-            if let Some(b) = status_bytes(&s, "VmHWM") {
-                peak = Some(peak.map_or(b, |p: u64| p.max(b)));
-            }
-        }
-        match child.try_wait() {
-            Ok(Some(st)) => break st,
-            Ok(None) => std::thread::sleep(Duration::from_millis(5)),
-            Err(e) => return Err(Error::Usage(format!("bench: waiting: {e}"))),
-        }
-    };
-    Ok((started.elapsed().as_secs_f64(), peak, status.success()))
+    time_command(args, Some(dir))
 }
 
 pub fn run(o: DestinationOptions) -> Result<ExitCode> {

@@ -17,7 +17,9 @@ mod process;
 pub mod stream;
 mod synthetic;
 
-pub(crate) use process::{in_folder, mb, median, ms, own_path, run_peer, time_process};
+pub(crate) use process::{
+    in_folder, mb, median, ms, own_path, run_peer, time_command, time_process,
+};
 pub use process::{peak_memory, status_bytes};
 pub(crate) use synthetic::{draw, pick, AGE, ALTS, ASC, INCOME};
 pub use synthetic::{spec_text, truth, write_data, write_set, Model, SEED};

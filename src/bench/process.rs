@@ -70,18 +70,29 @@ pub(crate) fn own_path() -> Result<PathBuf> {
 /// Runs `sharecast fit SPEC --json [extra]` as a separate process: wall seconds
 /// and, polled from /proc every few milliseconds, its peak resident memory.
 pub(crate) fn time_process(spec: &Path, extra: &[&str]) -> Result<(f64, Option<u64>, bool)> {
+    let spec = spec.to_string_lossy();
+    let mut args = vec!["fit", spec.as_ref(), "--json"];
+    args.extend_from_slice(extra);
+    time_command(&args, None)
+}
+
+/// Runs `sharecast ARGS` (in `dir`, when given) as a separate process: wall
+/// seconds, its peak resident memory polled from /proc every few
+/// milliseconds, and whether it succeeded.
+pub(crate) fn time_command(args: &[&str], dir: Option<&Path>) -> Result<(f64, Option<u64>, bool)> {
     let exe = own_path()?;
     let started = Instant::now();
-    let mut child = Command::new(exe)
-        .arg("fit")
-        .arg(spec)
-        .arg("--json")
-        .args(extra)
+    let mut command = Command::new(exe);
+    if let Some(d) = dir {
+        command.current_dir(d);
+    }
+    let mut child = command
+        .args(args)
         .stdin(Stdio::null())
         .stdout(Stdio::null())
         .stderr(Stdio::null())
         .spawn()
-        .map_err(|e| Error::Usage(format!("bench: could not start `sharecast fit`: {e}")))?;
+        .map_err(|e| Error::Usage(format!("bench: could not start sharecast: {e}")))?;
     let status_path = format!("/proc/{}/status", child.id());
     let mut peak = None;
     let status = loop {
@@ -93,7 +104,7 @@ pub(crate) fn time_process(spec: &Path, extra: &[&str]) -> Result<(f64, Option<u
         match child.try_wait() {
             Ok(Some(st)) => break st,
             Ok(None) => std::thread::sleep(Duration::from_millis(2)),
-            Err(e) => return Err(Error::Usage(format!("bench: waiting for the fit: {e}"))),
+            Err(e) => return Err(Error::Usage(format!("bench: waiting for sharecast: {e}"))),
         }
     };
     Ok((started.elapsed().as_secs_f64(), peak, status.success()))

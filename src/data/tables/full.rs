@@ -169,6 +169,29 @@ pub(crate) fn observations(spec: &Spec, tables: &Tables, table: &Table) -> Resul
         }
         attributes.push(x);
     }
+    let arrays = Arrays {
+        alternatives: nj,
+        chosen: k.chosen,
+        available,
+        attributes,
+        offset: None,
+    };
+    assemble(spec, table, arrays)
+}
+
+/// The per-slot arrays of some situations' observations (full or sampled sets).
+pub(crate) struct Arrays {
+    pub alternatives: usize,
+    pub chosen: Vec<u32>,
+    pub available: Vec<bool>,
+    pub attributes: Vec<Vec<f64>>,
+    pub offset: Option<Vec<f64>>,
+}
+
+/// `Observations` of the situations in `table` from their arrays, with the
+/// situation-level columns (characteristics, weights, groups) read here.
+pub(crate) fn assemble(spec: &Spec, table: &Table, a: Arrays) -> Result<Observations> {
+    let n = table.nrows;
     let mut characteristics = Vec::new();
     for (column, role) in situation_columns(spec) {
         characteristics.push(table.numbers(&column, &role)?.to_vec());
@@ -178,17 +201,17 @@ pub(crate) fn observations(spec: &Spec, tables: &Tables, table: &Table) -> Resul
     let (group, groups) = groups(spec, table, &rows)?;
     Ok(Observations {
         situations: n,
-        alternatives: nj,
-        chosen: k.chosen,
-        available,
+        alternatives: a.alternatives,
+        chosen: a.chosen,
+        available: a.available,
         weight,
         weight_total,
         group,
         groups,
-        attributes,
+        attributes: a.attributes,
         characteristics,
         first_row: rows.iter().map(|r| table.offset + r + 1).collect(),
-        offset: None,
+        offset: a.offset,
         tables: None,
     })
 }

@@ -5,10 +5,9 @@
 //! order, with the same generator), but only the sampled slots' values are
 //! ever made.
 
-use super::full::{keys, multipliers};
+use super::full::{assemble, keys, multipliers, Arrays};
 use super::sample::{draw, generator, Candidates, Scratch, EMPTY};
 use super::Tables;
-use crate::data::reshape::{groups, situation_columns, weights};
 use crate::data::table::Table;
 use crate::data::Observations;
 use crate::error::Result;
@@ -84,28 +83,14 @@ pub fn observations(
             })
             .collect()
     });
-    let mut characteristics = Vec::new();
-    for (column, role) in situation_columns(spec) {
-        characteristics.push(table.numbers(&column, &role)?.to_vec());
-    }
-    let rows: Vec<usize> = (0..n).collect();
-    let (weight, weight_total) = weights(spec, table, &rows)?;
-    let (group, groups) = groups(spec, table, &rows)?;
-    Ok(Observations {
-        situations: n,
+    let arrays = Arrays {
         alternatives: slots,
         chosen: vec![0; n],
         available: members.iter().map(|&j| j != EMPTY).collect(),
-        weight,
-        weight_total,
-        group,
-        groups,
         attributes,
-        characteristics,
-        first_row: rows.iter().map(|r| table.offset + r + 1).collect(),
         offset,
-        tables: None,
-    })
+    };
+    assemble(spec, table, arrays)
 }
 
 /// Every situation's sampled set: members and counts, `slots` per situation.

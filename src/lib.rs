@@ -12,6 +12,7 @@ pub mod design;
 pub mod draft;
 pub mod error;
 pub mod estimate;
+pub mod experiment;
 pub mod model;
 pub mod progress;
 pub mod report;

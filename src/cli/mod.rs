@@ -3,6 +3,7 @@
 
 mod benchcmd;
 mod comparecmd;
+mod designcmd;
 mod fitclasses;
 mod fitcmd;
 mod newcmd;
@@ -55,6 +56,8 @@ pub enum Command {
         #[arg(long)]
         force: bool,
     },
+    /// Search for an efficient stated-choice design (the tasks to show respondents).
+    Design(designcmd::DesignArgs),
     /// Time loading, one likelihood pass and a whole fit on simulated data.
     Bench(benchcmd::BenchArgs),
     /// The interactive workbench: estimates, elasticities, diversion, what-ifs and curves.
@@ -115,6 +118,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
             );
             Ok(ExitCode::SUCCESS)
         }
+        Command::Design(args) => designcmd::run(args),
         Command::Bench(args) => benchcmd::run(args),
         Command::Explore(args) => crate::tui::run(args.specs, args.load),
     }

@@ -3,6 +3,7 @@
 
 pub mod check;
 pub mod compare;
+pub mod experiment;
 pub mod forecast;
 pub mod heat;
 pub mod html;

@@ -1,7 +1,7 @@
 //! The small expression language of `[derived]` columns, scenario `where`
 //! filters and new-alternative attributes: numbers, column names,
 //! `+ - * / ^`, parentheses, unary minus, `log exp sqrt abs min max`,
-//! comparisons giving 0/1, and text values in single quotes compared with
+//! comparisons giving 0/1, `&&` and `||` over them (lowest, in that order), and text values in single quotes compared with
 //! `==`/`!=` to columns (`expr_text.rs`). Parsed once, evaluated column-wise
 //! over f64 data and, for text comparisons, text columns.
 
@@ -38,6 +38,10 @@ pub enum BinOp {
     Ge,
     Eq,
     Ne,
+    /// `&&`: 1 when both sides are non-zero, else 0.
+    And,
+    /// `||`: 1 when either side is non-zero, else 0.
+    Or,
 }
 
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -92,6 +96,26 @@ impl Parser<'_> {
             message: message.into(),
             text: self.text.to_string(),
         }
+    }
+    /// The lowest level: `a || b`, over `&&`.
+    fn logical(&mut self) -> Result<Expr, ParseError> {
+        let mut lhs = self.conjunction()?;
+        while let Some(Tok::Op("||")) = self.peek() {
+            self.pos += 1;
+            let rhs = self.conjunction()?;
+            lhs = Expr::Bin(BinOp::Or, Box::new(lhs), Box::new(rhs));
+        }
+        Ok(lhs)
+    }
+    /// `a && b`, over comparisons.
+    fn conjunction(&mut self) -> Result<Expr, ParseError> {
+        let mut lhs = self.comparison()?;
+        while let Some(Tok::Op("&&")) = self.peek() {
+            self.pos += 1;
+            let rhs = self.comparison()?;
+            lhs = Expr::Bin(BinOp::And, Box::new(lhs), Box::new(rhs));
+        }
+        Ok(lhs)
     }
     fn comparison(&mut self) -> Result<Expr, ParseError> {
         let lhs = self.additive()?;
@@ -170,7 +194,7 @@ impl Parser<'_> {
             Some(Tok::LParen) => {
                 self.pos += 1;
                 self.enter()?;
-                let e = self.comparison()?;
+                let e = self.logical()?;
                 self.depth -= 1;
                 match self.peek() {
                     Some(Tok::RParen) => {
@@ -199,10 +223,10 @@ impl Parser<'_> {
                     };
                     self.pos += 1;
                     self.enter()?;
-                    let mut args = vec![self.comparison()?];
+                    let mut args = vec![self.logical()?];
                     while let Some(Tok::Comma) = self.peek() {
                         self.pos += 1;
-                        args.push(self.comparison()?);
+                        args.push(self.logical()?);
                     }
                     self.depth -= 1;
                     match self.peek() {
@@ -252,7 +276,7 @@ impl Expr {
             depth: 0,
             texts: Vec::new(),
         };
-        let e = p.comparison()?;
+        let e = p.logical()?;
         if p.pos < p.toks.len() {
             return Err(p.err("unexpected text after the expression"));
         }
@@ -338,6 +362,8 @@ impl Expr {
                     BinOp::Ge => |a, b| (a >= b) as u8 as f64,
                     BinOp::Eq => |a, b| (a == b) as u8 as f64,
                     BinOp::Ne => |a, b| (a != b) as u8 as f64,
+                    BinOp::And => |a, b| (a != 0.0 && b != 0.0) as u8 as f64,
+                    BinOp::Or => |a, b| (a != 0.0 || b != 0.0) as u8 as f64,
                 };
                 x.iter_mut().zip(&y).for_each(|(a, b)| *a = f(*a, *b));
                 x

@@ -164,6 +164,8 @@ fn operator(chars: &[char], i: usize) -> Result<(Tok, usize), String> {
         ">=" => Some(">="),
         "==" => Some("=="),
         "!=" => Some("!="),
+        "&&" => Some("&&"),
+        "||" => Some("||"),
         _ => None,
     };
     if let Some(op) = op2 {
@@ -181,6 +183,8 @@ fn operator(chars: &[char], i: usize) -> Result<(Tok, usize), String> {
         ')' => Tok::RParen,
         ',' => Tok::Comma,
         '=' => return Err("`=` is not an operator (write `==` to compare)".into()),
+        '&' => return Err("`&` is not an operator (write `&&` for \"and\")".into()),
+        '|' => return Err("`|` is not an operator (write `||` for \"or\")".into()),
         _ => return Err(format!("unexpected character `{c}`")),
     };
     Ok((tok, 1))

@@ -24,6 +24,20 @@ fn precedence_follows_school_arithmetic() {
 }
 
 #[test]
+fn and_and_or_bind_below_comparisons_and_give_one_or_zero() {
+    // common practice: `&&` binds tighter than `||`, both below comparisons
+    assert_eq!(eval1("a < b && b < 4"), 1.0);
+    assert_eq!(eval1("a > b && b < 4"), 0.0);
+    assert_eq!(eval1("a > b || b < 4"), 1.0);
+    assert_eq!(eval1("a > b || b > 4"), 0.0);
+    assert_eq!(eval1("a == 2 || a == 9 && b == 9"), 1.0);
+    assert_eq!(eval1("(a == 2 || a == 9) && b == 9"), 0.0);
+    assert_eq!(eval1("max(a > 1 && b > 1, 0)"), 1.0);
+    assert!(Expr::parse("a & b").unwrap_err().message.contains("`&&`"));
+    assert!(Expr::parse("a | b").unwrap_err().message.contains("`||`"));
+}
+
+#[test]
 fn errors_point_at_the_character() {
     let e = Expr::parse("a + * b").unwrap_err();
     assert_eq!(e.position, 4);

@@ -8,6 +8,7 @@
 pub mod classes;
 mod classes_report;
 pub mod correlated;
+pub mod design;
 pub mod destinations;
 mod figures;
 mod measure;

@@ -38,6 +38,10 @@ pub enum BenchModel {
     /// `fit --no-analysis` on --sampled (50) sampled zones per trip, and a
     /// forecast over the full sets streamed in chunks.
     Destinations,
+    /// The survey design search: 3 alternatives, 5 attributes, 24 tasks in
+    /// 3 blocks, normal priors over --draws prior draws (default 1,000),
+    /// --starts random starts (default 8); the D-error reached against time.
+    Design,
 }
 
 #[derive(Args, Debug)]
@@ -78,7 +82,8 @@ pub struct BenchArgs {
     #[arg(long, default_value_t = 10)]
     pub tasks: usize,
     /// --model mixed: Halton draws per decision maker (default 1,000);
-    /// --model probit: GHK draws per situation (default 500).
+    /// --model probit: GHK draws per situation (default 500);
+    /// --model design: prior draws (default 1,000).
     #[arg(long)]
     pub draws: Option<usize>,
     /// --model mixed and classes: do not run the numpy peer.
@@ -88,9 +93,10 @@ pub struct BenchArgs {
     /// the correlated model on them in the same run (no numpy peer).
     #[arg(long)]
     pub correlated: bool,
-    /// --model classes: random starts of the latent class search.
-    #[arg(long, default_value_t = 20)]
-    pub starts: usize,
+    /// --model classes: random starts of the latent class search (default 20);
+    /// --model design: random starts of the design search (default 8).
+    #[arg(long)]
+    pub starts: Option<usize>,
     /// --model classes: the numpy peer begins no new start after this many
     /// seconds (it runs at least one).
     #[arg(long, default_value_t = 180.0)]
@@ -119,6 +125,7 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
         BenchModel::Stream => return stream(args),
         BenchModel::Classes => return classes(args),
         BenchModel::Destinations => return destinations(args),
+        BenchModel::Design => return design(args),
         _ => {}
     }
     let draws = args.draws.unwrap_or(if args.model == BenchModel::Probit {
@@ -178,7 +185,8 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
             | BenchModel::Probit
             | BenchModel::Stream
             | BenchModel::Classes
-            | BenchModel::Destinations => bench::Model::Full,
+            | BenchModel::Destinations
+            | BenchModel::Design => bench::Model::Full,
         },
         keep: args.keep,
         write_only: args.write_only,
@@ -224,7 +232,7 @@ fn classes(args: BenchArgs) -> Result<ExitCode> {
     bench::classes::run(bench::classes::ClassesOptions {
         decision_makers: args.decision_makers,
         tasks: args.tasks,
-        starts: args.starts,
+        starts: args.starts.unwrap_or(20),
         repeats: args.repeats.min(5),
         keep: args.keep,
         no_process: args.no_process,
@@ -244,5 +252,14 @@ fn destinations(args: BenchArgs) -> Result<ExitCode> {
         write_only: args.write_only,
         json: args.json,
         chunk_rows: args.chunk_rows,
+    })
+}
+
+fn design(args: BenchArgs) -> Result<ExitCode> {
+    bench::design::run(bench::design::DesignOptions {
+        draws: args.draws.unwrap_or(1_000),
+        starts: args.starts.unwrap_or(8),
+        keep: args.keep,
+        json: args.json,
     })
 }

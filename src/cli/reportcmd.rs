@@ -11,6 +11,7 @@ use crate::error::{Error, Result};
 
 #[derive(Args, Debug)]
 pub struct ReportArgs {
+    /// The model's spec, or a survey design file (its design report).
     pub spec: PathBuf,
     /// A scenario file to forecast (repeatable; each gets its own part of the page).
     #[arg(long = "scenario", value_name = "FILE")]
@@ -38,6 +39,9 @@ pub struct ReportArgs {
 pub fn run(args: ReportArgs) -> Result<ExitCode> {
     // Refused before the fit rather than after it.
     write::check_overwrite(&args.out, args.force)?;
+    if crate::experiment::is_design_file(&args.spec) {
+        return design(&args);
+    }
     if let Some(dir) = &args.charts {
         if dir.exists() && !dir.is_dir() {
             return Err(Error::io(dir, "--charts: exists and is not a folder"));
@@ -99,5 +103,28 @@ pub fn run(args: ReportArgs) -> Result<ExitCode> {
     if !results.fit.stats.converged {
         crate::errln!("warning: the fit did not converge; the report says so in its first section");
     }
+    Ok(ExitCode::SUCCESS)
+}
+
+/// The report of a survey design file: the design searched again (the same
+/// from its seed), laid out as one page.
+fn design(args: &ReportArgs) -> Result<ExitCode> {
+    let model_only = [
+        (!args.scenarios.is_empty(), "--scenario"),
+        (args.load.is_some(), "--load"),
+        (args.charts.is_some(), "--charts"),
+        (args.top.is_some(), "--top"),
+        (args.by_alternative.is_some(), "--by-alternative"),
+    ];
+    if let Some((_, flag)) = model_only.iter().find(|f| f.0) {
+        return Err(Error::Usage(format!(
+            "{flag} is for a model's report; {} is a design file",
+            args.spec.display()
+        )));
+    }
+    let plan = crate::experiment::read(&args.spec)?;
+    let outcome = super::with_line(|line| crate::experiment::make(&plan, &|t| line.tick(t)))?;
+    write::text(&args.out, args.force, &crate::report::experiment::html(&outcome))?;
+    crate::outln!("wrote {} (the design report)", args.out.display());
     Ok(ExitCode::SUCCESS)
 }

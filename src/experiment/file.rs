@@ -37,7 +37,7 @@ struct RawDesign {
 #[serde(deny_unknown_fields)]
 struct RawAttribute {
     name: String,
-    levels: Vec<toml::Value>,
+    levels: toml::Value,
     prior: Option<toml::Value>,
     alternatives: Option<Vec<String>>,
 }
@@ -55,14 +55,16 @@ pub struct Prior {
     pub sd: f64,
 }
 
-/// One attribute of the tasks: its levels and the alternatives it enters.
+/// One attribute of the tasks: the alternatives it enters and its levels in each.
 #[derive(Clone, Debug)]
 pub struct Attribute {
     pub name: String,
-    pub levels: Vec<f64>,
     pub prior: Prior,
     /// Indices into `Plan::alternatives`, in their order.
     pub enters: Vec<usize>,
+    /// The levels in each alternative of `enters` (the same list unless the
+    /// file gave a table of lists by alternative).
+    pub levels: Vec<Vec<f64>>,
 }
 
 /// An alternative-specific constant of a labelled design.
@@ -88,6 +90,7 @@ pub struct Column {
     pub name: String,
     pub attribute: usize,
     pub alternative: usize,
+    pub levels: Vec<f64>,
 }
 
 /// A checked design file.
@@ -156,7 +159,11 @@ impl Plan {
     /// list the same profiles in another order are not repeats.
     pub fn labelled(&self) -> bool {
         let j = self.alternatives.len();
-        !self.constants.is_empty() || self.attributes.iter().any(|a| a.enters.len() != j)
+        !self.constants.is_empty()
+            || self
+                .attributes
+                .iter()
+                .any(|a| a.enters.len() != j || a.levels.iter().any(|l| *l != a.levels[0]))
     }
 
     /// The column of attribute `a` in alternative `j`, if it enters it.
@@ -324,65 +331,112 @@ fn prior(plan: &Plan, key: &str, v: Option<&toml::Value>) -> Result<Prior> {
 }
 
 fn attribute(plan: &Plan, i: usize, a: &RawAttribute) -> Result<Attribute> {
-    let key = format!(
-        "[[attribute]] {} (`{}`)",
-        i + 1,
-        crate::error::quote(&a.name)
-    );
+    let key = format!("[[attribute]] {} (`{}`)", i + 1, crate::error::quote(&a.name));
     name_ok(plan, &format!("[[attribute]] {}: name", i + 1), &a.name)?;
     if plan.attributes.iter().any(|b| b.name == a.name) {
         return Err(plan.err(format!("{key}: the name is used twice")));
     }
-    let mut levels = Vec::with_capacity(a.levels.len());
-    for v in &a.levels {
-        let x = number(v)
-            .ok_or_else(|| plan.err(format!("{key}: levels: {v} is not a finite number")))?;
-        if levels.contains(&x) {
-            return Err(plan.err(format!("{key}: levels: {x} is listed twice")));
+    let by_alternative = match &a.levels {
+        toml::Value::Table(t) => Some(t),
+        _ => None,
+    };
+    let named = match (&a.alternatives, by_alternative) {
+        (Some(names), _) => Some(names.clone()),
+        (None, Some(t)) => Some(
+            plan.alternatives
+                .iter()
+                .filter(|x| t.contains_key(*x))
+                .cloned()
+                .collect(),
+        ),
+        (None, None) => None,
+    };
+    let enters = enters(plan, &key, named.as_deref())?;
+    let levels = match by_alternative {
+        None => {
+            let list = level_list(plan, &format!("{key}: levels"), &a.levels)?;
+            vec![list; enters.len()]
         }
-        levels.push(x);
-    }
-    if levels.len() < 2 || levels.len() > MAX_LEVELS {
-        return Err(plan.err(format!(
-            "{key}: levels: an attribute needs 2 to {MAX_LEVELS} different levels to vary, not {}",
-            levels.len()
-        )));
-    }
-    let enters = match &a.alternatives {
-        None => (0..plan.alternatives.len()).collect(),
-        Some(names) => {
-            let mut out = Vec::new();
-            for n in names {
-                let j = plan
-                    .alternatives
+        Some(t) => {
+            if let Some(other) = t.keys().find(|k| {
+                !enters
                     .iter()
-                    .position(|x| x == n)
-                    .ok_or_else(|| {
-                        plan.err(format!(
-                            "{key}: alternatives: \"{}\" is not in [design].alternatives ({})",
-                            crate::error::quote(n),
-                            plan.alternatives.join(", ")
-                        ))
-                    })?;
-                if out.contains(&j) {
-                    return Err(plan.err(format!("{key}: alternatives: \"{n}\" is listed twice")));
-                }
-                out.push(j);
+                    .any(|&j| plan.alternatives[j] == **k)
+            }) {
+                return Err(plan.err(format!(
+                    "{key}: levels: \"{}\" is not an alternative this attribute enters",
+                    crate::error::quote(other)
+                )));
             }
-            if out.is_empty() {
-                return Err(plan.err(format!("{key}: alternatives: the list is empty")));
+            let mut out = Vec::new();
+            for &j in &enters {
+                let name = &plan.alternatives[j];
+                let v = t.get(name).ok_or_else(|| {
+                    plan.err(format!("{key}: levels: no list for \"{name}\", which it enters"))
+                })?;
+                out.push(level_list(plan, &format!("{key}: levels.{name}"), v)?);
             }
-            out.sort_unstable();
             out
         }
     };
     let prior = prior(plan, &format!("{key}: prior"), a.prior.as_ref())?;
     Ok(Attribute {
         name: a.name.clone(),
-        levels,
         prior,
         enters,
+        levels,
     })
+}
+
+/// The alternatives an attribute enters: all, or those named.
+fn enters(plan: &Plan, key: &str, names: Option<&[String]>) -> Result<Vec<usize>> {
+    let Some(names) = names else {
+        return Ok((0..plan.alternatives.len()).collect());
+    };
+    let mut out = Vec::new();
+    for n in names {
+        let j = plan.alternatives.iter().position(|x| x == n).ok_or_else(|| {
+            plan.err(format!(
+                "{key}: alternatives: \"{}\" is not in [design].alternatives ({})",
+                crate::error::quote(n),
+                plan.alternatives.join(", ")
+            ))
+        })?;
+        if out.contains(&j) {
+            return Err(plan.err(format!("{key}: alternatives: \"{n}\" is listed twice")));
+        }
+        out.push(j);
+    }
+    if out.is_empty() {
+        return Err(plan.err(format!("{key}: alternatives: the list is empty")));
+    }
+    out.sort_unstable();
+    Ok(out)
+}
+
+/// A list of levels: 2 to `MAX_LEVELS` different finite numbers.
+fn level_list(plan: &Plan, key: &str, v: &toml::Value) -> Result<Vec<f64>> {
+    let toml::Value::Array(items) = v else {
+        return Err(plan.err(format!(
+            "{key}: give a list of numbers, such as [2, 4, 6], or a table of lists by alternative"
+        )));
+    };
+    let mut levels = Vec::with_capacity(items.len());
+    for v in items {
+        let x = number(v)
+            .ok_or_else(|| plan.err(format!("{key}: {v} is not a finite number")))?;
+        if levels.contains(&x) {
+            return Err(plan.err(format!("{key}: {x} is listed twice")));
+        }
+        levels.push(x);
+    }
+    if levels.len() < 2 || levels.len() > MAX_LEVELS {
+        return Err(plan.err(format!(
+            "{key}: an attribute needs 2 to {MAX_LEVELS} different levels to vary, not {}",
+            levels.len()
+        )));
+    }
+    Ok(levels)
 }
 
 fn constants(plan: &mut Plan, raw: &BTreeMap<String, toml::Value>) -> Result<()> {
@@ -422,11 +476,12 @@ fn constants(plan: &mut Plan, raw: &BTreeMap<String, toml::Value>) -> Result<()>
 fn columns(plan: &Plan) -> Vec<Column> {
     let mut out = Vec::new();
     for (a, attr) in plan.attributes.iter().enumerate() {
-        for &j in &attr.enters {
+        for (&j, levels) in attr.enters.iter().zip(&attr.levels) {
             out.push(Column {
                 name: format!("{}_{}", attr.name, plan.alternatives[j]),
                 attribute: a,
                 alternative: j,
+                levels: levels.clone(),
             });
         }
     }

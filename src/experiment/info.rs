@@ -77,6 +77,7 @@ pub struct Coding {
     /// Per (alternative, attribute): the design column, if it enters.
     columns: Vec<Option<usize>>,
     attributes: usize,
+    /// Per design column: its levels.
     levels: Vec<Vec<f64>>,
     /// Per constant: its alternative.
     constants: Vec<usize>,
@@ -95,7 +96,7 @@ impl Coding {
             k: a + plan.constants.len(),
             columns,
             attributes: a,
-            levels: plan.attributes.iter().map(|x| x.levels.clone()).collect(),
+            levels: plan.columns.iter().map(|x| x.levels.clone()).collect(),
             constants: plan.constants.iter().map(|c| c.alternative).collect(),
         }
     }
@@ -106,9 +107,9 @@ impl Coding {
         for alt in 0..self.j {
             let out = &mut x[alt * self.k..(alt + 1) * self.k];
             let cols = &self.columns[alt * self.attributes..(alt + 1) * self.attributes];
-            for ((o, col), lv) in out.iter_mut().zip(cols).zip(&self.levels) {
+            for (o, col) in out.iter_mut().zip(cols) {
                 *o = match col {
-                    Some(c) => lv[row[*c] as usize],
+                    Some(c) => self.levels[*c][row[*c] as usize],
                     None => 0.0,
                 };
             }

@@ -57,6 +57,7 @@ pub fn make(plan: &Plan, sink: Sink) -> Result<Outcome> {
         sweeps: reached.iter().map(|r| r.sweeps).sum(),
         swaps_tried: reached.iter().map(|r| r.swaps_tried).sum(),
         seconds: clock.elapsed().as_secs_f64(),
+        start_seconds: reached.iter().map(|r| r.seconds).collect(),
     };
     Ok(outcome::assemble(plan, &best.tasks, &draws, figures))
 }
@@ -69,7 +70,7 @@ fn rules_leave_tasks(plan: &Plan) -> Result<()> {
         let sizes: Vec<usize> = f
             .reads
             .iter()
-            .map(|&c| plan.attributes[plan.columns[c].attribute].levels.len())
+            .map(|&c| plan.columns[c].levels.len())
             .collect();
         let combos = sizes.iter().try_fold(1usize, |a, &s| a.checked_mul(s));
         if combos.is_none_or(|n| n > RULE_COMBINATIONS) {

@@ -47,6 +47,8 @@ pub struct SearchFigures {
     pub sweeps: usize,
     pub swaps_tried: usize,
     pub seconds: f64,
+    /// When each start finished, in seconds from the search's beginning.
+    pub start_seconds: Vec<f64>,
 }
 
 /// The results document of `sharecast design`.

@@ -107,13 +107,13 @@ impl<'a> Rules<'a> {
     /// of them only makes the two incomparable.
     fn at_least_as_good(&self, tasks: &Tasks, t: usize, a: usize, b: usize) -> bool {
         let plan = self.plan;
-        for (k, attr) in plan.attributes.iter().enumerate() {
+        for k in 0..plan.attributes.len() {
             let (ca, cb) = (plan.column_of(k, a), plan.column_of(k, b));
             match (ca, cb) {
                 (None, None) => continue,
                 (Some(ca), Some(cb)) => {
-                    let xa = attr.levels[tasks.get(t, ca) as usize];
-                    let xb = attr.levels[tasks.get(t, cb) as usize];
+                    let xa = plan.columns[ca].levels[tasks.get(t, ca) as usize];
+                    let xb = plan.columns[cb].levels[tasks.get(t, cb) as usize];
                     let gain = self.signs[k] * (xa - xb);
                     if gain < 0.0 || (self.signs[k] == 0.0 && xa != xb) {
                         return false;

@@ -29,6 +29,9 @@ pub struct Reached {
     pub start_d_error: f64,
     pub sweeps: usize,
     pub swaps_tried: usize,
+    /// When the start finished, in seconds from the search's beginning
+    /// (a timing only: no figure depends on it).
+    pub seconds: f64,
 }
 
 /// Runs every start and returns them in start order.
@@ -36,10 +39,12 @@ pub fn run(plan: &Plan, draws: &Draws, sink: Sink) -> Vec<Reached> {
     let coding = Coding::new(plan);
     let rules = Rules::new(plan);
     let phase = Phase::start(sink, "searching for the design (starts)", plan.starts);
+    let clock = std::time::Instant::now();
     let out = crate::design::on_ranges((0..plan.starts).map(|s| s..s + 1).collect(), |r| {
         let mut rng = Rng::new(start_seed(plan.seed, r.start));
         let tasks = balanced_start(plan, &mut rng);
-        let reached = State::new(plan, &coding, draws, &rules, tasks).climb();
+        let mut reached = State::new(plan, &coding, draws, &rules, tasks).climb();
+        reached.seconds = clock.elapsed().as_secs_f64();
         phase.step();
         reached
     });
@@ -273,6 +278,7 @@ impl<'a> State<'a> {
             start_d_error,
             sweeps,
             swaps_tried: tried,
+            seconds: 0.0,
         }
     }
 }

@@ -36,7 +36,7 @@ impl Tasks {
         plan.columns
             .iter()
             .enumerate()
-            .map(|(c, col)| plan.attributes[col.attribute].levels[self.get(t, c) as usize])
+            .map(|(c, col)| col.levels[self.get(t, c) as usize])
             .collect()
     }
 
@@ -45,7 +45,7 @@ impl Tasks {
         let mut levels = Vec::with_capacity(rows.len() * plan.columns.len());
         for row in rows {
             for (c, col) in plan.columns.iter().enumerate() {
-                let lv = &plan.attributes[col.attribute].levels;
+                let lv = &col.levels;
                 let v = *row.get(c)?;
                 levels.push(lv.iter().position(|x| *x == v)? as u8);
             }
@@ -67,7 +67,7 @@ pub fn balanced_start(plan: &Plan, rng: &mut Rng) -> Tasks {
     let mut levels = vec![0u8; plan.tasks * cols];
     let mut list = Vec::with_capacity(per);
     for (c, col) in plan.columns.iter().enumerate() {
-        let l = plan.attributes[col.attribute].levels.len();
+        let l = col.levels.len();
         for b in 0..plan.blocks {
             list.clear();
             let offset = (b * (per % l)) % l;
@@ -109,7 +109,7 @@ pub fn level_counts(plan: &Plan, tasks: &Tasks) -> Vec<LevelCount> {
         .iter()
         .enumerate()
         .map(|(c, col)| {
-            let levels = plan.attributes[col.attribute].levels.clone();
+            let levels = col.levels.clone();
             let mut by_block = vec![vec![0usize; levels.len()]; plan.blocks];
             for t in 0..tasks.count() {
                 by_block[t / per][tasks.get(t, c) as usize] += 1;

@@ -106,7 +106,11 @@ fn measure(dir: &Path, o: &DesignOptions) -> Result<ExitCode> {
         outcome.d_error
     );
     for (n, (t, d)) in curve.iter().enumerate() {
-        crate::outln!("  after {:>5.1} s  {} start(s) done   best D-error {d:.5}", t, n + 1);
+        crate::outln!(
+            "  after {:>5.1} s  {} start(s) done   best D-error {d:.5}",
+            t,
+            n + 1
+        );
     }
     Ok(ExitCode::SUCCESS)
 }

@@ -121,12 +121,8 @@ pub fn run(args: BenchArgs) -> Result<ExitCode> {
             "--correlated applies to --model mixed".into(),
         ));
     }
-    match args.model {
-        BenchModel::Stream => return stream(args),
-        BenchModel::Classes => return classes(args),
-        BenchModel::Destinations => return destinations(args),
-        BenchModel::Design => return design(args),
-        _ => {}
+    if let Some(own) = own_runner(args.model) {
+        return own(args);
     }
     let draws = args.draws.unwrap_or(if args.model == BenchModel::Probit {
         500
@@ -262,4 +258,15 @@ fn design(args: BenchArgs) -> Result<ExitCode> {
         keep: args.keep,
         json: args.json,
     })
+}
+
+/// The models whose benchmark is a runner of its own (not the synthetic fit).
+fn own_runner(model: BenchModel) -> Option<fn(BenchArgs) -> Result<ExitCode>> {
+    match model {
+        BenchModel::Stream => Some(stream),
+        BenchModel::Classes => Some(classes),
+        BenchModel::Destinations => Some(destinations),
+        BenchModel::Design => Some(design),
+        _ => None,
+    }
 }

@@ -124,7 +124,11 @@ fn design(args: &ReportArgs) -> Result<ExitCode> {
     }
     let plan = crate::experiment::read(&args.spec)?;
     let outcome = super::with_line(|line| crate::experiment::make(&plan, &|t| line.tick(t)))?;
-    write::text(&args.out, args.force, &crate::report::experiment::html(&outcome))?;
+    write::text(
+        &args.out,
+        args.force,
+        &crate::report::experiment::html(&outcome),
+    )?;
     crate::outln!("wrote {} (the design report)", args.out.display());
     Ok(ExitCode::SUCCESS)
 }

@@ -1,5 +1,6 @@
 //! The design file of `sharecast design`: its serde form and the checks that
-//! turn it into a `Plan`, each error naming the file and the key.
+//! turn it into a `Plan`, each error naming the file and the key (an
+//! attribute's own keys and priors in `attributes.rs`).
 
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
@@ -35,11 +36,11 @@ struct RawDesign {
 
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
-struct RawAttribute {
-    name: String,
-    levels: toml::Value,
-    prior: Option<toml::Value>,
-    alternatives: Option<Vec<String>>,
+pub(super) struct RawAttribute {
+    pub(super) name: String,
+    pub(super) levels: toml::Value,
+    pub(super) prior: Option<toml::Value>,
+    pub(super) alternatives: Option<Vec<String>>,
 }
 
 #[derive(Deserialize)]
@@ -173,7 +174,7 @@ impl Plan {
             .position(|c| c.attribute == a && c.alternative == j)
     }
 
-    fn err(&self, message: impl Into<String>) -> Error {
+    pub(super) fn err(&self, message: impl Into<String>) -> Error {
         Error::spec(&self.path, message)
     }
 }
@@ -278,8 +279,10 @@ fn design_keys(plan: &mut Plan, d: &RawDesign) -> Result<()> {
     Ok(())
 }
 
+use super::attributes::{attribute, prior};
+
 /// A name that makes a column name and an expression's identifier.
-fn name_ok(plan: &Plan, key: &str, name: &str) -> Result<()> {
+pub(super) fn name_ok(plan: &Plan, key: &str, name: &str) -> Result<()> {
     let mut chars = name.chars();
     let first_ok = chars
         .next()
@@ -291,152 +294,6 @@ fn name_ok(plan: &Plan, key: &str, name: &str) -> Result<()> {
         )));
     }
     Ok(())
-}
-
-fn number(v: &toml::Value) -> Option<f64> {
-    match v {
-        toml::Value::Integer(i) => Some(*i as f64),
-        toml::Value::Float(f) if f.is_finite() => Some(*f),
-        _ => None,
-    }
-}
-
-/// A prior: a number (fixed) or `{ mean = .., sd = .. }` (normal).
-fn prior(plan: &Plan, key: &str, v: Option<&toml::Value>) -> Result<Prior> {
-    let Some(v) = v else {
-        return Ok(Prior { mean: 0.0, sd: 0.0 });
-    };
-    if let Some(mean) = number(v) {
-        return Ok(Prior { mean, sd: 0.0 });
-    }
-    let wrong = || {
-        plan.err(format!(
-            "{key}: give a number (a fixed prior) or {{ mean = -0.3, sd = 0.1 }} (a normal prior)"
-        ))
-    };
-    let toml::Value::Table(t) = v else {
-        return Err(wrong());
-    };
-    if let Some(other) = t.keys().find(|k| *k != "mean" && *k != "sd") {
-        return Err(plan.err(format!(
-            "{key}: unknown key `{other}` (a prior has `mean` and `sd`)"
-        )));
-    }
-    let mean = t.get("mean").and_then(number).ok_or_else(wrong)?;
-    let sd = t.get("sd").and_then(number).ok_or_else(wrong)?;
-    if sd < 0.0 {
-        return Err(plan.err(format!("{key}: the sd {sd} is negative")));
-    }
-    Ok(Prior { mean, sd })
-}
-
-fn attribute(plan: &Plan, i: usize, a: &RawAttribute) -> Result<Attribute> {
-    let key = format!("[[attribute]] {} (`{}`)", i + 1, crate::error::quote(&a.name));
-    name_ok(plan, &format!("[[attribute]] {}: name", i + 1), &a.name)?;
-    if plan.attributes.iter().any(|b| b.name == a.name) {
-        return Err(plan.err(format!("{key}: the name is used twice")));
-    }
-    let by_alternative = match &a.levels {
-        toml::Value::Table(t) => Some(t),
-        _ => None,
-    };
-    let named = match (&a.alternatives, by_alternative) {
-        (Some(names), _) => Some(names.clone()),
-        (None, Some(t)) => Some(
-            plan.alternatives
-                .iter()
-                .filter(|x| t.contains_key(*x))
-                .cloned()
-                .collect(),
-        ),
-        (None, None) => None,
-    };
-    let enters = enters(plan, &key, named.as_deref())?;
-    let levels = match by_alternative {
-        None => {
-            let list = level_list(plan, &format!("{key}: levels"), &a.levels)?;
-            vec![list; enters.len()]
-        }
-        Some(t) => {
-            if let Some(other) = t.keys().find(|k| {
-                !enters
-                    .iter()
-                    .any(|&j| plan.alternatives[j] == **k)
-            }) {
-                return Err(plan.err(format!(
-                    "{key}: levels: \"{}\" is not an alternative this attribute enters",
-                    crate::error::quote(other)
-                )));
-            }
-            let mut out = Vec::new();
-            for &j in &enters {
-                let name = &plan.alternatives[j];
-                let v = t.get(name).ok_or_else(|| {
-                    plan.err(format!("{key}: levels: no list for \"{name}\", which it enters"))
-                })?;
-                out.push(level_list(plan, &format!("{key}: levels.{name}"), v)?);
-            }
-            out
-        }
-    };
-    let prior = prior(plan, &format!("{key}: prior"), a.prior.as_ref())?;
-    Ok(Attribute {
-        name: a.name.clone(),
-        prior,
-        enters,
-        levels,
-    })
-}
-
-/// The alternatives an attribute enters: all, or those named.
-fn enters(plan: &Plan, key: &str, names: Option<&[String]>) -> Result<Vec<usize>> {
-    let Some(names) = names else {
-        return Ok((0..plan.alternatives.len()).collect());
-    };
-    let mut out = Vec::new();
-    for n in names {
-        let j = plan.alternatives.iter().position(|x| x == n).ok_or_else(|| {
-            plan.err(format!(
-                "{key}: alternatives: \"{}\" is not in [design].alternatives ({})",
-                crate::error::quote(n),
-                plan.alternatives.join(", ")
-            ))
-        })?;
-        if out.contains(&j) {
-            return Err(plan.err(format!("{key}: alternatives: \"{n}\" is listed twice")));
-        }
-        out.push(j);
-    }
-    if out.is_empty() {
-        return Err(plan.err(format!("{key}: alternatives: the list is empty")));
-    }
-    out.sort_unstable();
-    Ok(out)
-}
-
-/// A list of levels: 2 to `MAX_LEVELS` different finite numbers.
-fn level_list(plan: &Plan, key: &str, v: &toml::Value) -> Result<Vec<f64>> {
-    let toml::Value::Array(items) = v else {
-        return Err(plan.err(format!(
-            "{key}: give a list of numbers, such as [2, 4, 6], or a table of lists by alternative"
-        )));
-    };
-    let mut levels = Vec::with_capacity(items.len());
-    for v in items {
-        let x = number(v)
-            .ok_or_else(|| plan.err(format!("{key}: {v} is not a finite number")))?;
-        if levels.contains(&x) {
-            return Err(plan.err(format!("{key}: {x} is listed twice")));
-        }
-        levels.push(x);
-    }
-    if levels.len() < 2 || levels.len() > MAX_LEVELS {
-        return Err(plan.err(format!(
-            "{key}: an attribute needs 2 to {MAX_LEVELS} different levels to vary, not {}",
-            levels.len()
-        )));
-    }
-    Ok(levels)
 }
 
 fn constants(plan: &mut Plan, raw: &BTreeMap<String, toml::Value>) -> Result<()> {

@@ -8,6 +8,7 @@
 //! answers fitted with a generated spec. Distinct from `design`, the
 //! arrays the likelihood reads.
 
+mod attributes;
 pub mod file;
 pub mod info;
 pub mod outcome;

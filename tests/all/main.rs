@@ -13,6 +13,8 @@ mod demo_garden;
 mod demo_specs;
 mod demo_tastes;
 mod derivatives;
+mod design;
+mod design_cli;
 mod destinations;
 mod destinations_cli;
 mod destinations_mc;

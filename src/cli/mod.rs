@@ -34,7 +34,7 @@ pub struct Cli {
 
 #[derive(Subcommand, Debug)]
 pub enum Command {
-    /// Load and validate a spec and its data, and summarise them.
+    /// Load and validate a spec and its data, and summarise them (or check a design file).
     Check { spec: PathBuf },
     /// Fit the model and print the report (or the JSON results document).
     Fit(fitcmd::FitArgs),
@@ -91,6 +91,12 @@ pub fn with_line<T>(work: impl FnOnce(&Line) -> T) -> T {
 
 pub fn run(cli: Cli) -> Result<ExitCode> {
     match cli.command {
+        Command::Check { spec } if crate::experiment::is_design_file(&spec) => {
+            let plan = crate::experiment::read(&spec)?;
+            crate::out!("{}", crate::report::experiment::plan_summary(&plan));
+            crate::outln!("\nthe design file is valid");
+            Ok(ExitCode::SUCCESS)
+        }
         Command::Check { spec } => {
             let (spec, ds) = open(&spec, &Extra::default())?;
             crate::out!("{}", crate::report::check::summary(&spec, &ds.obs));

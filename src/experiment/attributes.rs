@@ -5,12 +5,18 @@
 use super::file::{name_ok, Attribute, Plan, Prior, RawAttribute, MAX_LEVELS};
 use crate::error::Result;
 
+/// The largest magnitude accepted for a level or a prior: far beyond any
+/// real attribute, small enough that utilities stay finite.
+pub const MAX_MAGNITUDE: f64 = 1e9;
+
+/// A number within ±`MAX_MAGNITUDE`.
 fn number(v: &toml::Value) -> Option<f64> {
-    match v {
-        toml::Value::Integer(i) => Some(*i as f64),
-        toml::Value::Float(f) if f.is_finite() => Some(*f),
-        _ => None,
-    }
+    let x = match v {
+        toml::Value::Integer(i) => *i as f64,
+        toml::Value::Float(f) => *f,
+        _ => return None,
+    };
+    (x.abs() <= MAX_MAGNITUDE).then_some(x)
 }
 
 /// A prior: a number (fixed) or `{ mean = .., sd = .. }` (normal).
@@ -23,7 +29,7 @@ pub(super) fn prior(plan: &Plan, key: &str, v: Option<&toml::Value>) -> Result<P
     }
     let wrong = || {
         plan.err(format!(
-            "{key}: give a number (a fixed prior) or {{ mean = -0.3, sd = 0.1 }} (a normal prior)"
+            "{key}: give a number (a fixed prior) or {{ mean = -0.3, sd = 0.1 }} (a normal prior), each within ±1e9"
         ))
     };
     let toml::Value::Table(t) = v else {
@@ -144,7 +150,8 @@ fn level_list(plan: &Plan, key: &str, v: &toml::Value) -> Result<Vec<f64>> {
     };
     let mut levels = Vec::with_capacity(items.len());
     for v in items {
-        let x = number(v).ok_or_else(|| plan.err(format!("{key}: {v} is not a finite number")))?;
+        let x =
+            number(v).ok_or_else(|| plan.err(format!("{key}: {v} is not a number within ±1e9")))?;
         if levels.contains(&x) {
             return Err(plan.err(format!("{key}: {x} is listed twice")));
         }

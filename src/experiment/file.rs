@@ -115,7 +115,7 @@ pub struct Plan {
 }
 
 /// The most tasks, levels of one attribute, alternatives and starts accepted.
-pub const MAX_TASKS: usize = 10_000;
+pub const MAX_TASKS: usize = 2_000;
 pub const MAX_LEVELS: usize = 64;
 pub const MAX_ALTERNATIVES: usize = 20;
 pub const MAX_STARTS: usize = 1_000;
@@ -124,7 +124,8 @@ pub const DEFAULT_DRAWS: usize = 1_000;
 pub const DEFAULT_STARTS: usize = 8;
 pub const DEFAULT_SEED: u64 = 1;
 /// The most memory the search's per-task information may take.
-const MAX_INFO_BYTES: usize = 2 << 30;
+/// (Two starts run at once, each with its own copy.)
+const MAX_INFO_BYTES: usize = 512 << 20;
 
 impl Plan {
     /// The parameters: one per attribute, then `asc_<alternative>` per constant.

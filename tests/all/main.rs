@@ -15,6 +15,7 @@ mod demo_tastes;
 mod derivatives;
 mod design;
 mod design_cli;
+mod design_limits;
 mod destinations;
 mod destinations_cli;
 mod destinations_mc;

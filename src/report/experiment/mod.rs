@@ -72,6 +72,39 @@ pub fn people(x: Option<f64>) -> String {
     }
 }
 
+/// What a design file asks for, before any search (`sharecast check DESIGN.toml`).
+pub fn plan_summary(plan: &crate::experiment::Plan) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "design file {}", plan.path.display());
+    let _ = writeln!(s, "  alternatives   {}", plan.alternatives.join(", "));
+    let _ = writeln!(
+        s,
+        "  tasks          {} in {} block(s) of {}",
+        plan.tasks,
+        plan.blocks,
+        plan.per_block()
+    );
+    let _ = writeln!(s, "  parameters     {}", plan.parameters().join(", "));
+    let columns: Vec<&str> = plan.columns.iter().map(|c| c.name.as_str()).collect();
+    let _ = writeln!(s, "  columns        task, block, {}", columns.join(", "));
+    let criterion = if plan.bayesian() {
+        format!("Bayesian D-error over {} prior draws", plan.draws)
+    } else {
+        "D-error at the fixed priors".into()
+    };
+    let _ = writeln!(
+        s,
+        "  criterion      {criterion}; {} random starts from seed {}",
+        plan.starts, plan.seed
+    );
+    let _ = writeln!(
+        s,
+        "  rules          {} [[forbid]] rule(s)",
+        plan.forbids.len()
+    );
+    s
+}
+
 /// The terminal report of a design.
 pub fn text(o: &Outcome) -> String {
     let mut s = String::new();

@@ -132,6 +132,8 @@ pub struct Scratch {
     mean: Vec<f64>,
     dev: Vec<f64>,
     chol: Vec<f64>,
+    /// The reciprocals of the Cholesky factor's diagonal.
+    inverse: Vec<f64>,
 }
 
 impl Scratch {
@@ -142,6 +144,7 @@ impl Scratch {
             mean: vec![0.0; k],
             dev: vec![0.0; k],
             chol: vec![0.0; k * k],
+            inverse: vec![0.0; k],
         }
     }
 }
@@ -170,27 +173,30 @@ pub fn add_task(x: &[f64], j: usize, k: usize, beta: &[f64], s: &mut Scratch, ou
         let mut at = 0;
         for a in 0..k {
             let wa = w * s.dev[a];
-            for b in a..k {
-                out[at] += wa * s.dev[b];
-                at += 1;
+            let span = &mut out[at..at + k - a];
+            for (o, d) in span.iter_mut().zip(&s.dev[a..]) {
+                *o += wa * d;
             }
+            at += k - a;
         }
     }
 }
 
 /// ln det of a packed symmetric matrix by Cholesky; `None` when it is not
-/// positive definite (the parameters are not all identified).
+/// positive definite (the parameters are not all identified). The pivots are
+/// multiplied together and only their product's logarithm taken (rescaled
+/// before it could overflow).
 pub fn log_det(m: &[f64], k: usize, s: &mut Scratch) -> Option<f64> {
+    let floor = 1e-12 * (1.0 + m_diag_max(m, k));
     let l = &mut s.chol;
     let mut at = 0;
     for a in 0..k {
         for b in a..k {
-            l[a * k + b] = m[at];
             l[b * k + a] = m[at];
             at += 1;
         }
     }
-    let mut sum = 0.0;
+    let (mut product, mut logs) = (1.0f64, 0.0f64);
     for i in 0..k {
         for jj in 0..=i {
             let mut v = l[i * k + jj];
@@ -198,17 +204,23 @@ pub fn log_det(m: &[f64], k: usize, s: &mut Scratch) -> Option<f64> {
                 v -= l[i * k + p] * l[jj * k + p];
             }
             if i == jj {
-                if v <= 1e-12 * (1.0 + m_diag_max(m, k)) {
+                if v <= floor {
                     return None;
                 }
-                l[i * k + i] = v.sqrt();
-                sum += v.ln();
+                let root = v.sqrt();
+                l[i * k + i] = root;
+                s.inverse[i] = 1.0 / root;
+                product *= v;
+                if !(1e-150..1e150).contains(&product) {
+                    logs += product.ln();
+                    product = 1.0;
+                }
             } else {
-                l[i * k + jj] = v / l[jj * k + jj];
+                l[i * k + jj] = v * s.inverse[jj];
             }
         }
     }
-    Some(sum)
+    Some(logs + product.ln())
 }
 
 fn m_diag_max(m: &[f64], k: usize) -> f64 {

@@ -379,10 +379,20 @@ impl BandRun<'_> {
         // A family that simulates may use fewer draws per parameter draw.
         let family = fit.family.for_bands().unwrap_or_else(|| fit.family.clone());
         let phase = Phase::start(sink, "forecast bands", all.len());
-        for b in all {
-            let b: Vec<f64> = b.iter().zip(&shift).map(|(x, s)| x + s).collect();
-            let (base, scen, segs) =
-                simulate::shares_only(&*family, &fit.design, &b, self.prep, self.seg);
+        // The draws run over the cores, each taking the next: a pass over a
+        // small sample is one piece (one core) by itself. Each draw's shares
+        // are computed as alone, and kept in draw order.
+        let each = crate::design::on_ranges((0..all.len()).map(|i| i..i + 1).collect(), |r| {
+            let b: Vec<f64> = all[r.start]
+                .iter()
+                .zip(&shift)
+                .map(|(x, s)| x + s)
+                .collect();
+            let out = simulate::shares_only(&*family, &fit.design, &b, self.prep, self.seg);
+            phase.step();
+            out
+        });
+        for (base, scen, segs) in each {
             for a in 0..m {
                 out.scen[a].push(scen[a]);
                 out.change[a].push(scen[a] - base[a]);

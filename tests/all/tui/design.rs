@@ -378,3 +378,59 @@ fn a_stale_rehearsal_is_dropped_and_the_newest_kept() {
     has(&screen(&desk, 100, 30), &["400 simulated respondents"]);
     let _ = std::fs::remove_dir_all(Path::new(&r.spec).parent().unwrap());
 }
+
+/// Three alternatives and four attributes: twelve design columns, more than
+/// an 80-column screen holds.
+const WIDE: &str = r#"[design]
+alternatives = ["bus", "tram", "rail"]
+tasks = 12
+seed = 3
+[[attribute]]
+name = "fare"
+levels = [1, 2, 3]
+prior = -0.5
+[[attribute]]
+name = "minutes"
+levels = [10, 20, 30]
+prior = -0.04
+[[attribute]]
+name = "transfers"
+levels = [0, 1, 2]
+prior = -0.3
+[[attribute]]
+name = "crowding"
+levels = [0, 1, 2]
+prior = -0.2
+"#;
+
+#[test]
+fn the_tasks_view_moves_over_columns_that_do_not_fit() {
+    let mut desk = desk_with(WIDE, "wide");
+    keys_in(&mut desk, "2");
+    let o = outcome(&desk).clone();
+    assert_eq!(o.columns.len(), 12);
+    for first in [0, 2] {
+        let s = screen(&desk, 80, 24);
+        let head = row_of(&s, "task");
+        let shown = &head[2..];
+        assert!(!shown.is_empty() && shown.len() < 12, "{s}");
+        assert_eq!(shown, &o.columns[first..first + shown.len()], "{s}");
+        has(
+            &s,
+            &[&format!(
+                "←→ columns {}–{} of 12",
+                first + 1,
+                first + shown.len()
+            )],
+        );
+        let levels: Vec<String> = o.tasks[0].levels[first..first + shown.len()]
+            .iter()
+            .map(|v| level(*v))
+            .collect();
+        assert_eq!(row_of(&s, "1")[2..], levels, "{s}");
+        keys_in(&mut desk, "ll");
+    }
+    // ← goes back; it stops at the first column.
+    keys_in(&mut desk, "hhhhhh");
+    assert_eq!(row_of(&screen(&desk, 80, 24), "task")[2], o.columns[0]);
+}

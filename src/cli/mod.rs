@@ -66,7 +66,8 @@ pub enum Command {
 
 #[derive(clap::Args, Debug)]
 pub struct ExploreArgs {
-    /// One or more specs; with several, the compare view sets them side by side.
+    /// One or more specs (with several, the compare view sets them side by
+    /// side), or one design file.
     #[arg(required = true, num_args = 1..)]
     pub specs: Vec<PathBuf>,
     /// Reuse a fit saved with `fit --save` when spec and data are unchanged.

@@ -11,6 +11,7 @@ use ratatui::crossterm::event::KeyEvent;
 use super::keys::{self, Action, Context};
 use super::part::{Answer, Ctx, Reply, View};
 pub use super::part::{Prompt, Status, Tone};
+use super::shell::{Left, Shell};
 use super::theme::Theme;
 use super::worker::Job;
 pub use super::worker::{Model, Pending};
@@ -101,6 +102,13 @@ pub enum Msg {
     Analysed {
         index: usize,
         result: Result<(Box<Analysis>, Box<Walk>), String>,
+    },
+    /// A view's job reports its progress.
+    Report {
+        view: &'static str,
+        index: usize,
+        generation: u64,
+        report: super::worker::Report,
     },
     /// A view's job finished.
     Done {
@@ -270,6 +278,17 @@ pub fn update(app: &mut App, msg: Msg) -> Vec<Job> {
             }
             Vec::new()
         }
+        Msg::Report {
+            view,
+            index,
+            generation,
+            report,
+        } => {
+            if let Some(v) = app.views.iter_mut().find(|v| v.title() == view) {
+                v.reported(index, generation, report);
+            }
+            Vec::new()
+        }
         Msg::Done {
             view,
             index,
@@ -306,52 +325,24 @@ fn opened(app: &mut App, index: usize, model: Model) -> Vec<Job> {
 }
 
 fn act(app: &mut App, a: Action) -> Vec<Job> {
-    match a {
-        Action::Quit => {
-            app.quit = true;
-            return Vec::new();
+    let mut shell = Shell {
+        quit: &mut app.quit,
+        help: &mut app.help,
+        help_scroll: &mut app.help_scroll,
+        prompt: &mut app.prompt,
+        status: &mut app.status,
+        view: &mut app.view,
+        views: app.views.len(),
+    };
+    match shell.on(a) {
+        Left::Nothing => Vec::new(),
+        Left::Prompt => on_prompt(app, a),
+        Left::View if a == Action::NextModel => {
+            next_model(app);
+            Vec::new()
         }
-        Action::ToggleHelp => {
-            app.help = !app.help;
-            app.help_scroll = 0;
-            return Vec::new();
-        }
-        // Esc closes a prompt or the help; with neither open, the view has it
-        // (a filter clears).
-        Action::Close if matches!(app.prompt, Some(Prompt::Line { .. })) || app.help => {
-            if app.prompt.take().is_some() {
-                app.say(Tone::Info, "cancelled");
-            }
-            app.help = false;
-            return Vec::new();
-        }
-        _ => {}
+        Left::View => on_view(app, a),
     }
-    if app.prompt.is_some() {
-        return on_prompt(app, a);
-    }
-    if app.help {
-        match a {
-            Action::Up => app.help_scroll = app.help_scroll.saturating_sub(1),
-            Action::Down => app.help_scroll = (app.help_scroll + 1).min(40),
-            _ => {}
-        }
-        return Vec::new();
-    }
-    let n = app.views.len();
-    let before = app.view;
-    match a {
-        Action::NextView => app.view = (app.view + 1) % n,
-        Action::PrevView => app.view = (app.view + n - 1) % n,
-        Action::GoTo(v) if v < n => app.view = v,
-        Action::NextModel => next_model(app),
-        _ => return on_view(app, a),
-    }
-    // A message belongs to the view it was said on: it goes when the view changes.
-    if app.view != before {
-        app.status = None;
-    }
-    Vec::new()
 }
 
 fn next_model(app: &mut App) {

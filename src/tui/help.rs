@@ -7,8 +7,7 @@ use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Clear, Paragraph, Widget};
 
-use super::app::App;
-use super::keys::{help, HelpSection};
+use super::keys::HelpSection;
 use super::theme::Theme;
 use super::widgets::{left, panel};
 
@@ -44,8 +43,8 @@ fn halfway(sections: &[HelpSection]) -> usize {
         .unwrap_or(sections.len())
 }
 
-pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
-    let t = &app.theme;
+/// Draws the help of `sections` over `area`, scrolled down `scroll` lines.
+pub fn render(sections: &[HelpSection], scroll: u16, t: &Theme, area: Rect, buf: &mut Buffer) {
     let w = area.width.min(100);
     let h = area.height.min(40);
     let popup = Rect {
@@ -59,12 +58,11 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
     let inner = block.inner(popup);
     block.render(popup, buf);
     let kw = 14;
-    let sections = help(&app.views);
-    let scroll = (app.help_scroll, 0);
+    let scroll = (scroll, 0);
     if inner.width >= 70 {
         let [a, b] = Layout::horizontal([Constraint::Percentage(50), Constraint::Percentage(50)])
             .areas(inner);
-        let split = halfway(&sections);
+        let split = halfway(sections);
         Paragraph::new(section_lines(&sections[..split], kw, t))
             .scroll(scroll)
             .render(a, buf);
@@ -72,7 +70,7 @@ pub fn render(app: &App, area: Rect, buf: &mut Buffer) {
             .scroll(scroll)
             .render(b, buf);
     } else {
-        Paragraph::new(section_lines(&sections, kw, t))
+        Paragraph::new(section_lines(sections, kw, t))
             .scroll(scroll)
             .render(inner, buf);
     }

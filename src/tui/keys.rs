@@ -154,10 +154,34 @@ fn on_view(key: KeyEvent, keys: &[Key], views: usize) -> Option<Action> {
 /// One section of the help: its name and (keys, what they do) lines.
 pub type HelpSection = (String, Vec<(String, String)>);
 
-/// Every key, by context: the shared keys, each view's own (from its
-/// `View::keys`, in the order of the views), and the prompts. The help
-/// overlay and docs/workbench.md are written from this.
+/// A view as the help lists it: its title, its line in the list of views
+/// and its own keys.
+#[derive(Clone, Copy, Debug)]
+pub struct Listing {
+    pub title: &'static str,
+    pub about: &'static str,
+    pub keys: &'static [Key],
+}
+
+/// Every key of the model workbench, by context: the shared keys, each
+/// view's own (from its `View::keys`, in the order of the views), and the
+/// prompts. The help overlay and docs/workbench.md are written from this.
 pub fn help(views: &[Box<dyn View>]) -> Vec<HelpSection> {
+    let listed: Vec<Listing> = views
+        .iter()
+        .map(|v| Listing {
+            title: v.title(),
+            about: v.about(),
+            keys: v.keys(),
+        })
+        .collect();
+    sections(&listed, "views", true)
+}
+
+/// The help of a list of views: the shared keys (with `specs`, the model
+/// workbench's: the next model, the filter and replacing a file), the list
+/// under the heading `listed_as`, each view's own keys, and the prompts.
+pub fn sections(views: &[Listing], listed_as: &str, specs: bool) -> Vec<HelpSection> {
     let own = |lines: &[(&str, &str)]| {
         lines
             .iter()
@@ -165,43 +189,43 @@ pub fn help(views: &[Box<dyn View>]) -> Vec<HelpSection> {
             .collect::<Vec<_>>()
     };
     let go_to = format!("1 … {}", views.len());
-    let mut out = vec![(
-        "everywhere".to_string(),
-        own(&[
-            ("Tab  ⇧Tab", "next / previous view"),
-            (&go_to, "go to a view"),
-            ("m", "next model (specs)"),
-            ("?", "help; ? or Esc closes"),
-            ("Esc", "close help or prompt"),
-            ("q  Ctrl-C", "quit"),
-            ("↑↓  j k", "move or scroll"),
-            ("g G", "first / last (Home End)"),
-            ("PgUp PgDn", "a page up / down"),
-            ("/  Esc", "filter by name · clear"),
-        ]),
-    )];
+    let mut shared = own(&[
+        ("Tab  ⇧Tab", "next / previous view"),
+        (&go_to, "go to a view"),
+    ]);
+    if specs {
+        shared.extend(own(&[("m", "next model (specs)")]));
+    }
+    shared.extend(own(&[
+        ("?", "help; ? or Esc closes"),
+        ("Esc", "close help or prompt"),
+        ("q  Ctrl-C", "quit"),
+        ("↑↓  j k", "move or scroll"),
+        ("g G", "first / last (Home End)"),
+        ("PgUp PgDn", "a page up / down"),
+    ]));
+    if specs {
+        shared.extend(own(&[("/  Esc", "filter by name · clear")]));
+    }
+    let mut out = vec![("everywhere".to_string(), shared)];
     out.push((
-        "views".to_string(),
+        listed_as.to_string(),
         views
             .iter()
             .enumerate()
-            .map(|(i, v)| (format!("{} {}", i + 1, v.title()), v.about().to_string()))
+            .map(|(i, v)| (format!("{} {}", i + 1, v.title), v.about.to_string()))
             .collect(),
     ));
     for v in views {
-        let keys = v.keys();
-        if !keys.is_empty() {
-            let lines = keys.iter().map(|k| (k.label, k.help)).collect::<Vec<_>>();
-            out.push((v.title().to_string(), own(&lines)));
+        if !v.keys.is_empty() {
+            let lines = v.keys.iter().map(|k| (k.label, k.help)).collect::<Vec<_>>();
+            out.push((v.title.to_string(), own(&lines)));
         }
     }
-    out.push((
-        "prompts".to_string(),
-        own(&[
-            ("Enter", "accept"),
-            ("Esc", "cancel"),
-            ("y", "replace existing file"),
-        ]),
-    ));
+    let mut prompts = own(&[("Enter", "accept"), ("Esc", "cancel")]);
+    if specs {
+        prompts.extend(own(&[("y", "replace existing file")]));
+    }
+    out.push(("prompts".to_string(), prompts));
     out
 }

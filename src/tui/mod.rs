@@ -2,16 +2,19 @@
 //! the run loop and the terminal: raw mode and the alternate screen on entry,
 //! restored on every way out (return, error, panic); `app` holds the shared
 //! state and `update`, `part` what a view is, `views` the list of views (each
-//! owning its state and drawing), `worker` the background jobs.
+//! owning its state and drawing), `worker` the background jobs; `design` the
+//! workbench on a survey design file, with its own state and views.
 
 pub mod app;
 mod cutaxis;
+pub mod design;
 pub mod filter;
 pub mod grid;
 pub mod help;
 pub mod keys;
 pub mod part;
 pub mod screen;
+pub mod shell;
 pub mod theme;
 pub mod views;
 pub mod widgets;
@@ -21,7 +24,7 @@ pub use views::whatif::levers;
 pub use views::{compare, curve, diversion, elasticities, estimates, overview, whatif};
 
 use std::io::{IsTerminal, Stdout};
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 use std::sync::atomic::{AtomicBool, AtomicI32, Ordering};
 use std::sync::{mpsc, OnceLock};
@@ -153,28 +156,119 @@ impl Drop for Session {
     }
 }
 
-/// Runs the workbench until the user quits.
-/// Runs the workbench on `specs`, restoring the fit saved at `load` where it matches.
+/// What the run loop drives: the model workbench (`App`) or the design
+/// workbench (`design::Desk`). Both take the same messages and send the same
+/// worker their jobs.
+pub trait Bench {
+    /// Applies one message; returns the jobs for the worker.
+    fn update(&mut self, msg: Msg) -> Vec<worker::Job>;
+    fn quitting(&self) -> bool;
+    /// Puts a message on the message line.
+    fn say(&mut self, tone: Tone, text: String);
+    /// Draws the whole screen.
+    fn draw(&self, area: Rect, buf: &mut Buffer);
+    /// Why it could not open, once it failed (the run ends in that error).
+    fn failure(&self) -> Option<String>;
+}
+
+impl Bench for App {
+    fn update(&mut self, msg: Msg) -> Vec<worker::Job> {
+        update(self, msg)
+    }
+
+    fn quitting(&self) -> bool {
+        self.quit
+    }
+
+    fn say(&mut self, tone: Tone, text: String) {
+        App::say(self, tone, text);
+    }
+
+    fn draw(&self, area: Rect, buf: &mut Buffer) {
+        self.render(area, buf);
+    }
+
+    fn failure(&self) -> Option<String> {
+        match &self.stage {
+            Stage::Failed(message) => Some(message.clone()),
+            _ => None,
+        }
+    }
+}
+
+/// What `explore` was given: the design file when the paths are one design
+/// file, None when they are all specs; an error naming the file when design
+/// files and specs are mixed, when several design files are given, or when
+/// `--load` comes with a design file.
+pub fn design_given(paths: &[PathBuf], load: Option<&Path>) -> Result<Option<PathBuf>> {
+    let designs: Vec<&PathBuf> = paths
+        .iter()
+        .filter(|p| crate::experiment::is_design_file(p))
+        .collect();
+    let Some(first) = designs.first() else {
+        return Ok(None);
+    };
+    if paths.len() > 1 {
+        let other = paths.iter().find(|p| p != first).unwrap_or(first);
+        let what = if designs.len() > 1 {
+            "another design file"
+        } else {
+            "a spec"
+        };
+        return Err(Error::Usage(format!(
+            "{} is a design file and {} is {what}: explore opens one or more specs, or one design file alone",
+            first.display(),
+            other.display()
+        )));
+    }
+    if load.is_some() {
+        return Err(Error::Usage(format!(
+            "--load restores a fitted spec, and {} is a design file: open it without --load",
+            first.display()
+        )));
+    }
+    Ok(Some(first.to_path_buf()))
+}
+
+/// Runs the workbench on `specs` (restoring the fit saved at `load` where it
+/// matches), or on one design file, until the user quits.
 pub fn run(specs: Vec<PathBuf>, load: Option<PathBuf>) -> Result<ExitCode> {
+    let design = design_given(&specs, load.as_deref())?;
+    // A design file is read before the screen changes: its mistakes print as
+    // plain errors naming the file and the key.
+    let plan = design.as_deref().map(crate::experiment::read).transpose()?;
     if !std::io::stdout().is_terminal() || !std::io::stdin().is_terminal() {
         return Err(Error::Usage(
-            "explore is interactive and needs a terminal; `fit`, `simulate` and `sweep` print reports instead".into(),
+            "explore is interactive and needs a terminal; `fit`, `simulate` and `sweep` print reports instead (`design` for a design file)".into(),
         ));
     }
-    let (mut app, jobs) = App::new(specs, load, theme::Theme::detect());
+    match plan {
+        Some(plan) => {
+            let (mut desk, jobs) = design::Desk::new(plan, theme::Theme::detect());
+            on_terminal(&mut desk, jobs)
+        }
+        None => {
+            let (mut app, jobs) = App::new(specs, load, theme::Theme::detect());
+            on_terminal(&mut app, jobs)
+        }
+    }
+}
+
+/// Runs a workbench on the terminal until it quits.
+fn on_terminal(bench: &mut impl Bench, jobs: Vec<worker::Job>) -> Result<ExitCode> {
     let mut session = Session::start().map_err(|e| Error::io("the terminal", e))?;
-    let outcome = event_loop(&mut session.terminal, &mut app, jobs);
+    let outcome = event_loop(&mut session.terminal, bench, jobs);
     drop(session);
     outcome.map_err(|e| Error::io("the terminal", e))?;
-    match app.stage {
-        Stage::Failed(message) => Err(Error::Usage(message)),
-        _ => Ok(ExitCode::SUCCESS),
+    match bench.failure() {
+        Some(message) => Err(Error::Usage(message)),
+        None => Ok(ExitCode::SUCCESS),
     }
 }
 
 fn event_loop(
     terminal: &mut Terminal<CrosstermBackend<Stdout>>,
-    app: &mut App,
+    app: &mut impl Bench,
     jobs: Vec<worker::Job>,
 ) -> std::io::Result<()> {
     let (tx, rx) = mpsc::channel::<Msg>();
@@ -187,20 +281,20 @@ fn event_loop(
     send(jobs);
     let mut dirty = true;
     let mut worker_gone = false;
-    while !app.quit {
+    while !app.quitting() {
         if dirty {
-            terminal.draw(|f| f.render_widget(&*app, f.area()))?;
+            terminal.draw(|f| app.draw(f.area(), f.buffer_mut()))?;
             dirty = false;
         }
         if event::poll(Duration::from_millis(25))? {
             match event::read()? {
                 Event::Key(k) => {
-                    send(update(app, Msg::Key(k)));
+                    send(app.update(Msg::Key(k)));
                     dirty = true;
                 }
                 Event::Resize(..) => {
                     terminal.autoresize()?;
-                    send(update(app, Msg::Resize));
+                    send(app.update(Msg::Resize));
                     dirty = true;
                 }
                 _ => {}
@@ -209,7 +303,7 @@ fn event_loop(
         loop {
             match rx.try_recv() {
                 Ok(m) => {
-                    send(update(app, m));
+                    send(app.update(m));
                     dirty = true;
                 }
                 Err(mpsc::TryRecvError::Empty) => break,
@@ -218,7 +312,7 @@ fn event_loop(
                         worker_gone = true;
                         app.say(
                             Tone::Bad,
-                            "the background worker stopped: restart the workbench",
+                            "the background worker stopped: restart the workbench".into(),
                         );
                         dirty = true;
                     }
@@ -231,10 +325,10 @@ fn event_loop(
 }
 
 /// The screen as text at a given size: for tests and documentation.
-pub fn render_text(app: &App, width: u16, height: u16) -> String {
+pub fn render_text(bench: &impl Bench, width: u16, height: u16) -> String {
     let area = Rect::new(0, 0, width, height);
     let mut buf = Buffer::empty(area);
-    app.render(area, &mut buf);
+    bench.draw(area, &mut buf);
     let mut out = String::new();
     for y in 0..height {
         let line: String = (0..width)

@@ -188,6 +188,9 @@ pub trait View: Any {
     ) {
     }
 
+    /// Progress of one of this view's jobs for a model.
+    fn reported(&mut self, _index: usize, _generation: u64, _report: super::worker::Report) {}
+
     /// The text typed in answer to this view's prompt `ask`.
     fn answered(&mut self, _ctx: &Ctx, _ask: u8, _text: &str, _reply: &mut Reply) -> Answer {
         Answer::Done

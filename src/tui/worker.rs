@@ -1,6 +1,7 @@
 //! The background worker: fits and the views' own jobs (parameter draws,
-//! demand curves) run here, one job at a time, and report back as messages
-//! over a channel; each analysis runs on a thread of its own, so that a long
+//! demand curves, a design's search and rehearsal) run here, one job at a
+//! time, and report back as messages over a channel (a view's job may report
+//! its progress first, `Msg::Report`); each analysis runs on a thread of its own, so that a long
 //! one (many alternatives) holds up no view. A queued view job that a newer
 //! one of the same view and model replaces is skipped; a panic inside a job
 //! becomes an error message, not a crash.
@@ -16,6 +17,7 @@ use super::app::Msg;
 use crate::data::{Dataset, Extra};
 use crate::error::Result;
 use crate::estimate::{Fit, Progress, Step};
+use crate::progress::Tick;
 use crate::report::walk::Walk;
 use crate::spec::Spec;
 
@@ -57,8 +59,20 @@ pub const DRAWS: usize = 500;
 /// Seed of those draws (the `simulate` command's default).
 pub const SEED: u64 = 7;
 
-/// A view's work for the worker: its result goes back to the view that asked.
-pub type Work = Box<dyn FnOnce() -> Result<Box<dyn Any + Send>> + Send>;
+/// Progress of a view's job as the library reports it: a phase's ticks
+/// (a design's search) or a fit's steps (a rehearsal's fit).
+#[derive(Clone, Copy, Debug)]
+pub enum Report {
+    Tick(Tick),
+    Step(Step),
+}
+
+/// Where a view's job sends its progress (`Msg::Report`, tagged like its result).
+pub type Reporter<'a> = &'a (dyn Fn(Report) + Sync);
+
+/// A view's work for the worker: its progress and its result go back to the
+/// view that asked.
+pub type Work = Box<dyn FnOnce(Reporter) -> Result<Box<dyn Any + Send>> + Send>;
 
 pub enum Job {
     /// Load and fit each spec in turn (restoring from `load` when its fingerprint matches).
@@ -186,7 +200,15 @@ pub fn execute(job: Job, send: &(dyn Fn(Msg) + Sync)) {
             generation,
             work,
         } => {
-            let result = guarded(work);
+            let report = |report: Report| {
+                send(Msg::Report {
+                    view,
+                    index,
+                    generation,
+                    report,
+                })
+            };
+            let result = guarded(|| work(&report));
             send(Msg::Done {
                 view,
                 index,

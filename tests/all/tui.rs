@@ -18,11 +18,13 @@ use sharecast::tui::curve::{Curve, CurveView};
 use sharecast::tui::theme::{Theme, ELASTICITY_CUTS};
 use sharecast::tui::whatif::{WhatIf, WhatIfView};
 use sharecast::tui::worker::{self, Job};
-use sharecast::tui::{estimates, keys, levers};
+use sharecast::tui::{estimates, keys, levers, Bench};
 
 use crate::common::*;
 
 mod classes;
+mod design;
+mod design_run;
 mod many;
 mod tastes;
 
@@ -46,15 +48,16 @@ fn model(rel: &str) -> Model {
     m
 }
 
-/// Runs jobs as the worker would, feeding every message back through `update`.
-fn drain(app: &mut App, jobs: Vec<Job>) {
+/// Runs jobs as the worker would, feeding every message back through the
+/// workbench's `update` (the model workbench's or a design's).
+fn drain(bench: &mut impl Bench, jobs: Vec<Job>) {
     let mut queue = jobs;
     while !queue.is_empty() {
         let job = queue.remove(0);
         let out = Mutex::new(Vec::new());
         worker::execute(job, &|m| out.lock().unwrap().push(m));
         for m in out.into_inner().unwrap() {
-            queue.extend(update(app, m));
+            queue.extend(bench.update(m));
         }
     }
 }
@@ -701,6 +704,37 @@ impl Tmux {
     }
 }
 
+impl Tmux {
+    /// Runs `shell` in a 120 × 40 window named `w`.
+    fn start(&self, shell: &str) {
+        self.cmd(&[
+            "new-session",
+            "-d",
+            "-s",
+            "w",
+            "-x",
+            "120",
+            "-y",
+            "40",
+            shell,
+        ]);
+    }
+
+    /// Sends `q` and waits for the shell to write the exit status to `status`: it must be 0.
+    fn quit(&self, status: &Path) {
+        self.cmd(&["send-keys", "-t", "w", "q"]);
+        let start = Instant::now();
+        while !std::fs::read_to_string(status).is_ok_and(|s| s.contains("EXIT=")) {
+            assert!(
+                start.elapsed() < Duration::from_secs(10),
+                "the workbench did not quit"
+            );
+            std::thread::sleep(Duration::from_millis(100));
+        }
+        assert_eq!(std::fs::read_to_string(status).unwrap().trim(), "EXIT=0");
+    }
+}
+
 impl Drop for Tmux {
     fn drop(&mut self) {
         let _ = Command::new("tmux")
@@ -724,17 +758,7 @@ fn the_real_binary_runs_in_tmux() {
         env!("CARGO_BIN_EXE_sharecast"),
         status.display()
     );
-    t.cmd(&[
-        "new-session",
-        "-d",
-        "-s",
-        "w",
-        "-x",
-        "120",
-        "-y",
-        "40",
-        &shell,
-    ]);
+    t.start(&shell);
     t.wait("converged", 60);
     // Every registered view, by its number key: the status line names it.
     for (i, v) in sharecast::tui::views::all().iter().enumerate() {
@@ -749,16 +773,7 @@ fn the_real_binary_runs_in_tmux() {
     t.cmd(&["send-keys", "-t", "w", "j", "j", "j", "j", "j", "j", "L"]);
     t.wait("0.2329 → 0.2202", 10);
     t.wait("band: 95% of 500", 30);
-    t.cmd(&["send-keys", "-t", "w", "q"]);
-    let start = Instant::now();
-    while !std::fs::read_to_string(&status).is_ok_and(|s| s.contains("EXIT=")) {
-        assert!(
-            start.elapsed() < Duration::from_secs(10),
-            "the workbench did not quit"
-        );
-        std::thread::sleep(Duration::from_millis(100));
-    }
-    assert_eq!(std::fs::read_to_string(&status).unwrap().trim(), "EXIT=0");
+    t.quit(&status);
 }
 
 #[test]

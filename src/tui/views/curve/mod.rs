@@ -99,7 +99,7 @@ impl Curve {
             view: TITLE,
             index,
             generation,
-            work: Box::new(move || {
+            work: Box::new(move |_| {
                 crate::scenario::sweep::sweep(&model.spec, &model.fit, &model.ds, &request)
                     .map(|s| Box::new(s) as Box<dyn Any + Send>)
             }),

@@ -313,7 +313,7 @@ fn band_job(index: usize, generation: u64, model: Model, sc: Scenario) -> Job {
         view: super::TITLE,
         index,
         generation,
-        work: Box::new(move || {
+        work: Box::new(move |_| {
             let classes = if crate::report::walk::class_count(&model.spec) > 1 {
                 let prep =
                     scenario::prepare::prepare(&model.spec, &model.fit, &model.ds.table, &sc)?;

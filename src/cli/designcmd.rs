@@ -9,7 +9,8 @@ use clap::Args;
 
 use crate::data::write;
 use crate::error::{Error, Result};
-use crate::experiment::{self, rehearse};
+use crate::experiment;
+use crate::experiment::rehearse::{self, MAX_RESPONDENTS};
 
 #[derive(Args, Debug)]
 pub struct DesignArgs {
@@ -30,9 +31,6 @@ pub struct DesignArgs {
     #[arg(long, value_name = "N")]
     pub simulate: Option<usize>,
 }
-
-/// The most respondents a rehearsal simulates.
-const MAX_RESPONDENTS: usize = 1_000_000;
 
 pub fn run(args: DesignArgs) -> Result<ExitCode> {
     write::check_overwrite(&args.out, args.force)?;

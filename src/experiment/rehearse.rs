@@ -16,6 +16,8 @@ use crate::rng::Rng;
 /// Recovered parameters further than this many standard errors from the
 /// truth are flagged (|z| above 3.5 happens about once in 2,000 by chance).
 pub const WITHIN: f64 = 3.5;
+/// The most respondents a rehearsal simulates.
+pub const MAX_RESPONDENTS: usize = 1_000_000;
 
 /// One parameter: the truth (its prior mean) against the estimate.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]

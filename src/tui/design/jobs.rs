@@ -16,8 +16,7 @@ pub const SEARCH: &str = "design search";
 /// The name the rehearsal's jobs carry.
 pub const REHEARSAL: &str = "design rehearsal";
 
-/// The most respondents a rehearsal simulates (as `design --simulate`).
-pub const MAX_RESPONDENTS: usize = 1_000_000;
+pub use crate::experiment::rehearse::MAX_RESPONDENTS;
 
 /// The file names of a rehearsal inside its folder.
 pub const ANSWERS: &str = "answers.csv";

@@ -65,7 +65,9 @@ fn a_design_that_cannot_be_made_says_why() {
     let (mut desk, jobs) = Desk::new(experiment::read(&file).unwrap(), Theme::plain());
     drain(&mut desk, jobs);
     assert!(desk.failure().is_some());
-    let s = screen(&desk, 100, 30);
+    // Wide enough that the message, led by the file's path (of any length
+    // where the tests run), does not wrap inside the words looked for.
+    let s = screen(&desk, 400, 30);
     has(
         &s,
         &["no design", "matches every task", "Fix the design file"],

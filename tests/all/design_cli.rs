@@ -168,44 +168,32 @@ fn the_rehearsal_recovers_the_priors_and_its_spec_fits() {
     for want in ["cost", "time", "headway", "asc_coach", "asc_rail"] {
         assert!(names.contains(&want), "{names:?}");
     }
-    // A second rehearsal does not replace the answers without --force.
-    let (code, _, stderr) = run(&[
-        "design",
-        file.to_str().unwrap(),
-        "--out",
-        dir.join("other.csv").to_str().unwrap(),
-        "--simulate",
-        "900",
-    ]);
-    assert_eq!(code, 0, "{stderr}");
-    let (code, _, stderr) = run(&[
-        "design",
-        file.to_str().unwrap(),
-        "--out",
-        dir.join("other.csv").to_str().unwrap(),
-        "--simulate",
-        "900",
-        "--force",
-    ]);
-    assert_eq!(code, 0, "{stderr}");
-    let (code, _, stderr) = run(&[
-        "design",
-        file.to_str().unwrap(),
-        "--out",
-        dir.join("third.csv").to_str().unwrap(),
-        "--simulate",
-        "10",
-    ]);
-    assert_eq!(code, 0, "a new name writes new answers: {stderr}");
+    // A rehearsal under a new name writes new files; run again, it replaces
+    // them only with --force.
+    let again = |out: &str, force: bool| {
+        let target = dir.join(out);
+        let mut args = vec![
+            "design",
+            file.to_str().unwrap(),
+            "--out",
+            target.to_str().unwrap(),
+        ];
+        args.extend(["--simulate", "10"]);
+        if force {
+            args.push("--force");
+        }
+        run(&args)
+    };
+    assert_eq!(again("other.csv", false).0, 0);
+    let (code, _, stderr) = again("other.csv", false);
+    assert_eq!(code, 1);
+    assert!(
+        stderr.contains("other.csv") && stderr.contains("--force"),
+        "{stderr}"
+    );
+    assert_eq!(again("other.csv", true).0, 0);
     std::fs::write(dir.join("fourth_answers.csv"), "mine").unwrap();
-    let (code, _, stderr) = run(&[
-        "design",
-        file.to_str().unwrap(),
-        "--out",
-        dir.join("fourth.csv").to_str().unwrap(),
-        "--simulate",
-        "10",
-    ]);
+    let (code, _, stderr) = again("fourth.csv", false);
     assert_eq!(code, 1);
     assert!(stderr.contains("fourth_answers.csv"), "{stderr}");
     assert_eq!(

@@ -370,19 +370,23 @@ pub fn maximise(
             starts: None,
         };
     }
-    // With an analytic Hessian, Newton's method from the start: a logit's
+    // With a cheap analytic Hessian, Newton's method from the start: a logit's
     // log-likelihood is concave and Newton reaches its maximum in a few
     // passes. Should it fail (a Hessian not negative definite on the way,
     // coefficients running off), the quasi-Newton search below starts over.
-    if family.abilities().analytic_hessian {
+    let abilities = family.abilities();
+    // A Hessian that costs many passes is kept for the last steps.
+    let newton_first = abilities.analytic_hessian && !abilities.costly_hessian;
+    if newton_first {
         let first = newton(d, family, beta.clone(), free, progress, &passes, None);
         if first.converged {
             return first;
         }
     }
-    // The starting metric: the analytic Hessian where the family has one; else
-    // the outer product of the scores (one pass instead of two per parameter).
-    let h0 = if family.abilities().analytic_hessian {
+    // The starting metric: the analytic Hessian where the family has a cheap
+    // one; else the outer product of the scores (one pass instead of two per
+    // parameter).
+    let h0 = if newton_first {
         let e0 = family.evaluate(d, &beta, true, true);
         negative_free_hessian(e0.hess.as_deref().unwrap_or(&[]), k, free)
     } else {
@@ -396,7 +400,7 @@ pub fn maximise(
     // Hessian costs two gradient passes per parameter) until a step fails:
     // the quasi-Newton phase's last one, which has learnt the curvature near
     // the optimum, else the one the search started with.
-    let reuse = (!family.abilities().analytic_hessian)
+    let reuse = (!abilities.analytic_hessian)
         .then(|| learnt(inv.as_deref(), objective.scale).unwrap_or(h0));
     let mut out = newton(d, family, beta, free, progress, &passes, reuse);
     out.bfgs_iterations = bfgs_iterations;

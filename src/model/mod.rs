@@ -99,6 +99,10 @@ pub struct Added {
 pub struct Abilities {
     /// `evaluate` returns an analytic Hessian (otherwise it is differenced from the gradient).
     pub analytic_hessian: bool,
+    /// With `analytic_hessian`: the Hessian costs many gradient passes, so
+    /// the search starts quasi-Newton from the scores' outer product and
+    /// evaluates the Hessian only in Newton's last steps near the optimum.
+    pub costly_hessian: bool,
     /// Scenarios may add alternatives.
     pub new_alternatives: bool,
     /// Independence from irrelevant alternatives holds (the Hausman-McFadden test applies).

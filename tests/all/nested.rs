@@ -452,3 +452,39 @@ fn a_scale_near_zero_and_a_nest_rarely_available_are_named() {
         .unwrap();
     assert!(rare.message.contains("1.0%"), "{}", rare.message);
 }
+
+#[test]
+fn the_analytic_hessian_matches_differences_with_unavailable_alternatives() {
+    // The commute demo: cars, bikes and walking unavailable in some trips,
+    // characteristics on four alternatives, two nests and a lone car. Central
+    // differences of the analytic gradient (model::hessian::differenced,
+    // common practice) at a point off the optimum, where the gradient is not
+    // zero, for every pair of parameters, scales included.
+    let (spec, ds) = load("specs/commute_nested.toml");
+    let family = sharecast::model::for_spec(&spec).unwrap();
+    assert!(family.abilities().analytic_hessian);
+    let fit = fit_spec(&spec, &ds);
+    let beta: Vec<f64> = fit
+        .beta
+        .iter()
+        .enumerate()
+        .map(|(i, b)| b * (1.0 + 0.03 * ((i % 5) as f64 - 2.0)))
+        .collect();
+    let d = &fit.design;
+    let free: Vec<usize> = (0..beta.len()).collect();
+    let analytic = family.evaluate(d, &beta, true, true).hess.unwrap();
+    let differenced = sharecast::model::hessian::differenced(&*family, d, &beta, &free);
+    let k = beta.len();
+    for a in 0..k {
+        for b in 0..k {
+            let (x, y) = (analytic[a * k + b], differenced[a * k + b]);
+            let scale = (analytic[a * k + a] * analytic[b * k + b]).abs().sqrt().max(1.0);
+            assert!(
+                (x - y).abs() < 1e-6 * scale,
+                "({}, {}): analytic {x} vs differenced {y}",
+                fit.names[a],
+                fit.names[b]
+            );
+        }
+    }
+}

@@ -5,9 +5,10 @@
 //! over the nest's available alternatives; an alternative in no nest is a
 //! group of its own with scale 1, and every l = 1 is exactly the logit.
 //! `rules` checks `[[nest]]`, `pass` has the log-likelihood and its analytic
-//! gradient; the Hessian is differenced (`model::hessian`).
+//! gradient, `hessian` its analytic Hessian.
 
 mod block;
+mod hessian;
 pub(crate) mod pass;
 mod rules;
 mod warnings;
@@ -246,12 +247,23 @@ impl Family for Nested {
     fn abilities(&self) -> Abilities {
         Abilities {
             new_alternatives: true,
+            analytic_hessian: true,
+            costly_hessian: true,
             ..Abilities::default()
         }
     }
 
-    fn evaluate(&self, d: &Design, beta: &[f64], want_grad: bool, _want_hess: bool) -> Eval {
-        pass::evaluate(self, d, beta, want_grad)
+    fn evaluate(&self, d: &Design, beta: &[f64], want_grad: bool, want_hess: bool) -> Eval {
+        let mut e = pass::evaluate(self, d, beta, want_grad || want_hess);
+        if want_hess {
+            // Outside the model (a scale at or below 0) there is no curvature to give.
+            e.hess = Some(if e.ll.is_finite() {
+                hessian::hessian(self, d, beta)
+            } else {
+                vec![0.0; d.params * d.params]
+            });
+        }
+        e
     }
 
     fn for_each_score(&self, d: &Design, beta: &[f64], f: &mut dyn FnMut(usize, &[f64])) {

@@ -29,8 +29,14 @@ struct Scratch {
     hvv: Vec<f64>,
     /// d²/dV_m dl_g, J × groups.
     hvl: Vec<f64>,
-    /// Σ_m hvv[j][m] x_m, J × K.
-    t: Vec<f64>,
+    /// Gathered rows of situations: x_j (K each) and T_j = w Σ_m hvv[j][m] x_m
+    /// followed by w hvl[j][g] (K + groups each); `filled` rows so far.
+    xb: Vec<f64>,
+    tb: Vec<f64>,
+    filled: usize,
+    capacity: usize,
+    /// Σ T' X over the flushed blocks, (K + groups) × K.
+    out: Vec<f64>,
     /// Each group's 1/l_g.
     inv: Vec<f64>,
     hess: Vec<f64>,
@@ -46,9 +52,66 @@ impl Scratch {
             b: vec![0.0; g],
             hvv: vec![0.0; j * j],
             hvl: vec![0.0; j * g],
-            t: vec![0.0; j * k],
+            xb: vec![0.0; BLOCK * j * k],
+            tb: vec![0.0; BLOCK * j * (k + g)],
+            filled: 0,
+            capacity: BLOCK * j,
+            out: vec![0.0; (k + g) * k],
             inv: vec![0.0; g],
             hess: vec![0.0; k * k],
+        }
+    }
+}
+
+/// Situations gathered before their rows are multiplied out in one product.
+const BLOCK: usize = 64;
+
+impl Scratch {
+    /// Adds the gathered rows' T' X to `out` (one matrix product).
+    fn flush(&mut self, k: usize, wide: usize) {
+        let n = self.filled;
+        if n == 0 {
+            return;
+        }
+        // SAFETY: tb holds n rows of `wide` (read as its transpose, wide × n),
+        // xb n rows of k, out wide × k; every index is within them.
+        unsafe {
+            matrixmultiply::dgemm(
+                wide,
+                n,
+                k,
+                1.0,
+                self.tb.as_ptr(),
+                1,
+                wide as isize,
+                self.xb.as_ptr(),
+                k as isize,
+                1,
+                1.0,
+                self.out.as_mut_ptr(),
+                k as isize,
+                1,
+            );
+        }
+        self.filled = 0;
+    }
+
+    /// Flushes and moves `out` into the Hessian: the coefficients' block and,
+    /// per group with a scale, its row and column of cross derivatives.
+    fn finish(&mut self, m: &Nested, k: usize) {
+        let wide = k + m.members.len();
+        self.flush(k, wide);
+        self.hess
+            .iter_mut()
+            .zip(&self.out[..k * k])
+            .for_each(|(h, o)| *h += o);
+        for (g, kg) in m.scale.iter().enumerate() {
+            let Some(kg) = *kg else { continue };
+            for q in 0..k {
+                let y = self.out[(k + g) * k + q];
+                self.hess[kg * k + q] += y;
+                self.hess[q * k + kg] += y;
+            }
         }
     }
 }
@@ -61,6 +124,7 @@ pub fn hessian(m: &Nested, d: &Design, beta: &[f64]) -> Vec<f64> {
         for i in r {
             situation(m, d, beta, i, &mut s);
         }
+        s.finish(m, k);
         s.hess
     });
     let mut out = vec![0.0; k * k];
@@ -160,37 +224,40 @@ fn situation(m: &Nested, d: &Design, beta: &[f64], i: usize, s: &mut Scratch) {
     spreads(m, s);
     second_derivatives(m, s, c);
     let (n, k, groups) = (s.v.len(), d.params, m.members.len());
-    // t[j][q] = Σ_m hvv[j][m] x_m[q].
-    s.t.iter_mut().for_each(|x| *x = 0.0);
-    for mm in 0..n {
-        if !s.v[mm].is_finite() {
-            continue;
-        }
-        for f in &d.features[mm] {
-            let x = d.value(i, mm, f.value);
-            for j in 0..n {
-                s.t[j * k + f.param] += s.hvv[j * n + mm] * x;
-            }
-        }
-    }
+    let wide = k + groups;
+    let base = s.filled;
+    // The situation's rows x_j, dense, into the block.
+    let x = &mut s.xb[base * k..(base + n) * k];
+    x.iter_mut().for_each(|v| *v = 0.0);
     for j in 0..n {
         if !s.v[j].is_finite() {
             continue;
         }
         for f in &d.features[j] {
-            let x = wi * d.value(i, j, f.value);
-            let row = &mut s.hess[f.param * k..(f.param + 1) * k];
-            for (hq, tq) in row.iter_mut().zip(&s.t[j * k..(j + 1) * k]) {
-                *hq += x * tq;
-            }
-            for g in 0..groups {
-                if let Some(kg) = m.scale[g] {
-                    let y = x * s.hvl[j * groups + g];
-                    s.hess[f.param * k + kg] += y;
-                    s.hess[kg * k + f.param] += y;
-                }
+            x[j * k + f.param] += d.value(i, j, f.value);
+        }
+    }
+    // Its rows of T: w Σ_m hvv[j][m] x_m, then w hvl[j][g] per group.
+    for j in 0..n {
+        let t = &mut s.tb[(base + j) * wide..(base + j + 1) * wide];
+        t.iter_mut().for_each(|v| *v = 0.0);
+        if !s.v[j].is_finite() {
+            continue;
+        }
+        for mm in 0..n {
+            let h = wi * s.hvv[j * n + mm];
+            if h != 0.0 {
+                let xm = &s.xb[(base + mm) * k..(base + mm + 1) * k];
+                t[..k].iter_mut().zip(xm).for_each(|(a, b)| *a += h * b);
             }
         }
+        for g in 0..groups {
+            t[k + g] = wi * s.hvl[j * groups + g];
+        }
+    }
+    s.filled += n;
+    if s.filled + n > s.capacity {
+        s.flush(k, wide);
     }
     scales(m, s, c, wi, k);
 }

@@ -478,7 +478,10 @@ fn the_analytic_hessian_matches_differences_with_unavailable_alternatives() {
     for a in 0..k {
         for b in 0..k {
             let (x, y) = (analytic[a * k + b], differenced[a * k + b]);
-            let scale = (analytic[a * k + a] * analytic[b * k + b]).abs().sqrt().max(1.0);
+            let scale = (analytic[a * k + a] * analytic[b * k + b])
+                .abs()
+                .sqrt()
+                .max(1.0);
             assert!(
                 (x - y).abs() < 1e-6 * scale,
                 "({}, {}): analytic {x} vs differenced {y}",

@@ -159,7 +159,13 @@ fn second_derivatives(m: &Nested, s: &mut Scratch, c: usize) {
     let h = m.group_of[c];
     let groups = m.members.len();
     let Scratch {
-        v, w, b, hvv, hvl, inv, ..
+        v,
+        w,
+        b,
+        hvv,
+        hvl,
+        inv,
+        ..
     } = s;
     for (i, l) in inv.iter_mut().zip(&w.lam) {
         *i = 1.0 / l;
@@ -172,7 +178,9 @@ fn second_derivatives(m: &Nested, s: &mut Scratch, c: usize) {
         let row = &mut hvv[j * n..(j + 1) * n];
         if !v[j].is_finite() {
             row.iter_mut().for_each(|x| *x = 0.0);
-            hvl[j * groups..(j + 1) * groups].iter_mut().for_each(|x| *x = 0.0);
+            hvl[j * groups..(j + 1) * groups]
+                .iter_mut()
+                .for_each(|x| *x = 0.0);
             continue;
         }
         let pj = w.p[j];
@@ -281,8 +289,7 @@ fn scales(m: &Nested, s: &mut Scratch, c: usize, wi: f64, k: usize) {
                 x -= w.q[g] * s.var[g] / lg.powi(3);
                 if g == h {
                     let l = lg;
-                    x += 2.0 * (s.v[c] - w.vbar[g]) / l.powi(3)
-                        + (l - 1.0) * s.var[g] / l.powi(4);
+                    x += 2.0 * (s.v[c] - w.vbar[g]) / l.powi(3) + (l - 1.0) * s.var[g] / l.powi(4);
                 }
             }
             s.hess[*kg * k + *kk] += wi * x;

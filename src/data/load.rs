@@ -446,10 +446,25 @@ fn text_values(s: &Series) -> PolarsResult<Vec<Option<String>>> {
             .map(|v| v.map(|b| (b as u8).to_string()))
             .collect()),
         _ => {
+            // Each distinct number is written out once (the first 4,096 of
+            // them; later ones each time): a column of codes repeats a few.
             let f = s.cast(&DataType::Float64)?;
+            let mut written: std::collections::HashMap<u64, String> = Default::default();
             Ok(f.f64()?
                 .iter()
-                .map(|v| v.filter(|x| !x.is_nan()).map(super::table::number_key))
+                .map(|v| {
+                    v.filter(|x| !x.is_nan())
+                        .map(|x| match written.get(&x.to_bits()) {
+                            Some(t) => t.clone(),
+                            None => {
+                                let t = super::table::number_key(x);
+                                if written.len() < 4096 {
+                                    written.insert(x.to_bits(), t.clone());
+                                }
+                                t
+                            }
+                        })
+                })
                 .collect())
         }
     }

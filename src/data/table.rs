@@ -152,25 +152,16 @@ impl Table {
                 }
                 ids
             }
+            // Text without missing cells is read in place, without copies.
+            Some(Column::Text(v)) if v.iter().all(Option::is_some) => {
+                let keys = v.iter().flatten().map(String::as_str);
+                index_keys(keys, &mut labels)
+                    .ok_or_else(|| too_many_segments(&self.file, name, role))?
+            }
             _ => {
                 let keys = self.keys(name, role)?;
-                let mut first: HashMap<&str, u32> = HashMap::new();
-                let mut ids = Vec::with_capacity(keys.len());
-                for k in &keys {
-                    let id = match first.get(k.as_str()) {
-                        Some(&id) => id,
-                        None => {
-                            first.insert(k, labels.len() as u32);
-                            labels.push(k.clone());
-                            if too_many(labels.len()) {
-                                return Err(too_many_segments(&self.file, name, role));
-                            }
-                            labels.len() as u32 - 1
-                        }
-                    };
-                    ids.push(id);
-                }
-                ids
+                index_keys(keys.iter().map(String::as_str), &mut labels)
+                    .ok_or_else(|| too_many_segments(&self.file, name, role))?
             }
         };
         let mut order: Vec<usize> = (0..labels.len()).collect();
@@ -307,6 +298,31 @@ pub fn too_many_segments(file: &Path, name: &str, role: &str) -> Error {
 pub const MAX_SEGMENTS: usize = 1000;
 
 /// Integers print without a decimal point so that `1.0` and `1` are the same key.
+/// Each key's segment in first-seen order, the labels pushed as they are
+/// first seen; `None` past `MAX_SEGMENTS` labels.
+fn index_keys<'a>(
+    keys: impl Iterator<Item = &'a str>,
+    labels: &mut Vec<String>,
+) -> Option<Vec<u32>> {
+    let mut first: HashMap<&str, u32> = HashMap::new();
+    let mut ids = Vec::with_capacity(keys.size_hint().0);
+    for k in keys {
+        let id = match first.get(k) {
+            Some(&id) => id,
+            None => {
+                first.insert(k, labels.len() as u32);
+                labels.push(k.to_string());
+                if labels.len() > MAX_SEGMENTS {
+                    return None;
+                }
+                labels.len() as u32 - 1
+            }
+        };
+        ids.push(id);
+    }
+    Some(ids)
+}
+
 pub fn number_key(x: f64) -> String {
     if x.fract() == 0.0 && x.abs() < 1e15 {
         format!("{}", x as i64)

@@ -162,6 +162,32 @@ impl Design {
         }
     }
 
+    /// Utilities of situation `i` at many coefficient points at once into
+    /// `out`, one row per alternative over the points (`[j * points + r]`),
+    /// from the points' coefficients laid out one row per parameter
+    /// (`coefs[param * points + r]`); each point's utilities equal
+    /// `utilities` at its coefficients, term for term.
+    pub fn utilities_of_points(&self, coefs: &[f64], points: usize, i: usize, out: &mut [f64]) {
+        for (j, row) in out.chunks_exact_mut(points).enumerate() {
+            if !self.available(i, j) {
+                row.iter_mut().for_each(|x| *x = f64::NEG_INFINITY);
+                continue;
+            }
+            let offset = match &self.obs.offset {
+                Some(o) => o[i * self.obs.alternatives + j],
+                None => 0.0,
+            };
+            row.iter_mut().for_each(|x| *x = offset);
+            for f in &self.features[j] {
+                let x = self.value(i, j, f.value);
+                let c = &coefs[f.param * points..(f.param + 1) * points];
+                for (v, b) in row.iter_mut().zip(c) {
+                    *v += b * x;
+                }
+            }
+        }
+    }
+
     /// Sum of weights.
     pub fn total_weight(&self) -> f64 {
         self.obs.weight.iter().sum()

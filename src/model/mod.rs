@@ -156,6 +156,24 @@ pub trait Family: Send + Sync + std::fmt::Debug {
         self.probabilities(beta, v1, p1)
     }
 
+    /// Choice probabilities of one situation at many coefficient points at
+    /// once, for a family whose one-point probabilities depend on the
+    /// coefficients only through the utilities: `v` holds the utilities in one
+    /// row per alternative over the points (`[alternative * points + point]`,
+    /// -inf = unavailable) and is replaced by the probabilities (zeros for a
+    /// point with nothing available); `scratch` is the family's to grow.
+    /// `false` (the default): the family has no such form (asked with empty
+    /// rows to learn whether it has), and callers take one point at a time.
+    fn probabilities_of_points(
+        &self,
+        v: &mut [f64],
+        points: usize,
+        scratch: &mut Vec<f64>,
+    ) -> bool {
+        let _ = (v, points, scratch);
+        false
+    }
+
     /// dP_j/dV_k of one situation into `dp` (J x J row-major, row = affected j).
     fn dprob(&self, beta: &[f64], v: &[f64], p: &[f64], dp: &mut [f64]);
 
@@ -433,6 +451,14 @@ pub trait Points: Send + Sync {
     fn count(&self) -> usize;
     /// The `count()` coefficient vectors of situation `i` into `out` (rows of K).
     fn fill(&self, beta: &[f64], i: usize, out: &mut [f64]);
+    /// Whether situation `i` has the same points and weights as situation
+    /// `previous` at any parameters (two situations of one decision maker),
+    /// so that a pass may keep them rather than fill them again. `false`
+    /// (the default): each situation's are filled.
+    fn same_as(&self, i: usize, previous: usize) -> bool {
+        let _ = (i, previous);
+        false
+    }
     /// Each point's weight in situation `i`'s average (summing to 1): equal
     /// for simulation draws (the default), the class shares of a latent
     /// class model.

@@ -9,6 +9,7 @@ pub mod file;
 pub mod grouped;
 mod pick;
 pub mod prepare;
+mod rows;
 pub mod simulate;
 pub mod stream;
 pub mod sweep;

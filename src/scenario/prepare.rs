@@ -367,6 +367,17 @@ impl WhatIf for Prepared {
     fn utilities(&self, d: &Design, beta: &[f64], i: usize, v0: &[f64], v1: &mut [f64]) {
         Prepared::utilities(self, d, beta, i, v0, v1)
     }
+    fn utilities_of_points(
+        &self,
+        d: &Design,
+        coefs: &[f64],
+        (i, points): (usize, usize),
+        v0: &[f64],
+        v1: &mut [f64],
+    ) -> bool {
+        super::rows::utilities_of_points(self, d, coefs, (i, points), v0, v1);
+        true
+    }
     fn family(&self) -> Option<&dyn Family> {
         self.family.as_deref()
     }

@@ -32,6 +32,7 @@ mod limits;
 mod mixed;
 mod mixed_analysis;
 mod mixed_recovery;
+mod mixture_rows;
 mod mnp;
 mod nested;
 mod ordered;

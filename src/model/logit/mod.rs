@@ -30,6 +30,7 @@ use super::{Abilities, Eval, Family};
 pub(crate) mod block;
 pub(crate) mod chunk;
 pub mod fastmath;
+pub mod rows;
 pub mod willingness;
 
 use block::*;
@@ -183,6 +184,16 @@ impl Family for Logit {
         if !rescale(v0, v1, p0, p1) {
             softmax(v1, p1);
         }
+    }
+
+    fn probabilities_of_points(
+        &self,
+        v: &mut [f64],
+        points: usize,
+        scratch: &mut Vec<f64>,
+    ) -> bool {
+        rows::softmax_rows(v, points, scratch);
+        true
     }
 
     fn dprob_columns(

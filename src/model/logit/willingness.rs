@@ -36,6 +36,9 @@ impl Points for Mapped {
     fn count(&self) -> usize {
         1
     }
+    fn same_as(&self, _i: usize, _previous: usize) -> bool {
+        true
+    }
     fn fill(&self, beta: &[f64], _i: usize, out: &mut [f64]) {
         self.0.preference(beta, &mut out[..beta.len()]);
     }
@@ -95,6 +98,15 @@ impl Family for WillingnessLogit {
         p1: &mut [f64],
     ) {
         self.logit.probabilities_after(beta, v0, p0, v1, p1)
+    }
+
+    fn probabilities_of_points(
+        &self,
+        v: &mut [f64],
+        points: usize,
+        scratch: &mut Vec<f64>,
+    ) -> bool {
+        self.logit.probabilities_of_points(v, points, scratch)
     }
 
     fn dprob(&self, beta: &[f64], v: &[f64], p: &[f64], dp: &mut [f64]) {

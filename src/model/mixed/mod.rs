@@ -172,6 +172,15 @@ impl Family for Mixed {
         self.logit().probabilities_after(beta, v0, p0, v1, p1)
     }
 
+    fn probabilities_of_points(
+        &self,
+        v: &mut [f64],
+        points: usize,
+        scratch: &mut Vec<f64>,
+    ) -> bool {
+        self.logit().probabilities_of_points(v, points, scratch)
+    }
+
     fn dprob(&self, beta: &[f64], v: &[f64], p: &[f64], dp: &mut [f64]) {
         self.logit().dprob(beta, v, p, dp)
     }

@@ -92,6 +92,9 @@ impl Points for MixedPoints {
     fn count(&self) -> usize {
         self.count
     }
+    fn same_as(&self, i: usize, previous: usize) -> bool {
+        self.panel.unit_of(i) == self.panel.unit_of(previous)
+    }
     fn fill(&self, beta: &[f64], i: usize, out: &mut [f64]) {
         let k = beta.len();
         let n = self.panel.unit_of(i);

@@ -10,8 +10,11 @@
 use std::ops::Range;
 use std::sync::Arc;
 
+mod mix;
+
 use super::{Family, Points};
 use crate::design::{heavy_pieces, on_ranges, pieces, run_queue, Design};
+use mix::Mix;
 
 /// A change to each situation's utilities (a scenario, an arc step, a withdrawal).
 pub trait WhatIf: Sync {
@@ -22,6 +25,22 @@ pub trait WhatIf: Sync {
     /// Utilities `v1` (length `alternatives`) of situation `i` after the change,
     /// from its base utilities `v0`; -inf marks an unavailable alternative.
     fn utilities(&self, d: &Design, beta: &[f64], i: usize, v0: &[f64], v1: &mut [f64]);
+    /// Utilities after the change of situation `i` at many coefficient points
+    /// at once: `coefs` holds one row per parameter over the points, `v0`
+    /// the base utilities and `v1` those after one row per alternative (as
+    /// `Design::utilities_of_points`), each point's equal to `utilities` at
+    /// its coefficients. `false` (the default): callers ask point by point.
+    fn utilities_of_points(
+        &self,
+        d: &Design,
+        coefs: &[f64],
+        (i, points): (usize, usize),
+        v0: &[f64],
+        v1: &mut [f64],
+    ) -> bool {
+        let _ = (d, coefs, i, points, v0, v1);
+        false
+    }
     /// The family over the alternatives after the change, when it differs from
     /// the base one (added alternatives in a nested model).
     fn family(&self) -> Option<&dyn Family> {
@@ -90,7 +109,7 @@ impl Baseline {
         run_queue(items, |(r, u, p)| {
             let mut mix = mixture
                 .as_ref()
-                .map(|m| Mix::new(m.clone(), beta.len(), j, j));
+                .map(|m| Mix::new(m.clone(), beta.len(), (j, j), family, family));
             for (i, (ui, pi)) in r.zip(u.chunks_mut(j).zip(p.chunks_mut(j))) {
                 d.utilities(beta, i, ui);
                 match mix.as_mut() {
@@ -119,76 +138,6 @@ fn ranges(n: usize, mixture: Option<&dyn Points>) -> Vec<Range<usize>> {
 /// Choice probabilities `[i * J + j]` of every situation at `beta` (0 where unavailable).
 pub fn probabilities(family: &dyn Family, d: &Design, beta: &[f64]) -> Vec<f64> {
     Baseline::new(family, d, beta).probabilities
-}
-
-/// Scratch for averaging over a situation's coefficient points.
-struct Mix {
-    points: Arc<dyn Points>,
-    k: usize,
-    coefs: Vec<f64>,
-    weights: Vec<f64>,
-    v0: Vec<f64>,
-    p0: Vec<f64>,
-    v1: Vec<f64>,
-    p1: Vec<f64>,
-}
-
-impl Mix {
-    fn new(points: Arc<dyn Points>, k: usize, j: usize, m: usize) -> Mix {
-        let r = points.count();
-        Mix {
-            points,
-            k,
-            coefs: vec![0.0; r * k],
-            weights: vec![0.0; r],
-            v0: vec![0.0; j],
-            p0: vec![0.0; j],
-            v1: vec![0.0; m],
-            p1: vec![0.0; m],
-        }
-    }
-
-    /// Situation `i`'s average probabilities at the base into `p0` and, with a
-    /// what-if, after it into `p1`.
-    #[allow(clippy::too_many_arguments)]
-    fn situation(
-        &mut self,
-        family: &dyn Family,
-        after: &dyn Family,
-        d: &Design,
-        beta: &[f64],
-        i: usize,
-        what_if: Option<&dyn WhatIf>,
-        p0: &mut [f64],
-        p1: &mut [f64],
-    ) {
-        self.points.fill(beta, i, &mut self.coefs);
-        self.points.weights(beta, i, &mut self.weights);
-        let j = self.v0.len();
-        p0.iter_mut().for_each(|x| *x = 0.0);
-        p1.iter_mut().for_each(|x| *x = 0.0);
-        for (c, &share) in self.coefs.chunks(self.k).zip(&self.weights) {
-            d.utilities(c, i, &mut self.v0);
-            family.probabilities(c, &self.v0, &mut self.p0);
-            p0[..j]
-                .iter_mut()
-                .zip(&self.p0)
-                .for_each(|(a, b)| *a += share * b);
-            let Some(w) = what_if else { continue };
-            w.utilities(d, c, i, &self.v0, &mut self.v1);
-            if self.v1.iter().all(|x| !x.is_finite()) {
-                continue; // nothing left to choose
-            }
-            if self.v1.len() == j {
-                after.probabilities_after(c, &self.v0, &self.p0, &self.v1, &mut self.p1);
-            } else {
-                after.probabilities(c, &self.v1, &mut self.p1);
-            }
-            p1.iter_mut()
-                .zip(&self.p1)
-                .for_each(|(a, b)| *a += share * b);
-        }
-    }
 }
 
 /// A pass over every situation: the family, the design and parameters, and
@@ -274,38 +223,33 @@ impl<'a> Enumeration<'a> {
         let k = beta.len();
         on_ranges(ranges(d.situations(), self.mixture.as_deref()), |range| {
             let mut state = init(&range);
-            let r = self.mixture.as_ref().map(|m| m.count()).unwrap_or(1);
-            let mut coefs = vec![0.0; r * k];
-            let mut weights = vec![1.0; r];
+            if let Some(m) = &self.mixture {
+                let mut mix = Mix::new(m.clone(), k, (j, j), family, family);
+                for i in range {
+                    mix.each_point(family, d, (beta, i), &mut |pt| visit(&mut state, pt));
+                }
+                return state;
+            }
             let (mut v, mut p) = (vec![0.0; j], vec![0.0; j]);
             for i in range {
-                match &self.mixture {
-                    Some(m) => {
-                        m.fill(beta, i, &mut coefs);
-                        m.weights(beta, i, &mut weights);
+                match self.baseline {
+                    Some(b) => {
+                        v.copy_from_slice(&b.utilities[i * j..(i + 1) * j]);
+                        p.copy_from_slice(&b.probabilities[i * j..(i + 1) * j]);
                     }
-                    None => coefs.copy_from_slice(beta),
-                }
-                for (c, &weight) in coefs.chunks(k).zip(&weights) {
-                    match (self.baseline, &self.mixture) {
-                        (Some(b), None) => {
-                            v.copy_from_slice(&b.utilities[i * j..(i + 1) * j]);
-                            p.copy_from_slice(&b.probabilities[i * j..(i + 1) * j]);
-                        }
-                        _ => {
-                            d.utilities(c, i, &mut v);
-                            family.probabilities(c, &v, &mut p);
-                        }
+                    None => {
+                        d.utilities(beta, i, &mut v);
+                        family.probabilities(beta, &v, &mut p);
                     }
-                    let point = Point {
-                        i,
-                        weight,
-                        coefficients: c,
-                        v: &v,
-                        p: &p,
-                    };
-                    visit(&mut state, &point);
                 }
+                let point = Point {
+                    i,
+                    weight: 1.0,
+                    coefficients: beta,
+                    v: &v,
+                    p: &p,
+                };
+                visit(&mut state, &point);
             }
             state
         })
@@ -322,7 +266,7 @@ impl<'a> Enumeration<'a> {
         let after = self.what_if.and_then(|w| w.family()).unwrap_or(family);
         let j = d.alternatives();
         let alts = self.alternatives();
-        let mut mix = Mix::new(m.clone(), beta.len(), j, alts);
+        let mut mix = Mix::new(m.clone(), beta.len(), (j, alts), family, after);
         let mut p0 = vec![0.0; alts];
         let mut p1 = vec![0.0; alts];
         for i in range {

@@ -153,9 +153,12 @@ impl Mix {
         let Some(w) = what_if else { return };
         let m = self.v1.len();
         if w.utilities_of_points(d, &rows.coefs, (i, r), &rows.v0, &mut rows.v1) {
-            for (t, live) in rows.live.iter_mut().enumerate() {
-                let open = (0..m).any(|a| rows.v1[a * r + t].is_finite());
-                *live = if open { self.weights[t] } else { 0.0 };
+            // A point's weight counts when anything is left to choose at it.
+            rows.live.fill(0.0);
+            for row in rows.v1.chunks_exact(r) {
+                for ((live, v), w) in rows.live.iter_mut().zip(row).zip(&self.weights) {
+                    *live = if v.is_finite() { *w } else { *live };
+                }
             }
             after.probabilities_of_points(&mut rows.v1, r, &mut rows.scratch);
             average(&rows.v1, &rows.live, &mut p1[..m]);
@@ -247,10 +250,25 @@ impl Mix {
     }
 }
 
-/// `out[a]` = Σ_t w_t rows[a][t], summed in point order.
+/// Points summed at once in `average` (partial sums, then added in order).
+const LANES: usize = 8;
+
+/// `out[a]` = Σ_t w_t rows[a][t]: `LANES` partial sums over the points (each
+/// in point order), then added in lane order, whatever the thread.
 fn average(rows: &[f64], w: &[f64], out: &mut [f64]) {
     let r = w.len();
     for (o, row) in out.iter_mut().zip(rows.chunks_exact(r.max(1))) {
-        *o = row.iter().zip(w).fold(0.0, |acc, (p, w)| acc + w * p);
+        let mut acc = [0.0; LANES];
+        let (body, tail) = (row.chunks_exact(LANES), row.len() % LANES);
+        for (p, w) in body.zip(w.chunks_exact(LANES)) {
+            for l in 0..LANES {
+                acc[l] += w[l] * p[l];
+            }
+        }
+        let at = r - tail;
+        for (l, (p, w)) in row[at..].iter().zip(&w[at..]).enumerate() {
+            acc[l] += w * p;
+        }
+        *o = acc.iter().sum();
     }
 }

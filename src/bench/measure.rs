@@ -229,7 +229,7 @@ fn time_parts(spec: &Spec, fit: &Fit) -> Result<Parts> {
     let cd = Design::build(&cspec, d.obs.clone());
     let cfree: Vec<usize> = (0..cd.params).collect();
     let t = Instant::now();
-    let const_out = crate::estimate::optimise::maximise(
+    let const_out = crate::estimate::optimise::maximise_level(
         &cd,
         &*crate::model::for_spec(&cspec)?,
         &vec![0.0; cd.params],

@@ -14,7 +14,8 @@ use crate::model::{Eval, Family};
 
 /// Newton steps with step halving until the Newton decrement g' (-H)^-1 g is
 /// below the tolerance. `reuse`: a Hessian (free block, negated) to use instead
-/// of evaluating one at every step; it is refreshed when a full step fails.
+/// of evaluating one at every step; it is refreshed when a full step fails,
+/// and at convergence when `confirm` (else the decrement on it suffices).
 pub(super) fn newton(
     d: &Design,
     family: &dyn Family,
@@ -22,7 +23,7 @@ pub(super) fn newton(
     free: &[usize],
     progress: Progress,
     passes: &AtomicUsize,
-    reuse: Option<DMatrix<f64>>,
+    (reuse, confirm): (Option<DMatrix<f64>>, bool),
 ) -> Outcome {
     let mut s = Newton::new(d, family, free, passes, reuse);
     let m = free.len();
@@ -52,7 +53,7 @@ pub(super) fn newton(
         });
         if criterion < NEWTON_TOLERANCE {
             // Confirm with a Hessian of this point before stopping.
-            if s.refresh_if_stale(&beta) {
+            if confirm && s.refresh_if_stale(&beta) {
                 continue;
             }
             confirmed = s.last_step(&mut beta, &mut e, &step);

@@ -34,7 +34,7 @@ pub fn constants_log_likelihood(spec: &Spec, obs: Arc<Observations>) -> Result<f
         (true, Some(s)) => s,
         _ => cfamily,
     };
-    let ll = optimise::maximise(&cd, &*cfamily, &cstart, &cfree, &quiet).ll;
+    let ll = optimise::maximise_level(&cd, &*cfamily, &cstart, &cfree, &quiet).ll;
     if ll.is_finite() {
         return Ok(ll);
     }
@@ -46,7 +46,7 @@ pub fn constants_log_likelihood(spec: &Spec, obs: Arc<Observations>) -> Result<f
             cstart[p] = defaults[p];
         }
     }
-    Ok(optimise::maximise(&cd, &*cfamily, &cstart, &cfree, &quiet).ll)
+    Ok(optimise::maximise_level(&cd, &*cfamily, &cstart, &cfree, &quiet).ll)
 }
 
 /// Starts each free constant at the log of its alternative's weighted share

@@ -199,10 +199,23 @@ impl<'a> Newton<'a> {
         for (s, &i) in self.free.iter().enumerate() {
             last[i] += step[s];
         }
-        let el = self.eval(&last);
+        // A Hessian that costs many passes is not evaluated again after the
+        // last (tiny) step: the one just before it stands for it.
+        let costly = self.reuse.is_none() && self.family.abilities().costly_hessian;
+        let before = costly.then(|| e.hess.clone()).flatten();
+        let el = if costly {
+            self.passes.fetch_add(1, Ordering::Relaxed);
+            self.family.evaluate(self.d, &last, true, false)
+        } else {
+            self.eval(&last)
+        };
         if el.ll.is_finite() && el.ll >= e.ll - 1e-9 * e.ll.abs().max(1.0) {
             *beta = last;
             *e = el;
+        }
+        if costly {
+            e.hess.clone_from(&before);
+            return before;
         }
         if self.reuse.is_none() {
             return e.hess.clone();

@@ -155,10 +155,15 @@ impl<'a> Newton<'a> {
         }
     }
 
-    /// Differences the reused Hessian at `b` (two gradient passes per parameter).
+    /// Evaluates the reused Hessian afresh at `b`: the family's analytic one
+    /// (one pass), else differenced (two gradient passes per parameter).
     fn refresh(&mut self, b: &[f64]) {
-        self.passes
-            .fetch_add(2 * self.free.len(), Ordering::Relaxed);
+        let cost = if self.family.abilities().analytic_hessian {
+            1
+        } else {
+            2 * self.free.len()
+        };
+        self.passes.fetch_add(cost, Ordering::Relaxed);
         let h = with_hessian(self.family, self.d, b, self.free)
             .hess
             .unwrap_or_default();
@@ -199,23 +204,10 @@ impl<'a> Newton<'a> {
         for (s, &i) in self.free.iter().enumerate() {
             last[i] += step[s];
         }
-        // A Hessian that costs many passes is not evaluated again after the
-        // last (tiny) step: the one just before it stands for it.
-        let costly = self.reuse.is_none() && self.family.abilities().costly_hessian;
-        let before = costly.then(|| e.hess.clone()).flatten();
-        let el = if costly {
-            self.passes.fetch_add(1, Ordering::Relaxed);
-            self.family.evaluate(self.d, &last, true, false)
-        } else {
-            self.eval(&last)
-        };
+        let el = self.eval(&last);
         if el.ll.is_finite() && el.ll >= e.ll - 1e-9 * e.ll.abs().max(1.0) {
             *beta = last;
             *e = el;
-        }
-        if costly {
-            e.hess.clone_from(&before);
-            return before;
         }
         if self.reuse.is_none() {
             return e.hess.clone();

@@ -434,8 +434,9 @@ fn maximise_with(
     // A family without an analytic Hessian reuses a metric (each differenced
     // Hessian costs two gradient passes per parameter) until a step fails:
     // the quasi-Newton phase's last one, which has learnt the curvature near
-    // the optimum, else the one the search started with.
-    let reuse = (!abilities.analytic_hessian)
+    // the optimum, else the one the search started with. So does a family
+    // whose analytic Hessian costs many passes.
+    let reuse = (!abilities.analytic_hessian || abilities.costly_hessian)
         .then(|| learnt(inv.as_deref(), objective.scale).unwrap_or(h0));
     let mut out = newton(d, family, beta, free, progress, &passes, (reuse, confirm));
     out.bfgs_iterations = bfgs_iterations;

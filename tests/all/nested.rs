@@ -491,3 +491,35 @@ fn the_analytic_hessian_matches_differences_with_unavailable_alternatives() {
         }
     }
 }
+
+#[test]
+fn the_covariance_is_the_analytic_hessian_at_the_estimates() {
+    // The search evaluates the costly analytic Hessian once, before Newton's
+    // last tiny step, and the covariance reuses it: its standard errors equal
+    // those of the Hessian at the final estimates to 1e-6 relative (the
+    // tolerance docs/methods.md states; common practice for such reuse).
+    let r = fixture();
+    for name in ["ground", "public", "two_nests"] {
+        let spec = nested_spec(&r["structures"][name], "");
+        let ds = sharecast::data::load(&spec, &Default::default()).unwrap();
+        let fit = fit_spec(&spec, &ds);
+        let k = fit.beta.len();
+        let hess = fit
+            .family
+            .evaluate(&fit.design, &fit.beta, true, true)
+            .hess
+            .unwrap();
+        let m = fit.free.len();
+        let neg = nalgebra::DMatrix::from_fn(m, m, |a, b| -hess[fit.free[a] * k + fit.free[b]]);
+        let inv = neg.try_inverse().unwrap();
+        for (a, &p) in fit.free.iter().enumerate() {
+            let se = inv[(a, a)].sqrt();
+            assert_close(
+                &format!("{name} {} s.e.", fit.parameters[p].name),
+                fit.parameters[p].std_error,
+                se,
+                1e-6,
+            );
+        }
+    }
+}

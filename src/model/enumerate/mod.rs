@@ -95,7 +95,7 @@ impl Baseline {
         let j = d.alternatives();
         let n = d.situations();
         let mixture = family.mixture(d);
-        let ranges = ranges(n, mixture.as_deref());
+        let ranges = ranges(n, mixture.as_deref(), family);
         let mut utilities = vec![0.0; n * j];
         let mut probabilities = vec![0.0; n * j];
         let mut items = Vec::new();
@@ -125,15 +125,22 @@ impl Baseline {
     }
 }
 
-/// The pieces a pass over `n` situations is cut into: by situations, or with
-/// coefficient points by the work they make (they depend on `n` and the
-/// number of points alone).
-fn ranges(n: usize, mixture: Option<&dyn Points>) -> Vec<Range<usize>> {
+/// The pieces a pass over `n` situations is cut into: by situations, or by
+/// the work they make when each situation's probabilities average over
+/// coefficient points or are simulated (a small sample is then still spread
+/// over the cores). They depend on `n`, the number of points and the
+/// family's abilities alone, never on the cores.
+fn ranges(n: usize, mixture: Option<&dyn Points>, family: &dyn Family) -> Vec<Range<usize>> {
     match mixture {
-        None => pieces(n),
         Some(m) => heavy_pieces(n, (8_192 / m.count().max(1)).max(1)),
+        None if family.abilities().simulation_draws => heavy_pieces(n, SIMULATED_PIECE),
+        None => pieces(n),
     }
 }
+
+/// Situations per piece of a pass whose probabilities are simulated (each a
+/// simulation over hundreds of draws).
+const SIMULATED_PIECE: usize = 64;
 
 /// Choice probabilities `[i * J + j]` of every situation at `beta` (0 where unavailable).
 pub fn probabilities(family: &dyn Family, d: &Design, beta: &[f64]) -> Vec<f64> {
@@ -189,14 +196,17 @@ impl<'a> Enumeration<'a> {
         init: impl Fn(&Range<usize>) -> T + Sync,
         visit: impl Fn(&mut T, &Situation) + Sync,
     ) -> Vec<T> {
-        on_ranges(ranges(self.d.situations(), self.mixture.as_deref()), |r| {
-            let mut state = init(&r);
-            match &self.mixture {
-                None => self.run(r, &mut |s| visit(&mut state, s)),
-                Some(m) => self.run_mixed(m, r, &mut |s| visit(&mut state, s)),
-            }
-            state
-        })
+        on_ranges(
+            ranges(self.d.situations(), self.mixture.as_deref(), self.family),
+            |r| {
+                let mut state = init(&r);
+                match &self.mixture {
+                    None => self.run(r, &mut |s| visit(&mut state, s)),
+                    Some(m) => self.run_mixed(m, r, &mut |s| visit(&mut state, s)),
+                }
+                state
+            },
+        )
     }
 
     /// Folds every situation into accumulators of length `width`, summed over the pieces.
@@ -221,38 +231,41 @@ impl<'a> Enumeration<'a> {
         let (family, d, beta) = (self.family, self.d, self.beta);
         let j = d.alternatives();
         let k = beta.len();
-        on_ranges(ranges(d.situations(), self.mixture.as_deref()), |range| {
-            let mut state = init(&range);
-            if let Some(m) = &self.mixture {
-                let mut mix = Mix::new(m.clone(), k, (j, j), family, family);
+        on_ranges(
+            ranges(d.situations(), self.mixture.as_deref(), family),
+            |range| {
+                let mut state = init(&range);
+                if let Some(m) = &self.mixture {
+                    let mut mix = Mix::new(m.clone(), k, (j, j), family, family);
+                    for i in range {
+                        mix.each_point(family, d, (beta, i), &mut |pt| visit(&mut state, pt));
+                    }
+                    return state;
+                }
+                let (mut v, mut p) = (vec![0.0; j], vec![0.0; j]);
                 for i in range {
-                    mix.each_point(family, d, (beta, i), &mut |pt| visit(&mut state, pt));
-                }
-                return state;
-            }
-            let (mut v, mut p) = (vec![0.0; j], vec![0.0; j]);
-            for i in range {
-                match self.baseline {
-                    Some(b) => {
-                        v.copy_from_slice(&b.utilities[i * j..(i + 1) * j]);
-                        p.copy_from_slice(&b.probabilities[i * j..(i + 1) * j]);
+                    match self.baseline {
+                        Some(b) => {
+                            v.copy_from_slice(&b.utilities[i * j..(i + 1) * j]);
+                            p.copy_from_slice(&b.probabilities[i * j..(i + 1) * j]);
+                        }
+                        None => {
+                            d.utilities(beta, i, &mut v);
+                            family.probabilities(beta, &v, &mut p);
+                        }
                     }
-                    None => {
-                        d.utilities(beta, i, &mut v);
-                        family.probabilities(beta, &v, &mut p);
-                    }
+                    let point = Point {
+                        i,
+                        weight: 1.0,
+                        coefficients: beta,
+                        v: &v,
+                        p: &p,
+                    };
+                    visit(&mut state, &point);
                 }
-                let point = Point {
-                    i,
-                    weight: 1.0,
-                    coefficients: beta,
-                    v: &v,
-                    p: &p,
-                };
-                visit(&mut state, &point);
-            }
-            state
-        })
+                state
+            },
+        )
     }
 
     /// One range of situations with coefficient points, scratch allocated once.

@@ -37,15 +37,31 @@ pub fn heavy_pieces(n: usize, min: usize) -> Vec<std::ops::Range<usize>> {
         .collect()
 }
 
+std::thread_local! {
+    /// Whether this thread is one of `on_ranges`' or `run_queue`'s workers:
+    /// work it spreads again runs on it alone (the cores are already busy),
+    /// in the same pieces and order, so the results do not change.
+    static WORKER: std::cell::Cell<bool> = const { std::cell::Cell::new(false) };
+}
+
+/// How many threads to spread `items` pieces of work over: the cores, or
+/// one inside a worker.
+fn threads_for(items: usize) -> usize {
+    if WORKER.with(|w| w.get()) {
+        return 1;
+    }
+    std::thread::available_parallelism()
+        .map(|t| t.get())
+        .unwrap_or(1)
+        .min(items)
+}
+
 /// Runs `f` on each of the given pieces (as `on_pieces`); results in piece order.
 pub fn on_ranges<T: Send>(
     pieces: Vec<std::ops::Range<usize>>,
     f: impl Fn(std::ops::Range<usize>) -> T + Sync,
 ) -> Vec<T> {
-    let threads = std::thread::available_parallelism()
-        .map(|t| t.get())
-        .unwrap_or(1)
-        .min(pieces.len());
+    let threads = threads_for(pieces.len());
     if threads <= 1 {
         return pieces.into_iter().map(f).collect();
     }
@@ -55,6 +71,7 @@ pub fn on_ranges<T: Send>(
         let handles: Vec<_> = (0..threads)
             .map(|_| {
                 s.spawn(move || {
+                    WORKER.with(|w| w.set(true));
                     let mut out = Vec::new();
                     loop {
                         let p = next.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
@@ -78,10 +95,7 @@ pub fn on_ranges<T: Send>(
 /// one. Items are usually a piece of the situations with the slices of output
 /// arrays it fills.
 pub fn run_queue<W: Send>(items: Vec<W>, f: impl Fn(W) + Sync) {
-    let threads = std::thread::available_parallelism()
-        .map(|t| t.get())
-        .unwrap_or(1)
-        .min(items.len());
+    let threads = threads_for(items.len());
     if threads <= 1 {
         items.into_iter().for_each(f);
         return;
@@ -91,6 +105,7 @@ pub fn run_queue<W: Send>(items: Vec<W>, f: impl Fn(W) + Sync) {
     std::thread::scope(|s| {
         for _ in 0..threads {
             s.spawn(move || loop {
+                WORKER.with(|w| w.set(true));
                 let next = match queue.lock() {
                     Ok(mut q) => q.next(),
                     Err(_) => None,

@@ -17,10 +17,14 @@ use crate::design::Design;
 use crate::model::enumerate::{Baseline, Enumeration, Point};
 use crate::model::Family;
 
+#[path = "analytic_points.rs"]
+mod points;
+
 /// The figures (as `sensitivity::sensitivities`) and their Jacobian, rows in
 /// `Sens::flat` order and columns over `free` (`baseline`, when given, holds
 /// the utilities and probabilities at `beta`); `None` when the family has no
-/// analytic second derivatives or its coefficients vary across decision makers.
+/// analytic second derivatives, or its probabilities average over coefficient
+/// points that do not give their derivatives by the parameters.
 pub fn sensitivities_with_jacobian(
     family: &dyn Family,
     d: &Design,
@@ -31,8 +35,11 @@ pub fn sensitivities_with_jacobian(
 ) -> Option<(Sens, Vec<Vec<f64>>)> {
     // With some alternatives out of focus the figures are differenced
     // instead (the one-pass sums are over every alternative).
-    if !map.whole() || family.mixture(d).is_some() || !applies(family, beta, d.alternatives()) {
+    if !map.whole() || !applies(family, beta, d.alternatives()) {
         return None;
+    }
+    if let Some(m) = family.mixture(d) {
+        return points::sensitivities_with_jacobian(family, d, map, (beta, free), &*m, baseline);
     }
     let lay = Layout::new(d, map);
     let sz = Sizes::new(lay, free.len());
@@ -244,36 +251,9 @@ impl Scratch {
 
     /// Adds the gathered situations' products to the sums.
     fn flush(&mut self) {
-        let n = self.filled;
-        if n == 0 {
-            return;
-        }
         let (rows, width) = (self.sz.rows(), self.sz.width());
-        for k in 0..self.sz.lay.j {
-            let u = &self.u[k * BLOCK * rows..][..n * rows];
-            let g = &self.g[k * BLOCK * width..][..n * width];
-            let c = &mut self.sums[k * rows * width..][..rows * width];
-            // SAFETY: u is n × rows (row-major), read as its transpose
-            // rows × n; g is n × width; c is rows × width; all in bounds.
-            unsafe {
-                matrixmultiply::dgemm(
-                    rows,
-                    n,
-                    width,
-                    1.0,
-                    u.as_ptr(),
-                    1,
-                    rows as isize,
-                    g.as_ptr(),
-                    width as isize,
-                    1,
-                    1.0,
-                    c.as_mut_ptr(),
-                    width as isize,
-                    1,
-                );
-            }
-        }
+        let shape = (self.filled, rows, width, self.sz.lay.j, BLOCK);
+        add_products(shape, (&self.u, &self.g), &mut self.sums);
         self.filled = 0;
     }
 
@@ -290,13 +270,8 @@ impl Scratch {
         let at = |k: usize, r: usize| &self.sums[(k * rows + r) * width..][..width];
         let psum = &v[o4..o4 + j];
         let mut out = vec![vec![0.0; kf]; all - j];
-        // A figure's sum S over P_j's sum: dS/Σw P_j − S Σw dP_j/dβ_q / (Σw P_j)².
         let quotient = |num: f64, dnum: f64, jj: usize, q: usize| {
-            if psum[jj] > 0.0 {
-                dnum / psum[jj] - num * pe[q * j + jj] / (psum[jj] * psum[jj])
-            } else {
-                f64::NAN
-            }
+            quotient(num, dnum, psum[jj], pe[q * j + jj])
         };
         let own = |param: usize, q: usize| param == free[q];
         for a in 0..na {
@@ -344,5 +319,54 @@ impl Scratch {
             }
         }
         out
+    }
+}
+
+/// The derivative of a figure's sum S over P_j's sum (`psum`, with
+/// derivative `dpsum`): dS/Σw P_j − S Σw dP_j/dβ_q / (Σw P_j)².
+fn quotient(num: f64, dnum: f64, psum: f64, dpsum: f64) -> f64 {
+    if psum > 0.0 {
+        dnum / psum - num * dpsum / (psum * psum)
+    } else {
+        f64::NAN
+    }
+}
+
+/// Adds, for each changed alternative k (of `alts`), the product of its
+/// gathered multipliers (`n` × `rows`, read transposed) and rows (`n` ×
+/// `width`) to its `rows × width` block of `sums`; the gathered arrays hold
+/// `block` entries per alternative.
+fn add_products(
+    (n, rows, width, alts, block): (usize, usize, usize, usize, usize),
+    (u, g): (&[f64], &[f64]),
+    sums: &mut [f64],
+) {
+    if n == 0 {
+        return;
+    }
+    for k in 0..alts {
+        let u = &u[k * block * rows..][..n * rows];
+        let g = &g[k * block * width..][..n * width];
+        let c = &mut sums[k * rows * width..][..rows * width];
+        // SAFETY: u is n × rows (row-major), read as its transpose
+        // rows × n; g is n × width; c is rows × width; all in bounds.
+        unsafe {
+            matrixmultiply::dgemm(
+                rows,
+                n,
+                width,
+                1.0,
+                u.as_ptr(),
+                1,
+                rows as isize,
+                g.as_ptr(),
+                width as isize,
+                1,
+                1.0,
+                c.as_mut_ptr(),
+                width as isize,
+                1,
+            );
+        }
     }
 }

@@ -52,7 +52,7 @@ pub fn sensitivities_with_jacobian(
     let parts = Enumeration::new(family, d, beta).baseline(baseline).points(
         |_| Scratch::new(sz),
         |s, pt| {
-            family.dprob(pt.coefficients, pt.v, pt.p, &mut s.dp);
+            family.dprob(pt.coefficients, pt.v, pt.p, &mut s.loc.dp);
             let wi = w[pt.i] * pt.weight;
             add_point(
                 d,
@@ -63,7 +63,7 @@ pub fn sensitivities_with_jacobian(
                 pt.coefficients,
                 pt.p,
                 super::sensitivity::Derivatives {
-                    dp: &s.dp,
+                    dp: &s.loc.dp,
                     focused: false,
                 },
                 &mut s.values,
@@ -142,14 +142,8 @@ struct Scratch {
     sums: Vec<f64>,
     /// Σ w dP_j/dβ_q, `[q][j]`.
     pe: Vec<f64>,
-    dp: Vec<f64>,
-    /// Scratch for a family's second derivatives.
-    d2p: Vec<f64>,
-    /// Of the current situation: x[q][m] = dV_m/dβ_q, e[q][j] = dP_j/dβ_q,
-    /// gs[k][q][j] = Σ_m d²P_j/(dV_k dV_m) x[q][m].
-    x: Vec<f64>,
-    e: Vec<f64>,
-    gs: Vec<f64>,
+    /// Of the current situation.
+    loc: Local,
     /// Gathered multipliers `[k][situation][row]` and rows `[k][situation][column]`.
     u: Vec<f64>,
     g: Vec<f64>,
@@ -165,11 +159,7 @@ impl Scratch {
             values: vec![0.0; sz.lay.offsets().4],
             sums: vec![0.0; j * rows * width],
             pe: vec![0.0; sz.kf * j],
-            dp: vec![0.0; j * j],
-            d2p: vec![0.0; j * j * j],
-            x: vec![0.0; sz.kf * j],
-            e: vec![0.0; sz.kf * j],
-            gs: vec![0.0; j * sz.kf * j],
+            loc: Local::new(j, sz.kf),
             u: vec![0.0; j * BLOCK * rows],
             g: vec![0.0; j * BLOCK * width],
             filled: 0,
@@ -192,8 +182,8 @@ impl Scratch {
         let jq = kf * j;
         let i = pt.i;
         // x[q][m] = dV_m/dβ_q and e[q][j] = dP_j/dβ_q.
-        self.x.iter_mut().for_each(|v| *v = 0.0);
-        self.e.iter_mut().for_each(|v| *v = 0.0);
+        self.loc.x.iter_mut().for_each(|v| *v = 0.0);
+        self.loc.e.iter_mut().for_each(|v| *v = 0.0);
         for (m, feats) in d.features.iter().enumerate() {
             if !d.available(i, m) {
                 continue;
@@ -201,32 +191,20 @@ impl Scratch {
             for f in feats {
                 let Some(q) = column[f.param] else { continue };
                 let x = d.value(i, m, f.value);
-                self.x[q * j + m] += x;
-                let e = &mut self.e[q * j..(q + 1) * j];
+                self.loc.x[q * j + m] += x;
+                let e = &mut self.loc.e[q * j..(q + 1) * j];
                 for (jj, ej) in e.iter_mut().enumerate() {
-                    *ej += self.dp[jj * j + m] * x;
+                    *ej += self.loc.dp[jj * j + m] * x;
                 }
             }
         }
-        for (pe, e) in self.pe.iter_mut().zip(&self.e) {
-            *pe += wi * e;
-        }
-        family.d2prob_along(
-            pt.v,
-            pt.p,
-            &self.dp,
-            &mut self.d2p,
-            &self.x,
-            &self.e,
-            kf,
-            &mut self.gs,
-        );
+        self.loc.contract(family, pt, wi, &mut self.pe);
         let b = self.filled;
         for k in 0..j {
             let row = &mut self.g[(k * BLOCK + b) * width..][..width];
-            row[..jq].copy_from_slice(&self.gs[k * jq..(k + 1) * jq]);
+            row[..jq].copy_from_slice(&self.loc.gs[k * jq..(k + 1) * jq]);
             for jj in 0..j {
-                row[jq + jj] = self.dp[jj * j + k];
+                row[jq + jj] = self.loc.dp[jj * j + k];
             }
             let u = &mut self.u[(k * BLOCK + b) * rows..][..rows];
             u.iter_mut().for_each(|x| *x = 0.0);
@@ -368,5 +346,48 @@ fn add_products(
                 1,
             );
         }
+    }
+}
+
+/// One situation's (or coefficient point's) derivatives: dp = dP/dV, d2p
+/// scratch for d²P/dVdV, x[q][m] = dV_m/dβ_q, e[q][j] = dP_j/dβ_q and
+/// gs[k][q][j] = Σ_m d²P_j/(dV_k dV_m) x[q][m].
+struct Local {
+    kf: usize,
+    dp: Vec<f64>,
+    d2p: Vec<f64>,
+    x: Vec<f64>,
+    e: Vec<f64>,
+    gs: Vec<f64>,
+}
+
+impl Local {
+    fn new(j: usize, kf: usize) -> Local {
+        Local {
+            kf,
+            dp: vec![0.0; j * j],
+            d2p: vec![0.0; j * j * j],
+            x: vec![0.0; kf * j],
+            e: vec![0.0; kf * j],
+            gs: vec![0.0; j * kf * j],
+        }
+    }
+
+    /// With `dp`, `x` and `e` filled: adds `wi` e to `pe` and contracts the
+    /// family's second derivatives at point `pt` with x into `gs`.
+    fn contract(&mut self, family: &dyn Family, pt: &Point, wi: f64, pe: &mut [f64]) {
+        for (pe, e) in pe.iter_mut().zip(&self.e) {
+            *pe += wi * e;
+        }
+        family.d2prob_along(
+            pt.v,
+            pt.p,
+            &self.dp,
+            &mut self.d2p,
+            &self.x,
+            &self.e,
+            self.kf,
+            &mut self.gs,
+        );
     }
 }

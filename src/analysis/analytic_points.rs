@@ -17,6 +17,8 @@ use crate::design::Design;
 use crate::model::enumerate::{Baseline, Enumeration, Point};
 use crate::model::{CoefficientDerivatives, Family, Points};
 
+use super::Local;
+
 /// Points gathered before their products are added to the sums.
 const BLOCK: usize = 128;
 
@@ -42,10 +44,10 @@ pub(super) fn sensitivities_with_jacobian(
         |_| Scratch::new(lay, kf, deps.len()),
         |s, pt| {
             s.next_point(points, beta, pt.i);
-            family.dprob(pt.coefficients, pt.v, pt.p, &mut s.dp);
+            family.dprob(pt.coefficients, pt.v, pt.p, &mut s.loc.dp);
             let wi = w[pt.i] * pt.weight;
             let der = Derivatives {
-                dp: &s.dp,
+                dp: &s.loc.dp,
                 focused: false,
             };
             add_point(
@@ -135,13 +137,8 @@ struct Scratch {
     dsum: Vec<f64>,
     /// Σ ω dP_j/dβ_q, `[q][j]`.
     pe: Vec<f64>,
-    dp: Vec<f64>,
-    d2p: Vec<f64>,
-    /// Of the current point: x[q][m] = dV_m/dβ_q, e[q][j] = dP_j/dβ_q,
-    /// gs[k][q][j] = Σ_m T[j][k][m] x[q][m], dv[t] the value of `Deps` entry t.
-    x: Vec<f64>,
-    e: Vec<f64>,
-    gs: Vec<f64>,
+    /// Of the current point; dv[t] the value of `Deps` entry t.
+    loc: Local,
     dv: Vec<f64>,
     /// The current situation's derivatives and the point's place in them.
     cd: CoefficientDerivatives,
@@ -165,11 +162,7 @@ impl Scratch {
             sums: vec![0.0; j * rows * width],
             dsum: vec![0.0; o4 * kf],
             pe: vec![0.0; kf * j],
-            dp: vec![0.0; j * j],
-            d2p: vec![0.0; j * j * j],
-            x: vec![0.0; kf * j],
-            e: vec![0.0; kf * j],
-            gs: vec![0.0; j * kf * j],
+            loc: Local::new(j, kf),
             dv: vec![0.0; deps],
             cd: CoefficientDerivatives::default(),
             situation: usize::MAX,
@@ -201,14 +194,14 @@ impl Scratch {
         pt: &Point,
         wi: f64,
     ) {
-        let (j, kf, i) = (self.lay.j, self.kf, pt.i);
+        let (j, i) = (self.lay.j, pt.i);
         let np = self.cd.pairs.len();
         let at = &self.cd.values[self.r * np..(self.r + 1) * np];
         for (dv, &(_, src)) in self.dv.iter_mut().zip(&deps.entries) {
             *dv = src.map_or(1.0, |e| at[e]);
         }
         // x[q][m] = dV_m/dβ_q, then e[q][j] = dP_j/dβ_q.
-        self.x.iter_mut().for_each(|v| *v = 0.0);
+        self.loc.x.iter_mut().for_each(|v| *v = 0.0);
         for (m, feats) in d.features.iter().enumerate() {
             if !d.available(i, m) {
                 continue;
@@ -216,29 +209,22 @@ impl Scratch {
             for f in feats {
                 let x = d.value(i, m, f.value);
                 for (t, q) in deps.of(f.param) {
-                    self.x[q * j + m] += x * self.dv[t];
+                    self.loc.x[q * j + m] += x * self.dv[t];
                 }
             }
         }
-        for (eq, xq) in self.e.chunks_exact_mut(j).zip(self.x.chunks_exact(j)) {
+        for (eq, xq) in self
+            .loc
+            .e
+            .chunks_exact_mut(j)
+            .zip(self.loc.x.chunks_exact(j))
+        {
             for (jj, ej) in eq.iter_mut().enumerate() {
-                let row = &self.dp[jj * j..(jj + 1) * j];
+                let row = &self.loc.dp[jj * j..(jj + 1) * j];
                 *ej = row.iter().zip(xq).map(|(a, b)| a * b).sum();
             }
         }
-        for (pe, e) in self.pe.iter_mut().zip(&self.e) {
-            *pe += wi * e;
-        }
-        family.d2prob_along(
-            pt.v,
-            pt.p,
-            &self.dp,
-            &mut self.d2p,
-            &self.x,
-            &self.e,
-            kf,
-            &mut self.gs,
-        );
+        self.loc.contract(family, pt, wi, &mut self.pe);
         self.gather(d, map, pt, wi);
         self.add_direct(d, map, deps, pt.i, wi);
         self.filled += 1;
@@ -255,7 +241,7 @@ impl Scratch {
         let (i, c, b) = (pt.i, pt.coefficients, self.filled);
         for k in 0..j {
             let row = &mut self.g[(k * BLOCK + b) * width..][..width];
-            row.copy_from_slice(&self.gs[k * width..(k + 1) * width]);
+            row.copy_from_slice(&self.loc.gs[k * width..(k + 1) * width]);
             let u = &mut self.u[(k * BLOCK + b) * rows..][..rows];
             u.iter_mut().for_each(|x| *x = 0.0);
             if d.available(i, k) {
@@ -293,7 +279,7 @@ impl Scratch {
                 for (t, q) in deps.of(param) {
                     let v = wi * self.dv[t];
                     for jj in 0..j {
-                        let dpk = v * self.dp[jj * j + k];
+                        let dpk = v * self.loc.dp[jj * j + k];
                         let idx = (a * j + k) * j + jj;
                         self.dsum[idx * kf + q] += dpk * x;
                         self.dsum[(o1 + idx) * kf + q] += dpk;
@@ -310,7 +296,7 @@ impl Scratch {
                 for (t, q) in deps.of(param) {
                     let v = wi * self.dv[t];
                     for jj in 0..j {
-                        let dpl = v * self.dp[jj * j + l];
+                        let dpl = v * self.loc.dp[jj * j + l];
                         self.dsum[(o2 + c * j + jj) * kf + q] += dpl * z;
                         self.dsum[(o3 + c * j + jj) * kf + q] += dpl;
                     }

@@ -43,7 +43,7 @@ pub(super) fn sensitivities_with_jacobian(
     let parts = Enumeration::new(family, d, beta).baseline(baseline).points(
         |_| Scratch::new(lay, kf, deps.len()),
         |s, pt| {
-            s.next_point(points, beta, pt.i);
+            s.next_point((points, beta), d, &deps, pt.i);
             family.dprob(pt.coefficients, pt.v, pt.p, &mut s.loc.dp);
             let wi = w[pt.i] * pt.weight;
             let der = Derivatives {
@@ -140,8 +140,11 @@ struct Scratch {
     /// Of the current point; dv[t] the value of `Deps` entry t.
     loc: Local,
     dv: Vec<f64>,
-    /// The current situation's derivatives and the point's place in them.
+    /// The current situation's derivatives and the point's place in them,
+    /// and its features that move with a free parameter: (alternative,
+    /// parameter, value).
     cd: CoefficientDerivatives,
+    feats: Vec<(usize, usize, f64)>,
     situation: usize,
     r: usize,
     /// Gathered multipliers `[k][point][row]` and rows `[k][point][column]`.
@@ -165,6 +168,7 @@ impl Scratch {
             loc: Local::new(j, kf),
             dv: vec![0.0; deps],
             cd: CoefficientDerivatives::default(),
+            feats: Vec::new(),
             situation: usize::MAX,
             r: 0,
             u: vec![0.0; j * BLOCK * rows],
@@ -174,14 +178,31 @@ impl Scratch {
     }
 
     /// Moves to the next point (of situation `i`): its situation's points'
-    /// derivatives are read at its first point.
-    fn next_point(&mut self, points: &dyn Points, beta: &[f64], i: usize) {
+    /// derivatives and features are read at its first point.
+    fn next_point(
+        &mut self,
+        (points, beta): (&dyn Points, &[f64]),
+        d: &Design,
+        deps: &Deps,
+        i: usize,
+    ) {
         if i == self.situation {
             self.r += 1;
-        } else {
-            points.derivatives(beta, i, &mut self.cd);
-            self.situation = i;
-            self.r = 0;
+            return;
+        }
+        points.derivatives(beta, i, &mut self.cd);
+        self.situation = i;
+        self.r = 0;
+        self.feats.clear();
+        for (m, feats) in d.features.iter().enumerate() {
+            if !d.available(i, m) {
+                continue;
+            }
+            for f in feats {
+                if deps.of(f.param).next().is_some() {
+                    self.feats.push((m, f.param, d.value(i, m, f.value)));
+                }
+            }
         }
     }
 
@@ -194,7 +215,7 @@ impl Scratch {
         pt: &Point,
         wi: f64,
     ) {
-        let (j, i) = (self.lay.j, pt.i);
+        let j = self.lay.j;
         let np = self.cd.pairs.len();
         let at = &self.cd.values[self.r * np..(self.r + 1) * np];
         for (dv, &(_, src)) in self.dv.iter_mut().zip(&deps.entries) {
@@ -202,15 +223,9 @@ impl Scratch {
         }
         // x[q][m] = dV_m/dβ_q, then e[q][j] = dP_j/dβ_q.
         self.loc.x.iter_mut().for_each(|v| *v = 0.0);
-        for (m, feats) in d.features.iter().enumerate() {
-            if !d.available(i, m) {
-                continue;
-            }
-            for f in feats {
-                let x = d.value(i, m, f.value);
-                for (t, q) in deps.of(f.param) {
-                    self.loc.x[q * j + m] += x * self.dv[t];
-                }
+        for &(m, param, x) in &self.feats {
+            for (t, q) in deps.of(param) {
+                self.loc.x[q * j + m] += x * self.dv[t];
             }
         }
         for (eq, xq) in self

@@ -10,7 +10,9 @@
 //! Σ ω Σ_m D[j][m] x[q][m]. The G terms are gathered `BLOCK` points at a time
 //! and added with one matrix product per changed alternative (the point's
 //! coefficient folded into the multipliers); the D terms, sparse in q, are
-//! added directly. Sums per piece, in piece order.
+//! added directly. Points whose weights move with the parameters (latent
+//! classes' shares) add ∂ω/∂β_q times the point's summands at unit weight.
+//! Sums per piece, in piece order.
 
 use crate::analysis::sensitivity::{add_point, finish, Derivatives, Layout, Sens, TermMap};
 use crate::design::Design;
@@ -37,6 +39,7 @@ pub(super) fn sensitivities_with_jacobian(
         return None;
     }
     let deps = Deps::new(beta.len(), free, &probe.pairs);
+    let by_weight = weight_columns(free, &probe.weight_params, beta.len());
     let lay = Layout::new(d, map);
     let kf = free.len();
     let w = &d.obs.weight;
@@ -62,6 +65,9 @@ pub(super) fn sensitivities_with_jacobian(
                 &mut s.values,
             );
             s.add_derivatives(family, (d, map), &deps, pt, wi);
+            if !by_weight.is_empty() {
+                s.add_weight_terms(d, map, &by_weight, pt);
+            }
         },
     );
     let mut total = Scratch::new(lay, kf, deps.len());
@@ -80,6 +86,17 @@ pub(super) fn sensitivities_with_jacobian(
     let sens = finish(lay, &total.values, tw);
     let jac = total.jacobian(map, tw);
     Some((sens, jac))
+}
+
+/// The weights' derivatives that move with a free parameter: (entry of
+/// `weight_params`, column).
+fn weight_columns(free: &[usize], params: &[usize], k: usize) -> Vec<(usize, usize)> {
+    let mut column = vec![None; k];
+    for (q, &p) in free.iter().enumerate() {
+        column[p] = Some(q);
+    }
+    let at = |(e, &p): (usize, &usize)| Some((e, column[p]?));
+    params.iter().enumerate().filter_map(at).collect()
 }
 
 /// For each parameter k (a coefficient of the points), the free parameters
@@ -135,6 +152,8 @@ struct Scratch {
     values: Vec<f64>,
     sums: Vec<f64>,
     dsum: Vec<f64>,
+    /// A point's summands at unit weight (points with moving weights).
+    unit: Vec<f64>,
     /// Σ ω dP_j/dβ_q, `[q][j]`.
     pe: Vec<f64>,
     /// Of the current point; dv[t] the value of `Deps` entry t.
@@ -164,6 +183,7 @@ impl Scratch {
             values: vec![0.0; lay.offsets().4],
             sums: vec![0.0; j * rows * width],
             dsum: vec![0.0; o4 * kf],
+            unit: vec![0.0; lay.offsets().4],
             pe: vec![0.0; kf * j],
             loc: Local::new(j, kf),
             dv: vec![0.0; deps],
@@ -316,6 +336,30 @@ impl Scratch {
                         self.dsum[(o3 + c * j + jj) * kf + q] += dpl;
                     }
                 }
+            }
+        }
+    }
+
+    /// Adds the terms of a point's weight's derivatives, dω/dβ_q times the
+    /// point's summands at unit weight (figures and probability sums).
+    fn add_weight_terms(&mut self, d: &Design, map: &TermMap, by: &[(usize, usize)], pt: &Point) {
+        let (kf, j, o4) = (self.kf, self.lay.j, self.lay.offsets().3);
+        self.unit.iter_mut().for_each(|u| *u = 0.0);
+        let der = Derivatives {
+            dp: &self.loc.dp,
+            focused: false,
+        };
+        let (i, c) = (pt.i, pt.coefficients);
+        add_point(d, map, self.lay, i, 1.0, c, pt.p, der, &mut self.unit);
+        let nw = self.cd.weight_params.len();
+        let at = &self.cd.weight_values[self.r * nw..(self.r + 1) * nw];
+        for &(e, q) in by {
+            let f = d.obs.weight[i] * at[e];
+            for (s, u) in self.unit[..o4].iter().enumerate() {
+                self.dsum[s * kf + q] += f * u;
+            }
+            for (jj, u) in self.unit[o4..].iter().enumerate() {
+                self.pe[q * j + jj] += f * u;
             }
         }
     }

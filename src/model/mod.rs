@@ -441,10 +441,10 @@ pub trait Points: Send + Sync {
         let r = out.len().max(1) as f64;
         out.iter_mut().for_each(|w| *w = 1.0 / r);
     }
-    /// The derivatives of situation `i`'s points' coefficients by the
-    /// parameters, for points whose weights do not depend on them: `false`
-    /// (the default) when not available (the analyses then difference).
-    /// A coefficient that no pair names is its parameter itself.
+    /// The derivatives of situation `i`'s points' coefficients (and of
+    /// their weights, when those depend on the parameters) by the
+    /// parameters: `false` (the default) when not available (the analyses
+    /// then difference). A coefficient that no pair names is its parameter itself.
     fn derivatives(&self, beta: &[f64], i: usize, out: &mut CoefficientDerivatives) -> bool {
         let _ = (beta, i, out);
         false
@@ -454,11 +454,16 @@ pub trait Points: Send + Sync {
 /// The derivatives of a situation's coefficient points by the parameters:
 /// d c_r[k] / d beta_p = `values[r * pairs.len() + e]` for each pair
 /// `pairs[e]` = (k, p); the same pairs for every situation (a pair may repeat:
-/// its values add). Both are cleared and refilled by `Points::derivatives`.
+/// its values add). Points whose weights depend on the parameters give them
+/// too: d w_r / d beta_p = `weight_values[r * weight_params.len() + e]` for p
+/// = `weight_params[e]` (empty: constant weights). `Points::derivatives`
+/// clears and refills what it gives.
 #[derive(Clone, Debug, Default)]
 pub struct CoefficientDerivatives {
     pub pairs: Vec<(usize, usize)>,
     pub values: Vec<f64>,
+    pub weight_params: Vec<usize>,
+    pub weight_values: Vec<f64>,
 }
 
 /// A family shared by a fit, its analyses and the workbench.

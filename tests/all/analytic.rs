@@ -224,9 +224,15 @@ fn one_pass_figures_and_jacobian_match_the_differenced_reference() {
     for (name, points) in [("logit", false), ("probit", false), ("logit", true)] {
         assert!(applied.contains(&(name, points)), "applied to {applied:?}");
     }
-    // The mixed logit: independent, correlated and in willingness-to-pay space.
+    // The mixed logit: independent, correlated and in willingness-to-pay
+    // space; latent classes, whose points' weights move with the membership
+    // model's parameters.
     let mixed = applied.iter().filter(|a| a.0 == "mixed").count();
     assert_eq!(mixed, 3, "applied to {applied:?}");
+    assert!(
+        applied.contains(&("latent-class", true)),
+        "applied to {applied:?}"
+    );
 }
 
 #[test]
@@ -241,13 +247,13 @@ fn families_with_parameters_of_their_own_keep_the_differenced_jacobian() {
         let free: Vec<usize> = (0..beta.len()).collect();
         let fast = sensitivities_with_jacobian(&*family, &d, &map, &beta, &free, None);
         // Coefficient points carry the mixed logit's own parameters (its
-        // spreads); latent classes' weights depend on the parameters and
-        // their points give no derivatives.
+        // spreads) and the latent classes' (the classes' coefficients and
+        // the membership model's, through the points' weights).
         let points = family.mixture(&d);
-        if points.is_none() && own || family.abilities().latent_classes {
+        if points.is_none() && own {
             assert!(fast.is_none(), "{}: has parameters of its own", e.name);
         }
-        if points.is_some() && e.name == "mixed" {
+        if points.is_some() && ["mixed", "latent-class"].contains(&e.name) {
             assert!(fast.is_some(), "{}: its points give derivatives", e.name);
         }
     }

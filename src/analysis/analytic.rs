@@ -17,10 +17,14 @@ use crate::design::Design;
 use crate::model::enumerate::{Baseline, Enumeration, Point};
 use crate::model::Family;
 
+#[path = "analytic_points.rs"]
+mod points;
+
 /// The figures (as `sensitivity::sensitivities`) and their Jacobian, rows in
 /// `Sens::flat` order and columns over `free` (`baseline`, when given, holds
 /// the utilities and probabilities at `beta`); `None` when the family has no
-/// analytic second derivatives or its coefficients vary across decision makers.
+/// analytic second derivatives, or its probabilities average over coefficient
+/// points that do not give their derivatives by the parameters.
 pub fn sensitivities_with_jacobian(
     family: &dyn Family,
     d: &Design,
@@ -31,8 +35,11 @@ pub fn sensitivities_with_jacobian(
 ) -> Option<(Sens, Vec<Vec<f64>>)> {
     // With some alternatives out of focus the figures are differenced
     // instead (the one-pass sums are over every alternative).
-    if !map.whole() || family.mixture(d).is_some() || !applies(family, beta, d.alternatives()) {
+    if !map.whole() || !applies(family, beta, d.alternatives()) {
         return None;
+    }
+    if let Some(m) = family.mixture(d) {
+        return points::sensitivities_with_jacobian(family, d, map, (beta, free), &*m, baseline);
     }
     let lay = Layout::new(d, map);
     let sz = Sizes::new(lay, free.len());
@@ -45,7 +52,7 @@ pub fn sensitivities_with_jacobian(
     let parts = Enumeration::new(family, d, beta).baseline(baseline).points(
         |_| Scratch::new(sz),
         |s, pt| {
-            family.dprob(pt.coefficients, pt.v, pt.p, &mut s.dp);
+            family.dprob(pt.coefficients, pt.v, pt.p, &mut s.loc.dp);
             let wi = w[pt.i] * pt.weight;
             add_point(
                 d,
@@ -56,7 +63,7 @@ pub fn sensitivities_with_jacobian(
                 pt.coefficients,
                 pt.p,
                 super::sensitivity::Derivatives {
-                    dp: &s.dp,
+                    dp: &s.loc.dp,
                     focused: false,
                 },
                 &mut s.values,
@@ -135,14 +142,8 @@ struct Scratch {
     sums: Vec<f64>,
     /// Σ w dP_j/dβ_q, `[q][j]`.
     pe: Vec<f64>,
-    dp: Vec<f64>,
-    /// Scratch for a family's second derivatives.
-    d2p: Vec<f64>,
-    /// Of the current situation: x[q][m] = dV_m/dβ_q, e[q][j] = dP_j/dβ_q,
-    /// gs[k][q][j] = Σ_m d²P_j/(dV_k dV_m) x[q][m].
-    x: Vec<f64>,
-    e: Vec<f64>,
-    gs: Vec<f64>,
+    /// Of the current situation.
+    loc: Local,
     /// Gathered multipliers `[k][situation][row]` and rows `[k][situation][column]`.
     u: Vec<f64>,
     g: Vec<f64>,
@@ -158,11 +159,7 @@ impl Scratch {
             values: vec![0.0; sz.lay.offsets().4],
             sums: vec![0.0; j * rows * width],
             pe: vec![0.0; sz.kf * j],
-            dp: vec![0.0; j * j],
-            d2p: vec![0.0; j * j * j],
-            x: vec![0.0; sz.kf * j],
-            e: vec![0.0; sz.kf * j],
-            gs: vec![0.0; j * sz.kf * j],
+            loc: Local::new(j, sz.kf),
             u: vec![0.0; j * BLOCK * rows],
             g: vec![0.0; j * BLOCK * width],
             filled: 0,
@@ -185,8 +182,8 @@ impl Scratch {
         let jq = kf * j;
         let i = pt.i;
         // x[q][m] = dV_m/dβ_q and e[q][j] = dP_j/dβ_q.
-        self.x.iter_mut().for_each(|v| *v = 0.0);
-        self.e.iter_mut().for_each(|v| *v = 0.0);
+        self.loc.x.iter_mut().for_each(|v| *v = 0.0);
+        self.loc.e.iter_mut().for_each(|v| *v = 0.0);
         for (m, feats) in d.features.iter().enumerate() {
             if !d.available(i, m) {
                 continue;
@@ -194,32 +191,20 @@ impl Scratch {
             for f in feats {
                 let Some(q) = column[f.param] else { continue };
                 let x = d.value(i, m, f.value);
-                self.x[q * j + m] += x;
-                let e = &mut self.e[q * j..(q + 1) * j];
+                self.loc.x[q * j + m] += x;
+                let e = &mut self.loc.e[q * j..(q + 1) * j];
                 for (jj, ej) in e.iter_mut().enumerate() {
-                    *ej += self.dp[jj * j + m] * x;
+                    *ej += self.loc.dp[jj * j + m] * x;
                 }
             }
         }
-        for (pe, e) in self.pe.iter_mut().zip(&self.e) {
-            *pe += wi * e;
-        }
-        family.d2prob_along(
-            pt.v,
-            pt.p,
-            &self.dp,
-            &mut self.d2p,
-            &self.x,
-            &self.e,
-            kf,
-            &mut self.gs,
-        );
+        self.loc.contract(family, pt, wi, &mut self.pe);
         let b = self.filled;
         for k in 0..j {
             let row = &mut self.g[(k * BLOCK + b) * width..][..width];
-            row[..jq].copy_from_slice(&self.gs[k * jq..(k + 1) * jq]);
+            row[..jq].copy_from_slice(&self.loc.gs[k * jq..(k + 1) * jq]);
             for jj in 0..j {
-                row[jq + jj] = self.dp[jj * j + k];
+                row[jq + jj] = self.loc.dp[jj * j + k];
             }
             let u = &mut self.u[(k * BLOCK + b) * rows..][..rows];
             u.iter_mut().for_each(|x| *x = 0.0);
@@ -244,36 +229,9 @@ impl Scratch {
 
     /// Adds the gathered situations' products to the sums.
     fn flush(&mut self) {
-        let n = self.filled;
-        if n == 0 {
-            return;
-        }
         let (rows, width) = (self.sz.rows(), self.sz.width());
-        for k in 0..self.sz.lay.j {
-            let u = &self.u[k * BLOCK * rows..][..n * rows];
-            let g = &self.g[k * BLOCK * width..][..n * width];
-            let c = &mut self.sums[k * rows * width..][..rows * width];
-            // SAFETY: u is n × rows (row-major), read as its transpose
-            // rows × n; g is n × width; c is rows × width; all in bounds.
-            unsafe {
-                matrixmultiply::dgemm(
-                    rows,
-                    n,
-                    width,
-                    1.0,
-                    u.as_ptr(),
-                    1,
-                    rows as isize,
-                    g.as_ptr(),
-                    width as isize,
-                    1,
-                    1.0,
-                    c.as_mut_ptr(),
-                    width as isize,
-                    1,
-                );
-            }
-        }
+        let shape = (self.filled, rows, width, self.sz.lay.j, BLOCK);
+        add_products(shape, (&self.u, &self.g), &mut self.sums);
         self.filled = 0;
     }
 
@@ -290,13 +248,8 @@ impl Scratch {
         let at = |k: usize, r: usize| &self.sums[(k * rows + r) * width..][..width];
         let psum = &v[o4..o4 + j];
         let mut out = vec![vec![0.0; kf]; all - j];
-        // A figure's sum S over P_j's sum: dS/Σw P_j − S Σw dP_j/dβ_q / (Σw P_j)².
         let quotient = |num: f64, dnum: f64, jj: usize, q: usize| {
-            if psum[jj] > 0.0 {
-                dnum / psum[jj] - num * pe[q * j + jj] / (psum[jj] * psum[jj])
-            } else {
-                f64::NAN
-            }
+            quotient(num, dnum, psum[jj], pe[q * j + jj])
         };
         let own = |param: usize, q: usize| param == free[q];
         for a in 0..na {
@@ -344,5 +297,97 @@ impl Scratch {
             }
         }
         out
+    }
+}
+
+/// The derivative of a figure's sum S over P_j's sum (`psum`, with
+/// derivative `dpsum`): dS/Σw P_j − S Σw dP_j/dβ_q / (Σw P_j)².
+fn quotient(num: f64, dnum: f64, psum: f64, dpsum: f64) -> f64 {
+    if psum > 0.0 {
+        dnum / psum - num * dpsum / (psum * psum)
+    } else {
+        f64::NAN
+    }
+}
+
+/// Adds, for each changed alternative k (of `alts`), the product of its
+/// gathered multipliers (`n` × `rows`, read transposed) and rows (`n` ×
+/// `width`) to its `rows × width` block of `sums`; the gathered arrays hold
+/// `block` entries per alternative.
+fn add_products(
+    (n, rows, width, alts, block): (usize, usize, usize, usize, usize),
+    (u, g): (&[f64], &[f64]),
+    sums: &mut [f64],
+) {
+    if n == 0 {
+        return;
+    }
+    for k in 0..alts {
+        let u = &u[k * block * rows..][..n * rows];
+        let g = &g[k * block * width..][..n * width];
+        let c = &mut sums[k * rows * width..][..rows * width];
+        // SAFETY: u is n × rows (row-major), read as its transpose
+        // rows × n; g is n × width; c is rows × width; all in bounds.
+        unsafe {
+            matrixmultiply::dgemm(
+                rows,
+                n,
+                width,
+                1.0,
+                u.as_ptr(),
+                1,
+                rows as isize,
+                g.as_ptr(),
+                width as isize,
+                1,
+                1.0,
+                c.as_mut_ptr(),
+                width as isize,
+                1,
+            );
+        }
+    }
+}
+
+/// One situation's (or coefficient point's) derivatives: dp = dP/dV, d2p
+/// scratch for d²P/dVdV, x[q][m] = dV_m/dβ_q, e[q][j] = dP_j/dβ_q and
+/// gs[k][q][j] = Σ_m d²P_j/(dV_k dV_m) x[q][m].
+struct Local {
+    kf: usize,
+    dp: Vec<f64>,
+    d2p: Vec<f64>,
+    x: Vec<f64>,
+    e: Vec<f64>,
+    gs: Vec<f64>,
+}
+
+impl Local {
+    fn new(j: usize, kf: usize) -> Local {
+        Local {
+            kf,
+            dp: vec![0.0; j * j],
+            d2p: vec![0.0; j * j * j],
+            x: vec![0.0; kf * j],
+            e: vec![0.0; kf * j],
+            gs: vec![0.0; j * kf * j],
+        }
+    }
+
+    /// With `dp`, `x` and `e` filled: adds `wi` e to `pe` and contracts the
+    /// family's second derivatives at point `pt` with x into `gs`.
+    fn contract(&mut self, family: &dyn Family, pt: &Point, wi: f64, pe: &mut [f64]) {
+        for (pe, e) in pe.iter_mut().zip(&self.e) {
+            *pe += wi * e;
+        }
+        family.d2prob_along(
+            pt.v,
+            pt.p,
+            &self.dp,
+            &mut self.d2p,
+            &self.x,
+            &self.e,
+            self.kf,
+            &mut self.gs,
+        );
     }
 }

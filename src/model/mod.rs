@@ -201,9 +201,10 @@ pub trait Family: Send + Sync + std::fmt::Debug {
     /// Second derivatives d²P_j/(dV_k dV_m) of one situation into `d2p`
     /// (J x J x J row-major, `[(j * J + k) * J + m]`; zero where an alternative
     /// is unavailable), for a family whose probabilities depend on the
-    /// parameters only through the utilities (no parameters of its own, one
-    /// coefficient point). The analyses then differentiate aggregate figures by
-    /// the parameters analytically, in one pass. `false` (the default): the
+    /// parameters only through the utilities (no parameters of its own; with
+    /// coefficient points, at each point, whose derivatives by the parameters
+    /// `Points::derivatives` gives). The analyses then differentiate aggregate
+    /// figures by the parameters analytically, in one pass. `false` (the default): the
     /// family has none, and they are differenced numerically.
     fn d2prob(&self, v: &[f64], p: &[f64], dp: &[f64], d2p: &mut [f64]) -> bool {
         let _ = (v, p, dp, d2p);
@@ -467,6 +468,29 @@ pub trait Points: Send + Sync {
         let r = out.len().max(1) as f64;
         out.iter_mut().for_each(|w| *w = 1.0 / r);
     }
+    /// The derivatives of situation `i`'s points' coefficients (and of
+    /// their weights, when those depend on the parameters) by the
+    /// parameters: `false` (the default) when not available (the analyses
+    /// then difference). A coefficient that no pair names is its parameter itself.
+    fn derivatives(&self, beta: &[f64], i: usize, out: &mut CoefficientDerivatives) -> bool {
+        let _ = (beta, i, out);
+        false
+    }
+}
+
+/// The derivatives of a situation's coefficient points by the parameters:
+/// d c_r[k] / d beta_p = `values[r * pairs.len() + e]` for each pair
+/// `pairs[e]` = (k, p); the same pairs for every situation (a pair may repeat:
+/// its values add). Points whose weights depend on the parameters give them
+/// too: d w_r / d beta_p = `weight_values[r * weight_params.len() + e]` for p
+/// = `weight_params[e]` (empty: constant weights). `Points::derivatives`
+/// clears and refills what it gives.
+#[derive(Clone, Debug, Default)]
+pub struct CoefficientDerivatives {
+    pub pairs: Vec<(usize, usize)>,
+    pub values: Vec<f64>,
+    pub weight_params: Vec<usize>,
+    pub weight_values: Vec<f64>,
 }
 
 /// A family shared by a fit, its analyses and the workbench.

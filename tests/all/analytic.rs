@@ -13,6 +13,8 @@ use sharecast::analysis::sensitivity::{sensitivities, TermMap};
 use sharecast::design::Design;
 use sharecast::model::enumerate::Baseline;
 use sharecast::model::registry::FAMILIES;
+use sharecast::model::Family;
+use sharecast::spec::Spec;
 
 use super::families::setup;
 
@@ -36,13 +38,7 @@ impl Situation {
     }
 
     /// Fills them for situation `i`; `false` when the family has no second derivatives.
-    fn fill(
-        &mut self,
-        family: &dyn sharecast::model::Family,
-        d: &Design,
-        beta: &[f64],
-        i: usize,
-    ) -> bool {
+    fn fill(&mut self, family: &dyn Family, d: &Design, beta: &[f64], i: usize) -> bool {
         d.utilities(beta, i, &mut self.v);
         family.probabilities(beta, &self.v, &mut self.p);
         family.dprob(beta, &self.v, &self.p, &mut self.dp);
@@ -154,63 +150,89 @@ fn contracted_second_derivatives_equal_the_full_array_contracted() {
     assert!(checked > 0, "no family gives second derivatives");
 }
 
+/// Checks the one-pass figures and Jacobian of `family` at `beta` (every
+/// parameter free) against the differenced reference path: the figures equal
+/// the generic pass (`sensitivities`) to 1e-12 relative and each Jacobian
+/// column equals its central differences to 1e-6 relative. `false` when the
+/// one pass does not apply to the family.
+pub(crate) fn check_against_the_differenced_reference(
+    name: &str,
+    spec: &Spec,
+    family: &dyn Family,
+    d: &Design,
+    beta: &[f64],
+) -> bool {
+    let map = TermMap::new(spec, d);
+    let free: Vec<usize> = (0..beta.len()).collect();
+    let Some((sens, jac)) = sensitivities_with_jacobian(family, d, &map, beta, &free, None) else {
+        return false;
+    };
+    // Reading the cached base utilities and probabilities changes nothing.
+    let cached = Baseline::new(family, d, beta);
+    let again = sensitivities_with_jacobian(family, d, &map, beta, &free, Some(&cached));
+    let Some((sens_cached, jac_cached)) = again else {
+        panic!("{name}: no figures with the cached base");
+    };
+    assert_eq!(sens.flat(), sens_cached.flat(), "{name}");
+    assert_eq!(jac, jac_cached, "{name}");
+    // The same figures as the generic pass (the reference), to rounding.
+    let reference = sensitivities(family, d, &map, beta).flat();
+    let fast = sens.flat();
+    assert_eq!(reference.len(), fast.len());
+    assert_eq!(jac.len(), fast.len());
+    for (r, (a, b)) in reference.iter().zip(&fast).enumerate() {
+        assert!(
+            (a - b).abs() <= 1e-12 * a.abs().max(1e-300) || (a.is_nan() && b.is_nan()),
+            "{name}: figure {r}: generic {a} vs one pass {b}"
+        );
+    }
+    // Each column against central differences of the generic pass.
+    for (q, &param) in free.iter().enumerate() {
+        let h = 1e-5 * beta[param].abs().max(0.1);
+        let (mut up, mut dn) = (beta.to_vec(), beta.to_vec());
+        up[param] += h;
+        dn[param] -= h;
+        let fu = sensitivities(family, d, &map, &up).flat();
+        let fd = sensitivities(family, d, &map, &dn).flat();
+        for r in 0..fast.len() {
+            let numeric = (fu[r] - fd[r]) / (2.0 * h);
+            let scale = numeric.abs().max(fast[r].abs()).max(1e-3);
+            assert!(
+                (numeric - jac[r][q]).abs() <= 1e-6 * scale,
+                "{name}: d figure {r} / d {}: analytic {} vs numeric {numeric}",
+                spec.parameters[param].name,
+                jac[r][q]
+            );
+        }
+    }
+    true
+}
+
 #[test]
-fn one_pass_figures_and_jacobian_match_the_generic_computation() {
+fn one_pass_figures_and_jacobian_match_the_differenced_reference() {
     let mut applied = Vec::new();
     for e in FAMILIES {
         let (spec, family, beta, d) = setup(e, 3_000, 23);
-        let map = TermMap::new(&spec, &d);
-        let free: Vec<usize> = (0..beta.len()).collect();
-        let Some((sens, jac)) = sensitivities_with_jacobian(&*family, &d, &map, &beta, &free, None)
-        else {
-            continue;
-        };
-        applied.push(e.name);
-        // Reading the cached base utilities and probabilities changes nothing.
-        let cached = Baseline::new(&*family, &d, &beta);
-        let again = sensitivities_with_jacobian(&*family, &d, &map, &beta, &free, Some(&cached));
-        let Some((sens_cached, jac_cached)) = again else {
-            panic!("{}: no figures with the cached base", e.name);
-        };
-        assert_eq!(sens.flat(), sens_cached.flat(), "{}", e.name);
-        assert_eq!(jac, jac_cached, "{}", e.name);
-        // The same figures as the generic pass (the reference), to rounding.
-        let reference = sensitivities(&*family, &d, &map, &beta).flat();
-        let fast = sens.flat();
-        assert_eq!(reference.len(), fast.len());
-        assert_eq!(jac.len(), fast.len());
-        for (r, (a, b)) in reference.iter().zip(&fast).enumerate() {
-            assert!(
-                (a - b).abs() <= 1e-12 * a.abs().max(1e-300) || (a.is_nan() && b.is_nan()),
-                "{}: figure {r}: generic {a} vs one pass {b}",
-                e.name
-            );
-        }
-        // Each column against central differences of the generic pass.
-        for (q, &param) in free.iter().enumerate() {
-            let h = 1e-5 * beta[param].abs().max(0.1);
-            let (mut up, mut dn) = (beta.clone(), beta.clone());
-            up[param] += h;
-            dn[param] -= h;
-            let fu = sensitivities(&*family, &d, &map, &up).flat();
-            let fd = sensitivities(&*family, &d, &map, &dn).flat();
-            for r in 0..fast.len() {
-                let numeric = (fu[r] - fd[r]) / (2.0 * h);
-                let scale = numeric.abs().max(fast[r].abs()).max(1e-3);
-                assert!(
-                    (numeric - jac[r][q]).abs() <= 1e-6 * scale,
-                    "{}: d figure {r} / d {}: analytic {} vs numeric {numeric}",
-                    e.name,
-                    spec.parameters[param].name,
-                    jac[r][q]
-                );
-            }
+        let label = format!("{} {}", e.name, e.example_model.replace('\n', " "));
+        if check_against_the_differenced_reference(&label, &spec, &*family, &d, &beta) {
+            applied.push((e.name, family.mixture(&d).is_some()));
         }
     }
     // Families whose probabilities depend on the parameters only through the
-    // utilities offer it (a fact of the families: no own parameters).
-    assert!(applied.contains(&"logit"), "applied to {applied:?}");
-    assert!(applied.contains(&"probit"), "applied to {applied:?}");
+    // utilities, at one point or at coefficient points that give their
+    // derivatives, offer it (a fact of the families).
+    for (name, points) in [("logit", false), ("probit", false), ("logit", true)] {
+        assert!(applied.contains(&(name, points)), "applied to {applied:?}");
+    }
+    // The mixed logit: independent, correlated and in willingness-to-pay
+    // space; latent classes, whose points' weights move with the membership
+    // model's parameters.
+    let mixed = applied.iter().filter(|a| a.0 == "mixed").count();
+    assert_eq!(mixed, 3, "applied to {applied:?}");
+    assert!(
+        applied.contains(&("latent-class", true)),
+        "applied to {applied:?}"
+    );
 }
 
 #[test]
@@ -224,8 +246,15 @@ fn families_with_parameters_of_their_own_keep_the_differenced_jacobian() {
         let map = TermMap::new(&spec, &d);
         let free: Vec<usize> = (0..beta.len()).collect();
         let fast = sensitivities_with_jacobian(&*family, &d, &map, &beta, &free, None);
-        if own || family.mixture(&d).is_some() {
+        // Coefficient points carry the mixed logit's own parameters (its
+        // spreads) and the latent classes' (the classes' coefficients and
+        // the membership model's, through the points' weights).
+        let points = family.mixture(&d);
+        if points.is_none() && own {
             assert!(fast.is_none(), "{}: has parameters of its own", e.name);
+        }
+        if points.is_some() && ["mixed", "latent-class"].contains(&e.name) {
+            assert!(fast.is_some(), "{}: its points give derivatives", e.name);
         }
     }
 }

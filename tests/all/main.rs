@@ -3,6 +3,7 @@
 
 mod analysis;
 mod analytic;
+mod analytic_points;
 mod bench_classes;
 mod catalogue;
 mod classes;

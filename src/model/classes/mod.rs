@@ -188,7 +188,9 @@ impl Family for LatentClass {
     }
 
     fn d2prob(&self, v: &[f64], p: &[f64], dp: &[f64], d2p: &mut [f64]) -> bool {
-        self.single() && self.logit.d2prob(v, p, dp, d2p)
+        // At one class's point: the logit's (the analyses take the classes'
+        // coefficients and shares through `Points::derivatives`).
+        self.logit.d2prob(v, p, dp, d2p)
     }
 
     fn caution(&self, spec: &Spec) -> Option<String> {

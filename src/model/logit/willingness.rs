@@ -11,7 +11,9 @@ use std::sync::Arc;
 use super::Logit;
 use crate::design::Design;
 use crate::model::space::Willingness;
-use crate::model::{Abilities, Eval, Family, FamilyRef, FamilyWarning, Points};
+use crate::model::{
+    Abilities, CoefficientDerivatives, Eval, Family, FamilyRef, FamilyWarning, Points,
+};
 use crate::spec::Spec;
 
 /// The logit in willingness-to-pay space.
@@ -41,6 +43,20 @@ impl Points for Mapped {
     }
     fn fill(&self, beta: &[f64], _i: usize, out: &mut [f64]) {
         self.0.preference(beta, &mut out[..beta.len()]);
+    }
+    /// b_price = -alpha: -1 by alpha; b_k = alpha w_k: w_k by alpha, alpha by w_k.
+    fn derivatives(&self, beta: &[f64], _i: usize, out: &mut CoefficientDerivatives) -> bool {
+        let w = &self.0;
+        let alpha = beta[w.price];
+        out.pairs.clear();
+        out.values.clear();
+        out.pairs.push((w.price, w.price));
+        out.values.push(-1.0);
+        for &k in &w.values {
+            out.pairs.extend([(k, w.price), (k, k)]);
+            out.values.extend([beta[k], alpha]);
+        }
+        true
     }
 }
 
@@ -111,6 +127,27 @@ impl Family for WillingnessLogit {
 
     fn dprob(&self, beta: &[f64], v: &[f64], p: &[f64], dp: &mut [f64]) {
         self.logit.dprob(beta, v, p, dp)
+    }
+
+    /// At the one coefficient point (the preference coefficients): the
+    /// logit's; `Mapped::derivatives` carries them to the parameters.
+    fn d2prob(&self, v: &[f64], p: &[f64], dp: &[f64], d2p: &mut [f64]) -> bool {
+        self.logit.d2prob(v, p, dp, d2p)
+    }
+
+    #[allow(clippy::too_many_arguments)]
+    fn d2prob_along(
+        &self,
+        v: &[f64],
+        p: &[f64],
+        dp: &[f64],
+        d2p: &mut [f64],
+        x: &[f64],
+        e: &[f64],
+        kf: usize,
+        g: &mut [f64],
+    ) -> bool {
+        self.logit.d2prob_along(v, p, dp, d2p, x, e, kf, g)
     }
 
     fn caution(&self, spec: &Spec) -> Option<String> {

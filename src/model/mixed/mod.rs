@@ -185,6 +185,27 @@ impl Family for Mixed {
         self.logit().dprob(beta, v, p, dp)
     }
 
+    /// At one coefficient point: the logit's (the analyses differentiate
+    /// the points' coefficients through `Points::derivatives`).
+    fn d2prob(&self, v: &[f64], p: &[f64], dp: &[f64], d2p: &mut [f64]) -> bool {
+        self.logit().d2prob(v, p, dp, d2p)
+    }
+
+    #[allow(clippy::too_many_arguments)]
+    fn d2prob_along(
+        &self,
+        v: &[f64],
+        p: &[f64],
+        dp: &[f64],
+        d2p: &mut [f64],
+        x: &[f64],
+        e: &[f64],
+        kf: usize,
+        g: &mut [f64],
+    ) -> bool {
+        self.logit().d2prob_along(v, p, dp, d2p, x, e, kf, g)
+    }
+
     fn caution(&self, spec: &Spec) -> Option<String> {
         let panel = if spec.data.group.is_some() {
             "each decision maker's tastes are assumed the same across all of their situations (a panel)"

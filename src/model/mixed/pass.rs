@@ -177,7 +177,7 @@ pub(crate) fn coefficients(plan: &Plan, n: usize, w: &mut Work) {
         for (c, dm) in coef.iter_mut().zip(dm.iter_mut()) {
             let b = t.distribution.coefficient(m, 1.0, *c);
             *c = b;
-            *dm = if t.distribution.is_log() { b } else { 1.0 };
+            *dm = super::terms::slope(t.distribution, b);
         }
     }
     if let Some(space) = &plan.space {

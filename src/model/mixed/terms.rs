@@ -10,7 +10,7 @@ use super::{constants_of, correlated, pass, Mixed, Panel};
 use crate::design::Design;
 use crate::model::distribution::Distribution;
 use crate::model::space::Willingness;
-use crate::model::{Conditional, Points, RandomCoefficient};
+use crate::model::{CoefficientDerivatives, Conditional, Points, RandomCoefficient};
 use crate::spec::{Spec, Term};
 
 /// The spec's random coefficients in parameter order (their draw dimension
@@ -80,12 +80,91 @@ pub(super) struct MixedPoints {
 /// Random coefficient `t` of decision maker `n` at draw `r`.
 #[inline]
 pub(crate) fn drawn(t: &RandomCoefficient, beta: &[f64], panel: &Panel, n: usize, r: usize) -> f64 {
+    drawn_slope(t, beta, panel, n, r).0
+}
+
+/// Random coefficient `t` of decision maker `n` at draw `r` and its
+/// derivative by its location.
+#[inline]
+fn drawn_slope(
+    t: &RandomCoefficient,
+    beta: &[f64],
+    panel: &Panel,
+    n: usize,
+    r: usize,
+) -> (f64, f64) {
     let u: f64 = t
         .loadings
         .iter()
         .map(|&(p, dim)| beta[p] * panel.draws_of(n, dim)[r])
         .sum();
-    t.distribution.coefficient(beta[t.location], 1.0, u)
+    let b = t.distribution.coefficient(beta[t.location], 1.0, u);
+    (b, slope(t.distribution, b))
+}
+
+/// The derivative of a drawn coefficient b = F(m + u) by its location m
+/// (b itself for exp(.) and its negative, else 1); by a loading's parameter
+/// it is this times the loading's draw.
+#[inline]
+pub(crate) fn slope(dist: Distribution, b: f64) -> f64 {
+    if dist.is_log() {
+        b
+    } else {
+        1.0
+    }
+}
+
+/// Calls `f(p, db/dbeta_p)` for random coefficient `t` at draw `r` of
+/// decision maker `n`, whose derivative by its location is `dm`: the
+/// location, then each loading's parameter.
+fn by_parameters(
+    t: &RandomCoefficient,
+    panel: &Panel,
+    (n, r): (usize, usize),
+    dm: f64,
+    f: &mut dyn FnMut(usize, f64),
+) {
+    f(t.location, dm);
+    for &(p, dim) in &t.loadings {
+        f(p, dm * panel.draws_of(n, dim)[r]);
+    }
+}
+
+impl MixedPoints {
+    /// Draw `r`'s derivatives in willingness-to-pay space, to `emit(k, p,
+    /// dc_k/dbeta_p)`: with alpha the (drawn) price scale and w_k the
+    /// (drawn) values, c_price = -alpha and c_k = alpha w_k.
+    fn willingness_at(
+        &self,
+        w: &Willingness,
+        beta: &[f64],
+        (n, r): (usize, usize),
+        emit: &mut dyn FnMut(usize, usize, f64),
+    ) {
+        let panel = &self.panel;
+        let term_of = |k: usize| {
+            let t = self.terms.iter().find(|t| t.location == k)?;
+            Some((t, drawn_slope(t, beta, panel, n, r)))
+        };
+        let price = term_of(w.price);
+        let alpha = price.map_or(beta[w.price], |(_, (b, _))| b);
+        let alpha_by = |f: &mut dyn FnMut(usize, f64)| match price {
+            Some((t, (_, dm))) => by_parameters(t, panel, (n, r), dm, f),
+            None => f(w.price, 1.0),
+        };
+        alpha_by(&mut |p, v| emit(w.price, p, -v));
+        for &k in &w.values {
+            let value = term_of(k);
+            let wk = value.map_or(beta[k], |(_, (b, _))| b);
+            alpha_by(&mut |p, v| emit(k, p, v * wk));
+            match value {
+                Some((t, (_, dm))) => {
+                    by_parameters(t, panel, (n, r), alpha * dm, &mut |p, v| emit(k, p, v))
+                }
+                None => emit(k, k, alpha),
+            }
+        }
+    }
 }
 
 impl Points for MixedPoints {
@@ -108,6 +187,34 @@ impl Points for MixedPoints {
                 None => row.copy_from_slice(&theta),
             }
         }
+    }
+    /// A random coefficient's derivatives by its location and loadings'
+    /// parameters (as the fit's gradient takes them, `pass::coefficients`),
+    /// mapped through willingness-to-pay space when the model is written there.
+    fn derivatives(&self, beta: &[f64], i: usize, out: &mut CoefficientDerivatives) -> bool {
+        let n = self.panel.unit_of(i);
+        out.pairs.clear();
+        out.values.clear();
+        for r in 0..self.count {
+            let mut emit = |k: usize, p: usize, v: f64| {
+                if r == 0 {
+                    out.pairs.push((k, p));
+                }
+                out.values.push(v);
+            };
+            match &self.space {
+                Some(w) => self.willingness_at(w, beta, (n, r), &mut emit),
+                None => {
+                    for t in &self.terms {
+                        let (_, dm) = drawn_slope(t, beta, &self.panel, n, r);
+                        by_parameters(t, &self.panel, (n, r), dm, &mut |p, v| {
+                            emit(t.location, p, v)
+                        });
+                    }
+                }
+            }
+        }
+        true
     }
 }
 
